@@ -1,0 +1,28 @@
+/** Samples of one split: features row-major (count × product(inputShape)) and one class index each. */
+export interface LabelledSamples {
+  features: Float32Array;
+  labels: Int32Array;
+  count: number;
+}
+
+/** A dataset ready to train on, split three ways. The test split never leaves the coordinator. */
+export interface PreparedDataset {
+  inputShape: number[];
+  classNames: string[];
+  train: LabelledSamples;
+  val: LabelledSamples;
+  test: LabelledSamples;
+}
+
+export const sampleSize = (inputShape: readonly number[]): number => inputShape.reduce((a, b) => a * b, 1);
+
+/** Joins two splits (train + validation for a champion's final training). */
+export function concatSamples(a: LabelledSamples, b: LabelledSamples): LabelledSamples {
+  const features = new Float32Array(a.features.length + b.features.length);
+  features.set(a.features, 0);
+  features.set(b.features, a.features.length);
+  const labels = new Int32Array(a.count + b.count);
+  labels.set(a.labels, 0);
+  labels.set(b.labels, a.count);
+  return { features, labels, count: a.count + b.count };
+}

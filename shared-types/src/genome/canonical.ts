@@ -1,0 +1,49 @@
+import { createHash } from 'node:crypto';
+import { INPUT_ID, type Genome, type LayerNode } from './genome-schema.js';
+import { topologicalOrder } from './analyze.js';
+
+/** Rounds to 6 significant digits so that float noise never makes two equal genomes differ. */
+const tidyNumber = (v: number): number => (Number.isInteger(v) ? v : Number(v.toPrecision(6)));
+
+/** JSON with object keys sorted at every depth. */
+export function stableStringify(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(stableStringify).join(',')}]`;
+  if (value && typeof value === 'object') {
+    const entries = Object.keys(value as object)
+      .sort()
+      .filter((k) => (value as Record<string, unknown>)[k] !== undefined)
+      .map((k) => `${JSON.stringify(k)}:${stableStringify((value as Record<string, unknown>)[k])}`);
+    return `{${entries.join(',')}}`;
+  }
+  if (typeof value === 'number') return JSON.stringify(tidyNumber(value));
+  return JSON.stringify(value);
+}
+
+/**
+ * The canonical form of a structurally valid genome: nodes in the depth-first post-order reached
+ * from the output, renamed `n0`, `n1`, … in that order, numbers rounded to 6 significant digits.
+ * Two genomes that describe the same network get the same canonical form whatever their node ids
+ * or node order. Throws when the genome has a cycle or a dangling reference.
+ */
+export function canonicalGenome(genome: Genome): Genome {
+  const topo = topologicalOrder(genome);
+  if (!topo.ok) throw new Error(`cannot canonicalise an invalid genome: ${topo.issues.map((i) => i.message).join('; ')}`);
+  const rename = new Map<string, string>([[INPUT_ID, INPUT_ID]]);
+  topo.order.forEach((n, i) => rename.set(n.id, `n${i}`));
+  const nodes = topo.order.map((n) => {
+    const copy: Record<string, unknown> = {};
+    for (const [k, v] of Object.entries(n)) copy[k] = typeof v === 'number' ? tidyNumber(v) : v;
+    copy.id = rename.get(n.id);
+    copy.inputs = n.inputs.map((i) => rename.get(i)!);
+    return copy as LayerNode;
+  });
+  const training = Object.fromEntries(
+    Object.entries(genome.training).map(([k, v]) => [k, typeof v === 'number' ? tidyNumber(v) : v]),
+  ) as Genome['training'];
+  return { schemaVersion: genome.schemaVersion, nodes, output: rename.get(genome.output)!, training };
+}
+
+/** sha256 of the canonical form, as 64 hex digits: equal networks get equal hashes. */
+export function genomeHash(genome: Genome): string {
+  return createHash('sha256').update(stableStringify(canonicalGenome(genome))).digest('hex');
+}

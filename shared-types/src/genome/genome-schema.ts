@@ -1,0 +1,131 @@
+import { Type, type Static } from '@sinclair/typebox';
+
+/**
+ * The genome: a small directed acyclic graph of layers plus training hyperparameters.
+ *
+ * Nodes name their inputs by id; the id `input` is the dataset's sample tensor. The node named by
+ * `output` feeds the classifier head, which every genome has implicitly: a flatten when the output
+ * is still spatial, then a dense layer with one softmax unit per class. Shapes are never stored in
+ * a genome; they follow from the dataset's input shape (see `analyzeGenome`).
+ */
+export const GENOME_SCHEMA_VERSION = 1;
+
+/** The id by which nodes refer to the dataset's input tensor. */
+export const INPUT_ID = 'input';
+
+export const ActivationSchema = Type.Union(
+  ['relu', 'relu6', 'elu', 'selu', 'tanh', 'sigmoid', 'swish', 'linear'].map((a) => Type.Literal(a)),
+);
+export type Activation = 'relu' | 'relu6' | 'elu' | 'selu' | 'tanh' | 'sigmoid' | 'swish' | 'linear';
+
+const NodeId = Type.String({ pattern: '^[A-Za-z][A-Za-z0-9_-]{0,31}$' });
+const Inputs = (min: number, max: number) => Type.Array(Type.String({ minLength: 1, maxLength: 32 }), { minItems: min, maxItems: max });
+const Padding = Type.Union([Type.Literal('same'), Type.Literal('valid')]);
+const KernelSize = Type.Integer({ minimum: 1, maximum: 11 });
+const Stride = Type.Integer({ minimum: 1, maximum: 4 });
+
+const node = <K extends string, P extends Record<string, import('@sinclair/typebox').TSchema>>(
+  kind: K,
+  inputs: [number, number],
+  props: P,
+) =>
+  Type.Object(
+    { id: NodeId, kind: Type.Literal(kind), inputs: Inputs(inputs[0], inputs[1]), ...props },
+    { additionalProperties: false },
+  );
+
+export const DenseNodeSchema = node('dense', [1, 1], {
+  units: Type.Integer({ minimum: 1, maximum: 65536 }),
+  activation: ActivationSchema,
+});
+export const Conv2dNodeSchema = node('conv2d', [1, 1], {
+  filters: Type.Integer({ minimum: 1, maximum: 4096 }),
+  kernelSize: KernelSize,
+  strides: Stride,
+  padding: Padding,
+  activation: ActivationSchema,
+});
+export const DepthwiseConv2dNodeSchema = node('depthwise-conv2d', [1, 1], {
+  kernelSize: KernelSize,
+  strides: Stride,
+  padding: Padding,
+  depthMultiplier: Type.Integer({ minimum: 1, maximum: 8 }),
+  activation: ActivationSchema,
+});
+export const MaxPool2dNodeSchema = node('max-pool2d', [1, 1], { poolSize: Type.Integer({ minimum: 2, maximum: 4 }), strides: Stride });
+export const AvgPool2dNodeSchema = node('avg-pool2d', [1, 1], { poolSize: Type.Integer({ minimum: 2, maximum: 4 }), strides: Stride });
+export const DropoutNodeSchema = node('dropout', [1, 1], { rate: Type.Number({ minimum: 0, maximum: 0.9 }) });
+export const BatchNormNodeSchema = node('batch-norm', [1, 1], {});
+export const ActivationNodeSchema = node('activation', [1, 1], { activation: ActivationSchema });
+export const FlattenNodeSchema = node('flatten', [1, 1], {});
+export const GlobalAvgPoolNodeSchema = node('global-avg-pool', [1, 1], {});
+export const GlobalMaxPoolNodeSchema = node('global-max-pool', [1, 1], {});
+/** Element-wise sum of inputs of equal shape: the skip connection. */
+export const AddNodeSchema = node('add', [2, 4], {});
+/** Concatenation along the last (channel or feature) axis. */
+export const ConcatNodeSchema = node('concat', [2, 4], {});
+
+export const LayerNodeSchema = Type.Union([
+  DenseNodeSchema,
+  Conv2dNodeSchema,
+  DepthwiseConv2dNodeSchema,
+  MaxPool2dNodeSchema,
+  AvgPool2dNodeSchema,
+  DropoutNodeSchema,
+  BatchNormNodeSchema,
+  ActivationNodeSchema,
+  FlattenNodeSchema,
+  GlobalAvgPoolNodeSchema,
+  GlobalMaxPoolNodeSchema,
+  AddNodeSchema,
+  ConcatNodeSchema,
+]);
+export type LayerNode = Static<typeof LayerNodeSchema>;
+export type LayerKind = LayerNode['kind'];
+export type NodeOfKind<K extends LayerKind> = Extract<LayerNode, { kind: K }>;
+
+export const LAYER_KINDS: readonly LayerKind[] = [
+  'dense',
+  'conv2d',
+  'depthwise-conv2d',
+  'max-pool2d',
+  'avg-pool2d',
+  'dropout',
+  'batch-norm',
+  'activation',
+  'flatten',
+  'global-avg-pool',
+  'global-max-pool',
+  'add',
+  'concat',
+];
+
+export const OptimizerSchema = Type.Union([Type.Literal('adam'), Type.Literal('sgd'), Type.Literal('rmsprop')]);
+export type OptimizerName = Static<typeof OptimizerSchema>;
+
+export const TrainingGenesSchema = Type.Object(
+  {
+    optimizer: OptimizerSchema,
+    /** Step size; searched on a log scale. */
+    learningRate: Type.Number({ exclusiveMinimum: 0, maximum: 1 }),
+    batchSize: Type.Integer({ minimum: 1, maximum: 4096 }),
+    /** L2 penalty on kernels (0 = none). */
+    weightDecay: Type.Number({ minimum: 0, maximum: 0.1 }),
+    /** Epochs of training an evaluation gets unless its job sets another budget. */
+    epochs: Type.Integer({ minimum: 1, maximum: 1000 }),
+  },
+  { additionalProperties: false },
+);
+export type TrainingGenes = Static<typeof TrainingGenesSchema>;
+
+export const GenomeSchema = Type.Object(
+  {
+    schemaVersion: Type.Literal(GENOME_SCHEMA_VERSION),
+    nodes: Type.Array(LayerNodeSchema, { maxItems: 256 }),
+    /** Id of the node that feeds the classifier head (`input` for a linear model). */
+    output: Type.String({ minLength: 1, maxLength: 32 }),
+    training: TrainingGenesSchema,
+  },
+  { additionalProperties: false },
+);
+export type Genome = Static<typeof GenomeSchema>;

@@ -1,0 +1,86 @@
+import { Type, type Static } from '@sinclair/typebox';
+import { ActivationSchema, LAYER_KINDS, OptimizerSchema, type LayerKind } from './genome-schema.js';
+
+const Range = (min: number, max: number, opts: { integer?: boolean } = {}) => {
+  const n = opts.integer ? Type.Integer({ minimum: min, maximum: max }) : Type.Number({ minimum: min, maximum: max });
+  return Type.Object({ min: n, max: n }, { additionalProperties: false });
+};
+
+/**
+ * The rules every genome of a run must obey. Caps on parameters and FLOPs keep any candidate from
+ * exhausting an office PC; they are checked before a genome is queued.
+ */
+export const SearchSpaceSchema = Type.Object(
+  {
+    allowedKinds: Type.Array(Type.Union(LAYER_KINDS.map((k) => Type.Literal(k))), { minItems: 1, uniqueItems: true }),
+    /** Most layer nodes a genome may have (the implicit head not counted). */
+    maxNodes: Type.Integer({ minimum: 0, maximum: 256 }),
+    /** Most trainable and non-trainable parameters, head included. */
+    maxParams: Type.Integer({ minimum: 1 }),
+    /** Most forward-pass FLOPs per sample (2 per multiply-add), head included. */
+    maxFlops: Type.Integer({ minimum: 1 }),
+    units: Range(1, 65536, { integer: true }),
+    filters: Range(1, 4096, { integer: true }),
+    kernelSizes: Type.Array(Type.Integer({ minimum: 1, maximum: 11 }), { minItems: 1, uniqueItems: true }),
+    strides: Type.Array(Type.Integer({ minimum: 1, maximum: 4 }), { minItems: 1, uniqueItems: true }),
+    poolSizes: Type.Array(Type.Integer({ minimum: 2, maximum: 4 }), { minItems: 1, uniqueItems: true }),
+    dropoutRate: Range(0, 0.9),
+    activations: Type.Array(ActivationSchema, { minItems: 1, uniqueItems: true }),
+    optimizers: Type.Array(OptimizerSchema, { minItems: 1, uniqueItems: true }),
+    learningRate: Range(1e-6, 1),
+    batchSizes: Type.Array(Type.Integer({ minimum: 1, maximum: 4096 }), { minItems: 1, uniqueItems: true }),
+    weightDecay: Range(0, 0.1),
+    epochs: Range(1, 1000, { integer: true }),
+  },
+  { additionalProperties: false },
+);
+export type SearchSpace = Static<typeof SearchSpaceSchema>;
+
+/** Kinds that only make sense on a spatial (height × width × channels) tensor. */
+export const SPATIAL_KINDS: readonly LayerKind[] = [
+  'conv2d',
+  'depthwise-conv2d',
+  'max-pool2d',
+  'avg-pool2d',
+  'flatten',
+  'global-avg-pool',
+  'global-max-pool',
+];
+
+/**
+ * A search space sized for an office PC: at most 250k parameters and 20 MFLOPs per sample.
+ * `depthwise-conv2d` is left out by default; add it to `allowedKinds` to search over it.
+ */
+export function defaultSearchSpace(): SearchSpace {
+  return {
+    allowedKinds: [
+      'dense',
+      'conv2d',
+      'max-pool2d',
+      'avg-pool2d',
+      'dropout',
+      'batch-norm',
+      'activation',
+      'flatten',
+      'global-avg-pool',
+      'global-max-pool',
+      'add',
+      'concat',
+    ],
+    maxNodes: 24,
+    maxParams: 250_000,
+    maxFlops: 20_000_000,
+    units: { min: 8, max: 256 },
+    filters: { min: 4, max: 64 },
+    kernelSizes: [1, 3, 5],
+    strides: [1, 2],
+    poolSizes: [2],
+    dropoutRate: { min: 0, max: 0.5 },
+    activations: ['relu', 'elu', 'tanh', 'swish'],
+    optimizers: ['adam', 'sgd', 'rmsprop'],
+    learningRate: { min: 1e-4, max: 3e-2 },
+    batchSizes: [16, 32, 64, 128],
+    weightDecay: { min: 0, max: 1e-3 },
+    epochs: { min: 1, max: 20 },
+  };
+}

@@ -1,0 +1,77 @@
+import { GenomeSchema, type Genome, type LayerNode } from './genome-schema.js';
+import { SPATIAL_KINDS, type SearchSpace } from './search-space-schema.js';
+import { analyzeGenome, type DataShape, type GenomeAnalysis, type GenomeIssue } from './analyze.js';
+import { createValidator } from '../validation.js';
+
+export const genomeValidator = createValidator('genome', GenomeSchema);
+
+export type GenomeCheck = { ok: true; genome: Genome; analysis: GenomeAnalysis } | { ok: false; issues: GenomeIssue[] };
+
+const inRange = (v: number, r: { min: number; max: number }) => v >= r.min && v <= r.max;
+
+/** Rules of the search space that concern one node's settings. */
+function nodeIssues(n: LayerNode, space: SearchSpace): string[] {
+  const out: string[] = [];
+  if (!space.allowedKinds.includes(n.kind)) out.push(`layer kind '${n.kind}' is not allowed in this search space`);
+  if ('activation' in n && !space.activations.includes(n.activation)) out.push(`activation '${n.activation}' is not allowed`);
+  switch (n.kind) {
+    case 'dense':
+      if (!inRange(n.units, space.units)) out.push(`units ${n.units} outside [${space.units.min}, ${space.units.max}]`);
+      break;
+    case 'conv2d':
+      if (!inRange(n.filters, space.filters)) out.push(`filters ${n.filters} outside [${space.filters.min}, ${space.filters.max}]`);
+    // falls through: both convolutions share kernel and stride rules
+    case 'depthwise-conv2d':
+      if (!space.kernelSizes.includes(n.kernelSize)) out.push(`kernel size ${n.kernelSize} not in [${space.kernelSizes.join(', ')}]`);
+      if (!space.strides.includes(n.strides)) out.push(`stride ${n.strides} not in [${space.strides.join(', ')}]`);
+      break;
+    case 'max-pool2d':
+    case 'avg-pool2d':
+      if (!space.poolSizes.includes(n.poolSize)) out.push(`pool size ${n.poolSize} not in [${space.poolSizes.join(', ')}]`);
+      if (!space.strides.includes(n.strides)) out.push(`stride ${n.strides} not in [${space.strides.join(', ')}]`);
+      break;
+    case 'dropout':
+      if (!inRange(n.rate, space.dropoutRate)) out.push(`dropout rate ${n.rate} outside [${space.dropoutRate.min}, ${space.dropoutRate.max}]`);
+      break;
+    default:
+      break;
+  }
+  return out;
+}
+
+/**
+ * Full check of an untrusted genome: its schema, its graph (no cycles, no dangling inputs, shapes
+ * that fit), and the search space's rules and caps. Every problem is reported, each naming the node
+ * and what to change.
+ */
+export function checkGenome(value: unknown, space: SearchSpace, data: DataShape): GenomeCheck {
+  const schemaIssues = genomeValidator.issues(value);
+  if (schemaIssues.length) return { ok: false, issues: schemaIssues.map((i) => ({ nodeId: null, message: `${i.path || '(root)'} ${i.message}` })) };
+  const genome = value as Genome;
+  const issues: GenomeIssue[] = [];
+  if (genome.nodes.length > space.maxNodes) issues.push({ nodeId: null, message: `${genome.nodes.length} nodes, more than the search space's ${space.maxNodes}` });
+  for (const n of genome.nodes) for (const message of nodeIssues(n, space)) issues.push({ nodeId: n.id, message });
+  if (data.inputShape.length !== 3 && genome.nodes.some((n) => SPATIAL_KINDS.includes(n.kind))) {
+    issues.push({ nodeId: null, message: 'this dataset has flat samples, so spatial layers (conv, pool, flatten) cannot be used' });
+  }
+  const t = genome.training;
+  if (!space.optimizers.includes(t.optimizer)) issues.push({ nodeId: null, message: `optimizer '${t.optimizer}' is not allowed` });
+  if (!inRange(t.learningRate, space.learningRate)) issues.push({ nodeId: null, message: `learning rate ${t.learningRate} outside [${space.learningRate.min}, ${space.learningRate.max}]` });
+  if (!space.batchSizes.includes(t.batchSize)) issues.push({ nodeId: null, message: `batch size ${t.batchSize} not in [${space.batchSizes.join(', ')}]` });
+  if (!inRange(t.weightDecay, space.weightDecay)) issues.push({ nodeId: null, message: `weight decay ${t.weightDecay} outside [${space.weightDecay.min}, ${space.weightDecay.max}]` });
+  if (!inRange(t.epochs, space.epochs)) issues.push({ nodeId: null, message: `epochs ${t.epochs} outside [${space.epochs.min}, ${space.epochs.max}]` });
+  if (issues.length) return { ok: false, issues };
+
+  const result = analyzeGenome(genome, data);
+  if (!result.ok) return result;
+  const { params, flops } = result.analysis;
+  if (params > space.maxParams) issues.push({ nodeId: null, message: `${params} parameters, above the cap of ${space.maxParams}; use fewer units or filters, or pool earlier` });
+  if (flops > space.maxFlops) issues.push({ nodeId: null, message: `${flops} FLOPs per sample, above the cap of ${space.maxFlops}; use fewer filters or stride/pool earlier` });
+  if (issues.length) return { ok: false, issues };
+  return { ok: true, genome, analysis: result.analysis };
+}
+
+/** Formats issues as one line each, for errors and logs. */
+export function formatGenomeIssues(issues: GenomeIssue[]): string {
+  return issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message)).join('\n');
+}

@@ -1,0 +1,43 @@
+import { Type, type Static } from '@sinclair/typebox';
+import { GenomeSchema } from '../genome/genome-schema.js';
+import { DatasetManifestSchema, Sha256Schema } from './dataset-manifest.js';
+
+export const EVALUATION_JOB_VERSION = 1;
+
+/** Bounds one training: whichever limit is reached first ends it. */
+export const TrainingBudgetSchema = Type.Object(
+  {
+    epochs: Type.Integer({ minimum: 1, maximum: 1000 }),
+    /** Wall-clock cap on training, checked between batches. */
+    maxSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400 }),
+    /** Optional cap on training samples seen (a sample budget for cheap, low-fidelity runs). */
+    maxSamples: Type.Optional(Type.Integer({ minimum: 1 })),
+  },
+  { additionalProperties: false },
+);
+export type TrainingBudget = Static<typeof TrainingBudgetSchema>;
+
+/**
+ * The payload of one BullMQ job: train this genome on this dataset within this budget.
+ * `kind: 'search'` trains on the train split and scores on validation; `kind: 'champion'` trains on
+ * train + validation with a longer budget and sends back the trained weights, which the coordinator
+ * scores on the held-out test split.
+ */
+export const EvaluationJobSchema = Type.Object(
+  {
+    schemaVersion: Type.Literal(EVALUATION_JOB_VERSION),
+    kind: Type.Union([Type.Literal('search'), Type.Literal('champion')]),
+    /** Also the BullMQ job id, so the result is recorded at most once. */
+    evaluationId: Type.String({ pattern: '^[A-Za-z0-9_-]{1,80}$' }),
+    runId: Type.String({ pattern: '^[A-Za-z0-9_-]{1,64}$' }),
+    attempt: Type.Integer({ minimum: 1, maximum: 100 }),
+    genome: GenomeSchema,
+    genomeHash: Sha256Schema,
+    /** Seeds initializers, shuffling and dropout, so the same job trains the same way on one backend. */
+    seed: Type.Integer({ minimum: 0, maximum: 4294967295 }),
+    budget: TrainingBudgetSchema,
+    dataset: DatasetManifestSchema,
+  },
+  { additionalProperties: false },
+);
+export type EvaluationJob = Static<typeof EvaluationJobSchema>;

@@ -1,0 +1,66 @@
+import { Type, type Static } from '@sinclair/typebox';
+
+export const EVALUATION_RESULT_VERSION = 1;
+
+export const BackendNameSchema = Type.Union([Type.Literal('tensorflow'), Type.Literal('wasm'), Type.Literal('cpu')]);
+export type BackendName = Static<typeof BackendNameSchema>;
+
+const Finite = (opts: { minimum?: number; maximum?: number } = {}) => Type.Number(opts);
+const Fraction = Type.Number({ minimum: 0, maximum: 1 });
+
+export const EpochRecordSchema = Type.Object(
+  {
+    epoch: Type.Integer({ minimum: 1 }),
+    trainLoss: Finite({ minimum: 0 }),
+    trainAccuracy: Fraction,
+    valLoss: Type.Union([Finite({ minimum: 0 }), Type.Null()]),
+    valAccuracy: Type.Union([Fraction, Type.Null()]),
+    seconds: Finite({ minimum: 0 }),
+  },
+  { additionalProperties: false },
+);
+export type EpochRecord = Static<typeof EpochRecordSchema>;
+
+/** A trained model in TensorFlow.js layers format, weights as one base64 buffer. */
+export const ModelArtifactsSchema = Type.Object(
+  {
+    modelTopology: Type.Record(Type.String(), Type.Unknown()),
+    weightSpecs: Type.Array(
+      Type.Object({ name: Type.String(), shape: Type.Array(Type.Integer({ minimum: 0 })), dtype: Type.String() }, { additionalProperties: true }),
+    ),
+    /** At most 48 MiB of base64 (36 MiB of weights). */
+    weightDataBase64: Type.String({ maxLength: 48 * 1024 * 1024 }),
+  },
+  { additionalProperties: false },
+);
+export type ModelArtifactsMessage = Static<typeof ModelArtifactsSchema>;
+
+/**
+ * What a worker returns for one evaluation (the BullMQ job's return value). Validation figures are
+ * null only for champion trainings, whose validation split is part of their training data.
+ */
+export const EvaluationResultSchema = Type.Object(
+  {
+    schemaVersion: Type.Literal(EVALUATION_RESULT_VERSION),
+    evaluationId: Type.String({ pattern: '^[A-Za-z0-9_-]{1,80}$' }),
+    workerId: Type.String({ minLength: 1, maxLength: 128 }),
+    backend: BackendNameSchema,
+    valAccuracy: Type.Union([Fraction, Type.Null()]),
+    valLoss: Type.Union([Finite({ minimum: 0 }), Type.Null()]),
+    trainLoss: Finite({ minimum: 0 }),
+    trainAccuracy: Fraction,
+    paramCount: Type.Integer({ minimum: 0 }),
+    flops: Type.Integer({ minimum: 0 }),
+    epochsRun: Type.Integer({ minimum: 0 }),
+    samplesSeen: Type.Integer({ minimum: 0 }),
+    trainSeconds: Finite({ minimum: 0 }),
+    samplesPerSecond: Finite({ minimum: 0 }),
+    peakRssBytes: Type.Integer({ minimum: 0 }),
+    /** Why training stopped: all epochs done, or a budget limit reached. */
+    stoppedBy: Type.Union([Type.Literal('epochs'), Type.Literal('seconds'), Type.Literal('samples')]),
+    history: Type.Array(EpochRecordSchema, { maxItems: 1000 }),
+    model: Type.Optional(ModelArtifactsSchema),
+  },
+  { additionalProperties: false },
+);
+export type EvaluationResult = Static<typeof EvaluationResultSchema>;

@@ -1,0 +1,82 @@
+import { Type, type Static } from '@sinclair/typebox';
+import { GenomeSchema } from '../genome/genome-schema.js';
+import { BackendNameSchema } from './evaluation-result.js';
+import { WorkerStateSchema } from './worker-heartbeat.js';
+
+export const RunStateSchema = Type.Union(
+  ['preparing', 'searching', 'paused', 'training-champion', 'finished', 'failed', 'stopped'].map((s) => Type.Literal(s)),
+);
+export type RunState = 'preparing' | 'searching' | 'paused' | 'training-champion' | 'finished' | 'failed' | 'stopped';
+
+const Nullable = <T extends import('@sinclair/typebox').TSchema>(t: T) => Type.Union([t, Type.Null()]);
+
+export const ScoredGenomeSchema = Type.Object({
+  genomeHash: Type.String(),
+  evaluationId: Type.String(),
+  valAccuracy: Type.Number(),
+  valLoss: Type.Number(),
+  paramCount: Type.Integer(),
+  flops: Type.Integer(),
+  summary: Type.String(),
+  genome: GenomeSchema,
+});
+export type ScoredGenome = Static<typeof ScoredGenomeSchema>;
+
+export const WorkerStatusSchema = Type.Object({
+  workerId: Type.String(),
+  host: Type.String(),
+  cores: Type.Integer(),
+  backend: Nullable(BackendNameSchema),
+  state: WorkerStateSchema,
+  alive: Type.Boolean(),
+  currentEvaluationId: Nullable(Type.String()),
+  evaluationsDone: Type.Integer(),
+  samplesPerSecond: Type.Number(),
+  lastHeartbeatAt: Type.String({ format: 'date-time' }),
+  secondsSinceHeartbeat: Type.Number(),
+});
+export type WorkerStatus = Static<typeof WorkerStatusSchema>;
+
+export const ChampionSummarySchema = Type.Object({
+  genomeHash: Type.String(),
+  evaluationId: Type.String(),
+  valAccuracy: Type.Number(),
+  testAccuracy: Type.Number(),
+  testLoss: Type.Number(),
+  paramCount: Type.Integer(),
+  flops: Type.Integer(),
+  summary: Type.String(),
+});
+export type ChampionSummary = Static<typeof ChampionSummarySchema>;
+
+/** GET /status: everything a person watching a run needs at a glance. */
+export const StatusResponseSchema = Type.Object({
+  coordinator: Type.Object({ version: Type.String(), startedAt: Type.String(), uptimeSeconds: Type.Number() }),
+  run: Nullable(
+    Type.Object({
+      id: Type.String(),
+      name: Type.String(),
+      state: RunStateSchema,
+      algorithm: Type.String(),
+      seed: Type.Integer(),
+      createdAt: Type.String(),
+      maxEvaluations: Type.Integer(),
+      maxMinutes: Type.Number(),
+      elapsedSeconds: Type.Number(),
+    }),
+  ),
+  evaluations: Type.Object({
+    queued: Type.Integer(),
+    running: Type.Integer(),
+    done: Type.Integer(),
+    failed: Type.Integer(),
+  }),
+  throughput: Type.Object({
+    perMinuteLastMinute: Type.Number(),
+    perMinuteSinceStart: Type.Number(),
+  }),
+  workers: Type.Array(WorkerStatusSchema),
+  best: Nullable(ScoredGenomeSchema),
+  champion: Nullable(ChampionSummarySchema),
+});
+export type StatusResponse = Static<typeof StatusResponseSchema>;

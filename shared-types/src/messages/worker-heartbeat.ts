@@ -1,0 +1,32 @@
+import { Type, type Static } from '@sinclair/typebox';
+import { BackendNameSchema } from './evaluation-result.js';
+
+export const WorkerStateSchema = Type.Union(
+  ['starting', 'idle', 'training', 'draining', 'stopped'].map((s) => Type.Literal(s)),
+);
+export type WorkerState = 'starting' | 'idle' | 'training' | 'draining' | 'stopped';
+
+/** Sent by every worker to the coordinator every few seconds (POST /workers/heartbeat). */
+export const WorkerHeartbeatSchema = Type.Object(
+  {
+    schemaVersion: Type.Literal(1),
+    workerId: Type.String({ pattern: '^[A-Za-z0-9_.:-]{1,128}$' }),
+    host: Type.String({ minLength: 1, maxLength: 255 }),
+    pid: Type.Integer({ minimum: 1 }),
+    cores: Type.Integer({ minimum: 1, maximum: 4096 }),
+    backend: Type.Union([BackendNameSchema, Type.Null()]),
+    /** Why this backend: which ones were tried and why they were passed over. */
+    backendReason: Type.String({ maxLength: 2000 }),
+    state: WorkerStateSchema,
+    currentEvaluationId: Type.Union([Type.String({ maxLength: 80 }), Type.Null()]),
+    evaluationsDone: Type.Integer({ minimum: 0 }),
+    evaluationsFailed: Type.Integer({ minimum: 0 }),
+    /** Training speed of the last evaluation, samples per second. */
+    samplesPerSecond: Type.Number({ minimum: 0 }),
+    rssBytes: Type.Integer({ minimum: 0 }),
+    memoryCapMb: Type.Integer({ minimum: 1 }),
+    version: Type.String({ maxLength: 40 }),
+  },
+  { additionalProperties: false },
+);
+export type WorkerHeartbeat = Static<typeof WorkerHeartbeatSchema>;

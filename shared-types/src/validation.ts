@@ -1,0 +1,56 @@
+import type { Static, TSchema } from '@sinclair/typebox';
+import { TypeCompiler } from '@sinclair/typebox/compiler';
+
+/** One problem found in a message: where (a JSON pointer) and what is wrong. */
+export interface ValidationIssue {
+  path: string;
+  message: string;
+}
+
+/** Thrown by {@link Validator.parse}: names the message kind and every problem found. */
+export class ValidationError extends Error {
+  readonly code = 'NB_INVALID_MESSAGE';
+  constructor(
+    readonly messageKind: string,
+    readonly issues: ValidationIssue[],
+  ) {
+    super(
+      `invalid ${messageKind}: ` +
+        issues
+          .slice(0, 8)
+          .map((i) => `${i.path || '(root)'} ${i.message}`)
+          .join('; ') +
+        (issues.length > 8 ? `; and ${issues.length - 8} more` : ''),
+    );
+    this.name = 'ValidationError';
+  }
+}
+
+/** A compiled schema check for one message kind. */
+export interface Validator<S extends TSchema> {
+  readonly kind: string;
+  readonly schema: S;
+  /** True when `value` matches the schema. */
+  check(value: unknown): value is Static<S>;
+  /** Every problem with `value`; empty when it matches. */
+  issues(value: unknown): ValidationIssue[];
+  /** Returns `value` typed when it matches, else throws a {@link ValidationError}. */
+  parse(value: unknown): Static<S>;
+}
+
+/** Compiles `schema` once (at start-up, so a bad schema fails at boot) into a {@link Validator}. */
+export function createValidator<S extends TSchema>(kind: string, schema: S): Validator<S> {
+  const compiled = TypeCompiler.Compile(schema);
+  const issues = (value: unknown): ValidationIssue[] =>
+    [...compiled.Errors(value)].map((e) => ({ path: e.path, message: e.message }));
+  return {
+    kind,
+    schema,
+    check: (value: unknown): value is Static<S> => compiled.Check(value),
+    issues,
+    parse(value: unknown): Static<S> {
+      if (compiled.Check(value)) return value;
+      throw new ValidationError(kind, issues(value));
+    },
+  };
+}
