@@ -13,10 +13,8 @@ export const GENOME_SCHEMA_VERSION = 1;
 /** The id by which nodes refer to the dataset's input tensor. */
 export const INPUT_ID = 'input';
 
-export const ActivationSchema = Type.Union(
-  ['relu', 'relu6', 'elu', 'selu', 'tanh', 'sigmoid', 'swish', 'linear'].map((a) => Type.Literal(a)),
-);
-export type Activation = 'relu' | 'relu6' | 'elu' | 'selu' | 'tanh' | 'sigmoid' | 'swish' | 'linear';
+export const ActivationSchema = Type.Union([Type.Literal('relu'), Type.Literal('relu6'), Type.Literal('elu'), Type.Literal('selu'), Type.Literal('tanh'), Type.Literal('sigmoid'), Type.Literal('swish'), Type.Literal('linear')]);
+export type Activation = Static<typeof ActivationSchema>;
 
 const NodeId = Type.String({ pattern: '^[A-Za-z][A-Za-z0-9_-]{0,31}$' });
 const Inputs = (min: number, max: number) => Type.Array(Type.String({ minLength: 1, maxLength: 32 }), { minItems: min, maxItems: max });

@@ -41,3 +41,10 @@ export const EvaluationJobSchema = Type.Object(
   { additionalProperties: false },
 );
 export type EvaluationJob = Static<typeof EvaluationJobSchema>;
+
+/**
+ * A worker that fails a job in a way no retry can fix (the genome is too large for any worker, the
+ * payload is invalid) starts the failure reason with this prefix; the coordinator then gives the
+ * evaluation up instead of reissuing it.
+ */
+export const DO_NOT_RETRY_PREFIX = 'do-not-retry: ';

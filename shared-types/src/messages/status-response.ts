@@ -3,10 +3,9 @@ import { GenomeSchema } from '../genome/genome-schema.js';
 import { BackendNameSchema } from './evaluation-result.js';
 import { WorkerStateSchema } from './worker-heartbeat.js';
 
-export const RunStateSchema = Type.Union(
-  ['preparing', 'searching', 'paused', 'training-champion', 'finished', 'failed', 'stopped'].map((s) => Type.Literal(s)),
-);
-export type RunState = 'preparing' | 'searching' | 'paused' | 'training-champion' | 'finished' | 'failed' | 'stopped';
+/** A run's lifecycle: searching (⇄ paused) → training-champion → finished, or failed / stopped. */
+export const RunStateSchema = Type.Union([Type.Literal('preparing'), Type.Literal('searching'), Type.Literal('paused'), Type.Literal('training-champion'), Type.Literal('finished'), Type.Literal('failed'), Type.Literal('stopped')]);
+export type RunState = Static<typeof RunStateSchema>;
 
 const Nullable = <T extends import('@sinclair/typebox').TSchema>(t: T) => Type.Union([t, Type.Null()]);
 

@@ -1,10 +1,9 @@
 import { Type, type Static } from '@sinclair/typebox';
 import { BackendNameSchema } from './evaluation-result.js';
 
-export const WorkerStateSchema = Type.Union(
-  ['starting', 'idle', 'training', 'draining', 'stopped'].map((s) => Type.Literal(s)),
-);
-export type WorkerState = 'starting' | 'idle' | 'training' | 'draining' | 'stopped';
+/** A worker's lifecycle: starting → idle ⇄ training → draining → stopped. */
+export const WorkerStateSchema = Type.Union([Type.Literal('starting'), Type.Literal('idle'), Type.Literal('training'), Type.Literal('draining'), Type.Literal('stopped')]);
+export type WorkerState = Static<typeof WorkerStateSchema>;
 
 /** Sent by every worker to the coordinator every few seconds (POST /workers/heartbeat). */
 export const WorkerHeartbeatSchema = Type.Object(

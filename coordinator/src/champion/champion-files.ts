@@ -1,0 +1,66 @@
+import { analyzeGenome, canonicalGenome, type ModelArtifactsMessage } from '@netbreeder/shared-types';
+import type { RunRecord, RunStore } from '../store/run-store.js';
+import { championReport } from './champion-report.js';
+
+/** Names of the files a champion export holds, in the order they are written. */
+export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'champion.json', 'report.md'] as const;
+export type ChampionFileName = (typeof CHAMPION_FILES)[number];
+
+/** What GET /runs/:id/champion returns, and champion.json holds. */
+export function championSummary(store: RunStore, run: RunRecord) {
+  const champion = store.getChampion(run.id);
+  if (!champion) return null;
+  const genome = store.getGenome(champion.genomeHash)!;
+  const source = store.getEvaluation(champion.sourceEvaluationId)!;
+  return {
+    runId: run.id,
+    runName: run.name,
+    genomeHash: champion.genomeHash,
+    summary: genome.summary,
+    genome: genome.genome,
+    paramCount: genome.params,
+    flops: genome.flops,
+    validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId },
+    test: { accuracy: champion.testAccuracy, loss: champion.testLoss, samples: champion.testPredictions.length },
+    finalTraining: {
+      evaluationId: champion.evaluationId,
+      epochs: champion.result.epochsRun,
+      seconds: champion.result.trainSeconds,
+      backend: champion.result.backend,
+      workerId: champion.result.workerId,
+      data: 'train + validation',
+    },
+    lineage: store.lineageChain(run.id, champion.genomeHash),
+    settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
+    files: [...CHAMPION_FILES],
+  };
+}
+export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
+
+/**
+ * The content of every file of a champion export: the genome, the trained model in TensorFlow.js
+ * layers format (`model.json` with a weights manifest pointing at `weights.bin`), the scores and a
+ * short report. Null when the run has no champion yet.
+ */
+export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFileName, Buffer> | null {
+  const summary = championSummary(store, run);
+  const artifactsJson = store.getChampionArtifactsJson(run.id);
+  if (!summary || !artifactsJson) return null;
+  const artifacts = JSON.parse(artifactsJson) as ModelArtifactsMessage;
+  const analysis = analyzeGenome(summary.genome, { inputShape: run.dataset.manifest.inputShape, numClasses: run.dataset.manifest.numClasses });
+  const modelJson = {
+    format: 'layers-model',
+    generatedBy: 'netbreeder',
+    convertedBy: null,
+    modelTopology: artifacts.modelTopology,
+    weightsManifest: [{ paths: ['weights.bin'], weights: artifacts.weightSpecs }],
+  };
+  const json = (v: unknown) => Buffer.from(`${JSON.stringify(v, null, 2)}\n`);
+  return new Map<ChampionFileName, Buffer>([
+    ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
+    ['model.json', json(modelJson)],
+    ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
+    ['champion.json', json(summary)],
+    ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
+  ]);
+}

@@ -1,0 +1,48 @@
+import type { NodeAnalysis } from '@netbreeder/shared-types';
+import type { ChampionSummaryDocument } from './champion-files.js';
+
+const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
+
+/** A short Markdown report of a champion: what it is, how well it does, how it was found. */
+export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
+  const lines = [
+    `# Champion of run ${c.runName} (${c.runId})`,
+    '',
+    `**${c.summary}**`,
+    '',
+    `| measure | value |`,
+    `|---|---|`,
+    `| held-out test accuracy | ${pct(c.test.accuracy)} on ${c.test.samples} samples never seen in search or training |`,
+    `| validation accuracy (during search) | ${pct(c.validation.accuracy)} |`,
+    `| parameters | ${c.paramCount.toLocaleString('en-US')} |`,
+    `| forward FLOPs per sample | ${c.flops.toLocaleString('en-US')} |`,
+    `| final training | ${c.finalTraining.epochs} epochs on ${c.finalTraining.data}, ${c.finalTraining.seconds.toFixed(1)} s on ${c.finalTraining.backend} (${c.finalTraining.workerId}) |`,
+    `| genome hash | \`${c.genomeHash}\` |`,
+    '',
+    '## Layers',
+    '',
+    '| node | kind | output shape | parameters | FLOPs |',
+    '|---|---|---|---|---|',
+    ...layers.map((n) => `| ${n.id} | ${n.kind} | ${n.outputShape.join('×')} | ${n.params} | ${n.flops} |`),
+    '',
+    '## Training genes',
+    '',
+    ...Object.entries(c.genome.training).map(([k, v]) => `- ${k}: ${v}`),
+    '',
+    '## How it was found',
+    '',
+    c.lineage.length === 0
+      ? 'It is an initial member of the population (no mutation led to it).'
+      : `${c.lineage.length} mutation(s) from an initial member:`,
+    '',
+    ...c.lineage.map((l, i) => `${i + 1}. \`${l.parentHash.slice(0, 12)}\` → \`${l.childHash.slice(0, 12)}\`: ${l.operator} (${l.detail})`),
+    '',
+    '## Reproduce',
+    '',
+    `Search algorithm ${c.settings.config.search.algorithm}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,
+    '',
+    'Files: `model.json` + `weights.bin` (TensorFlow.js layers model; load with `tf.loadLayersModel`), `genome.json`, `champion.json`.',
+    '',
+  ];
+  return lines.join('\n');
+}

@@ -1,0 +1,29 @@
+/**
+ * Every error the coordinator's HTTP API answers with: a stable code (what tests and clients check),
+ * its HTTP status, and what to do about it. Documented as a table in DEVELOPERS.md.
+ */
+export const HTTP_ERRORS = {
+  NB_BAD_REQUEST: { status: 400, fix: 'fix the request body or parameters as the message says' },
+  NB_NOT_FOUND: { status: 404, fix: 'check the path; GET /status lists the current run' },
+  NB_NO_RUN: { status: 404, fix: 'start a run first (netbreeder coordinator --run FILE)' },
+  NB_NO_CHAMPION: { status: 404, fix: "wait until the run's state is 'finished'" },
+  NB_UNKNOWN_DATASET: { status: 404, fix: 'the dataset hash is not one of this coordinator; check the job payload' },
+  NB_INTERNAL: { status: 500, fix: "see the coordinator's log" },
+} as const;
+
+export type HttpErrorCode = keyof typeof HTTP_ERRORS;
+
+/** An error that becomes an HTTP answer `{ error: { code, message, fix } }`. */
+export class HttpError extends Error {
+  constructor(
+    readonly code: HttpErrorCode,
+    message: string,
+  ) {
+    super(message);
+    this.name = 'HttpError';
+  }
+
+  get status(): number {
+    return HTTP_ERRORS[this.code].status;
+  }
+}

@@ -1,0 +1,117 @@
+import { Queue, QueueEvents, type Job } from 'bullmq';
+import type { Redis } from 'ioredis';
+import { DO_NOT_RETRY_PREFIX, type EvaluationJob } from '@netbreeder/shared-types';
+import type { Logger } from '../logger.js';
+import { openRedis, type QueueLocation } from './redis-connection.js';
+
+/** A finished BullMQ job, as the reconciler reads it. */
+export interface FinishedJob {
+  id: string;
+  state: 'completed' | 'failed';
+  returnvalue: unknown;
+  failedReason: string | null;
+  /** True when the worker said the job must not be retried (an unrecoverable error). */
+  unrecoverable: boolean;
+}
+
+/**
+ * The coordinator's side of the job queue. A job's id is its evaluation id, so adding an evaluation
+ * that is already queued changes nothing. Finished jobs stay in Redis until the coordinator has
+ * recorded them in its store and then removes them ({@link EvaluationQueue.remove}), so a result
+ * survives a coordinator restart.
+ */
+export class EvaluationQueue {
+  private readonly connection: Redis;
+  private readonly queue: Queue;
+  private events: QueueEvents | null = null;
+
+  constructor(
+    readonly location: QueueLocation,
+    private readonly log: Logger,
+  ) {
+    this.connection = openRedis(location.redisUrl, (attempt, delayMs) =>
+      log.warn({ attempt, delayMs, redisUrl: redactUrl(location.redisUrl) }, 'cannot reach Redis; retrying'),
+    );
+    this.connection.on('error', (err: Error) => log.debug({ err: err.message }, 'redis connection error'));
+    this.queue = new Queue(location.queueName, { connection: this.connection, prefix: location.prefix });
+    this.queue.on('error', (err) => log.debug({ err: err.message }, 'queue error'));
+  }
+
+  /** Adds (or, when already there, leaves alone) one evaluation's job. */
+  async add(job: EvaluationJob): Promise<void> {
+    await this.queue.add(job.kind, job, {
+      jobId: job.evaluationId,
+      attempts: 1,
+      removeOnComplete: false,
+      removeOnFail: false,
+      // Champion trainings go before search trainings.
+      priority: job.kind === 'champion' ? 1 : 10,
+    });
+  }
+
+  /** True when Redis still knows the job (in any state). */
+  async has(evaluationId: string): Promise<boolean> {
+    return (await this.queue.getJob(evaluationId)) != null;
+  }
+
+  /** Up to `limit` finished jobs of each kind, oldest first. */
+  async finished(limit = 200): Promise<FinishedJob[]> {
+    const out: FinishedJob[] = [];
+    for (const state of ['completed', 'failed'] as const) {
+      const jobs = (await this.queue.getJobs([state], 0, limit - 1, true)) as Array<Job | undefined>;
+      for (const job of jobs) {
+        if (!job?.id) continue;
+        const failedReason = state === 'failed' ? (job.failedReason ?? 'failed without a reason') : null;
+        out.push({
+          id: job.id,
+          state,
+          returnvalue: job.returnvalue,
+          failedReason,
+          unrecoverable: failedReason != null && failedReason.startsWith(DO_NOT_RETRY_PREFIX),
+        });
+      }
+    }
+    return out;
+  }
+
+  async remove(evaluationId: string): Promise<void> {
+    await this.queue.remove(evaluationId);
+  }
+
+  /** Jobs by BullMQ state, for status and metrics. */
+  async counts(): Promise<Record<string, number>> {
+    return this.queue.getJobCounts('waiting', 'prioritized', 'active', 'completed', 'failed', 'delayed');
+  }
+
+  /** Calls `onFinish` whenever a job completes or fails (best-effort: the reconciler does not rely on it). */
+  async watch(onFinish: () => void): Promise<void> {
+    if (this.events) return;
+    this.events = new QueueEvents(this.location.queueName, { connection: this.connection.duplicate(), prefix: this.location.prefix });
+    this.events.on('error', (err) => this.log.debug({ err: err.message }, 'queue events error'));
+    this.events.on('completed', onFinish);
+    this.events.on('failed', onFinish);
+    await this.events.waitUntilReady();
+  }
+
+  /** Removes every job of this queue (tests and `netbreeder reset` only). */
+  async obliterate(): Promise<void> {
+    await this.queue.obliterate({ force: true });
+  }
+
+  async close(): Promise<void> {
+    await this.events?.close();
+    await this.queue.close();
+    this.connection.disconnect();
+  }
+}
+
+/** The URL without its password, for logs. */
+export function redactUrl(url: string): string {
+  try {
+    const u = new URL(url);
+    if (u.password) u.password = '***';
+    return u.toString();
+  } catch {
+    return '(unparseable URL)';
+  }
+}

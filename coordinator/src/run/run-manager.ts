@@ -1,0 +1,404 @@
+import { randomBytes } from 'node:crypto';
+import { readFile } from 'node:fs/promises';
+import {
+  EVALUATION_JOB_VERSION,
+  analyzeGenome,
+  createRandom,
+  decodeShard,
+  defaultSearchSpace,
+  describeGenome,
+  evaluationResultValidator,
+  type DataShape,
+  type EvaluationJob,
+  type EvaluationResult,
+  type LabelledSamples,
+  type RunConfig,
+  type SearchSpace,
+  type WorkerHeartbeat,
+} from '@netbreeder/shared-types';
+import type { Logger } from '../logger.js';
+import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js';
+import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
+import { createSearchAlgorithm, type SearchAlgorithm } from '../search/index.js';
+import { loadDatasetSource, storeDataset } from './prepare-dataset.js';
+import { scoreChampion } from '../champion/score-champion.js';
+import { exportChampion } from '../champion/export-champion.js';
+
+/** How the run manager paces itself. */
+export interface RunManagerOptions {
+  store: RunStore;
+  queue: EvaluationQueue;
+  log: Logger;
+  /** Folder for datasets and champion exports. */
+  dataDir: string;
+  /** Milliseconds between reconcile passes. @default 1000 */
+  tickMs?: number;
+  /** A worker counts as alive while its last heartbeat is younger than this. @default 20000 */
+  workerTimeoutMs?: number;
+  /** Evaluations kept queued beyond one per alive worker, so no worker waits. @default 1 */
+  queueSlack?: number;
+  /** Clock, for tests. @default Date.now */
+  now?: () => number;
+}
+
+/** Events a watcher (the demo, the CLI) can follow. */
+export interface RunManagerEvents {
+  resultRecorded?: (evaluation: EvaluationRecord, result: EvaluationResult) => void;
+  runFinished?: (run: RunRecord) => void;
+}
+
+/** Derives each evaluation's training seed from the run's seed and the proposal's position. */
+export const evaluationSeed = (runSeed: number, seq: number, kind: 'search' | 'champion' = 'search'): number =>
+  createRandom(`${runSeed}:${kind}:${seq}`).uint32();
+
+const evaluationId = (runId: string, seq: number, attempt: number, kind: 'search' | 'champion' = 'search') =>
+  `${runId}-${kind === 'search' ? 's' : 'c'}${seq}-a${attempt}`;
+
+/**
+ * Drives one run: keeps the queue topped up with proposals from the search algorithm, records each
+ * result once (by evaluation id) and feeds it back, reissues failed attempts up to the run's limit,
+ * and when the budget is spent trains the champion and scores it on the held-out test split.
+ *
+ * Asynchronous by design: a new proposal is made whenever a result arrives or a worker frees up,
+ * never after a generation barrier. Everything it decides is written to the store first, so a
+ * restarted coordinator resumes the same run from the store ({@link RunManager.resume}).
+ */
+export class RunManager {
+  private run: RunRecord | null = null;
+  private algorithm: SearchAlgorithm | null = null;
+  private space: SearchSpace = defaultSearchSpace();
+  private data: DataShape | null = null;
+  private testSplit: LabelledSamples | null = null;
+  private timer: NodeJS.Timeout | null = null;
+  private ticking: Promise<void> | null = null;
+  private tickAgain = false;
+  private readonly now: () => number;
+  private readonly tickMs: number;
+  private readonly workerTimeoutMs: number;
+  private readonly queueSlack: number;
+
+  constructor(
+    private readonly opts: RunManagerOptions,
+    private readonly events: RunManagerEvents = {},
+  ) {
+    this.now = opts.now ?? Date.now;
+    this.tickMs = opts.tickMs ?? 1000;
+    this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
+    this.queueSlack = opts.queueSlack ?? 1;
+  }
+
+  get store(): RunStore {
+    return this.opts.store;
+  }
+
+  /** The run being driven, freshly read from the store. */
+  currentRun(): RunRecord | null {
+    return this.run ? this.store.getRun(this.run.id) : null;
+  }
+
+  /** Prepares the dataset, records a new run and starts searching. */
+  async startRun(config: RunConfig): Promise<RunRecord> {
+    const prepared = loadDatasetSource(config);
+    const dataset = await storeDataset(prepared, this.opts.dataDir);
+    const id = `r${this.now().toString(36)}${randomBytes(3).toString('hex')}`;
+    this.store.transaction(() => {
+      this.store.createRun({ id, name: config.name, config, seed: config.seed, dataset, now: this.now() });
+      this.store.logEvent(id, 'run-created', { name: config.name, dataset: dataset.manifest.sha256 });
+    });
+    this.opts.log.info(
+      { runId: id, train: prepared.train.count, val: prepared.val.count, test: prepared.test.count, classes: prepared.classNames },
+      'run created',
+    );
+    await this.attach(this.store.getRun(id)!);
+    return this.store.getRun(id)!;
+  }
+
+  /** Resumes the newest unfinished run in the store, if there is one. */
+  async resume(): Promise<RunRecord | null> {
+    const run = this.store.unfinishedRun();
+    if (!run) return null;
+    await this.attach(run);
+    this.store.logEvent(run.id, 'run-resumed', { proposals: run.proposals });
+    this.opts.log.info({ runId: run.id, state: run.state, proposals: run.proposals }, 'resuming run from the store');
+    return run;
+  }
+
+  private async attach(run: RunRecord): Promise<void> {
+    this.run = run;
+    this.space = run.config.searchSpace ?? defaultSearchSpace();
+    const m = run.dataset.manifest;
+    this.data = { inputShape: m.inputShape, numClasses: m.numClasses };
+    this.testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
+    this.algorithm = createSearchAlgorithm(
+      run.config.search.algorithm,
+      { populationSize: run.config.search.populationSize, sampleSize: run.config.search.sampleSize },
+      { space: this.space, data: this.data, seed: run.seed },
+      (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
+    );
+    // The store is the truth: every evaluation it still owes a result must be in the queue.
+    for (const ev of this.store.pendingEvaluations(run.id)) await this.opts.queue.add(ev.job);
+  }
+
+  /** Starts the reconcile loop (and listens for finished jobs to react at once). */
+  async startLoop(): Promise<void> {
+    await this.opts.queue.watch(() => void this.tick());
+    this.timer = setInterval(() => void this.tick(), this.tickMs);
+    await this.tick();
+  }
+
+  async stopLoop(): Promise<void> {
+    if (this.timer) clearInterval(this.timer);
+    this.timer = null;
+    await this.ticking;
+  }
+
+  /** One pass: record finished jobs, move the run's phase on, top up the queue. Never runs twice at once. */
+  tick(): Promise<void> {
+    if (this.ticking) {
+      this.tickAgain = true;
+      return this.ticking;
+    }
+    this.ticking = (async () => {
+      do {
+        this.tickAgain = false;
+        try {
+          await this.pass();
+        } catch (err) {
+          this.opts.log.error({ err: (err as Error).message, stack: (err as Error).stack }, 'reconcile pass failed; will retry');
+        }
+      } while (this.tickAgain);
+    })().finally(() => {
+      this.ticking = null;
+    });
+    return this.ticking;
+  }
+
+  private async pass(): Promise<void> {
+    if (!this.run) return;
+    for (const job of await this.opts.queue.finished()) await this.reconcile(job);
+    const run = this.currentRun();
+    if (!run) return;
+    if (run.state === 'searching') await this.advanceSearch(run);
+    else if (run.state === 'training-champion') await this.ensureChampionJob(run);
+  }
+
+  /** Records heartbeats and marks the worker's current evaluation running. */
+  recordHeartbeat(hb: WorkerHeartbeat): void {
+    const now = this.now();
+    this.store.transaction(() => {
+      this.store.upsertWorker(hb, now);
+      if (hb.currentEvaluationId) this.store.markRunning(hb.currentEvaluationId, hb.workerId, now);
+    });
+  }
+
+  /** Workers whose last heartbeat is recent enough. */
+  aliveWorkers(): number {
+    const cutoff = this.now() - this.workerTimeoutMs;
+    return this.store.listWorkers().filter((w) => w.lastSeenAt >= cutoff && w.heartbeat.state !== 'stopped').length;
+  }
+
+  isWorkerAlive(lastSeenAt: number): boolean {
+    return lastSeenAt >= this.now() - this.workerTimeoutMs;
+  }
+
+  // ---- search phase --------------------------------------------------------------------------
+
+  private searchBudgetSpent(run: RunRecord): boolean {
+    const elapsedMin = (this.now() - (run.searchStartedAt ?? run.createdAt)) / 60_000;
+    return run.proposals >= run.config.budget.maxEvaluations || elapsedMin >= run.config.budget.maxMinutes;
+  }
+
+  private async advanceSearch(run: RunRecord): Promise<void> {
+    const counts = this.store.counts(run.id, 'search');
+    const inFlight = counts.queued + counts.running;
+    if (this.searchBudgetSpent(run)) {
+      if (inFlight === 0) await this.beginChampion(run);
+      return;
+    }
+    const target = Math.max(2, this.aliveWorkers() + this.queueSlack);
+    let proposals = run.proposals;
+    for (let n = inFlight; n < target && proposals < run.config.budget.maxEvaluations; n++, proposals++) {
+      await this.proposeOne(run.id);
+    }
+  }
+
+  private async proposeOne(runId: string): Promise<void> {
+    const algorithm = this.algorithm!;
+    const run = this.store.getRun(runId)!;
+    const proposal = algorithm.propose();
+    const analysis = analyzeGenome(proposal.genome, this.data!);
+    if (!analysis.ok) throw new Error(`search proposed an invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
+    const seq = run.proposals;
+    const job: EvaluationJob = {
+      schemaVersion: EVALUATION_JOB_VERSION,
+      kind: 'search',
+      evaluationId: evaluationId(runId, seq, 1),
+      runId,
+      attempt: 1,
+      genome: proposal.genome,
+      genomeHash: proposal.genomeHash,
+      seed: evaluationSeed(run.seed, seq),
+      budget: { epochs: proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
+      dataset: run.dataset.manifest,
+    };
+    this.store.transaction(() => {
+      this.store.putGenome({
+        hash: proposal.genomeHash,
+        genome: proposal.genome,
+        params: analysis.analysis.params,
+        flops: analysis.analysis.flops,
+        summary: describeGenome(proposal.genome, this.data!.numClasses),
+      });
+      this.store.addEvaluation(job, seq, this.now(), true);
+      for (const parent of proposal.parentHashes) {
+        this.store.addLineage(runId, {
+          evaluationId: job.evaluationId,
+          childHash: proposal.genomeHash,
+          parentHash: parent,
+          operator: proposal.mutation?.operator ?? 'none',
+          detail: proposal.mutation?.detail ?? proposal.reason,
+        });
+      }
+      this.store.saveSearchSnapshot(runId, algorithm.snapshot());
+    });
+    await this.opts.queue.add(job);
+  }
+
+  // ---- results -------------------------------------------------------------------------------
+
+  /** Validates one finished job's outcome and records it once; the job leaves Redis afterwards. */
+  private async reconcile(job: FinishedJob): Promise<void> {
+    const ev = this.store.getEvaluation(job.id);
+    if (!ev) {
+      this.store.logEvent(null, 'rejected-result', { evaluationId: job.id, reason: 'unknown evaluation id' });
+      this.opts.log.warn({ evaluationId: job.id }, 'finished job names no evaluation of this store; removed');
+    } else if (ev.state === 'done' || ev.state === 'failed') {
+      this.opts.log.debug({ evaluationId: job.id }, 'result already recorded; duplicate ignored');
+    } else if (job.state === 'completed') {
+      const problem = this.resultProblem(ev, job.returnvalue);
+      if (problem) {
+        this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
+        this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected');
+        await this.recordFailedAttempt(ev, `invalid result: ${problem}`, false);
+      } else if (ev.kind === 'search') {
+        this.recordSearchResult(ev, job.returnvalue as EvaluationResult);
+      } else {
+        await this.recordChampionResult(ev, job.returnvalue as EvaluationResult);
+      }
+    } else {
+      await this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable);
+    }
+    await this.opts.queue.remove(job.id);
+  }
+
+  /** Why a returned value cannot be recorded for `ev`, or null when it can. */
+  private resultProblem(ev: EvaluationRecord, value: unknown): string | null {
+    const issues = evaluationResultValidator.issues(value);
+    if (issues.length) return issues.slice(0, 5).map((i) => `${i.path || '(root)'} ${i.message}`).join('; ');
+    const result = value as EvaluationResult;
+    if (result.evaluationId !== ev.id) return `result names evaluation ${result.evaluationId}, not ${ev.id}`;
+    if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
+    if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
+    return null;
+  }
+
+  private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult): void {
+    const recorded = this.store.transaction(() => {
+      const outcome = this.store.recordResult(ev.id, result, this.now());
+      if (outcome !== 'recorded') return false;
+      this.algorithm!.observe({ evaluationId: ev.id, genomeHash: ev.genomeHash, genome: ev.job.genome, fitness: result.valAccuracy! });
+      this.store.saveSearchSnapshot(ev.runId, this.algorithm!.snapshot());
+      return true;
+    });
+    if (!recorded) return;
+    this.opts.log.info(
+      { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
+      'evaluation recorded',
+    );
+    this.events.resultRecorded?.(this.store.getEvaluation(ev.id)!, result);
+  }
+
+  /** Records a failed attempt and, unless it cannot succeed, queues the next attempt. */
+  private async recordFailedAttempt(ev: EvaluationRecord, reason: string, unrecoverable: boolean): Promise<void> {
+    const run = this.store.getRun(ev.runId)!;
+    const canRetry = !unrecoverable && ev.attempt < run.config.evaluation.maxAttempts;
+    const next: EvaluationJob | null = canRetry
+      ? { ...ev.job, attempt: ev.attempt + 1, evaluationId: evaluationId(ev.runId, ev.seq, ev.attempt + 1, ev.kind) }
+      : null;
+    this.store.transaction(() => {
+      if (this.store.recordFailure(ev.id, reason, this.now()) !== 'recorded') return;
+      if (next) {
+        this.store.addEvaluation(next, ev.seq, this.now(), false);
+        this.store.logEvent(ev.runId, 'reissued', { evaluationId: ev.id, next: next.evaluationId, reason });
+      } else {
+        this.store.logEvent(ev.runId, 'genome-failing', { evaluationId: ev.id, genomeHash: ev.genomeHash, attempts: ev.attempt, reason });
+      }
+    });
+    this.opts.log.warn({ evaluationId: ev.id, reason, reissuedAs: next?.evaluationId ?? null }, 'evaluation attempt failed');
+    if (next) await this.opts.queue.add(next);
+    else if (ev.kind === 'champion') this.store.setRunState(ev.runId, 'failed', { now: this.now(), failure: `champion training failed: ${reason}` });
+  }
+
+  // ---- champion phase --------------------------------------------------------------------------
+
+  private async beginChampion(run: RunRecord): Promise<void> {
+    const [best] = this.store.topEvaluations(run.id, 1);
+    if (!best) {
+      this.store.setRunState(run.id, 'failed', { now: this.now(), failure: 'no evaluation succeeded, so there is no champion' });
+      this.opts.log.error({ runId: run.id }, 'run ended without a single successful evaluation');
+      return;
+    }
+    this.store.setRunState(run.id, 'training-champion');
+    this.store.logEvent(run.id, 'champion-chosen', { evaluationId: best.id, valAccuracy: best.valAccuracy });
+    this.opts.log.info({ runId: run.id, evaluationId: best.id, valAccuracy: best.valAccuracy }, 'search done; training the champion on train + validation');
+    await this.ensureChampionJob(this.store.getRun(run.id)!);
+  }
+
+  /** Queues the champion's final training once (idempotent across restarts). */
+  private async ensureChampionJob(run: RunRecord): Promise<void> {
+    if (this.store.evaluations(run.id).some((e) => e.kind === 'champion')) return;
+    const [best] = this.store.topEvaluations(run.id, 1);
+    if (!best) return;
+    const job: EvaluationJob = {
+      ...best.job,
+      kind: 'champion',
+      attempt: 1,
+      evaluationId: evaluationId(run.id, best.seq, 1, 'champion'),
+      seed: evaluationSeed(run.seed, best.seq, 'champion'),
+      budget: { epochs: run.config.champion.epochs, maxSeconds: run.config.champion.maxSeconds },
+    };
+    this.store.addEvaluation(job, best.seq, this.now(), false);
+    await this.opts.queue.add(job);
+  }
+
+  private async recordChampionResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
+    const source = this.store.topEvaluations(ev.runId, 1)[0]!;
+    const score = await scoreChampion(result.model!, this.testSplit!);
+    const recorded = this.store.transaction(() => {
+      if (this.store.recordResult(ev.id, result, this.now()) !== 'recorded') return false;
+      this.store.saveChampion(
+        {
+          runId: ev.runId,
+          evaluationId: ev.id,
+          sourceEvaluationId: source.id,
+          genomeHash: ev.genomeHash,
+          valAccuracy: source.valAccuracy!,
+          testAccuracy: score.accuracy,
+          testLoss: score.loss,
+          testPredictions: Array.from(score.predictions),
+          result: { ...result, model: undefined },
+          createdAt: this.now(),
+        },
+        JSON.stringify(result.model),
+      );
+      this.store.setRunState(ev.runId, 'finished', { now: this.now() });
+      return true;
+    });
+    if (!recorded) return;
+    const run = this.store.getRun(ev.runId)!;
+    const dir = await exportChampion(this.store, run, `${this.opts.dataDir}/runs/${run.id}/champion`);
+    this.store.logEvent(run.id, 'champion-exported', { dir, testAccuracy: score.accuracy });
+    this.opts.log.info({ runId: run.id, testAccuracy: score.accuracy, dir }, 'champion scored on the held-out test split and exported');
+    this.events.runFinished?.(run);
+  }
+}

@@ -1,0 +1,76 @@
+import type { StatusResponse } from '@netbreeder/shared-types';
+import type { RunManager } from './run-manager.js';
+
+const iso = (ms: number) => new Date(ms).toISOString();
+
+/** Builds GET /status from the store (the truth) and the run manager's view of worker liveness. */
+export function buildStatus(manager: RunManager, meta: { version: string; startedAt: number }, now = Date.now()): StatusResponse {
+  const store = manager.store;
+  const run = manager.currentRun() ?? store.listRuns()[0] ?? null;
+  const counts = run ? store.counts(run.id, 'search') : { queued: 0, running: 0, done: 0, failed: 0 };
+  const start = run ? (run.searchStartedAt ?? run.createdAt) : now;
+  const end = run?.finishedAt ?? now;
+  const elapsedMinutes = Math.max((end - start) / 60_000, 1e-9);
+  const [best] = run ? store.topEvaluations(run.id, 1) : [];
+  const champion = run ? store.getChampion(run.id) : null;
+  const championGenome = champion ? store.getGenome(champion.genomeHash) : null;
+  return {
+    coordinator: { version: meta.version, startedAt: iso(meta.startedAt), uptimeSeconds: (now - meta.startedAt) / 1000 },
+    run: run
+      ? {
+          id: run.id,
+          name: run.name,
+          state: run.state,
+          algorithm: run.config.search.algorithm,
+          seed: run.seed,
+          createdAt: iso(run.createdAt),
+          maxEvaluations: run.config.budget.maxEvaluations,
+          maxMinutes: run.config.budget.maxMinutes,
+          elapsedSeconds: (end - start) / 1000,
+        }
+      : null,
+    evaluations: counts,
+    throughput: {
+      perMinuteLastMinute: run ? store.doneSince(run.id, now - 60_000) : 0,
+      perMinuteSinceStart: run ? counts.done / elapsedMinutes : 0,
+    },
+    workers: store.listWorkers().map(({ heartbeat: hb, lastSeenAt }) => ({
+      workerId: hb.workerId,
+      host: hb.host,
+      cores: hb.cores,
+      backend: hb.backend,
+      state: hb.state,
+      alive: manager.isWorkerAlive(lastSeenAt) && hb.state !== 'stopped',
+      currentEvaluationId: hb.currentEvaluationId,
+      evaluationsDone: hb.evaluationsDone,
+      samplesPerSecond: hb.samplesPerSecond,
+      lastHeartbeatAt: iso(lastSeenAt),
+      secondsSinceHeartbeat: (now - lastSeenAt) / 1000,
+    })),
+    best: best
+      ? {
+          genomeHash: best.genomeHash,
+          evaluationId: best.id,
+          valAccuracy: best.valAccuracy!,
+          valLoss: best.result?.valLoss ?? 0,
+          paramCount: best.params,
+          flops: best.flops,
+          summary: best.summary,
+          genome: best.genome,
+        }
+      : null,
+    champion:
+      champion && championGenome
+        ? {
+            genomeHash: champion.genomeHash,
+            evaluationId: champion.evaluationId,
+            valAccuracy: champion.valAccuracy,
+            testAccuracy: champion.testAccuracy,
+            testLoss: champion.testLoss,
+            paramCount: championGenome.params,
+            flops: championGenome.flops,
+            summary: championGenome.summary,
+          }
+        : null,
+  };
+}

@@ -1,0 +1,378 @@
+import Database from 'better-sqlite3';
+import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, WorkerHeartbeat } from '@netbreeder/shared-types';
+import { MIGRATIONS } from './migrations.js';
+
+/** Where a run's prepared data lives on the coordinator's disk. */
+export interface StoredDataset {
+  manifest: DatasetManifest;
+  /** Shard file served to workers (train + validation). */
+  shardPath: string;
+  /** Held-out test split; never served. */
+  testPath: string;
+}
+
+export interface RunRecord {
+  id: string;
+  name: string;
+  config: RunConfig;
+  state: RunState;
+  seed: number;
+  dataset: StoredDataset;
+  searchSnapshot: unknown;
+  proposals: number;
+  createdAt: number;
+  searchStartedAt: number | null;
+  finishedAt: number | null;
+  failure: string | null;
+}
+
+export type EvaluationState = 'queued' | 'running' | 'done' | 'failed';
+
+export interface EvaluationRecord {
+  id: string;
+  runId: string;
+  kind: 'search' | 'champion';
+  seq: number;
+  attempt: number;
+  genomeHash: string;
+  job: EvaluationJob;
+  state: EvaluationState;
+  queuedAt: number;
+  startedAt: number | null;
+  finishedAt: number | null;
+  workerId: string | null;
+  valAccuracy: number | null;
+  result: EvaluationResult | null;
+  error: string | null;
+}
+
+export interface GenomeRecord {
+  hash: string;
+  genome: Genome;
+  params: number;
+  flops: number;
+  summary: string;
+}
+
+export interface LineageLink {
+  evaluationId: string;
+  childHash: string;
+  parentHash: string;
+  operator: string;
+  detail: string;
+}
+
+export interface ChampionRecord {
+  runId: string;
+  evaluationId: string;
+  sourceEvaluationId: string;
+  genomeHash: string;
+  valAccuracy: number;
+  testAccuracy: number;
+  testLoss: number;
+  testPredictions: number[];
+  result: EvaluationResult;
+  createdAt: number;
+}
+
+/** Outcome of offering a result to the store: only `recorded` changed anything. */
+export type RecordOutcome = 'recorded' | 'duplicate' | 'unknown-evaluation';
+
+type Row = Record<string, unknown>;
+
+const evaluationFromRow = (r: Row): EvaluationRecord => ({
+  id: r.id as string,
+  runId: r.run_id as string,
+  kind: r.kind as 'search' | 'champion',
+  seq: r.seq as number,
+  attempt: r.attempt as number,
+  genomeHash: r.genome_hash as string,
+  job: JSON.parse(r.job_json as string) as EvaluationJob,
+  state: r.state as EvaluationState,
+  queuedAt: r.queued_at as number,
+  startedAt: (r.started_at as number | null) ?? null,
+  finishedAt: (r.finished_at as number | null) ?? null,
+  workerId: (r.worker_id as string | null) ?? null,
+  valAccuracy: (r.val_accuracy as number | null) ?? null,
+  result: r.result_json ? (JSON.parse(r.result_json as string) as EvaluationResult) : null,
+  error: (r.error as string | null) ?? null,
+});
+
+const runFromRow = (r: Row): RunRecord => ({
+  id: r.id as string,
+  name: r.name as string,
+  config: JSON.parse(r.config_json as string) as RunConfig,
+  state: r.state as RunState,
+  seed: r.seed as number,
+  dataset: JSON.parse(r.dataset_json as string) as StoredDataset,
+  searchSnapshot: r.search_snapshot_json ? JSON.parse(r.search_snapshot_json as string) : null,
+  proposals: r.proposals as number,
+  createdAt: r.created_at as number,
+  searchStartedAt: (r.search_started_at as number | null) ?? null,
+  finishedAt: (r.finished_at as number | null) ?? null,
+  failure: (r.failure as string | null) ?? null,
+});
+
+/**
+ * The coordinator's store: one SQLite file (better-sqlite3, synchronous, WAL). Every write that
+ * must be atomic with another goes through {@link RunStore.transaction}. Results are recorded by
+ * evaluation id with a state guard, so a result delivered twice is counted once.
+ */
+export class RunStore {
+  private readonly db: Database.Database;
+
+  constructor(path: string) {
+    this.db = new Database(path);
+    this.db.pragma('journal_mode = WAL');
+    this.db.pragma('synchronous = NORMAL');
+    this.db.pragma('foreign_keys = ON');
+    this.db.pragma('busy_timeout = 5000');
+    this.migrate();
+  }
+
+  private migrate(): void {
+    const version = this.db.pragma('user_version', { simple: true }) as number;
+    for (let i = version; i < MIGRATIONS.length; i++) {
+      this.db.transaction(() => {
+        this.db.exec(MIGRATIONS[i]!);
+        this.db.pragma(`user_version = ${i + 1}`);
+      })();
+    }
+  }
+
+  /** Runs `fn` in one transaction: all of its writes land, or none. */
+  transaction<T>(fn: () => T): T {
+    return this.db.transaction(fn)();
+  }
+
+  close(): void {
+    this.db.close();
+  }
+
+  // ---- runs ----------------------------------------------------------------------------------
+
+  createRun(run: { id: string; name: string; config: RunConfig; seed: number; dataset: StoredDataset; now: number }): void {
+    this.db
+      .prepare(
+        `INSERT INTO runs (id, name, config_json, state, seed, dataset_json, created_at, search_started_at)
+         VALUES (?, ?, ?, 'searching', ?, ?, ?, ?)`,
+      )
+      .run(run.id, run.name, JSON.stringify(run.config), run.seed, JSON.stringify(run.dataset), run.now, run.now);
+  }
+
+  getRun(id: string): RunRecord | null {
+    const row = this.db.prepare('SELECT * FROM runs WHERE id = ?').get(id) as Row | undefined;
+    return row ? runFromRow(row) : null;
+  }
+
+  listRuns(): RunRecord[] {
+    return (this.db.prepare('SELECT * FROM runs ORDER BY created_at DESC').all() as Row[]).map(runFromRow);
+  }
+
+  /** The newest run that has not ended, to resume after a restart. */
+  unfinishedRun(): RunRecord | null {
+    const row = this.db
+      .prepare(`SELECT * FROM runs WHERE state IN ('preparing', 'searching', 'paused', 'training-champion') ORDER BY created_at DESC LIMIT 1`)
+      .get() as Row | undefined;
+    return row ? runFromRow(row) : null;
+  }
+
+  setRunState(id: string, state: RunState, opts: { now?: number; failure?: string } = {}): void {
+    const ended = state === 'finished' || state === 'failed' || state === 'stopped';
+    this.db
+      .prepare('UPDATE runs SET state = ?, finished_at = CASE WHEN ? THEN ? ELSE finished_at END, failure = COALESCE(?, failure) WHERE id = ?')
+      .run(state, ended ? 1 : 0, opts.now ?? Date.now(), opts.failure ?? null, id);
+  }
+
+  saveSearchSnapshot(runId: string, snapshot: unknown): void {
+    this.db.prepare('UPDATE runs SET search_snapshot_json = ? WHERE id = ?').run(JSON.stringify(snapshot), runId);
+  }
+
+  // ---- genomes and evaluations -----------------------------------------------------------------
+
+  putGenome(g: GenomeRecord): void {
+    this.db
+      .prepare('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)')
+      .run(g.hash, JSON.stringify(g.genome), g.params, g.flops, g.summary);
+  }
+
+  getGenome(hash: string): GenomeRecord | null {
+    const r = this.db.prepare('SELECT * FROM genomes WHERE hash = ?').get(hash) as Row | undefined;
+    if (!r) return null;
+    return { hash, genome: JSON.parse(r.genome_json as string) as Genome, params: r.params as number, flops: r.flops as number, summary: r.summary as string };
+  }
+
+  /** Inserts a queued evaluation; with `countsAsProposal` the run's proposal counter moves too. */
+  addEvaluation(job: EvaluationJob, seq: number, now: number, countsAsProposal: boolean): void {
+    this.db
+      .prepare(
+        `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, 'queued', ?)`,
+      )
+      .run(job.evaluationId, job.runId, job.kind, seq, job.attempt, job.genomeHash, job.seed, JSON.stringify(job), now);
+    if (countsAsProposal) this.db.prepare('UPDATE runs SET proposals = proposals + 1 WHERE id = ?').run(job.runId);
+  }
+
+  addLineage(runId: string, link: LineageLink): void {
+    this.db
+      .prepare('INSERT OR IGNORE INTO lineage (evaluation_id, run_id, child_hash, parent_hash, operator, detail) VALUES (?, ?, ?, ?, ?, ?)')
+      .run(link.evaluationId, runId, link.childHash, link.parentHash, link.operator, link.detail);
+  }
+
+  getEvaluation(id: string): EvaluationRecord | null {
+    const r = this.db.prepare('SELECT * FROM evaluations WHERE id = ?').get(id) as Row | undefined;
+    return r ? evaluationFromRow(r) : null;
+  }
+
+  /** Evaluations still owed a result (queued or running): what a rebuilt queue must hold. */
+  pendingEvaluations(runId: string): EvaluationRecord[] {
+    return (this.db.prepare(`SELECT * FROM evaluations WHERE run_id = ? AND state IN ('queued', 'running') ORDER BY seq, attempt`).all(runId) as Row[]).map(
+      evaluationFromRow,
+    );
+  }
+
+  /** Marks a queued evaluation running on a worker (from its heartbeat); no effect otherwise. */
+  markRunning(id: string, workerId: string, now: number): boolean {
+    return this.db.prepare(`UPDATE evaluations SET state = 'running', worker_id = ?, started_at = COALESCE(started_at, ?) WHERE id = ? AND state = 'queued'`).run(workerId, now, id).changes === 1;
+  }
+
+  /** Records a result once: a second delivery of the same evaluation changes nothing. */
+  recordResult(id: string, result: EvaluationResult, now: number): RecordOutcome {
+    const info = this.db
+      .prepare(
+        `UPDATE evaluations SET state = 'done', finished_at = ?, worker_id = ?, backend = ?, val_accuracy = ?, val_loss = ?,
+           train_seconds = ?, samples_per_second = ?, result_json = ?, started_at = COALESCE(started_at, ?)
+         WHERE id = ? AND state IN ('queued', 'running')`,
+      )
+      .run(now, result.workerId, result.backend, result.valAccuracy, result.valLoss, result.trainSeconds, result.samplesPerSecond, JSON.stringify({ ...result, model: undefined }), now, id);
+    if (info.changes === 1) return 'recorded';
+    return this.getEvaluation(id) ? 'duplicate' : 'unknown-evaluation';
+  }
+
+  /** Records a failed attempt once. */
+  recordFailure(id: string, error: string, now: number): RecordOutcome {
+    const info = this.db.prepare(`UPDATE evaluations SET state = 'failed', finished_at = ?, error = ? WHERE id = ? AND state IN ('queued', 'running')`).run(now, error.slice(0, 4000), id);
+    if (info.changes === 1) return 'recorded';
+    return this.getEvaluation(id) ? 'duplicate' : 'unknown-evaluation';
+  }
+
+  /** Counts of one kind of evaluation by state. */
+  counts(runId: string, kind: 'search' | 'champion' = 'search'): Record<EvaluationState, number> {
+    const out: Record<EvaluationState, number> = { queued: 0, running: 0, done: 0, failed: 0 };
+    for (const r of this.db.prepare('SELECT state, COUNT(*) AS n FROM evaluations WHERE run_id = ? AND kind = ? GROUP BY state').all(runId, kind) as Row[]) {
+      out[r.state as EvaluationState] = r.n as number;
+    }
+    return out;
+  }
+
+  /** Search evaluations finished (done) since `since` (ms epoch). */
+  doneSince(runId: string, since: number): number {
+    return (this.db.prepare(`SELECT COUNT(*) AS n FROM evaluations WHERE run_id = ? AND kind = 'search' AND state = 'done' AND finished_at >= ?`).get(runId, since) as Row).n as number;
+  }
+
+  /** The best finished search evaluations: highest validation accuracy, then fewest parameters. */
+  topEvaluations(runId: string, limit: number): Array<EvaluationRecord & { params: number; flops: number; summary: string; genome: Genome }> {
+    const rows = this.db
+      .prepare(
+        `SELECT e.*, g.params, g.flops, g.summary, g.genome_json FROM evaluations e JOIN genomes g ON g.hash = e.genome_hash
+         WHERE e.run_id = ? AND e.kind = 'search' AND e.state = 'done'
+         ORDER BY e.val_accuracy DESC, g.params ASC, e.seq ASC LIMIT ?`,
+      )
+      .all(runId, limit) as Row[];
+    return rows.map((r) => ({
+      ...evaluationFromRow(r),
+      params: r.params as number,
+      flops: r.flops as number,
+      summary: r.summary as string,
+      genome: JSON.parse(r.genome_json as string) as Genome,
+    }));
+  }
+
+  /** Every evaluation of a run in proposal order (for reports and tests). */
+  evaluations(runId: string): EvaluationRecord[] {
+    return (this.db.prepare('SELECT * FROM evaluations WHERE run_id = ? ORDER BY seq, attempt').all(runId) as Row[]).map(evaluationFromRow);
+  }
+
+  /** The chain of mutations that led to `genomeHash`, from its earliest recorded ancestor. */
+  lineageChain(runId: string, genomeHash: string, maxDepth = 1000): LineageLink[] {
+    const chain: LineageLink[] = [];
+    const stmt = this.db.prepare('SELECT * FROM lineage WHERE run_id = ? AND child_hash = ? ORDER BY evaluation_id LIMIT 1');
+    let hash = genomeHash;
+    const seen = new Set<string>();
+    while (chain.length < maxDepth && !seen.has(hash)) {
+      seen.add(hash);
+      const r = stmt.get(runId, hash) as Row | undefined;
+      if (!r) break;
+      chain.unshift({ evaluationId: r.evaluation_id as string, childHash: r.child_hash as string, parentHash: r.parent_hash as string, operator: r.operator as string, detail: r.detail as string });
+      hash = r.parent_hash as string;
+    }
+    return chain;
+  }
+
+  // ---- workers -------------------------------------------------------------------------------
+
+  upsertWorker(hb: WorkerHeartbeat, now: number): void {
+    this.db
+      .prepare(
+        `INSERT INTO workers (id, heartbeat_json, first_seen_at, last_seen_at) VALUES (?, ?, ?, ?)
+         ON CONFLICT(id) DO UPDATE SET heartbeat_json = excluded.heartbeat_json, last_seen_at = excluded.last_seen_at`,
+      )
+      .run(hb.workerId, JSON.stringify(hb), now, now);
+  }
+
+  listWorkers(): Array<{ heartbeat: WorkerHeartbeat; firstSeenAt: number; lastSeenAt: number }> {
+    return (this.db.prepare('SELECT * FROM workers ORDER BY first_seen_at').all() as Row[]).map((r) => ({
+      heartbeat: JSON.parse(r.heartbeat_json as string) as WorkerHeartbeat,
+      firstSeenAt: r.first_seen_at as number,
+      lastSeenAt: r.last_seen_at as number,
+    }));
+  }
+
+  // ---- champion ------------------------------------------------------------------------------
+
+  saveChampion(c: ChampionRecord, artifactsJson: string): void {
+    this.db
+      .prepare(
+        `INSERT OR REPLACE INTO champions (run_id, evaluation_id, source_evaluation_id, genome_hash, val_accuracy, test_accuracy, test_loss,
+           test_predictions_json, artifacts_json, result_json, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(c.runId, c.evaluationId, c.sourceEvaluationId, c.genomeHash, c.valAccuracy, c.testAccuracy, c.testLoss, JSON.stringify(c.testPredictions), artifactsJson, JSON.stringify(c.result), c.createdAt);
+  }
+
+  getChampion(runId: string): ChampionRecord | null {
+    const r = this.db.prepare('SELECT * FROM champions WHERE run_id = ?').get(runId) as Row | undefined;
+    if (!r) return null;
+    return {
+      runId,
+      evaluationId: r.evaluation_id as string,
+      sourceEvaluationId: r.source_evaluation_id as string,
+      genomeHash: r.genome_hash as string,
+      valAccuracy: r.val_accuracy as number,
+      testAccuracy: r.test_accuracy as number,
+      testLoss: r.test_loss as number,
+      testPredictions: JSON.parse(r.test_predictions_json as string) as number[],
+      result: JSON.parse(r.result_json as string) as EvaluationResult,
+      createdAt: r.created_at as number,
+    };
+  }
+
+  /** The champion's trained model (TensorFlow.js layers format, as the worker sent it). */
+  getChampionArtifactsJson(runId: string): string | null {
+    const r = this.db.prepare('SELECT artifacts_json FROM champions WHERE run_id = ?').get(runId) as Row | undefined;
+    return r ? (r.artifacts_json as string) : null;
+  }
+
+  // ---- events --------------------------------------------------------------------------------
+
+  /** Appends to the run's event log (rejections, reissues, state changes). */
+  logEvent(runId: string | null, kind: string, detail: unknown, now = Date.now()): void {
+    this.db.prepare('INSERT INTO events (run_id, at, kind, detail_json) VALUES (?, ?, ?, ?)').run(runId, now, kind, JSON.stringify(detail));
+  }
+
+  events(runId: string | null, kind?: string): Array<{ at: number; kind: string; detail: unknown }> {
+    const rows = (kind
+      ? this.db.prepare('SELECT * FROM events WHERE run_id IS ? AND kind = ? ORDER BY id').all(runId, kind)
+      : this.db.prepare('SELECT * FROM events WHERE run_id IS ? ORDER BY id').all(runId)) as Row[];
+    return rows.map((r) => ({ at: r.at as number, kind: r.kind as string, detail: JSON.parse(r.detail_json as string) }));
+  }
+}
