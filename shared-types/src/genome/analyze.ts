@@ -101,7 +101,10 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
   const nodes: NodeAnalysis[] = [];
 
   for (const n of topo.order) {
-    const inShapes = n.inputs.map((i) => shapes.get(i)!);
+    const maybeShapes = n.inputs.map((i) => shapes.get(i));
+    // An input whose own analysis failed has no shape; its issue is reported already, so skip.
+    if (maybeShapes.some((s) => s === undefined)) continue;
+    const inShapes = maybeShapes as SampleShape[];
     const first = inShapes[0]!;
     const fail = (message: string) => issues.push({ nodeId: n.id, message });
     const spatial = (): [number, number, number] | null => {
