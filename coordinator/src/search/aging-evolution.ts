@@ -1,0 +1,147 @@
+import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { assertObservation } from './observation.js';
+import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
+import type { ResolvedSearchSettings } from './search-settings.js';
+import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AgingEvolutionSnapshot } from './snapshot.js';
+import { tournamentSelect } from './tournament.js';
+import { describeMutations, randomGenome, type Variation } from './variation.js';
+import { MutationError } from './mutations.js';
+
+export interface AgingEvolutionOptions<G> {
+  settings: Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations'>;
+  variation: Variation<G>;
+  /** Seeds the algorithm's random source; ignored when restoring, where the snapshot's state rules. */
+  seed: number;
+  /** A snapshot from {@link AgingEvolution.snapshot} (already checked with `parseSearchSnapshot`). */
+  snapshot?: AgingEvolutionSnapshot<G>;
+}
+
+const short = (hash: string) => hash.slice(0, 12);
+
+/**
+ * Regularized (aging) evolution (Real, Aggarwal, Huang, Le, AAAI 2019, Algorithm 1), asynchronous:
+ * there is no generation, a child is proposed whenever one is asked for.
+ *
+ * - The population is the observed members in arrival order, at most `populationSize` (P) of them.
+ * - The first P proposals are initial members: a minimal genome with 0 to `initialMutations` random
+ *   mutations each (so the first population differs in structure a little, not only in training
+ *   genes). Asked for more before any result has arrived, it proposes further initial members.
+ * - Otherwise it draws `sampleSize` (S) members uniformly with replacement; the fittest drawn is
+ *   the parent and its mutated child is proposed. Should no valid mutation of the parent exist, a
+ *   fresh initial member is proposed instead and the reason says so.
+ * - Each observation is appended; when the population then exceeds P, the OLDEST member is
+ *   removed, whatever its fitness (that is what makes the evolution "regularized").
+ *
+ * Every random draw comes from one seeded source, and observations draw nothing, so the same seed
+ * and the same interleaving of propose and observe calls give the same proposals.
+ */
+export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
+  readonly name = 'aging-evolution';
+  private readonly settings: AgingEvolutionOptions<G>['settings'];
+  private readonly variation: Variation<G>;
+  private readonly seed: number;
+  private readonly rng: Random;
+  private population: Observation<G>[];
+  private proposed: number;
+  private initialProposed: number;
+  private observed: number;
+
+  constructor(options: AgingEvolutionOptions<G>) {
+    this.settings = { ...options.settings };
+    this.variation = options.variation;
+    const s = options.snapshot;
+    if (s) {
+      for (const k of ['populationSize', 'sampleSize', 'initialMutations'] as const) {
+        if (s.settings[k] !== this.settings[k]) {
+          throw new SearchSnapshotError(`the snapshot was taken with ${k} ${s.settings[k]}, not ${this.settings[k]}; resume with the run's original settings`);
+        }
+      }
+      this.seed = s.seed;
+      this.rng = restoreRandom(s.rng);
+      this.population = structuredClone(s.population);
+      this.proposed = s.proposed;
+      this.initialProposed = s.initialProposed;
+      this.observed = s.observed;
+    } else {
+      this.seed = options.seed;
+      this.rng = createRandom(options.seed);
+      this.population = [];
+      this.proposed = 0;
+      this.initialProposed = 0;
+      this.observed = 0;
+    }
+  }
+
+  propose(): Proposal<G> {
+    const { populationSize: P, sampleSize: S } = this.settings;
+    this.proposed++;
+    if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`);
+    if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`);
+
+    const { winner, drawn } = tournamentSelect(
+      this.population.map((m) => m.fitness),
+      S,
+      this.rng,
+    );
+    const parent = this.population[winner]!;
+    const choice =
+      `tournament of ${S} draws with replacement from ${this.population.length} members ` +
+      `(${new Set(drawn).size} distinct); the fittest drawn, ${short(parent.genomeHash)} from evaluation ${parent.evaluationId} ` +
+      `(fitness ${parent.fitness.toFixed(4)}), is the parent`;
+    let child: ReturnType<Variation<G>['mutate']>;
+    try {
+      child = this.variation.mutate(parent.genome, this.rng);
+    } catch (err) {
+      if (!(err instanceof MutationError)) throw err;
+      return this.initialMember(`${choice}, but it has no valid mutation (${err.message}); a fresh member instead`);
+    }
+    return {
+      genome: child.genome,
+      genomeHash: this.variation.hash(child.genome),
+      parentHashes: [parent.genomeHash],
+      mutation: child.mutation,
+      reason: `${choice}; ${child.mutation.operator}: ${child.mutation.detail}`,
+    };
+  }
+
+  observe(o: Observation<G>): void {
+    assertObservation(o, this.variation);
+    // A result delivered twice is counted once while its member lives (the store dedupes by id too).
+    if (this.population.some((m) => m.evaluationId === o.evaluationId)) return;
+    this.population.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness });
+    this.observed++;
+    if (this.population.length > this.settings.populationSize) this.population.shift(); // the oldest, not the worst
+  }
+
+  /** The living members, oldest first (copies). */
+  members(): Observation<G>[] {
+    return structuredClone(this.population);
+  }
+
+  snapshot(): AgingEvolutionSnapshot<G> {
+    return {
+      version: SEARCH_SNAPSHOT_VERSION,
+      algorithm: 'aging-evolution',
+      seed: this.seed,
+      rng: this.rng.state(),
+      proposed: this.proposed,
+      observed: this.observed,
+      settings: { ...this.settings },
+      initialProposed: this.initialProposed,
+      population: structuredClone(this.population),
+    };
+  }
+
+  private initialMember(why: string): Proposal<G> {
+    this.initialProposed++;
+    const { genome, mutations, requested } = randomGenome(this.variation, this.rng, this.rng.int(0, this.settings.initialMutations));
+    const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
+    return {
+      genome,
+      genomeHash: this.variation.hash(genome),
+      parentHashes: [],
+      mutation: null,
+      reason: `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
+    };
+  }
+}

@@ -1,0 +1,76 @@
+import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { assertObservation } from './observation.js';
+import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
+import type { ResolvedSearchSettings } from './search-settings.js';
+import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type RandomSearchSnapshot } from './snapshot.js';
+import { describeMutations, randomGenome, type Variation } from './variation.js';
+
+export interface RandomSearchOptions<G> {
+  settings: Pick<ResolvedSearchSettings, 'randomMutations'>;
+  variation: Variation<G>;
+  /** Seeds the random source; ignored when restoring, where the snapshot's state rules. */
+  seed: number;
+  /** A snapshot from {@link RandomSearch.snapshot} (already checked with `parseSearchSnapshot`). */
+  snapshot?: RandomSearchSnapshot;
+}
+
+/**
+ * The honest baseline: every proposal is an independent random genome, a minimal genome with a
+ * number of random mutations drawn uniformly from 0 to `randomMutations`, so it reaches the same
+ * kinds of networks evolution can build, by the same operators, without selection. Observations
+ * are counted and otherwise change nothing.
+ */
+export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
+  readonly name = 'random';
+  private readonly settings: RandomSearchOptions<G>['settings'];
+  private readonly variation: Variation<G>;
+  private readonly seed: number;
+  private readonly rng: Random;
+  private proposed: number;
+  private observed: number;
+
+  constructor(options: RandomSearchOptions<G>) {
+    this.settings = { ...options.settings };
+    this.variation = options.variation;
+    const s = options.snapshot;
+    if (s && s.settings.randomMutations !== this.settings.randomMutations) {
+      throw new SearchSnapshotError(
+        `the snapshot was taken with randomMutations ${s.settings.randomMutations}, not ${this.settings.randomMutations}; resume with the run's original settings`,
+      );
+    }
+    this.seed = s ? s.seed : options.seed;
+    this.rng = s ? restoreRandom(s.rng) : createRandom(options.seed);
+    this.proposed = s ? s.proposed : 0;
+    this.observed = s ? s.observed : 0;
+  }
+
+  propose(): Proposal<G> {
+    this.proposed++;
+    const { genome, mutations, requested } = randomGenome(this.variation, this.rng, this.rng.int(0, this.settings.randomMutations));
+    const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
+    return {
+      genome,
+      genomeHash: this.variation.hash(genome),
+      parentHashes: [],
+      mutation: null,
+      reason: `random sample ${this.proposed}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
+    };
+  }
+
+  observe(o: Observation<G>): void {
+    assertObservation(o, this.variation);
+    this.observed++;
+  }
+
+  snapshot(): RandomSearchSnapshot {
+    return {
+      version: SEARCH_SNAPSHOT_VERSION,
+      algorithm: 'random',
+      seed: this.seed,
+      rng: this.rng.state(),
+      proposed: this.proposed,
+      observed: this.observed,
+      settings: { ...this.settings },
+    };
+  }
+}

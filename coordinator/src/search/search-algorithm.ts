@@ -1,0 +1,86 @@
+import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchSpace } from '@netbreeder/shared-types';
+import { AgingEvolution } from './aging-evolution.js';
+import { minimalGenome } from './minimal-genome.js';
+import type { Mutation, MutateOptions } from './mutations.js';
+import { RandomSearch } from './random-search.js';
+import { resolveSearchSettings, type SearchSettings } from './search-settings.js';
+import { parseSearchSnapshot, SearchSnapshotError, type SearchSnapshot } from './snapshot.js';
+import { genomeVariation } from './variation.js';
+
+/** One genome the algorithm wants trained, with its lineage and why it was chosen. */
+export interface Proposal<G = Genome> {
+  genome: G;
+  /** `genomeHash(genome)`. */
+  genomeHash: string;
+  /** Hashes of the parent(s); empty for an initial or random genome. */
+  parentHashes: string[];
+  /** The mutation that made it from its parent; null when it has no parent. */
+  mutation: Mutation | null;
+  /** One line for the record: why this genome, from which parent, by which change. */
+  reason: string;
+}
+
+/** A finished evaluation the algorithm learns from. */
+export interface Observation<G = Genome> {
+  /** The evaluation's id (its job id); an observation already held is ignored. */
+  evaluationId: string;
+  /** `genomeHash(genome)`; checked on arrival. */
+  genomeHash: string;
+  genome: G;
+  /** Validation accuracy: higher is better. A finite number. */
+  fitness: number;
+}
+
+/**
+ * What every search algorithm does. The coordinator calls `propose()` whenever it wants another
+ * genome to train (no barrier: several proposals may be in flight), and `observe()` when an
+ * evaluation's result is recorded. Evaluations that failed may be left unobserved (they then never
+ * enter the population) or observed with fitness 0 (they then take a place and age out). The
+ * algorithm does no I/O: `snapshot()` returns its whole state as JSON for the store.
+ */
+export interface SearchAlgorithm<G = Genome> {
+  readonly name: string;
+  propose(): Proposal<G>;
+  observe(o: Observation<G>): void;
+  /** JSON-serializable state, the random source's included; pass it back to the factory to resume. */
+  snapshot(): SearchSnapshot<G>;
+}
+
+/** What the factory needs about the run besides the algorithm's settings. */
+export interface SearchContext {
+  space: SearchSpace;
+  data: DataShape;
+  /** Seeds every random draw of the search (a 32-bit unsigned integer, as the run config has it). */
+  seed: number;
+  /** How mutations are drawn (operator weights, retry budget). @default the documented defaults of `mutate` */
+  mutation?: MutateOptions;
+}
+
+export const SEARCH_ALGORITHM_NAMES: readonly SearchAlgorithmName[] = ['aging-evolution', 'random'];
+
+/**
+ * Builds the named algorithm over network genomes, or restores it from `snapshot` so it continues
+ * exactly where the snapshot was taken. Throws when the name is unknown, the seed is not a 32-bit
+ * unsigned integer, a setting is out of range, the space cannot hold even a linear classifier
+ * (`MinimalGenomeError`), or the snapshot is malformed or was taken by another algorithm or with
+ * other settings (`SearchSnapshotError`).
+ */
+export function createSearchAlgorithm(
+  name: SearchAlgorithmName,
+  settings: SearchSettings,
+  ctx: SearchContext,
+  snapshot?: SearchSnapshot,
+): SearchAlgorithm {
+  if (!SEARCH_ALGORITHM_NAMES.includes(name)) throw new RangeError(`unknown search algorithm '${String(name)}'; use one of ${SEARCH_ALGORITHM_NAMES.join(', ')}`);
+  if (!Number.isInteger(ctx.seed) || ctx.seed < 0 || ctx.seed > 0xffffffff) throw new RangeError(`search seed must be a 32-bit unsigned integer, got ${ctx.seed}`);
+  const resolved = resolveSearchSettings(settings);
+  minimalGenome({ space: ctx.space, data: ctx.data, rng: createRandom(0) }); // fails fast when nothing fits the space
+  const variation = genomeVariation(ctx.space, ctx.data, ctx.mutation);
+  const restored = snapshot === undefined ? undefined : parseSearchSnapshot(snapshot, variation);
+  if (restored && restored.algorithm !== name) throw new SearchSnapshotError(`the snapshot belongs to '${restored.algorithm}', not '${name}'`);
+  if (restored && restored.seed !== ctx.seed) throw new SearchSnapshotError(`the snapshot was seeded with ${restored.seed}, not ${ctx.seed}; resume with the run's own seed`);
+  if (name === 'random') {
+    return new RandomSearch({ settings: resolved, variation, seed: ctx.seed, snapshot: restored?.algorithm === 'random' ? restored : undefined });
+  }
+  return new AgingEvolution({ settings: resolved, variation, seed: ctx.seed, snapshot: restored?.algorithm === 'aging-evolution' ? restored : undefined });
+}

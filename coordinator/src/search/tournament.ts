@@ -1,0 +1,25 @@
+import type { Random } from '@netbreeder/shared-types';
+
+export interface TournamentResult {
+  /** Index of the parent: the fittest of the drawn members (the earliest drawn among equals). */
+  winner: number;
+  /** The drawn indices in draw order (repeats possible). */
+  drawn: number[];
+}
+
+/**
+ * Tournament selection as regularized evolution uses it: draws `sampleSize` members uniformly with
+ * replacement and returns the fittest drawn. A tie goes to the member drawn first.
+ */
+export function tournamentSelect(fitness: readonly number[], sampleSize: number, rng: Random): TournamentResult {
+  if (!fitness.length) throw new Error('tournamentSelect needs at least one member; observe a result first');
+  if (!Number.isInteger(sampleSize) || sampleSize < 1) throw new Error(`sample size must be a whole number ≥ 1, got ${sampleSize}`);
+  const drawn: number[] = [];
+  let winner = -1;
+  for (let i = 0; i < sampleSize; i++) {
+    const k = rng.int(0, fitness.length - 1);
+    drawn.push(k);
+    if (winner < 0 || fitness[k]! > fitness[winner]!) winner = k;
+  }
+  return { winner, drawn };
+}

@@ -1,0 +1,65 @@
+import { genomeHash, genomeValidator, type DataShape, type Genome, type Random, type SearchSpace } from '@netbreeder/shared-types';
+import { minimalGenome } from './minimal-genome.js';
+import { mutate, MutationError, type MutateOptions, type Mutation } from './mutations.js';
+
+/**
+ * What a search algorithm needs to know about its genomes, and nothing more: how to make a fresh
+ * one, how to mutate one, how to hash one. The algorithms are written against this, so the same
+ * aging evolution or random search runs on networks ({@link genomeVariation}) or on any other
+ * encoding (such as the bit-string toy problem a benchmark may use).
+ */
+export interface Variation<G> {
+  /** A fresh, valid genome: the start of an initial member or a random-search sample. */
+  minimal(rng: Random): G;
+  /** A valid child that differs from `parent`; throws {@link MutationError} when none is found. */
+  mutate(parent: G, rng: Random): { genome: G; mutation: Mutation };
+  /** Content hash: equal genomes give equal hashes. */
+  hash(genome: G): string;
+  /** True when `value` has the genome's form (used on restored snapshots). */
+  isGenome(value: unknown): value is G;
+}
+
+/** The network genomes of a run: minimal linear classifiers grown by {@link mutate}. */
+export function genomeVariation(space: SearchSpace, data: DataShape, options: MutateOptions = {}): Variation<Genome> {
+  return {
+    minimal: (rng) => minimalGenome({ space, data, rng }),
+    mutate: (parent, rng) => {
+      const { genome, mutation } = mutate(parent, { space, data, rng, ...options });
+      return { genome, mutation };
+    },
+    hash: (genome) => genomeHash(genome),
+    isGenome: (value): value is Genome => genomeValidator.check(value),
+  };
+}
+
+export interface RandomGenome<G> {
+  genome: G;
+  /** The mutations applied to the minimal genome, in order. */
+  mutations: Mutation[];
+  /** How many were asked for; more than `mutations.length` when the space ran out of room. */
+  requested: number;
+}
+
+/**
+ * A fresh genome with `count` random mutations applied in turn. Stops early, keeping what it has,
+ * when a mutation finds no valid child (a narrow space may leave no room to grow).
+ */
+export function randomGenome<G>(variation: Variation<G>, rng: Random, count: number): RandomGenome<G> {
+  let genome = variation.minimal(rng);
+  const mutations: Mutation[] = [];
+  for (let i = 0; i < count; i++) {
+    try {
+      const child = variation.mutate(genome, rng);
+      genome = child.genome;
+      mutations.push(child.mutation);
+    } catch (err) {
+      if (err instanceof MutationError) break;
+      throw err;
+    }
+  }
+  return { genome, mutations, requested: count };
+}
+
+/** `add-layer (added conv2d …); change-width (…)`, or `none`. */
+export const describeMutations = (mutations: readonly Mutation[]): string =>
+  mutations.length ? mutations.map((m) => `${m.operator} (${m.detail})`).join('; ') : 'none';
