@@ -2,7 +2,7 @@ import { Queue, QueueEvents, type Job } from 'bullmq';
 import type { Redis } from 'ioredis';
 import { DO_NOT_RETRY_PREFIX, type EvaluationJob } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
-import { openRedis, type QueueLocation } from './redis-connection.js';
+import { openRedis, type QueueLocation } from '@netbreeder/worker';
 
 /** A finished BullMQ job, as the reconciler reads it. */
 export interface FinishedJob {

@@ -1,0 +1,24 @@
+import { mkdir, writeFile } from 'node:fs/promises';
+import { join, resolve } from 'node:path';
+
+/** Downloads a run's champion export from a coordinator into `outDir`; returns the files written. */
+export async function downloadChampion(coordinatorUrl: string, runId: string, outDir: string, onFile?: (name: string, bytes: number) => void): Promise<string[]> {
+  const base = new URL(`/runs/${encodeURIComponent(runId)}/champion`, coordinatorUrl);
+  const res = await fetch(base);
+  if (!res.ok) {
+    const body = (await res.json().catch(() => null)) as { error?: { message?: string; fix?: string } } | null;
+    throw new Error(`coordinator answered ${res.status} for run ${runId}: ${body?.error?.message ?? res.statusText}${body?.error?.fix ? ` (${body.error.fix})` : ''}`);
+  }
+  const summary = (await res.json()) as { files: string[] };
+  await mkdir(outDir, { recursive: true });
+  const written: string[] = [];
+  for (const name of summary.files) {
+    const fileRes = await fetch(`${base.toString()}/files/${encodeURIComponent(name)}`);
+    if (!fileRes.ok) throw new Error(`cannot download ${name}: HTTP ${fileRes.status}`);
+    const bytes = Buffer.from(await fileRes.arrayBuffer());
+    await writeFile(join(outDir, name), bytes);
+    onFile?.(name, bytes.length);
+    written.push(resolve(outDir, name));
+  }
+  return written;
+}

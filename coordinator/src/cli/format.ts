@@ -1,0 +1,41 @@
+import type { StatusResponse } from '@netbreeder/shared-types';
+
+export const pct = (v: number | null | undefined): string => (v == null ? '–' : `${(v * 100).toFixed(1)}%`);
+
+export const clock = (seconds: number): string => {
+  const s = Math.max(0, Math.floor(seconds));
+  return `${String(Math.floor(s / 60)).padStart(2, '0')}:${String(s % 60).padStart(2, '0')}`;
+};
+
+/** One live progress line: `[02:10] 41 done · 2 running · 0 failed · best 91.2% · 18.5/min · 2 workers`. */
+export function progressLine(s: StatusResponse): string {
+  const alive = s.workers.filter((w) => w.alive).length;
+  const e = s.evaluations;
+  return [
+    `[${clock(s.run?.elapsedSeconds ?? 0)}] ${s.run?.state ?? 'no run'}`,
+    `${e.done} done`,
+    `${e.running} running`,
+    `${e.queued} queued`,
+    `${e.failed} failed`,
+    `best val ${pct(s.best?.valAccuracy)}`,
+    `${s.throughput.perMinuteLastMinute.toFixed(0)}/min last minute (${s.throughput.perMinuteSinceStart.toFixed(1)}/min overall)`,
+    `${alive} worker${alive === 1 ? '' : 's'} alive`,
+  ].join(' · ');
+}
+
+/** A compact multi-line status for `netbreeder status`. */
+export function statusTable(s: StatusResponse): string {
+  const lines = [progressLine(s)];
+  if (s.run) lines.push(`run ${s.run.id} "${s.run.name}" · ${s.run.algorithm} · seed ${s.run.seed} · budget ${s.run.maxEvaluations} evaluations / ${s.run.maxMinutes} min`);
+  if (s.best) lines.push(`best so far: ${pct(s.best.valAccuracy)} val · ${s.best.paramCount} params · ${s.best.summary}`);
+  if (s.champion) lines.push(`champion: ${pct(s.champion.testAccuracy)} test · ${pct(s.champion.valAccuracy)} val · ${s.champion.paramCount} params · ${s.champion.summary}`);
+  if (s.workers.length) {
+    lines.push('', 'worker                          backend  state     done  samples/s  last seen');
+    for (const w of s.workers) {
+      lines.push(
+        `${w.workerId.padEnd(31).slice(0, 31)} ${(w.backend ?? '–').padEnd(8)} ${(w.alive ? w.state : 'gone').padEnd(9)} ${String(w.evaluationsDone).padStart(4)}  ${w.samplesPerSecond.toFixed(0).padStart(9)}  ${w.secondsSinceHeartbeat.toFixed(0)} s ago`,
+      );
+    }
+  }
+  return lines.join('\n');
+}

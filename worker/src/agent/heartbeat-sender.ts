@@ -1,0 +1,62 @@
+import type { Logger } from 'pino';
+import { workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
+
+/**
+ * Posts the worker's heartbeat to the coordinator on a fixed interval (and on demand, when the
+ * worker's state changes). While the coordinator cannot be reached it keeps trying at the same
+ * pace, logging the first failure and then every tenth, so a worker never spins or floods its log.
+ */
+export class HeartbeatSender {
+  private timer: NodeJS.Timeout | null = null;
+  private failures = 0;
+  private inFlight: Promise<void> | null = null;
+
+  constructor(
+    private readonly coordinatorUrl: string,
+    private readonly intervalMs: number,
+    private readonly snapshot: () => WorkerHeartbeat,
+    private readonly log: Logger,
+  ) {}
+
+  start(): void {
+    if (this.timer) return;
+    this.timer = setInterval(() => void this.send(), this.intervalMs);
+    this.timer.unref();
+    void this.send();
+  }
+
+  /** Sends one heartbeat now (at most one at a time). */
+  send(): Promise<void> {
+    if (this.inFlight) return this.inFlight;
+    this.inFlight = this.post().finally(() => {
+      this.inFlight = null;
+    });
+    return this.inFlight;
+  }
+
+  private async post(): Promise<void> {
+    const body = workerHeartbeatValidator.parse(this.snapshot());
+    try {
+      const res = await fetch(new URL('/workers/heartbeat', this.coordinatorUrl), {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify(body),
+        signal: AbortSignal.timeout(Math.max(2000, this.intervalMs)),
+      });
+      if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
+      if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
+      this.failures = 0;
+    } catch (err) {
+      this.failures++;
+      if (this.failures === 1 || this.failures % 10 === 0) {
+        this.log.warn({ failures: this.failures, coordinatorUrl: this.coordinatorUrl, err: (err as Error).message }, 'cannot reach the coordinator; will keep trying');
+      }
+    }
+  }
+
+  async stop(): Promise<void> {
+    if (this.timer) clearInterval(this.timer);
+    this.timer = null;
+    await this.inFlight;
+  }
+}

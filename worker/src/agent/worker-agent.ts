@@ -1,0 +1,202 @@
+import { hostname, setPriority } from 'node:os';
+import { UnrecoverableError, Worker, type Job } from 'bullmq';
+import type { Redis } from 'ioredis';
+import type { Logger } from 'pino';
+import {
+  DO_NOT_RETRY_PREFIX,
+  EVALUATION_RESULT_VERSION,
+  evaluationJobValidator,
+  evaluationResultValidator,
+  type BackendName,
+  type EvaluationJob,
+  type EvaluationResult,
+  type WorkerHeartbeat,
+  type WorkerState,
+} from '@netbreeder/shared-types';
+import { TrainingProcess } from '../training/training-process.js';
+import { isRetryable } from '../training/errors.js';
+import { DatasetCache } from './dataset-cache.js';
+import { HeartbeatSender } from './heartbeat-sender.js';
+import { openRedis } from './redis-connection.js';
+import { coreCount, type WorkerOptions } from './worker-options.js';
+import { msUntilClockTime } from './stop-time.js';
+
+export const WORKER_VERSION = '0.1.0';
+
+/**
+ * One worker: pulls evaluation jobs from the queue one at a time, trains each in its training child
+ * process (never on this event loop, so BullMQ's lock renewal and the heartbeats keep running), and
+ * returns the result as the job's return value.
+ *
+ * Lifecycle: starting → idle ⇄ training → draining → stopped. `stop()` finishes the current job
+ * first; `stop({ force: true })` kills the training and leaves the job to be reissued.
+ */
+export class WorkerAgent {
+  private state: WorkerState = 'starting';
+  private current: string | null = null;
+  private done = 0;
+  private failed = 0;
+  private lastSamplesPerSecond = 0;
+  private backend: BackendName | null = null;
+  private backendReason = 'not started';
+  private readonly training: TrainingProcess;
+  private readonly cache: DatasetCache;
+  private readonly heartbeat: HeartbeatSender;
+  private connection: Redis | null = null;
+  private worker: Worker | null = null;
+  private stopTimer: NodeJS.Timeout | null = null;
+  private stopping: Promise<void> | null = null;
+  private readonly host = hostname();
+  private markStopped: () => void = () => {};
+  /** Settles once the worker has stopped (after `stop()`, a stop time, or a fatal error). */
+  readonly stopped: Promise<void> = new Promise((resolve) => (this.markStopped = resolve));
+
+  constructor(
+    readonly options: WorkerOptions,
+    private readonly log: Logger,
+  ) {
+    this.training = new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
+    this.cache = new DatasetCache({ dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl }, log);
+    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log);
+  }
+
+  /** The worker's lifecycle state. */
+  status(): { state: WorkerState; currentEvaluationId: string | null; evaluationsDone: number; evaluationsFailed: number } {
+    return { state: this.state, currentEvaluationId: this.current, evaluationsDone: this.done, evaluationsFailed: this.failed };
+  }
+
+  async start(): Promise<void> {
+    try {
+      setPriority(this.options.nice); // the training child inherits it
+    } catch (err) {
+      this.log.warn({ nice: this.options.nice, err: (err as Error).message }, 'cannot lower scheduling priority; running at normal priority');
+    }
+    this.heartbeat.start();
+    const choice = await this.training.start();
+    this.backend = choice.backend;
+    this.backendReason = choice.reason;
+    this.log.info({ workerId: this.options.workerId, backend: choice.backend, reason: choice.reason }, 'training backend ready');
+
+    this.connection = openRedis(this.options.redisUrl, (attempt, delayMs) =>
+      this.log.warn({ attempt, delayMs }, 'cannot reach Redis; retrying with backoff'),
+    );
+    this.connection.on('error', (err: Error) => this.log.debug({ err: err.message }, 'redis connection error'));
+    this.worker = new Worker(this.options.queueName, (job) => this.process(job), {
+      connection: this.connection,
+      prefix: this.options.prefix,
+      concurrency: 1,
+      name: this.options.workerId,
+      lockDuration: this.options.lockDurationMs,
+      stalledInterval: this.options.stalledIntervalMs,
+      maxStalledCount: 1,
+      autorun: true,
+    });
+    this.worker.on('error', (err) => this.log.warn({ err: err.message }, 'queue worker error'));
+    this.state = 'idle';
+    void this.heartbeat.send();
+    if (this.options.until) {
+      const ms = msUntilClockTime(this.options.until, new Date());
+      this.log.info({ until: this.options.until, inMinutes: Math.round(ms / 60_000) }, 'will stop at the set time');
+      this.stopTimer = setTimeout(() => void this.stop(), ms);
+      this.stopTimer.unref();
+    }
+  }
+
+  private heartbeatMessage(): WorkerHeartbeat {
+    return {
+      schemaVersion: 1,
+      workerId: this.options.workerId,
+      host: this.host,
+      pid: process.pid,
+      cores: coreCount(),
+      backend: this.backend,
+      backendReason: this.backendReason.slice(0, 2000),
+      state: this.state,
+      currentEvaluationId: this.current,
+      evaluationsDone: this.done,
+      evaluationsFailed: this.failed,
+      samplesPerSecond: this.lastSamplesPerSecond,
+      rssBytes: process.memoryUsage.rss() + this.training.lastRssBytes(),
+      memoryCapMb: this.options.memoryCapMb,
+      version: WORKER_VERSION,
+    };
+  }
+
+  /** The BullMQ processor: validate, fetch data, train in the child, return the result. */
+  private async process(job: Job): Promise<EvaluationResult> {
+    const issues = evaluationJobValidator.issues(job.data);
+    if (issues.length) {
+      const reason = issues.slice(0, 5).map((i) => `${i.path} ${i.message}`).join('; ');
+      this.log.warn({ jobId: job.id, reason }, 'job payload rejected');
+      throw new UnrecoverableError(`${DO_NOT_RETRY_PREFIX}invalid job payload: ${reason}`);
+    }
+    const payload = job.data as EvaluationJob;
+    if (payload.evaluationId !== job.id) throw new UnrecoverableError(`${DO_NOT_RETRY_PREFIX}job id ${job.id} does not match evaluation id ${payload.evaluationId}`);
+
+    this.state = 'training';
+    this.current = payload.evaluationId;
+    void this.heartbeat.send();
+    const log = this.log.child({ evaluationId: payload.evaluationId, kind: payload.kind, attempt: payload.attempt });
+    try {
+      const shardPath = await this.cache.ensure(payload.dataset);
+      log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs }, 'training');
+      const outcome = await this.training.train(
+        {
+          genome: payload.genome,
+          data: { inputShape: payload.dataset.inputShape, numClasses: payload.dataset.numClasses },
+          shardPath,
+          splits: payload.kind === 'champion' ? 'train+val' : 'train',
+          budget: payload.budget,
+          seed: payload.seed,
+          exportModel: payload.kind === 'champion',
+          memoryCapMb: this.options.memoryCapMb,
+        },
+        { onEpoch: (record) => log.debug({ record }, 'epoch') },
+      );
+      const result: EvaluationResult = { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: payload.evaluationId, workerId: this.options.workerId, ...outcome };
+      evaluationResultValidator.parse(result);
+      this.done++;
+      this.lastSamplesPerSecond = result.samplesPerSecond;
+      log.info({ valAccuracy: result.valAccuracy, seconds: Number(result.trainSeconds.toFixed(2)), samplesPerSecond: Math.round(result.samplesPerSecond) }, 'evaluation done');
+      return result;
+    } catch (err) {
+      this.failed++;
+      const message = (err as Error).message;
+      log.warn({ err: message }, 'evaluation failed');
+      if (!isRetryable(err)) throw new UnrecoverableError(`${DO_NOT_RETRY_PREFIX}${message}`);
+      throw err;
+    } finally {
+      this.current = null;
+      if (this.state === 'training') this.state = 'idle';
+      void this.heartbeat.send();
+    }
+  }
+
+  /**
+   * Stops taking jobs and exits cleanly: the current job is finished first (BullMQ's close waits
+   * for it); with `force` the training is killed and the job is left to the stalled check, which
+   * hands it to another worker.
+   */
+  stop(opts: { force?: boolean } = {}): Promise<void> {
+    if (opts.force) {
+      this.log.warn('forced stop: abandoning the current job; another worker will take it over');
+      this.training.kill();
+    }
+    if (this.stopping) return this.stopping;
+    this.stopping = (async () => {
+      if (this.stopTimer) clearTimeout(this.stopTimer);
+      this.state = 'draining';
+      void this.heartbeat.send();
+      this.log.info({ currentEvaluationId: this.current }, 'draining: finishing the current job, taking no new ones');
+      await this.worker?.close(opts.force);
+      await this.training.close();
+      this.state = 'stopped';
+      await this.heartbeat.send();
+      await this.heartbeat.stop();
+      this.connection?.disconnect();
+      this.log.info({ done: this.done, failed: this.failed }, 'worker stopped');
+      this.markStopped();
+    })();
+    return this.stopping;
+  }
+}

@@ -1,0 +1,61 @@
+import { cpus, homedir, hostname, totalmem } from 'node:os';
+import { join } from 'node:path';
+import { randomBytes } from 'node:crypto';
+
+/** How a worker joins a coordinator and how politely it uses the PC it runs on. */
+export interface WorkerOptions {
+  /** Coordinator base URL (heartbeats, datasets). @default 'http://127.0.0.1:7460' */
+  coordinatorUrl: string;
+  /** Redis holding the job queue. @default 'redis://127.0.0.1:6379' */
+  redisUrl: string;
+  /** Redis key prefix; must match the coordinator's. @default 'netbreeder' */
+  prefix: string;
+  /** Queue name; must match the coordinator's. @default 'evaluations' */
+  queueName: string;
+  /** Stable id for this worker in status and results. @default `${hostname}-${pid}-${random}` */
+  workerId: string;
+  /** Folder for cached datasets. @default ~/.cache/netbreeder/datasets (or $XDG_CACHE_HOME) */
+  cacheDir: string;
+  /** Most megabytes of datasets to cache. @default 2048 */
+  cacheMaxMb: number;
+  /** Memory the training process may use, in MiB; larger genomes are refused. @default a quarter of RAM, at most 4096 */
+  memoryCapMb: number;
+  /** Scheduling priority of the training process (0 normal … 19 lowest). @default 10 */
+  nice: number;
+  /** Milliseconds between heartbeats. @default 5000 */
+  heartbeatMs: number;
+  /** A job's lock lasts this long unless renewed; a vanished worker's job returns to the queue after it. @default 30000 */
+  lockDurationMs: number;
+  /** How often this worker checks for stalled jobs of vanished workers. @default 15000 */
+  stalledIntervalMs: number;
+  /** Local clock time (HH:MM) at which the worker stops taking jobs and exits; null = never. @default null */
+  until: string | null;
+}
+
+export function defaultCacheDir(): string {
+  const base = process.env.XDG_CACHE_HOME || join(homedir(), '.cache');
+  return join(base, 'netbreeder', 'datasets');
+}
+
+/** Fills in every option not given; the one place defaults are set. */
+export function resolveWorkerOptions(given: Partial<WorkerOptions>): WorkerOptions {
+  const defined = Object.fromEntries(Object.entries(given).filter(([, v]) => v !== undefined)) as Partial<WorkerOptions>;
+  return {
+    coordinatorUrl: 'http://127.0.0.1:7460',
+    redisUrl: 'redis://127.0.0.1:6379',
+    prefix: 'netbreeder',
+    queueName: 'evaluations',
+    workerId: `${hostname().replace(/[^A-Za-z0-9_.:-]/g, '-')}-${process.pid}-${randomBytes(2).toString('hex')}`,
+    cacheDir: defaultCacheDir(),
+    cacheMaxMb: 2048,
+    memoryCapMb: Math.min(4096, Math.floor(totalmem() / 1024 / 1024 / 4)),
+    nice: 10,
+    heartbeatMs: 5000,
+    lockDurationMs: 30_000,
+    stalledIntervalMs: 15_000,
+    until: null,
+    ...defined,
+  };
+}
+
+export const coreCount = (): number => cpus().length;

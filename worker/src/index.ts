@@ -1,0 +1,8 @@
+/** @netbreeder/worker: the training engine and the agent that pulls jobs and trains them. */
+export * from './training/index.js';
+export { WorkerAgent, WORKER_VERSION } from './agent/worker-agent.js';
+export { resolveWorkerOptions, defaultCacheDir, type WorkerOptions } from './agent/worker-options.js';
+export { DatasetCache, type DatasetCacheOptions } from './agent/dataset-cache.js';
+export { openRedis, DEFAULT_QUEUE_LOCATION, type QueueLocation } from './agent/redis-connection.js';
+export { msUntilClockTime } from './agent/stop-time.js';
+export { runWorkerCli, WORKER_HELP } from './worker-cli.js';

@@ -1,0 +1,85 @@
+import { parseArgs } from 'node:util';
+import { pino } from 'pino';
+import { WorkerAgent } from './agent/worker-agent.js';
+import { resolveWorkerOptions } from './agent/worker-options.js';
+
+export const WORKER_HELP = `netbreeder worker: join a coordinator and train candidate networks on this PC's CPU.
+
+Usage: netbreeder worker --coordinator URL [--redis URL] [options]
+
+Options:
+  --coordinator URL   coordinator base URL              (default http://127.0.0.1:7460)
+  --redis URL         Redis with the job queue           (default $REDIS_URL or redis://127.0.0.1:6379)
+  --prefix NAME       Redis key prefix of the search     (default netbreeder)
+  --queue NAME        queue name                         (default evaluations)
+  --id ID             worker id shown in status          (default host-pid-random)
+  --memory-cap MB     memory the training may use        (default a quarter of RAM, at most 4096)
+  --nice N            scheduling priority, 0..19         (default 10: yields to the PC's owner)
+  --until HH:MM       stop taking jobs at this local time and exit
+  --cache-dir DIR     dataset cache folder               (default ~/.cache/netbreeder/datasets)
+  --cache-max-mb MB   dataset cache cap                  (default 2048)
+  -h, --help          this text
+
+Stop: Ctrl-C (or SIGTERM) finishes the current job, then exits; a second Ctrl-C abandons it (the
+coordinator hands it to another worker).
+
+Examples:
+  netbreeder worker --coordinator http://build-server:7460 --redis redis://build-server:6379
+  netbreeder worker --coordinator http://10.0.0.5:7460 --until 07:30 --memory-cap 2048
+`;
+
+/** Runs `netbreeder worker …` until the worker stops; returns the process exit code. */
+export async function runWorkerCli(argv: string[]): Promise<number> {
+  const { values } = parseArgs({
+    args: argv,
+    options: {
+      coordinator: { type: 'string' },
+      redis: { type: 'string' },
+      prefix: { type: 'string' },
+      queue: { type: 'string' },
+      id: { type: 'string' },
+      'memory-cap': { type: 'string' },
+      nice: { type: 'string' },
+      until: { type: 'string' },
+      'cache-dir': { type: 'string' },
+      'cache-max-mb': { type: 'string' },
+      help: { type: 'boolean', short: 'h' },
+    },
+    strict: true,
+  });
+  if (values.help) {
+    process.stdout.write(WORKER_HELP);
+    return 0;
+  }
+  const int = (name: string, v: string | undefined, min: number, max: number): number | undefined => {
+    if (v === undefined) return undefined;
+    const n = Number(v);
+    if (!Number.isInteger(n) || n < min || n > max) throw new Error(`--${name} must be a whole number from ${min} to ${max}, got '${v}'`);
+    return n;
+  };
+  const options = resolveWorkerOptions({
+    coordinatorUrl: values.coordinator ?? process.env.NETBREEDER_COORDINATOR_URL,
+    redisUrl: values.redis ?? process.env.REDIS_URL,
+    prefix: values.prefix ?? process.env.NETBREEDER_PREFIX,
+    queueName: values.queue,
+    workerId: values.id,
+    memoryCapMb: int('memory-cap', values['memory-cap'], 64, 1_048_576),
+    nice: int('nice', values.nice, 0, 19),
+    until: values.until ?? null,
+    cacheDir: values['cache-dir'],
+    cacheMaxMb: int('cache-max-mb', values['cache-max-mb'], 1, 1_048_576),
+  });
+  const log = pino({ level: process.env.NETBREEDER_LOG_LEVEL ?? 'info', base: { component: 'worker', workerId: options.workerId } }, pino.destination(2));
+  const agent = new WorkerAgent(options, log);
+  let signals = 0;
+  const onSignal = (signal: string) => {
+    signals++;
+    log.info({ signal }, signals === 1 ? 'stop requested: finishing the current job' : 'second stop request: abandoning the current job');
+    void agent.stop({ force: signals > 1 });
+  };
+  process.on('SIGINT', onSignal);
+  process.on('SIGTERM', onSignal);
+  await agent.start();
+  await agent.stopped;
+  return 0;
+}
