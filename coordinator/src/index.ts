@@ -11,3 +11,4 @@ export { createHttpServer } from './http/server.js';
 export { createLogger } from './logger.js';
 export { spawnWorker, tsxNodeArgs, workerCliPath } from './cli/spawn-worker.js';
 export { downloadChampion } from './cli/export-command.js';
+export { COORDINATOR_OPTIONS, COMMANDS, main } from './cli/commands.js';

@@ -5,4 +5,4 @@ export { resolveWorkerOptions, defaultCacheDir, type WorkerOptions } from './age
 export { DatasetCache, type DatasetCacheOptions } from './agent/dataset-cache.js';
 export { openRedis, DEFAULT_QUEUE_LOCATION, type QueueLocation } from './agent/redis-connection.js';
 export { msUntilClockTime } from './agent/stop-time.js';
-export { runWorkerCli, WORKER_HELP } from './worker-cli.js';
+export { runWorkerCli, parseWorkerArgs, WORKER_HELP } from './worker-cli.js';

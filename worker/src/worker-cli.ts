@@ -1,7 +1,8 @@
 import { parseArgs } from 'node:util';
 import { pino } from 'pino';
 import { WorkerAgent } from './agent/worker-agent.js';
-import { resolveWorkerOptions } from './agent/worker-options.js';
+import { resolveWorkerOptions, type WorkerOptions } from './agent/worker-options.js';
+import { msUntilClockTime } from './agent/stop-time.js';
 
 export const WORKER_HELP = `netbreeder worker: join a coordinator and train candidate networks on this PC's CPU.
 
@@ -28,39 +29,35 @@ Examples:
   netbreeder worker --coordinator http://10.0.0.5:7460 --until 07:30 --memory-cap 2048
 `;
 
-/** Runs `netbreeder worker …` until the worker stops; returns the process exit code. */
-export async function runWorkerCli(argv: string[]): Promise<number> {
-  const { values } = parseArgs({
-    args: argv,
-    options: {
-      coordinator: { type: 'string' },
-      redis: { type: 'string' },
-      prefix: { type: 'string' },
-      queue: { type: 'string' },
-      id: { type: 'string' },
-      'memory-cap': { type: 'string' },
-      nice: { type: 'string' },
-      until: { type: 'string' },
-      'cache-dir': { type: 'string' },
-      'cache-max-mb': { type: 'string' },
-      help: { type: 'boolean', short: 'h' },
-    },
-    strict: true,
-  });
-  if (values.help) {
-    process.stdout.write(WORKER_HELP);
-    return 0;
-  }
+const WORKER_ARGS = {
+  coordinator: { type: 'string' },
+  redis: { type: 'string' },
+  prefix: { type: 'string' },
+  queue: { type: 'string' },
+  id: { type: 'string' },
+  'memory-cap': { type: 'string' },
+  nice: { type: 'string' },
+  until: { type: 'string' },
+  'cache-dir': { type: 'string' },
+  'cache-max-mb': { type: 'string' },
+  help: { type: 'boolean', short: 'h' },
+} as const;
+
+/** Parses `netbreeder worker` arguments into complete options ('help' when help was asked for). */
+export function parseWorkerArgs(argv: string[], env: NodeJS.ProcessEnv = process.env): WorkerOptions | 'help' {
+  const { values } = parseArgs({ args: argv, options: WORKER_ARGS, strict: true });
+  if (values.help) return 'help';
   const int = (name: string, v: string | undefined, min: number, max: number): number | undefined => {
     if (v === undefined) return undefined;
     const n = Number(v);
     if (!Number.isInteger(n) || n < min || n > max) throw new Error(`--${name} must be a whole number from ${min} to ${max}, got '${v}'`);
     return n;
   };
-  const options = resolveWorkerOptions({
-    coordinatorUrl: values.coordinator ?? process.env.NETBREEDER_COORDINATOR_URL,
-    redisUrl: values.redis ?? process.env.REDIS_URL,
-    prefix: values.prefix ?? process.env.NETBREEDER_PREFIX,
+  if (values.until) msUntilClockTime(values.until, new Date()); // rejects a malformed time now
+  return resolveWorkerOptions({
+    coordinatorUrl: values.coordinator ?? env.NETBREEDER_COORDINATOR_URL,
+    redisUrl: values.redis ?? env.REDIS_URL,
+    prefix: values.prefix ?? env.NETBREEDER_PREFIX,
     queueName: values.queue,
     workerId: values.id,
     memoryCapMb: int('memory-cap', values['memory-cap'], 64, 1_048_576),
@@ -69,6 +66,15 @@ export async function runWorkerCli(argv: string[]): Promise<number> {
     cacheDir: values['cache-dir'],
     cacheMaxMb: int('cache-max-mb', values['cache-max-mb'], 1, 1_048_576),
   });
+}
+
+/** Runs `netbreeder worker …` until the worker stops; returns the process exit code. */
+export async function runWorkerCli(argv: string[]): Promise<number> {
+  const options = parseWorkerArgs(argv);
+  if (options === 'help') {
+    process.stdout.write(WORKER_HELP);
+    return 0;
+  }
   const log = pino({ level: process.env.NETBREEDER_LOG_LEVEL ?? 'info', base: { component: 'worker', workerId: options.workerId } }, pino.destination(2));
   const agent = new WorkerAgent(options, log);
   let signals = 0;

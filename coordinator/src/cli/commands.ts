@@ -1,0 +1,185 @@
+/** The `netbreeder` command's sub-commands: coordinator, worker, demo, status, export. */
+import { parseArgs } from 'node:util';
+import { runWorkerCli, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
+import { statusResponseValidator } from '@netbreeder/shared-types';
+import { Coordinator, DEFAULT_PORT } from '../coordinator.js';
+import { readRunConfigFile } from '../config/run-config.js';
+import { runDemo, defaultDemoWorkers } from './demo.js';
+import { statusTable } from './format.js';
+import { downloadChampion } from './export-command.js';
+
+export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
+
+Commands:
+  coordinator   run the coordinator (store, queue, HTTP API) and drive a run
+  worker        join a coordinator and train candidates on this PC
+  demo          evolve a network for invented demo data on this machine, about 3 minutes
+  status        show a coordinator's status
+  export        download a run's champion (genome, TensorFlow.js model, report)
+
+'netbreeder <command> --help' shows each command's options and examples.
+`;
+
+const COORDINATOR_HELP = `netbreeder coordinator: keep the population, queue training jobs, record results.
+
+Usage: netbreeder coordinator [--run FILE] [options]
+
+Options:
+  --run FILE        start this run (JSON run file) unless the store has an unfinished run,
+                    which is resumed instead
+  --data-dir DIR    store, datasets and exports           (default ./netbreeder-data)
+  --port N          HTTP port                             (default ${DEFAULT_PORT})
+  --host ADDR       listen address                        (default 0.0.0.0)
+  --redis URL       Redis with the job queue              (default $REDIS_URL or redis://127.0.0.1:6379)
+  --prefix NAME     Redis key prefix                      (default netbreeder)
+  -h, --help        this text
+
+Examples:
+  netbreeder coordinator --run examples/demo-run.json
+  netbreeder coordinator --data-dir /srv/netbreeder --redis redis://127.0.0.1:6379
+`;
+
+const DEMO_HELP = `netbreeder demo: a whole search on this machine with invented data.
+
+Usage: netbreeder demo [--minutes M] [--workers N] [--redis URL] [--data-dir DIR] [--seed S]
+
+Starts a coordinator and one local worker per core, evolves a network for 16×16 glaze-line tile
+crops (clean, crack, chip, glaze spot) for M minutes (default 2.2), then trains the champion on
+train + validation, scores it on the held-out test split and exports it.
+
+Examples:
+  netbreeder demo
+  netbreeder demo --minutes 10 --workers 2 --seed 7
+`;
+
+const STATUS_HELP = `netbreeder status: a compact view of a coordinator's run and workers.
+
+Usage: netbreeder status [--coordinator URL] [--watch]
+
+Examples:
+  netbreeder status --coordinator http://build-server:${DEFAULT_PORT}
+  netbreeder status --watch
+`;
+
+const EXPORT_HELP = `netbreeder export: download a run's champion into a folder.
+
+Usage: netbreeder export --run ID --out DIR [--coordinator URL]
+
+Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md.
+
+Example:
+  netbreeder export --coordinator http://build-server:${DEFAULT_PORT} --run r1abc --out ./champion
+`;
+
+const redisDefault = () => process.env.REDIS_URL ?? DEFAULT_QUEUE_LOCATION.redisUrl;
+const coordinatorDefault = () => process.env.NETBREEDER_COORDINATOR_URL ?? `http://127.0.0.1:${DEFAULT_PORT}`;
+
+function numberOption(name: string, value: string | undefined, min: number, max: number, integer = true): number | undefined {
+  if (value === undefined) return undefined;
+  const n = Number(value);
+  if (!Number.isFinite(n) || (integer && !Number.isInteger(n)) || n < min || n > max) {
+    throw new Error(`--${name} must be ${integer ? 'a whole number' : 'a number'} from ${min} to ${max}, got '${value}'`);
+  }
+  return n;
+}
+
+/** The coordinator command's options (exported so tests can check the deploy files against them). */
+export const COORDINATOR_OPTIONS = {
+  run: { type: 'string' },
+  'data-dir': { type: 'string' },
+  port: { type: 'string' },
+  host: { type: 'string' },
+  redis: { type: 'string' },
+  prefix: { type: 'string' },
+  help: { type: 'boolean', short: 'h' },
+} as const;
+
+async function coordinatorCommand(argv: string[]): Promise<number> {
+  const { values } = parseArgs({ args: argv, options: COORDINATOR_OPTIONS, strict: true });
+  if (values.help) return void process.stdout.write(COORDINATOR_HELP), 0;
+  const config = values.run ? await readRunConfigFile(values.run) : null;
+  const coordinator = await Coordinator.start({
+    dataDir: values['data-dir'],
+    port: numberOption('port', values.port, 0, 65535),
+    host: values.host,
+    queue: { ...DEFAULT_QUEUE_LOCATION, redisUrl: values.redis ?? redisDefault(), prefix: values.prefix ?? process.env.NETBREEDER_PREFIX ?? DEFAULT_QUEUE_LOCATION.prefix },
+  });
+  const active = coordinator.store.unfinishedRun();
+  if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${config ? '; --run ignored until it ends' : ''}\n`);
+  else if (config) process.stdout.write(`started run ${(await coordinator.startRun(config)).id}\n`);
+  else process.stdout.write('no run yet: restart with --run FILE to start one\n');
+  process.stdout.write(`coordinator listening on ${coordinator.url} · status: ${coordinator.url}/status\n`);
+  await new Promise<void>((resolve) => {
+    const stop = () => resolve();
+    process.once('SIGINT', stop);
+    process.once('SIGTERM', stop);
+  });
+  await coordinator.close();
+  return 0;
+}
+
+async function statusCommand(argv: string[]): Promise<number> {
+  const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, watch: { type: 'boolean' }, help: { type: 'boolean', short: 'h' } } });
+  if (values.help) return void process.stdout.write(STATUS_HELP), 0;
+  const url = new URL('/status', values.coordinator ?? coordinatorDefault());
+  for (;;) {
+    const res = await fetch(url).catch((err: Error) => {
+      throw new Error(`cannot reach the coordinator at ${url.origin}: ${err.message}; is it running? (--coordinator URL)`);
+    });
+    const status = statusResponseValidator.parse(await res.json());
+    const text = statusTable(status);
+    process.stdout.write(values.watch && process.stdout.isTTY ? `\x1b[H\x1b[2J${text}\n` : `${text}\n`);
+    if (!values.watch) return 0;
+    await new Promise((r) => setTimeout(r, 2000));
+  }
+}
+
+async function exportCommand(argv: string[]): Promise<number> {
+  const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, run: { type: 'string' }, out: { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
+  if (values.help) return void process.stdout.write(EXPORT_HELP), 0;
+  if (!values.run || !values.out) throw new Error('export needs --run ID and --out DIR (see netbreeder export --help)');
+  const files = await downloadChampion(values.coordinator ?? coordinatorDefault(), values.run, values.out, (name, bytes) =>
+    process.stdout.write(`  ${name} (${bytes.toLocaleString('en-US')} bytes)\n`),
+  );
+  process.stdout.write(`exported ${files.length} files to ${values.out}\n`);
+  return 0;
+}
+
+async function demoCommand(argv: string[]): Promise<number> {
+  const { values } = parseArgs({
+    args: argv,
+    options: { minutes: { type: 'string' }, workers: { type: 'string' }, redis: { type: 'string' }, 'data-dir': { type: 'string' }, seed: { type: 'string' }, help: { type: 'boolean', short: 'h' } },
+  });
+  if (values.help) return void process.stdout.write(DEMO_HELP), 0;
+  return runDemo({
+    minutes: numberOption('minutes', values.minutes, 0.1, 600, false) ?? 2.2,
+    workers: numberOption('workers', values.workers, 1, 64) ?? defaultDemoWorkers(),
+    redisUrl: values.redis ?? redisDefault(),
+    dataDir: values['data-dir'],
+    seed: numberOption('seed', values.seed, 0, 4294967295) ?? 1,
+    out: process.stdout,
+  });
+}
+
+export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
+  coordinator: coordinatorCommand,
+  worker: runWorkerCli,
+  demo: demoCommand,
+  status: statusCommand,
+  export: exportCommand,
+};
+
+export async function main(argv: string[]): Promise<number> {
+  const [command, ...rest] = argv;
+  if (!command || command === '--help' || command === '-h' || command === 'help') {
+    process.stdout.write(HELP);
+    return command ? 0 : 2;
+  }
+  const run = COMMANDS[command];
+  if (!run) {
+    process.stderr.write(`unknown command '${command}'\n\n${HELP}`);
+    return 2;
+  }
+  return run(rest);
+}
+

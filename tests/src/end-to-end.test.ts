@@ -1,0 +1,121 @@
+import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import * as tf from '@tensorflow/tfjs';
+import { decodeShard, defaultSearchSpace, statusResponseValidator, type StatusResponse } from '@netbreeder/shared-types';
+import { CHAMPION_FILES, downloadChampion, parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
+import { initBackend } from '@netbreeder/worker';
+import { TestCluster, waitFor } from './support/harness.js';
+
+/**
+ * The whole job on one machine: a real coordinator, two real worker processes training real (tiny)
+ * TensorFlow.js models through a real Redis queue, then the champion's final training, its score on
+ * the held-out test split, and its export, reloaded with tf.loadLayersModel.
+ */
+const EVALUATIONS = 8;
+
+describe('a run end to end with two workers', () => {
+  let cluster: TestCluster;
+  let run: RunRecord;
+  let sawRunningStatus: StatusResponse | null = null;
+
+  beforeAll(async () => {
+    cluster = await TestCluster.start('e2e');
+    const space = { ...defaultSearchSpace(), epochs: { min: 1, max: 2 }, maxFlops: 2_000_000, filters: { min: 4, max: 16 }, units: { min: 8, max: 64 } };
+    const config = parseRunConfig({
+      name: 'e2e',
+      seed: 5,
+      dataset: { kind: 'demo-tiles', samplesPerClass: 60, seed: 5 },
+      search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2 },
+      budget: { maxEvaluations: EVALUATIONS, maxMinutes: 10 },
+      evaluation: { maxSeconds: 30 },
+      champion: { epochs: 3, maxSeconds: 60 },
+      searchSpace: space,
+    });
+    cluster.spawnWorker('w1');
+    cluster.spawnWorker('w2');
+    run = await cluster.coordinator.startRun(config);
+    try {
+      await waitFor(
+        'the run to finish',
+        async () => {
+          const status = statusResponseValidator.parse(await (await fetch(`${cluster.coordinator.url}/status`)).json());
+          if (!sawRunningStatus && status.workers.filter((w) => w.alive).length === 2 && status.evaluations.done > 0 && status.run?.state === 'searching') sawRunningStatus = status;
+          return status.run?.state === 'finished' || status.run?.state === 'failed' ? status : null;
+        },
+        240_000,
+        500,
+      );
+    } catch (err) {
+      throw new Error(`${(err as Error).message}\nworker logs:\n${cluster.workerLogs.slice(-40).join('')}`);
+    }
+  });
+
+  afterAll(async () => {
+    await cluster?.stop();
+  });
+
+  it('records every planned evaluation exactly once', () => {
+    const store = cluster.coordinator.store;
+    const finalRun = store.getRun(run.id)!;
+    expect(finalRun.state, finalRun.failure ?? '').toBe('finished');
+    const search = store.evaluations(run.id).filter((e) => e.kind === 'search');
+    const done = search.filter((e) => e.state === 'done');
+    expect(finalRun.proposals).toBe(EVALUATIONS);
+    // one successful attempt per proposal, no proposal left without a result
+    expect(new Set(done.map((e) => e.seq)).size).toBe(done.length);
+    expect(done.length + search.filter((e) => e.state === 'failed' && !search.some((o) => o.seq === e.seq && o.attempt > e.attempt)).length).toBe(EVALUATIONS);
+    expect(store.counts(run.id).queued + store.counts(run.id).running).toBe(0);
+    for (const e of done) {
+      expect(e.result!.valAccuracy).toBeGreaterThanOrEqual(0);
+      expect(e.result!.valAccuracy).toBeLessThanOrEqual(1);
+      expect(e.result!.evaluationId).toBe(e.id);
+    }
+    // both workers trained something
+    expect(new Set(done.map((e) => e.result!.workerId))).toEqual(new Set(['w1', 'w2']));
+    expect(store.events(null, 'rejected-result')).toEqual([]);
+  });
+
+  it('showed progress on GET /status while searching', () => {
+    expect(sawRunningStatus, 'a status with two live workers during the search').not.toBeNull();
+    const s = sawRunningStatus!;
+    expect(s.run!.id).toBe(run.id);
+    expect(s.best).not.toBeNull();
+    expect(s.throughput.perMinuteSinceStart).toBeGreaterThan(0);
+    for (const w of s.workers) {
+      expect(['wasm', 'tensorflow', 'cpu']).toContain(w.backend);
+      expect(w.secondsSinceHeartbeat).toBeLessThan(20);
+    }
+  });
+
+  it('serves the champion and exports a model that reloads with the same predictions', async () => {
+    const res = await fetch(`${cluster.coordinator.url}/runs/${run.id}/champion`);
+    expect(res.status).toBe(200);
+    const champion = (await res.json()) as { test: { accuracy: number; samples: number }; genome: unknown; paramCount: number; files: string[] };
+    expect(champion.files).toEqual([...CHAMPION_FILES]);
+    expect(champion.test.accuracy).toBeGreaterThan(0.25); // better than chance on 4 balanced classes
+
+    const out = join(cluster.dataDir, 'exported');
+    await downloadChampion(cluster.coordinator.url, run.id, out);
+    const modelJson = JSON.parse(await readFile(join(out, 'model.json'), 'utf8'));
+    const weights = await readFile(join(out, 'weights.bin'));
+    await initBackend();
+    const model = await tf.loadLayersModel({
+      load: async () => ({
+        modelTopology: modelJson.modelTopology,
+        weightSpecs: modelJson.weightsManifest[0].weights,
+        weightData: weights.buffer.slice(weights.byteOffset, weights.byteOffset + weights.byteLength),
+      }),
+    });
+    expect(model.countParams()).toBe(champion.paramCount);
+    const test = decodeShard(await readFile(run.dataset.testPath)).train;
+    const x = tf.tensor(test.features, [test.count, ...run.dataset.manifest.inputShape]);
+    const predicted = Array.from((model.predict(x) as tf.Tensor).argMax(-1).dataSync());
+    x.dispose();
+    const stored = cluster.coordinator.store.getChampion(run.id)!;
+    expect(predicted).toEqual(stored.testPredictions);
+    const accuracy = predicted.filter((p, i) => p === test.labels[i]).length / test.count;
+    expect(accuracy).toBe(champion.test.accuracy);
+    expect(await readFile(join(out, 'report.md'), 'utf8')).toContain('held-out test accuracy');
+  });
+});

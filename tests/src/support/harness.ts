@@ -1,0 +1,71 @@
+import type { ChildProcess } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
+import { mkdtemp, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { Coordinator, createLogger, spawnWorker } from '@netbreeder/coordinator';
+
+export const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
+
+/** A Redis key prefix no other test (or real search) uses. */
+export const uniquePrefix = (name: string): string => `nbtest-${name}-${randomBytes(4).toString('hex')}`;
+
+/** Polls `condition` until it returns a value or the time runs out (then throws, saying what it waited for). */
+export async function waitFor<T>(what: string, condition: () => T | null | undefined | false | Promise<T | null | undefined | false>, timeoutMs: number, everyMs = 250): Promise<T> {
+  const deadline = Date.now() + timeoutMs;
+  for (;;) {
+    const v = await condition();
+    if (v) return v;
+    if (Date.now() > deadline) throw new Error(`timed out after ${timeoutMs} ms waiting for ${what}`);
+    await new Promise((r) => setTimeout(r, everyMs));
+  }
+}
+
+/** A coordinator on a free port with its own data folder and queue prefix, and local worker processes. */
+export class TestCluster {
+  readonly workers: ChildProcess[] = [];
+  readonly workerLogs: string[] = [];
+
+  private constructor(
+    readonly coordinator: Coordinator,
+    readonly dataDir: string,
+    readonly prefix: string,
+  ) {}
+
+  static async start(name: string, opts: { dataDir?: string; prefix?: string } = {}): Promise<TestCluster> {
+    const dataDir = opts.dataDir ?? (await mkdtemp(join(tmpdir(), `nb-${name}-`)));
+    const prefix = opts.prefix ?? uniquePrefix(name);
+    const coordinator = await Coordinator.start({
+      dataDir,
+      port: 0,
+      host: '127.0.0.1',
+      tickMs: 250,
+      queue: { redisUrl: REDIS_URL, prefix, queueName: 'evaluations' },
+      logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn'),
+    });
+    return new TestCluster(coordinator, dataDir, prefix);
+  }
+
+  /** Starts a worker process joined to this cluster; its log is kept for failure messages. */
+  spawnWorker(id: string, extraArgs: string[] = []): ChildProcess {
+    const child = spawnWorker(
+      ['--coordinator', this.coordinator.url, '--redis', REDIS_URL, '--prefix', this.prefix, '--id', id, '--nice', '0', '--cache-dir', join(this.dataDir, `cache-${id}`), ...extraArgs],
+      { env: { NETBREEDER_LOG_LEVEL: 'info' } },
+    );
+    child.stderr?.on('data', (chunk: Buffer) => {
+      this.workerLogs.push(`[${id}] ${chunk.toString()}`);
+      if (this.workerLogs.length > 400) this.workerLogs.shift();
+    });
+    this.workers.push(child);
+    return child;
+  }
+
+  /** Stops workers, empties this cluster's queue, closes the coordinator and removes the data. */
+  async stop(opts: { keepData?: boolean } = {}): Promise<void> {
+    for (const w of this.workers) if (w.exitCode === null) w.kill('SIGKILL');
+    await Promise.all(this.workers.map((w) => new Promise<void>((r) => (w.exitCode !== null || w.signalCode ? r() : w.once('exit', () => r())))));
+    await this.coordinator.queue.obliterate().catch(() => undefined);
+    await this.coordinator.close();
+    if (!opts.keepData) await rm(this.dataDir, { recursive: true, force: true });
+  }
+}
