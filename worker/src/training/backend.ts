@@ -1,0 +1,83 @@
+import * as tf from '@tensorflow/tfjs';
+import type { BackendName } from '@netbreeder/shared-types';
+import { registerWasmTrainingKernels } from './kernels/register-wasm-kernels.js';
+
+/** Options of {@link initBackend}. */
+export interface InitBackendOptions {
+  /**
+   * Backends to try, in order; the first that initialises wins.
+   * @default ['tensorflow', 'wasm', 'cpu']
+   */
+  prefer?: BackendName[];
+}
+
+/** The backend training runs on, and a sentence saying what was tried and why each was passed over. */
+export interface BackendChoice {
+  backend: BackendName;
+  reason: string;
+}
+
+const DEFAULT_ORDER: BackendName[] = ['tensorflow', 'wasm', 'cpu'];
+let chosen: Promise<BackendChoice> | null = null;
+
+const message = (err: unknown) => (err instanceof Error ? err.message.split('\n')[0]! : String(err));
+
+async function tryTensorflow(): Promise<void> {
+  // The native binding is an optional dependency that often fails to install (its install script
+  // downloads libtensorflow); the name sits in a variable so no bundler or typechecker insists on it.
+  const nativeModule = '@tensorflow/tfjs-node';
+  await import(nativeModule);
+  if (!(await tf.setBackend('tensorflow'))) throw new Error('the tensorflow backend did not initialise');
+}
+
+async function tryWasm(): Promise<void> {
+  // Importing the package registers the backend factory; in Node it loads the SIMD .wasm file from
+  // its own dist folder (no download).
+  await import('@tensorflow/tfjs-backend-wasm');
+  if (!(await tf.setBackend('wasm'))) throw new Error('the wasm backend did not initialise');
+  registerWasmTrainingKernels();
+}
+
+async function tryCpu(): Promise<void> {
+  if (!(await tf.setBackend('cpu'))) throw new Error('the cpu backend did not initialise');
+}
+
+const TRY: Record<BackendName, () => Promise<void>> = { tensorflow: tryTensorflow, wasm: tryWasm, cpu: tryCpu };
+
+async function choose(order: BackendName[]): Promise<BackendChoice> {
+  const passed: string[] = [];
+  for (const name of order) {
+    try {
+      await TRY[name]();
+      await tf.ready();
+      const notes = name === 'wasm' ? ` (SIMD ${tf.env().getBool('WASM_HAS_SIMD_SUPPORT') ? 'on' : 'off'}, our gradient kernels registered)` : '';
+      const reason = passed.length ? `${passed.join('; ')}; using ${name}${notes}` : `using ${name}${notes}, the first choice`;
+      return { backend: name, reason };
+    } catch (err) {
+      passed.push(`${name} unavailable: ${message(err)}`);
+    }
+  }
+  throw new Error(`no TensorFlow.js backend initialised (${passed.join('; ')}); reinstall @tensorflow/tfjs`);
+}
+
+/**
+ * Picks the fastest available TensorFlow.js backend: `@tensorflow/tfjs-node` when installed, else
+ * wasm (with our gradient kernels registered), else cpu. Idempotent: later calls return the first
+ * call's choice whatever their options.
+ */
+export function initBackend(options: InitBackendOptions = {}): Promise<BackendChoice> {
+  if (!chosen) {
+    chosen = choose(options.prefer?.length ? options.prefer : DEFAULT_ORDER);
+    chosen.catch(() => {
+      chosen = null;
+    });
+  }
+  return chosen;
+}
+
+/** The backend name TensorFlow.js is using now, as a {@link BackendName}. */
+export function currentBackend(): BackendName {
+  const name = tf.getBackend();
+  if (name === 'tensorflow' || name === 'wasm' || name === 'cpu') return name;
+  throw new Error(`TensorFlow.js is on backend '${name}', which training does not support; call initBackend() first`);
+}

@@ -1,0 +1,154 @@
+import * as tf from '@tensorflow/tfjs';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { createRandom } from '@netbreeder/shared-types';
+import { initBackend } from '../backend.js';
+import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
+
+// Reference: the TensorFlow.js cpu backend, the library's own reference implementation of every
+// kernel. Each kernel we register for wasm must agree with it within 1e-4 relative error, measured
+// as max |wasm − cpu| / max |cpu| over the whole output.
+const TOLERANCE = 1e-4;
+
+type Pad = 'same' | 'valid' | [[number, number], [number, number], [number, number], [number, number]];
+const PADS: Pad[] = ['same', 'valid', [[0, 0], [1, 2], [2, 0], [0, 0]]];
+const padName = (p: Pad) => (typeof p === 'string' ? p : 'explicit');
+
+function randomArray(size: number, seed: string): Float32Array {
+  const rng = createRandom(seed);
+  return Float32Array.from({ length: size }, () => rng.uniform(-1, 1));
+}
+
+/** Runs one kernel through the engine on `backend` and reads its output back. */
+async function runOn(backend: 'cpu' | 'wasm', kernel: string, inputs: Record<string, { shape: number[]; data: Float32Array }>, attrs: object) {
+  await tf.setBackend(backend);
+  return tf.tidy(() => {
+    const tensors = Object.fromEntries(Object.entries(inputs).map(([k, v]) => [k, tf.tensor(v.data, v.shape)]));
+    const out = tf.engine().runKernel(kernel, tensors, attrs as tf.NamedAttrMap) as tf.Tensor;
+    return { shape: out.shape, data: out.dataSync() as Float32Array };
+  });
+}
+
+function relativeError(actual: Float32Array, expected: Float32Array): number {
+  let maxDiff = 0;
+  let maxRef = 0;
+  for (let i = 0; i < expected.length; i++) {
+    maxDiff = Math.max(maxDiff, Math.abs(actual[i]! - expected[i]!));
+    maxRef = Math.max(maxRef, Math.abs(expected[i]!));
+  }
+  return maxDiff / Math.max(maxRef, 1e-12);
+}
+
+interface Case {
+  name: string;
+  xShape: [number, number, number, number];
+  kernel: number;
+  stride: number;
+  pad: Pad;
+  outChannels: number; // filters for conv2d, multiplier for depthwise
+}
+
+function cases(depthwise: boolean): Case[] {
+  const out: Case[] = [];
+  const shapes: Array<[number, number, number, number]> = [
+    [2, 7, 8, 3],
+    [3, 10, 9, 2],
+  ];
+  for (const xShape of shapes)
+    for (const kernel of [1, 3, 5])
+      for (const stride of [1, 2])
+        for (const pad of PADS) {
+          const outChannels = depthwise ? (xShape[3] === 3 ? 1 : 2) : xShape[3] === 3 ? 4 : 1;
+          out.push({ name: `x${xShape.join('x')} k${kernel} s${stride} ${padName(pad)} out${outChannels}`, xShape, kernel, stride, pad, outChannels });
+        }
+  return out;
+}
+
+function shapesOf(c: Case, depthwise: boolean) {
+  const filterShape = [c.kernel, c.kernel, c.xShape[3], c.outChannels] as [number, number, number, number];
+  const info = tf.backend_util.computeConv2DInfo(c.xShape, filterShape, c.stride, 1, c.pad as 'same', undefined, depthwise);
+  return { filterShape, dyShape: info.outShape as number[] };
+}
+
+async function compare(kernel: string, inputs: Record<string, { shape: number[]; data: Float32Array }>, attrs: object) {
+  const ref = await runOn('cpu', kernel, inputs, attrs);
+  const got = await runOn('wasm', kernel, inputs, attrs);
+  expect(got.shape).toEqual(ref.shape);
+  return relativeError(got.data, ref.data);
+}
+
+beforeAll(async () => {
+  const choice = await initBackend({ prefer: ['wasm'] });
+  expect(choice.backend).toBe('wasm');
+});
+
+describe('wasm training kernels match the cpu backend (reference implementation)', () => {
+  it('registers every kernel it promises', () => {
+    for (const name of WASM_TRAINING_KERNELS) expect(tf.getKernel(name, 'wasm'), name).toBeDefined();
+  });
+
+  for (const c of cases(false)) {
+    it(`Conv2DBackpropFilter and Conv2DBackpropInput ${c.name}`, async () => {
+      const { filterShape, dyShape } = shapesOf(c, false);
+      const x = { shape: c.xShape, data: randomArray(tf.util.sizeFromShape(c.xShape), `x ${c.name}`) };
+      const dy = { shape: dyShape, data: randomArray(tf.util.sizeFromShape(dyShape), `dy ${c.name}`) };
+      const filter = { shape: filterShape, data: randomArray(tf.util.sizeFromShape(filterShape), `f ${c.name}`) };
+      const common = { strides: [c.stride, c.stride], pad: c.pad, dataFormat: 'NHWC', dimRoundingMode: undefined };
+      expect(await compare('Conv2DBackpropFilter', { x, dy }, { ...common, filterShape })).toBeLessThan(TOLERANCE);
+      expect(await compare('Conv2DBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape })).toBeLessThan(TOLERANCE);
+    });
+  }
+
+  for (const c of cases(true)) {
+    it(`DepthwiseConv2dNativeBackpropFilter and ...BackpropInput ${c.name}`, async () => {
+      const { filterShape, dyShape } = shapesOf(c, true);
+      const x = { shape: c.xShape, data: randomArray(tf.util.sizeFromShape(c.xShape), `x ${c.name}`) };
+      const dy = { shape: dyShape, data: randomArray(tf.util.sizeFromShape(dyShape), `dy ${c.name}`) };
+      const filter = { shape: filterShape, data: randomArray(tf.util.sizeFromShape(filterShape), `f ${c.name}`) };
+      const common = { strides: [c.stride, c.stride], pad: c.pad, dilations: [1, 1], dimRoundingMode: undefined };
+      expect(await compare('DepthwiseConv2dNativeBackpropFilter', { x, dy }, { ...common, filterShape })).toBeLessThan(TOLERANCE);
+      expect(await compare('DepthwiseConv2dNativeBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape })).toBeLessThan(TOLERANCE);
+    });
+  }
+
+  // Pools: windows 2 and 3, strides 1 and 2, valid and same; inputs are relu'd so many windows
+  // hold ties (all zeros), which the gradient must route exactly as the cpu backend does.
+  for (const size of [2, 3])
+    for (const stride of [1, 2])
+      for (const pad of ['valid', 'same'] as const) {
+        it(`MaxPoolGrad (ours) and AvgPoolGrad (built-in) window ${size} stride ${stride} ${pad}`, async () => {
+          const xShape = [2, 9, 8, 3];
+          const name = `pool ${size} ${stride} ${pad}`;
+          const input = { shape: xShape, data: randomArray(tf.util.sizeFromShape(xShape), `x ${name}`).map((v) => Math.max(0, v)) };
+          const info = tf.backend_util.computePool2DInfo(xShape as [number, number, number, number], size, stride, 1, pad);
+          const dy = { shape: info.outShape as number[], data: randomArray(tf.util.sizeFromShape(info.outShape), `dy ${name}`) };
+          const attrs = { filterSize: [size, size], strides: [stride, stride], pad, dimRoundingMode: undefined };
+          await tf.setBackend('cpu');
+          const output = tf.tidy(() => {
+            const y = tf.maxPool(tf.tensor4d(input.data, xShape as [number, number, number, number]), size, stride, pad);
+            return { shape: y.shape as number[], data: y.dataSync() as Float32Array };
+          });
+          expect(await compare('MaxPoolGrad', { dy, input, output }, attrs)).toBeLessThan(TOLERANCE);
+          expect(await compare('AvgPoolGrad', { dy, input }, attrs)).toBeLessThan(TOLERANCE);
+        });
+      }
+
+  it('frees every intermediate: tensor and wasm data counts stay flat', async () => {
+    await tf.setBackend('wasm');
+    const x = tf.tensor(randomArray(2 * 9 * 9 * 3, 'leak x'), [2, 9, 9, 3]);
+    const f = tf.tensor(randomArray(3 * 3 * 3 * 4, 'leak f'), [3, 3, 3, 4]);
+    const d = tf.tensor(randomArray(3 * 3 * 3 * 2, 'leak d'), [3, 3, 3, 2]);
+    const step = () =>
+      tf.tidy(() => {
+        const g1 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.conv2d(a as tf.Tensor4D, b as tf.Tensor4D, 2, 'same').square().sum())([x, f]);
+        const g2 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.depthwiseConv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'valid').square().sum())([x, d]);
+        return [...g1, ...g2].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
+      });
+    step();
+    const tensors = tf.memory().numTensors;
+    const dataIds = tf.engine().backend.numDataIds();
+    for (let i = 0; i < 5; i++) step();
+    expect(tf.memory().numTensors).toBe(tensors);
+    expect(tf.engine().backend.numDataIds()).toBe(dataIds);
+    tf.dispose([x, f, d]);
+  });
+});
