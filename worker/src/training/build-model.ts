@@ -1,0 +1,109 @@
+import * as tf from '@tensorflow/tfjs';
+import { analyzeGenome, createRandom, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
+import { InvalidGenomeError } from './errors.js';
+import { SeededDropout } from './seeded-dropout.js';
+
+/** Names of the implicit head's layers; genome ids cannot contain a dot, so these never collide. */
+export const HEAD_FLATTEN_NAME = 'head.flatten';
+export const HEAD_DENSE_NAME = 'head.dense';
+
+type Sym = tf.SymbolicTensor;
+
+/**
+ * Builds the TensorFlow.js functional model of a genome: one layer per node (named by the node's
+ * id), then the implicit head that `analyzeGenome` describes (flatten when the output is still
+ * spatial, then a dense softmax with one unit per class). Initialisers and dropout masks are
+ * seeded from `seed`, one derived seed per layer, so the same genome and seed give the same model.
+ * Throws {@link InvalidGenomeError} when the genome does not fit the data shape.
+ */
+export function buildModel(genome: Genome, data: DataShape, seed: number): tf.LayersModel {
+  const analysis = analyzeGenome(genome, data);
+  if (!analysis.ok) throw new InvalidGenomeError(analysis.issues);
+  const topo = topologicalOrder(genome);
+  if (!topo.ok) throw new InvalidGenomeError(topo.issues);
+
+  const random = createRandom(`build ${seed}`);
+  const nextSeed = () => random.uint32();
+  const weightDecay = genome.training.weightDecay;
+  const regularizer = () => (weightDecay > 0 ? tf.regularizers.l2({ l2: weightDecay }) : undefined);
+  const glorot = () => tf.initializers.glorotUniform({ seed: nextSeed() });
+
+  const input = tf.input({ shape: [...data.inputShape], name: INPUT_ID });
+  const tensors = new Map<string, Sym>([[INPUT_ID, input]]);
+  const single = (n: LayerNode): Sym => tensors.get(n.inputs[0]!)!;
+
+  for (const n of topo.order) {
+    let layer: tf.layers.Layer;
+    switch (n.kind) {
+      case 'dense':
+        layer = tf.layers.dense({ name: n.id, units: n.units, activation: act(n.activation), kernelInitializer: glorot(), kernelRegularizer: regularizer() });
+        break;
+      case 'conv2d':
+        layer = tf.layers.conv2d({
+          name: n.id,
+          filters: n.filters,
+          kernelSize: n.kernelSize,
+          strides: n.strides,
+          padding: n.padding,
+          activation: act(n.activation),
+          kernelInitializer: glorot(),
+          kernelRegularizer: regularizer(),
+        });
+        break;
+      case 'depthwise-conv2d':
+        layer = tf.layers.depthwiseConv2d({
+          name: n.id,
+          kernelSize: n.kernelSize,
+          strides: n.strides,
+          padding: n.padding,
+          depthMultiplier: n.depthMultiplier,
+          activation: act(n.activation),
+          depthwiseInitializer: glorot(),
+          depthwiseRegularizer: regularizer(),
+        });
+        break;
+      case 'max-pool2d':
+        layer = tf.layers.maxPooling2d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
+        break;
+      case 'avg-pool2d':
+        layer = tf.layers.averagePooling2d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
+        break;
+      case 'dropout':
+        layer = new SeededDropout({ name: n.id, rate: n.rate, seed: nextSeed() });
+        break;
+      case 'batch-norm':
+        layer = tf.layers.batchNormalization({ name: n.id, axis: -1 });
+        break;
+      case 'activation':
+        layer = tf.layers.activation({ name: n.id, activation: act(n.activation) });
+        break;
+      case 'flatten':
+        layer = tf.layers.flatten({ name: n.id });
+        break;
+      case 'global-avg-pool':
+        layer = tf.layers.globalAveragePooling2d({ name: n.id });
+        break;
+      case 'global-max-pool':
+        layer = tf.layers.globalMaxPooling2d({ name: n.id });
+        break;
+      case 'add':
+        layer = tf.layers.add({ name: n.id });
+        break;
+      case 'concat':
+        layer = tf.layers.concatenate({ name: n.id, axis: -1 });
+        break;
+    }
+    const inputs = n.inputs.length === 1 ? single(n) : n.inputs.map((i) => tensors.get(i)!);
+    tensors.set(n.id, layer.apply(inputs) as Sym);
+  }
+
+  let last = tensors.get(genome.output)!;
+  if (last.shape.length !== 2) last = tf.layers.flatten({ name: HEAD_FLATTEN_NAME }).apply(last) as Sym;
+  const output = tf.layers
+    .dense({ name: HEAD_DENSE_NAME, units: data.numClasses, activation: 'softmax', kernelInitializer: glorot(), kernelRegularizer: regularizer() })
+    .apply(last) as Sym;
+  return tf.model({ inputs: input, outputs: output, name: 'genome' });
+}
+
+type TfActivation = NonNullable<Parameters<typeof tf.layers.activation>[0]>['activation'];
+const act = (a: Activation): TfActivation => a as TfActivation;

@@ -1,0 +1,11 @@
+/** The training engine's public face: backends, genome → model, training, scoring, model transfer. */
+export { initBackend, currentBackend, type InitBackendOptions, type BackendChoice } from './backend.js';
+export { registerWasmTrainingKernels, unregisterWasmTrainingKernels, WASM_TRAINING_KERNELS, type WasmKernelRegistration } from './kernels/register-wasm-kernels.js';
+export { buildModel, HEAD_DENSE_NAME, HEAD_FLATTEN_NAME } from './build-model.js';
+export { SeededDropout, type SeededDropoutArgs } from './seeded-dropout.js';
+export { trainGenome, DIVERGED_LOSS, type TrainRequest, type TrainOutcome } from './train-genome.js';
+export { evaluateModel, crossEntropy, type ModelEvaluation } from './evaluate-model.js';
+export { modelToMessage, artifactsFromMessage, loadModelFromMessage } from './model-artifacts.js';
+export { estimateTrainingBytes, type TrainingMemoryEstimate } from './memory-estimate.js';
+export { shuffleInPlace, identityOrder } from './batches.js';
+export { TrainingError, InvalidGenomeError, GenomeTooLargeError, TrainingProcessError, TrainingAbortedError, isRetryable } from './errors.js';

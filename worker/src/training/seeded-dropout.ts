@@ -1,0 +1,49 @@
+import * as tf from '@tensorflow/tfjs';
+import { createRandom, type Random } from '@netbreeder/shared-types';
+
+/** Arguments of {@link SeededDropout}. */
+export interface SeededDropoutArgs {
+  /** Fraction of inputs set to zero while training, in [0, 1). */
+  rate: number;
+  /** Seeds the sequence of masks: each training call draws the next mask of that sequence. */
+  seed: number;
+  name?: string;
+}
+
+/**
+ * Dropout whose masks come from our own seeded sequence. TensorFlow.js's Dropout either uses an
+ * unseeded generator (not reproducible) or, given a seed, draws the *same* mask on every call.
+ * This layer draws a fresh mask per training call, from a generator seeded by `seed`.
+ *
+ * It serialises as the library's own `Dropout` (same class name and config fields, seed left
+ * out), so an exported model loads with plain `tf.loadLayersModel`; at inference both are identity.
+ */
+export class SeededDropout extends tf.layers.Layer {
+  static className = 'Dropout';
+  readonly rate: number;
+  private readonly random: Random;
+
+  constructor(args: SeededDropoutArgs) {
+    super({ name: args.name });
+    if (!(args.rate >= 0 && args.rate < 1)) throw new Error(`dropout rate must be in [0, 1), got ${args.rate}`);
+    this.rate = args.rate;
+    this.random = createRandom(`dropout ${args.seed}`);
+    this.supportsMasking = true;
+  }
+
+  override computeOutputShape(inputShape: tf.Shape | tf.Shape[]): tf.Shape | tf.Shape[] {
+    return inputShape;
+  }
+
+  override call(inputs: tf.Tensor | tf.Tensor[], kwargs: Record<string, unknown>): tf.Tensor {
+    return tf.tidy(() => {
+      const input = Array.isArray(inputs) ? inputs[0]! : inputs;
+      if (kwargs['training'] !== true || this.rate === 0) return input.clone();
+      return tf.dropout(input, this.rate, undefined, this.random.uint32());
+    });
+  }
+
+  override getConfig(): tf.serialization.ConfigDict {
+    return { ...super.getConfig(), rate: this.rate, noiseShape: null, seed: null };
+  }
+}

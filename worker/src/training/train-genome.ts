@@ -1,0 +1,213 @@
+import * as tf from '@tensorflow/tfjs';
+import {
+  analyzeGenome,
+  createRandom,
+  sampleSize,
+  type DataShape,
+  type EpochRecord,
+  type EvaluationResult,
+  type Genome,
+  type LabelledSamples,
+  type OptimizerName,
+  type TrainingBudget,
+} from '@netbreeder/shared-types';
+import { currentBackend } from './backend.js';
+import { BatchAssembler, checkSamples, identityOrder, shuffleInPlace } from './batches.js';
+import { buildModel } from './build-model.js';
+import { GenomeTooLargeError, InvalidGenomeError } from './errors.js';
+import { crossEntropy, evaluateModel } from './evaluate-model.js';
+import { estimateTrainingBytes } from './memory-estimate.js';
+import { modelToMessage } from './model-artifacts.js';
+
+/** One training of one genome. */
+export interface TrainRequest {
+  genome: Genome;
+  data: DataShape;
+  train: LabelledSamples;
+  /** Scored after every epoch; null when validation is part of the training data (champions). */
+  val: LabelledSamples | null;
+  /** Whichever limit comes first ends training; wall time is checked between batches. */
+  budget: TrainingBudget;
+  /** Seeds initialisers, shuffling and dropout: same genome + seed + backend, same result. */
+  seed: number;
+  /** Also return the trained model's topology and weights. @default false */
+  exportModel?: boolean;
+  /** Called after every epoch (also a last, partial one cut short by the budget). */
+  onEpoch?: (record: EpochRecord) => void;
+  /** Refuse (with {@link GenomeTooLargeError}) a genome whose estimated training memory exceeds this. No cap when absent. */
+  memoryCapMb?: number;
+}
+
+/** What one training yields: an evaluation result without the ids the worker adds. */
+export type TrainOutcome = Omit<EvaluationResult, 'schemaVersion' | 'evaluationId' | 'workerId'>;
+
+/** Losses above this (or not finite) mean training diverged; they are reported as this value. */
+export const DIVERGED_LOSS = 1e6;
+const finiteLoss = (v: number) => (Number.isFinite(v) && v < DIVERGED_LOSS ? Math.max(0, v) : DIVERGED_LOSS);
+
+function makeOptimizer(name: OptimizerName, learningRate: number): tf.Optimizer {
+  switch (name) {
+    case 'adam':
+      return tf.train.adam(learningRate);
+    case 'sgd':
+      return tf.train.sgd(learningRate);
+    case 'rmsprop':
+      return tf.train.rmsprop(learningRate);
+  }
+}
+
+/**
+ * Trains a genome on the current backend (call {@link initBackend} first) within its budget and
+ * scores it on the validation split. Throws {@link InvalidGenomeError} or
+ * {@link GenomeTooLargeError} (both "do not retry") before any training. Every tensor it makes
+ * (model, optimizer state, batches) is disposed before it returns or throws.
+ */
+export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> {
+  const { genome, data, train, val, budget } = request;
+  const analyzed = analyzeGenome(genome, data);
+  if (!analyzed.ok) throw new InvalidGenomeError(analyzed.issues);
+  const analysis = analyzed.analysis;
+  const { batchSize, optimizer: optimizerName, learningRate } = genome.training;
+  if (request.memoryCapMb != null) {
+    const estimate = estimateTrainingBytes(analysis, data, { batchSize, optimizer: optimizerName, samples: train.count + (val?.count ?? 0) });
+    const cap = request.memoryCapMb * 2 ** 20;
+    if (estimate.total > cap) throw new GenomeTooLargeError(estimate.total, cap);
+  }
+  const sampleLength = sampleSize(data.inputShape);
+  checkSamples(train, sampleLength, data.numClasses, 'train');
+  if (val) checkSamples(val, sampleLength, data.numClasses, 'validation');
+  if (train.count === 0) throw new Error('the train split is empty; a dataset needs training samples');
+  const backend = currentBackend();
+
+  const started = performance.now();
+  let peakRss = process.memoryUsage.rss();
+  const model = buildModel(genome, data, request.seed);
+  const optimizer = makeOptimizer(optimizerName, learningRate);
+  const random = createRandom(`shuffle ${request.seed}`);
+  const order = identityOrder(train.count);
+  const assembler = new BatchAssembler(train, sampleLength, data.numClasses, Math.min(batchSize, train.count));
+  const history: EpochRecord[] = [];
+  let samplesSeen = 0;
+  let stepSeconds = 0;
+  let stoppedBy: TrainOutcome['stoppedBy'] = 'epochs';
+  let diverged = false;
+
+  const stepBatch = (start: number, size: number, sums: { loss: tf.Scalar; correct: tf.Scalar }) => {
+    const batch = assembler.batch(order, start, size);
+    const kept: { correct?: tf.Scalar } = {};
+    const x = tf.tensor(batch.features, [size, ...data.inputShape]);
+    const y = tf.tensor2d(batch.oneHot, [size, data.numClasses]);
+    const labels = tf.tensor1d(batch.labels, 'int32');
+    try {
+      const cost = optimizer.minimize(() => {
+        const probs = model.apply(x, { training: true }) as tf.Tensor;
+        kept.correct = tf.keep(tf.sum(tf.cast(tf.equal(tf.argMax(probs, -1), labels), 'float32')) as tf.Scalar);
+        let loss = crossEntropy(probs, y);
+        for (const penalty of model.calculateLosses()) loss = tf.add(loss, penalty) as tf.Scalar;
+        return loss;
+      }, true)!;
+      const loss = tf.tidy(() => tf.add(sums.loss, tf.mul(cost, size)) as tf.Scalar);
+      const hits = tf.add(sums.correct, kept.correct!) as tf.Scalar;
+      tf.dispose([cost, sums.loss, sums.correct]);
+      sums.loss = loss;
+      sums.correct = hits;
+    } finally {
+      tf.dispose([x, y, labels]);
+      if (kept.correct) tf.dispose(kept.correct);
+    }
+  };
+
+  try {
+    const maxSamples = budget.maxSamples ?? Infinity;
+    const deadline = started + budget.maxSeconds * 1000;
+    let trainLoss = 0;
+    let trainAccuracy = 0;
+    epochs: for (let epoch = 1; epoch <= budget.epochs; epoch++) {
+      const epochStart = performance.now();
+      shuffleInPlace(order, random);
+      const sums = { loss: tf.scalar(0), correct: tf.scalar(0) };
+      let epochSamples = 0;
+      let cut: TrainOutcome['stoppedBy'] | null = null;
+      try {
+        for (let start = 0; start < train.count; start += batchSize) {
+          if (performance.now() >= deadline) {
+            cut = 'seconds';
+            break;
+          }
+          if (samplesSeen >= maxSamples) {
+            cut = 'samples';
+            break;
+          }
+          const size = Math.min(batchSize, train.count - start, maxSamples - samplesSeen);
+          const t0 = performance.now();
+          stepBatch(start, size, sums);
+          stepSeconds += (performance.now() - t0) / 1000;
+          samplesSeen += size;
+          epochSamples += size;
+          peakRss = Math.max(peakRss, process.memoryUsage.rss());
+        }
+        // A budget that runs out exactly at an epoch's end still counts as stopping by it.
+        if (!cut && epoch < budget.epochs) {
+          if (samplesSeen >= maxSamples) cut = 'samples';
+          else if (performance.now() >= deadline) cut = 'seconds';
+        }
+        if (epochSamples > 0) {
+          trainLoss = finiteLoss(sums.loss.dataSync()[0]! / epochSamples);
+          trainAccuracy = sums.correct.dataSync()[0]! / epochSamples;
+        }
+      } finally {
+        tf.dispose([sums.loss, sums.correct]);
+      }
+      if (epochSamples > 0) {
+        const scored = val ? evaluateModel(model, val) : null;
+        peakRss = Math.max(peakRss, process.memoryUsage.rss());
+        const record: EpochRecord = {
+          epoch,
+          trainLoss,
+          trainAccuracy,
+          valLoss: scored ? finiteLoss(scored.loss) : null,
+          valAccuracy: scored ? scored.accuracy : null,
+          seconds: (performance.now() - epochStart) / 1000,
+        };
+        history.push(record);
+        request.onEpoch?.(record);
+        // Let the event loop run (a child process flushes its epoch message to the parent here).
+        await new Promise<void>((resolve) => setImmediate(resolve));
+        if (trainLoss >= DIVERGED_LOSS) diverged = true;
+      }
+      if (cut) {
+        stoppedBy = cut;
+        break epochs;
+      }
+      if (diverged) break;
+    }
+    const last = history[history.length - 1];
+    const outcome: TrainOutcome = {
+      backend,
+      valAccuracy: last?.valAccuracy ?? null,
+      valLoss: last?.valLoss ?? null,
+      trainLoss: last?.trainLoss ?? 0,
+      trainAccuracy: last?.trainAccuracy ?? 0,
+      paramCount: analysis.params,
+      flops: analysis.flops,
+      epochsRun: history.length,
+      samplesSeen,
+      trainSeconds: (performance.now() - started) / 1000,
+      samplesPerSecond: stepSeconds > 0 ? samplesSeen / stepSeconds : 0,
+      peakRssBytes: peakRss,
+      stoppedBy,
+      history,
+    };
+    if (val && !last) {
+      // The budget ended before the first batch: score the untrained model so the result is honest.
+      const scored = evaluateModel(model, val);
+      outcome.valAccuracy = scored.accuracy;
+      outcome.valLoss = finiteLoss(scored.loss);
+    }
+    if (request.exportModel) outcome.model = await modelToMessage(model);
+    return outcome;
+  } finally {
+    optimizer.dispose();
+    model.dispose();
+  }
+}
