@@ -1,0 +1,95 @@
+/**
+ * Entry of the training child process (forked by {@link TrainingProcess}): initialises the backend
+ * once, then trains one job at a time as the parent asks, reporting every epoch. It keeps the last
+ * decoded shard in memory, so consecutive jobs on one dataset read the file once.
+ */
+import { readFile, stat } from 'node:fs/promises';
+import { concatSamples, decodeShard, sampleSize, type TrainingShard } from '@netbreeder/shared-types';
+import { initBackend } from './backend.js';
+import { TrainingError } from './errors.js';
+import type { ChildMessage, ChildTrainRequest, ParentMessage } from './training-protocol.js';
+import { trainGenome } from './train-genome.js';
+
+const send = (message: ChildMessage): Promise<void> =>
+  new Promise((resolve) => {
+    if (!process.send || !process.connected) return resolve();
+    process.send(message, undefined, {}, () => resolve());
+  });
+
+let cached: { key: string; shard: TrainingShard } | null = null;
+
+async function loadShard(path: string): Promise<TrainingShard> {
+  const info = await stat(path);
+  const key = `${path}:${info.size}:${info.mtimeMs}`;
+  if (cached?.key !== key) {
+    cached = null; // let the old shard be collected before the new one is read
+    cached = { key, shard: decodeShard(await readFile(path)) };
+  }
+  return cached.shard;
+}
+
+class ShardMismatchError extends TrainingError {
+  override readonly code = 'NB_SHARD_MISMATCH';
+  override readonly retryable = false;
+}
+
+async function train(id: number, request: ChildTrainRequest): Promise<void> {
+  const shard = await loadShard(request.shardPath);
+  if (sampleSize(shard.inputShape) !== sampleSize(request.data.inputShape)) {
+    throw new ShardMismatchError(`the shard holds samples of shape [${shard.inputShape.join(', ')}], the job expects [${request.data.inputShape.join(', ')}]; the dataset manifest and shard disagree`);
+  }
+  const champion = request.splits === 'train+val';
+  const outcome = await trainGenome({
+    genome: request.genome,
+    data: request.data,
+    train: champion ? concatSamples(shard.train, shard.val) : shard.train,
+    val: champion ? null : shard.val,
+    budget: request.budget,
+    seed: request.seed,
+    exportModel: request.exportModel,
+    memoryCapMb: request.memoryCapMb,
+    onEpoch: (record) => void send({ type: 'epoch', id, record }),
+  });
+  await send({ type: 'done', id, outcome });
+}
+
+let queue: Promise<void> = Promise.resolve();
+
+process.on('message', (message: ParentMessage) => {
+  if (message.type === 'shutdown') {
+    void queue.finally(() => process.exit(0));
+    return;
+  }
+  if (message.type === 'init') {
+    queue = queue.then(async () => {
+      try {
+        const choice = await initBackend({ prefer: message.prefer });
+        await send({ type: 'ready', ...choice });
+      } catch (err) {
+        await send({ type: 'init-failed', message: (err as Error).message });
+        process.exit(1);
+      }
+    });
+    return;
+  }
+  const { id, request } = message;
+  queue = queue.then(async () => {
+    try {
+      await train(id, request);
+    } catch (err) {
+      const ours = err instanceof TrainingError;
+      await send({
+        type: 'error',
+        id,
+        message: err instanceof Error ? err.message : String(err),
+        code: ours ? err.code : 'NB_TRAINING_FAILED',
+        retryable: ours ? err.retryable : true,
+      });
+      // An error we did not raise on purpose may leave the backend's heap in a bad state: start
+      // the next job in a fresh process.
+      if (!ours) process.exit(1);
+    }
+  });
+});
+
+process.on('disconnect', () => process.exit(0));

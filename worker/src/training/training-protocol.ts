@@ -1,0 +1,33 @@
+import type { BackendName, DataShape, EpochRecord, Genome, TrainingBudget } from '@netbreeder/shared-types';
+import type { TrainOutcome } from './train-genome.js';
+
+/**
+ * One training, as the parent hands it to the training child: the samples come from a shard file
+ * on disk (the shared-types shard format), which the child decodes once and caches by path.
+ */
+export interface ChildTrainRequest {
+  genome: Genome;
+  data: DataShape;
+  /** A training shard (`encodeShard` format) on this machine. */
+  shardPath: string;
+  /** `train`: train on the train split, score on validation. `train+val`: train on both, no validation (champions). */
+  splits: 'train' | 'train+val';
+  budget: TrainingBudget;
+  seed: number;
+  exportModel?: boolean;
+  memoryCapMb?: number;
+}
+
+/** Parent → child messages. */
+export type ParentMessage =
+  | { type: 'init'; prefer?: BackendName[] }
+  | { type: 'train'; id: number; request: ChildTrainRequest }
+  | { type: 'shutdown' };
+
+/** Child → parent messages. */
+export type ChildMessage =
+  | { type: 'ready'; backend: BackendName; reason: string }
+  | { type: 'init-failed'; message: string }
+  | { type: 'epoch'; id: number; record: EpochRecord }
+  | { type: 'done'; id: number; outcome: TrainOutcome }
+  | { type: 'error'; id: number; message: string; code: string; retryable: boolean };
