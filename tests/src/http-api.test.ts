@@ -1,0 +1,59 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { statusResponseValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { TestCluster } from './support/harness.js';
+
+const heartbeat = (over: Partial<WorkerHeartbeat> = {}): WorkerHeartbeat => ({
+  schemaVersion: 1, workerId: 'pc-7', host: 'pc-7', pid: 123, cores: 4, backend: 'wasm', backendReason: 'test', state: 'idle',
+  currentEvaluationId: null, evaluationsDone: 0, evaluationsFailed: 0, samplesPerSecond: 0, rssBytes: 1000, memoryCapMb: 1024, version: '0.1.0', ...over,
+});
+
+describe('coordinator HTTP API', () => {
+  let cluster: TestCluster;
+  beforeAll(async () => {
+    cluster = await TestCluster.start('http');
+  });
+  afterAll(async () => {
+    await cluster?.stop();
+  });
+  const inject = (opts: Parameters<TestCluster['coordinator']['http']['inject']>[0]) => cluster.coordinator.http.inject(opts);
+
+  it('answers GET /status with a valid status before any run exists', async () => {
+    const res = await inject({ method: 'GET', url: '/status' });
+    expect(res.statusCode).toBe(200);
+    const status = statusResponseValidator.parse(res.json());
+    expect(status.run).toBeNull();
+    expect(status.evaluations).toEqual({ queued: 0, running: 0, done: 0, failed: 0 });
+  });
+
+  it('records a valid heartbeat and lists the worker', async () => {
+    const res = await inject({ method: 'POST', url: '/workers/heartbeat', payload: heartbeat() });
+    expect(res.statusCode).toBe(204);
+    const status = statusResponseValidator.parse((await inject({ method: 'GET', url: '/status' })).json());
+    expect(status.workers.map((w) => [w.workerId, w.backend, w.alive])).toEqual([['pc-7', 'wasm', true]]);
+  });
+
+  it.each([
+    ['a wrong type', { ...heartbeat({ workerId: 'pc-8' }), cores: 'four' }],
+    ['an unknown field', { ...heartbeat({ workerId: 'pc-8' }), admin: true }],
+    ['a missing field', (({ host: _host, ...rest }) => rest)(heartbeat({ workerId: 'pc-8' }))],
+    ['a bad worker id', heartbeat({ workerId: 'pc 8; drop table' })],
+    ['not JSON', 'hello'],
+  ])('rejects a heartbeat with %s and changes nothing', async (_what, body) => {
+    const before = cluster.coordinator.store.listWorkers().length;
+    const res = await inject({ method: 'POST', url: '/workers/heartbeat', payload: body as object, headers: { 'content-type': 'application/json' } });
+    expect(res.statusCode).toBe(400);
+    expect(res.json().error.code).toBe('NB_BAD_REQUEST');
+    expect(cluster.coordinator.store.listWorkers().length).toBe(before);
+  });
+
+  it('logs every rejected request', () => {
+    expect(cluster.coordinator.store.events(null, 'rejected-request').length).toBeGreaterThanOrEqual(5);
+  });
+
+  it('answers unknown routes, runs and datasets with a coded 404', async () => {
+    expect((await inject({ method: 'GET', url: '/nowhere' })).json().error.code).toBe('NB_NOT_FOUND');
+    expect((await inject({ method: 'GET', url: '/runs/r404/champion' })).json().error.code).toBe('NB_NO_RUN');
+    expect((await inject({ method: 'GET', url: `/datasets/${'0'.repeat(64)}` })).json().error.code).toBe('NB_UNKNOWN_DATASET');
+    expect((await inject({ method: 'GET', url: '/datasets/not-a-hash' })).statusCode).toBe(400);
+  });
+});
