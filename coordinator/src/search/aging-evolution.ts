@@ -8,7 +8,9 @@ import { describeMutations, randomGenome, type Variation } from './variation.js'
 import { MutationError } from './mutations.js';
 
 export interface AgingEvolutionOptions<G> {
+  /** P, S and the initial members' mutation count, already resolved (see `resolveSearchSettings`). */
   settings: Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations'>;
+  /** How genomes are made, mutated and hashed. */
   variation: Variation<G>;
   /** Seeds the algorithm's random source; ignored when restoring, where the snapshot's state rules. */
   seed: number;

@@ -6,7 +6,9 @@ import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type RandomSearchSnapshot
 import { describeMutations, randomGenome, type Variation } from './variation.js';
 
 export interface RandomSearchOptions<G> {
+  /** The most random mutations per sample, already resolved (see `resolveSearchSettings`). */
   settings: Pick<ResolvedSearchSettings, 'randomMutations'>;
+  /** How genomes are made, mutated and hashed. */
   variation: Variation<G>;
   /** Seeds the random source; ignored when restoring, where the snapshot's state rules. */
   seed: number;

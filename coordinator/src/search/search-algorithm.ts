@@ -48,7 +48,9 @@ export interface SearchAlgorithm<G = Genome> {
 
 /** What the factory needs about the run besides the algorithm's settings. */
 export interface SearchContext {
+  /** The rules every proposed genome obeys (each proposal passes `checkGenome` against it). */
   space: SearchSpace;
+  /** Input shape and class count of the run's dataset. */
   data: DataShape;
   /** Seeds every random draw of the search (a 32-bit unsigned integer, as the run config has it). */
   seed: number;
