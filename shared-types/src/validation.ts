@@ -1,5 +1,11 @@
 import type { Static, TSchema } from '@sinclair/typebox';
+import { FormatRegistry } from '@sinclair/typebox';
 import { TypeCompiler } from '@sinclair/typebox/compiler';
+
+// The string formats our schemas use; TypeBox knows none by itself.
+if (!FormatRegistry.Has('date-time')) {
+  FormatRegistry.Set('date-time', (v) => /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}:\d{2}(\.\d+)?(Z|[+-]\d{2}:\d{2})$/.test(v) && !Number.isNaN(Date.parse(v)));
+}
 
 /** One problem found in a message: where (a JSON pointer) and what is wrong. */
 export interface ValidationIssue {

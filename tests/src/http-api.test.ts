@@ -1,3 +1,4 @@
+import type { InjectOptions } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { statusResponseValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import { TestCluster } from './support/harness.js';
@@ -15,7 +16,7 @@ describe('coordinator HTTP API', () => {
   afterAll(async () => {
     await cluster?.stop();
   });
-  const inject = (opts: Parameters<TestCluster['coordinator']['http']['inject']>[0]) => cluster.coordinator.http.inject(opts);
+  const inject = (opts: InjectOptions) => cluster.coordinator.http.inject(opts);
 
   it('answers GET /status with a valid status before any run exists', async () => {
     const res = await inject({ method: 'GET', url: '/status' });

@@ -1,5 +1,5 @@
 import { createReadStream, existsSync } from 'node:fs';
-import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
+import Fastify, { LogController, type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { Type } from '@sinclair/typebox';
 import { StatusResponseSchema, WorkerHeartbeatSchema, workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
@@ -24,7 +24,13 @@ const RunIdParams = Type.Object({ id: Type.String({ pattern: '^[A-Za-z0-9_-]{1,6
 export async function createHttpServer(opts: HttpServerOptions): Promise<FastifyInstance> {
   const { manager } = opts;
   const store = manager.store;
-  const app = Fastify({ loggerInstance: opts.logger as FastifyBaseLogger, bodyLimit: 1024 * 1024, disableRequestLogging: true });
+  const app = Fastify({
+    loggerInstance: opts.logger as FastifyBaseLogger,
+    bodyLimit: 1024 * 1024,
+    logController: new LogController({ disableRequestLogging: true }),
+    // Validate exactly as the shared schemas say: no silent stripping of unknown fields, no type coercion.
+    ajv: { customOptions: { removeAdditional: false, coerceTypes: false, useDefaults: false } },
+  });
 
   app.setErrorHandler((err: Error & { validation?: unknown; statusCode?: number }, req, reply) => {
     if (err instanceof HttpError) {

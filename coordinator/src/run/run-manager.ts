@@ -20,7 +20,8 @@ import type { Logger } from '../logger.js';
 import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { createSearchAlgorithm, type SearchAlgorithm } from '../search/index.js';
-import { loadDatasetSource, storeDataset } from './prepare-dataset.js';
+import { storeDataset } from './store-dataset.js';
+import { prepareDataset } from '../datasets/index.js';
 import { scoreChampion } from '../champion/score-champion.js';
 import { exportChampion } from '../champion/export-champion.js';
 
@@ -98,7 +99,7 @@ export class RunManager {
 
   /** Prepares the dataset, records a new run and starts searching. */
   async startRun(config: RunConfig): Promise<RunRecord> {
-    const prepared = loadDatasetSource(config);
+    const prepared = prepareDataset(config.dataset, config.split, config.seed);
     const dataset = await storeDataset(prepared, this.opts.dataDir);
     const id = `r${this.now().toString(36)}${randomBytes(3).toString('hex')}`;
     this.store.transaction(() => {

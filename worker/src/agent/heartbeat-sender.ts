@@ -10,6 +10,7 @@ export class HeartbeatSender {
   private timer: NodeJS.Timeout | null = null;
   private failures = 0;
   private inFlight: Promise<void> | null = null;
+  private again = false;
 
   constructor(
     private readonly coordinatorUrl: string,
@@ -25,10 +26,18 @@ export class HeartbeatSender {
     void this.send();
   }
 
-  /** Sends one heartbeat now (at most one at a time). */
+  /** Sends a heartbeat now; while one is on its way, one more follows it with the newest state. */
   send(): Promise<void> {
-    if (this.inFlight) return this.inFlight;
-    this.inFlight = this.post().finally(() => {
+    if (this.inFlight) {
+      this.again = true;
+      return this.inFlight;
+    }
+    this.inFlight = (async () => {
+      do {
+        this.again = false;
+        await this.post();
+      } while (this.again);
+    })().finally(() => {
       this.inFlight = null;
     });
     return this.inFlight;

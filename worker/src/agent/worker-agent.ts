@@ -116,7 +116,7 @@ export class WorkerAgent {
       evaluationsDone: this.done,
       evaluationsFailed: this.failed,
       samplesPerSecond: this.lastSamplesPerSecond,
-      rssBytes: process.memoryUsage.rss() + this.training.lastRssBytes(),
+      rssBytes: process.memoryUsage.rss(),
       memoryCapMb: this.options.memoryCapMb,
       version: WORKER_VERSION,
     };

@@ -1,20 +1,8 @@
 import { createHash } from 'node:crypto';
 import { mkdir, rename, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { encodeShard, type DatasetManifest, type PreparedDataset, type RunConfig } from '@netbreeder/shared-types';
-import { generateDemoTiles, stratifiedSplit } from '../datasets/index.js';
+import { encodeShard, type DatasetManifest, type PreparedDataset } from '@netbreeder/shared-types';
 import type { StoredDataset } from '../store/run-store.js';
-
-/** Loads or generates the samples a run's dataset source names, and splits them with the run's seed. */
-export function loadDatasetSource(config: RunConfig): PreparedDataset {
-  const source = config.dataset;
-  switch (source.kind) {
-    case 'demo-tiles': {
-      const tiles = generateDemoTiles({ samplesPerClass: source.samplesPerClass, seed: source.seed });
-      return stratifiedSplit(tiles, tiles.inputShape, tiles.classNames, config.split, config.seed);
-    }
-  }
-}
 
 /** Writes `bytes` to `path` atomically (temp file, then rename), so a crash never leaves half a file. */
 async function writeAtomic(path: string, bytes: Buffer): Promise<void> {
