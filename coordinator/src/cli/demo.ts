@@ -3,7 +3,7 @@ import { randomBytes } from 'node:crypto';
 import { mkdir } from 'node:fs/promises';
 import { cpus } from 'node:os';
 import { join, resolve } from 'node:path';
-import { describeGenome, type StatusResponse } from '@netbreeder/shared-types';
+import { defaultSearchSpace, describeGenome, type StatusResponse } from '@netbreeder/shared-types';
 import { Coordinator } from '../coordinator.js';
 import { parseRunConfig } from '../config/run-config.js';
 import { createLogger } from '../logger.js';
@@ -44,6 +44,8 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
     budget: { maxEvaluations: 10_000, maxMinutes: opts.minutes },
     evaluation: { maxSeconds: 25 },
     champion: { epochs: 12, maxSeconds: 120 },
+    // The default space, with evaluations kept short enough that a 2-core demo sees dozens of them.
+    searchSpace: { ...defaultSearchSpace(), epochs: { min: 2, max: 8 } },
   });
   out.write(`netbreeder demo · coordinator ${coordinator.url} · Redis ${opts.redisUrl} (prefix ${prefix})\n`);
   out.write(`data: invented glaze-line tiles, 4 classes × 300 · search: aging evolution for ${opts.minutes} min with ${opts.workers} local worker(s)\n`);
@@ -61,12 +63,14 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
 
   const tty = 'isTTY' in out && (out as NodeJS.WriteStream).isTTY;
   let lastPrinted = 0;
+  let lastLine = '';
   const show = (status: StatusResponse, force = false) => {
     const line = progressLine(status);
     if (tty) out.write(`\r\x1b[2K${line}`);
-    else if (force || Date.now() - lastPrinted > 10_000) {
+    else if ((force && line !== lastLine) || Date.now() - lastPrinted > 10_000) {
       out.write(`${line}\n`);
       lastPrinted = Date.now();
+      lastLine = line;
     }
   };
   let interrupted = false;

@@ -48,9 +48,8 @@ export interface RunManagerEvents {
   runFinished?: (run: RunRecord) => void;
 }
 
-/** Derives each evaluation's training seed from the run's seed and the proposal's position. */
-export const evaluationSeed = (runSeed: number, seq: number, kind: 'search' | 'champion' = 'search'): number =>
-  createRandom(`${runSeed}:${kind}:${seq}`).uint32();
+/** Derives each search evaluation's training seed from the run's seed and the proposal's position. */
+export const evaluationSeed = (runSeed: number, seq: number): number => createRandom(`${runSeed}:search:${seq}`).uint32();
 
 const evaluationId = (runId: string, seq: number, attempt: number, kind: 'search' | 'champion' = 'search') =>
   `${runId}-${kind === 'search' ? 's' : 'c'}${seq}-a${attempt}`;
@@ -365,7 +364,9 @@ export class RunManager {
       kind: 'champion',
       attempt: 1,
       evaluationId: evaluationId(run.id, best.seq, 1, 'champion'),
-      seed: evaluationSeed(run.seed, best.seq, 'champion'),
+      // The same initial weights that earned the genome its place; only the data (train +
+      // validation) and the budget change.
+      seed: best.job.seed,
       budget: { epochs: run.config.champion.epochs, maxSeconds: run.config.champion.maxSeconds },
     };
     this.store.addEvaluation(job, best.seq, this.now(), false);

@@ -78,7 +78,7 @@ export function defaultSearchSpace(): SearchSpace {
     dropoutRate: { min: 0, max: 0.5 },
     activations: ['relu', 'elu', 'tanh', 'swish'],
     optimizers: ['adam', 'sgd', 'rmsprop'],
-    learningRate: { min: 1e-4, max: 3e-2 },
+    learningRate: { min: 1e-4, max: 1e-2 },
     batchSizes: [16, 32, 64, 128],
     weightDecay: { min: 0, max: 1e-3 },
     epochs: { min: 1, max: 20 },

@@ -178,7 +178,7 @@ describe('checkGenome rejects bad genomes, each with its reason', () => {
     ['pool size', genome([{ id: 'p', kind: 'max-pool2d', inputs: ['input'], poolSize: 3, strides: 2 }]), IMAGE, "node 'p': pool size 3 not in [2]"],
     ['dropout rate', genome([{ id: 'x', kind: 'dropout', inputs: ['input'], rate: 0.8 }]), FLAT, "node 'x': dropout rate 0.8 outside [0, 0.5]"],
     ['activation', genome([{ id: 'a', kind: 'activation', inputs: ['input'], activation: 'sigmoid' }]), FLAT, "node 'a': activation 'sigmoid' is not allowed"],
-    ['learning rate', genome([], 'input', { learningRate: 0.5 }), FLAT, 'learning rate 0.5 outside [0.0001, 0.03]'],
+    ['learning rate', genome([], 'input', { learningRate: 0.5 }), FLAT, 'learning rate 0.5 outside [0.0001, 0.01]'],
     ['batch size', genome([], 'input', { batchSize: 48 }), FLAT, 'batch size 48 not in [16, 32, 64, 128]'],
     ['weight decay', genome([], 'input', { weightDecay: 0.01 }), FLAT, 'weight decay 0.01 outside [0, 0.001]'],
     ['epochs', genome([], 'input', { epochs: 50 }), FLAT, 'epochs 50 outside [1, 20]'],
