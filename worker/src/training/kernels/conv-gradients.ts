@@ -18,7 +18,7 @@ import { pair, type KernelBackendLike, WasmOpRunner } from './wasm-op-runner.js'
  * batch (filter gradient) or over the channel multiplier (input gradient).
  */
 
-interface ConvGeometry {
+export interface ConvGeometry {
   batch: number;
   inHeight: number;
   inWidth: number;
@@ -32,7 +32,7 @@ interface ConvGeometry {
   padLeft: number;
 }
 
-function geometry(
+export function geometry(
   inShape: number[],
   filterShape: number[],
   strides: [number, number],
@@ -67,14 +67,14 @@ function geometry(
   };
 }
 
-const assertNhwc = (dataFormat: unknown, kernelName: string) => {
+export const assertNhwc = (dataFormat: unknown, kernelName: string) => {
   if (dataFormat != null && dataFormat !== 'NHWC' && dataFormat !== 'channelsLast') {
     throw new Error(`${kernelName} on wasm supports only NHWC (channels last); got ${String(dataFormat)}`);
   }
 };
 
 /** Padding of the filter-gradient convolution; the far sides are chosen so exactly KH × KW comes out. */
-function filterGradPads(g: ConvGeometry) {
+export function filterGradPads(g: ConvGeometry) {
   const [sh, sw] = g.strides;
   return {
     top: g.padTop,
@@ -95,22 +95,6 @@ function inputGradPads(g: ConvGeometry) {
     bottom: g.inHeight + g.filterHeight - 1 - g.outHeight * sh - top,
     right: g.inWidth + g.filterWidth - 1 - g.outWidth * sw - left,
   };
-}
-
-export function conv2dBackpropFilter(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {
-  const { x, dy } = args.inputs as { x: tf.TensorInfo; dy: tf.TensorInfo };
-  const attrs = (args.attrs ?? {}) as Record<string, unknown>;
-  assertNhwc(attrs['dataFormat'], 'Conv2DBackpropFilter');
-  const filterShape = attrs['filterShape'] as number[];
-  const g = geometry(x.shape, filterShape, pair(attrs['strides'] as number), attrs['pad'], attrs['dimRoundingMode'], false, 'Conv2DBackpropFilter');
-  const ops = new WasmOpRunner(args.backend as KernelBackendLike);
-  const xT = ops.transpose(x, [3, 1, 2, 0]); // [Ci, H, W, N]
-  const dyT = ops.transpose(dy, [1, 2, 0, 3]); // [OH, OW, N, Co]
-  const conv = ops.conv('Conv2D', xT, dyT, [1, 1], g.strides, filterGradPads(g)); // [Ci, KH, KW, Co]
-  ops.free(xT, dyT);
-  const out = ops.transpose(conv, [1, 2, 0, 3]);
-  ops.free(conv);
-  return out;
 }
 
 export function conv2dBackpropInput(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {

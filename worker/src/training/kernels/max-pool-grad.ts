@@ -35,38 +35,69 @@ export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unkn
   const fw = info.filterWidth;
   const top = info.padInfo.top;
   const left = info.padInfo.left;
-  const best = new Float32Array(c);
-  const arg = new Int32Array(c);
+  if (fh === 2 && fw === 2 && sh === 2 && sw === 2 && top === 0 && left === 0 && oh * 2 <= h && ow * 2 <= w) {
+    windows2x2(x, g, dx, n, h, w, c, oh, ow);
+    return out;
+  }
   for (let b = 0; b < n; b++) {
     for (let r = 0; r < oh; r++) {
       const r0 = r * sh - top;
+      const iLo = Math.max(0, -r0);
+      const iHi = Math.min(fh, h - r0);
       for (let q = 0; q < ow; q++) {
         const q0 = q * sw - left;
-        best.fill(-Infinity);
-        arg.fill(-1);
-        for (let i = 0; i < fh; i++) {
-          const ir = r0 + i;
-          if (ir < 0 || ir >= h) continue;
-          for (let j = 0; j < fw; j++) {
-            const iq = q0 + j;
-            if (iq < 0 || iq >= w) continue;
-            const base = ((b * h + ir) * w + iq) * c;
-            for (let k = 0; k < c; k++) {
-              const v = x[base + k]!;
-              if (v > best[k]!) {
-                best[k] = v;
-                arg[k] = base + k;
+        const jLo = Math.max(0, -q0);
+        const jHi = Math.min(fw, w - q0);
+        const gBase = ((b * oh + r) * ow + q) * c;
+        // Channel outermost, taps inside: no per-window scratch arrays to reset.
+        for (let k = 0; k < c; k++) {
+          let best = -Infinity;
+          let at = -1;
+          for (let i = iLo; i < iHi; i++) {
+            let idx = ((b * h + r0 + i) * w + q0 + jLo) * c + k;
+            for (let j = jLo; j < jHi; j++, idx += c) {
+              const v = x[idx]!;
+              if (v > best) {
+                best = v;
+                at = idx;
               }
             }
           }
-        }
-        const gBase = ((b * oh + r) * ow + q) * c;
-        for (let k = 0; k < c; k++) {
-          const a = arg[k]!;
-          if (a >= 0) dx[a] = dx[a]! + g[gBase + k]!;
+          if (at >= 0) dx[at] = dx[at]! + g[gBase + k]!;
         }
       }
     }
   }
   return out;
+}
+
+/** The common 2×2, stride-2, unpadded case, unrolled (windows do not overlap). Same tie rule. */
+function windows2x2(x: Float32Array, g: Float32Array, dx: Float32Array, n: number, h: number, w: number, c: number, oh: number, ow: number): void {
+  const row = w * c;
+  for (let b = 0; b < n; b++) {
+    for (let r = 0; r < oh; r++) {
+      for (let q = 0; q < ow; q++) {
+        const base = ((b * h + 2 * r) * w + 2 * q) * c;
+        const gBase = ((b * oh + r) * ow + q) * c;
+        for (let k = 0; k < c; k++) {
+          const i0 = base + k;
+          const i1 = i0 + c;
+          const i2 = i0 + row;
+          const i3 = i2 + c;
+          let at = i0;
+          let best = x[i0]!;
+          if (x[i1]! > best) {
+            best = x[i1]!;
+            at = i1;
+          }
+          if (x[i2]! > best) {
+            best = x[i2]!;
+            at = i2;
+          }
+          if (x[i3]! > best) at = i3;
+          dx[at] = dx[at]! + g[gBase + k]!;
+        }
+      }
+    }
+  }
 }

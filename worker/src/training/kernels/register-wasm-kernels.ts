@@ -1,6 +1,9 @@
 import * as tf from '@tensorflow/tfjs';
+import { makeBatchMatMul } from './batch-mat-mul.js';
 import { maxPoolGrad } from './max-pool-grad.js';
-import { conv2dBackpropFilter, conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
+import { makeTile } from './tile.js';
+import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
+import { conv2dBackpropFilter } from './conv-filter-gradient.js';
 
 /** Which of our kernels are registered for wasm, and which built-in ones they replaced. */
 export interface WasmKernelRegistration {
@@ -10,19 +13,26 @@ export interface WasmKernelRegistration {
   replaced: string[];
 }
 
-/** Our kernels, by name. `replaces` marks a kernel wasm already has, whose built-in is slower or wrong. */
-const KERNELS: Array<{ name: string; kernelFunc: tf.KernelFunc; replaces: boolean }> = [
-  { name: 'Conv2DBackpropFilter', kernelFunc: conv2dBackpropFilter as unknown as tf.KernelFunc, replaces: false },
-  { name: 'DepthwiseConv2dNativeBackpropFilter', kernelFunc: depthwiseBackpropFilter as unknown as tf.KernelFunc, replaces: false },
-  { name: 'DepthwiseConv2dNativeBackpropInput', kernelFunc: depthwiseBackpropInput as unknown as tf.KernelFunc, replaces: false },
-  { name: 'Conv2DBackpropInput', kernelFunc: conv2dBackpropInput as unknown as tf.KernelFunc, replaces: true },
-  { name: 'MaxPoolGrad', kernelFunc: maxPoolGrad as unknown as tf.KernelFunc, replaces: true },
+/**
+ * Our kernels, by name: `kernelFunc` for kernels that stand alone, `wrap` for replacements that
+ * fall back on (or build on) the built-in kernel they replace.
+ */
+const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn: tf.KernelFunc) => tf.KernelFunc }> = [
+  // Missing in wasm.
+  { name: 'Conv2DBackpropFilter', kernelFunc: conv2dBackpropFilter as unknown as tf.KernelFunc },
+  { name: 'DepthwiseConv2dNativeBackpropFilter', kernelFunc: depthwiseBackpropFilter as unknown as tf.KernelFunc },
+  { name: 'DepthwiseConv2dNativeBackpropInput', kernelFunc: depthwiseBackpropInput as unknown as tf.KernelFunc },
+  // Present in wasm but slow (Conv2DBackpropInput, BatchMatMul with a transposed operand, Tile) or wrong (MaxPoolGrad, 2×2 windows).
+  { name: 'Conv2DBackpropInput', kernelFunc: conv2dBackpropInput as unknown as tf.KernelFunc },
+  { name: 'MaxPoolGrad', kernelFunc: maxPoolGrad as unknown as tf.KernelFunc },
+  { name: 'BatchMatMul', wrap: makeBatchMatMul },
+  { name: 'Tile', wrap: makeTile },
 ];
 
 /** The names {@link registerWasmTrainingKernels} registers, for tests and docs. */
 export const WASM_TRAINING_KERNELS: readonly string[] = KERNELS.map((k) => k.name);
 
-const ours = new Set<tf.KernelFunc>(KERNELS.map((k) => k.kernelFunc));
+const ours = new Set<tf.KernelFunc>();
 const builtIns = new Map<string, tf.KernelConfig>();
 
 /**
@@ -42,9 +52,30 @@ export function registerWasmTrainingKernels(): WasmKernelRegistration {
     } else {
       result.added.push(k.name);
     }
-    tf.registerKernel({ kernelName: k.name, backendName: 'wasm', kernelFunc: k.kernelFunc });
+    const kernelFunc = k.kernelFunc ?? k.wrap!(existing ? existing.kernelFunc : missing(k.name));
+    ours.add(kernelFunc);
+    registered.set(k.name, kernelFunc);
+    tf.registerKernel({ kernelName: k.name, backendName: 'wasm', kernelFunc });
   }
   return result;
+}
+
+const missing = (name: string): tf.KernelFunc => () => {
+  throw new Error(`the wasm backend has no built-in ${name} kernel to build on; check the @tensorflow/tfjs-backend-wasm version (4.22 expected)`);
+};
+
+const registered = new Map<string, tf.KernelFunc>();
+
+/**
+ * Switches one of our replacement kernels off (back to the built-in) or on again, for the
+ * benchmark's comparisons. Kernels wasm lacks cannot be switched off.
+ */
+export function setWasmKernelOverride(name: string, enabled: boolean): void {
+  const builtIn = builtIns.get(name);
+  const mine = registered.get(name);
+  if (!builtIn || !mine) throw new Error(`${name} is not one of our replacements of a built-in wasm kernel; call registerWasmTrainingKernels() first`);
+  tf.unregisterKernel(name, 'wasm');
+  tf.registerKernel(enabled ? { kernelName: name, backendName: 'wasm', kernelFunc: mine } : builtIn);
 }
 
 /** Puts back the built-in kernels we replaced and removes the ones we added (for comparisons in benchmarks). */

@@ -2,6 +2,7 @@ import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { createRandom } from '@netbreeder/shared-types';
 import { initBackend } from '../backend.js';
+import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
 
 // Reference: the TensorFlow.js cpu backend, the library's own reference implementation of every
@@ -93,7 +94,15 @@ describe('wasm training kernels match the cpu backend (reference implementation)
       const dy = { shape: dyShape, data: randomArray(tf.util.sizeFromShape(dyShape), `dy ${c.name}`) };
       const filter = { shape: filterShape, data: randomArray(tf.util.sizeFromShape(filterShape), `f ${c.name}`) };
       const common = { strides: [c.stride, c.stride], pad: c.pad, dataFormat: 'NHWC', dimRoundingMode: undefined };
-      expect(await compare('Conv2DBackpropFilter', { x, dy }, { ...common, filterShape })).toBeLessThan(TOLERANCE);
+      // Both routes of the filter gradient, whichever the shape-based choice would pick.
+      for (const route of ['transposed-conv', 'im2col-matmul'] as FilterGradRoute[]) {
+        filterGradOptions.route = route;
+        try {
+          expect(await compare('Conv2DBackpropFilter', { x, dy }, { ...common, filterShape }), route).toBeLessThan(TOLERANCE);
+        } finally {
+          filterGradOptions.route = 'auto';
+        }
+      }
       expect(await compare('Conv2DBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape })).toBeLessThan(TOLERANCE);
     });
   }
@@ -132,6 +141,32 @@ describe('wasm training kernels match the cpu backend (reference implementation)
         });
       }
 
+  for (const [aShape, bShape, transposeA, transposeB] of [
+    [[1, 7, 5], [1, 5, 3], false, false],
+    [[1, 5, 7], [1, 5, 3], true, false],
+    [[1, 7, 5], [1, 3, 5], false, true],
+    [[2, 5, 7], [2, 3, 5], true, true],
+    [[3, 6, 4], [1, 4, 2], false, false],
+  ] as Array<[number[], number[], boolean, boolean]>) {
+    it(`BatchMatMul ${aShape.join('x')} · ${bShape.join('x')} transposeA=${transposeA} transposeB=${transposeB}`, async () => {
+      const a = { shape: aShape, data: randomArray(tf.util.sizeFromShape(aShape), `a ${aShape}`) };
+      const b = { shape: bShape, data: randomArray(tf.util.sizeFromShape(bShape), `b ${bShape}`) };
+      expect(await compare('BatchMatMul', { a, b }, { transposeA, transposeB })).toBeLessThan(TOLERANCE);
+    });
+  }
+
+  for (const [shape, reps] of [
+    [[1, 1, 1, 16], [64, 14, 14, 1]],
+    [[2, 3], [3, 2]],
+    [[3, 1, 2], [1, 4, 2]],
+    [[5], [3]],
+  ] as Array<[number[], number[]]>) {
+    it(`Tile ${shape.join('x')} by ${reps.join('x')}`, async () => {
+      const x = { shape, data: randomArray(tf.util.sizeFromShape(shape), `tile ${shape}`) };
+      expect(await compare('Tile', { x }, { reps })).toBeLessThan(TOLERANCE);
+    });
+  }
+
   it('frees every intermediate: tensor and wasm data counts stay flat', async () => {
     await tf.setBackend('wasm');
     const x = tf.tensor(randomArray(2 * 9 * 9 * 3, 'leak x'), [2, 9, 9, 3]);
@@ -141,7 +176,9 @@ describe('wasm training kernels match the cpu backend (reference implementation)
       tf.tidy(() => {
         const g1 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.conv2d(a as tf.Tensor4D, b as tf.Tensor4D, 2, 'same').square().sum())([x, f]);
         const g2 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.depthwiseConv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'valid').square().sum())([x, d]);
-        return [...g1, ...g2].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
+        const g3 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.maxPool(tf.conv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'same'), 2, 2, 'valid').square().sum())([x, f]);
+        const g4 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.matMul(b.reshape([27, 4]), a.reshape([2, 27]), true, true).square().sum())([x.slice([0, 0, 0, 0], [2, 3, 3, 3]), f.slice([0, 0, 0, 0], [3, 3, 3, 4])]);
+        return [...g1, ...g2, ...g3, ...g4].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
       });
     step();
     const tensors = tf.memory().numTensors;
