@@ -1,0 +1,66 @@
+/**
+ * A/B comparison of kernel choices on whole training steps, interleaved in one process so that
+ * load from other processes on a shared machine hits both sides alike. Reports the median CPU
+ * time per step of each variant.
+ *
+ *   npx tsx worker/bench/ab-step.ts ref-cnn
+ */
+import * as tf from '@tensorflow/tfjs';
+import type { DataShape, Genome } from '@netbreeder/shared-types';
+import { initBackend } from '../src/training/backend.js';
+import { buildModel } from '../src/training/build-model.js';
+import { crossEntropy } from '../src/training/evaluate-model.js';
+import { filterGradOptions } from '../src/training/kernels/conv-filter-gradient.js';
+import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
+import { chainGenome, refCnn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
+import { syntheticSamples } from '../src/training/synthetic-samples.js';
+
+const which = process.argv[2] ?? 'ref-cnn';
+const table: Record<string, [Genome, DataShape]> = {
+  'ref-mlp': [refMlp(), { inputShape: [784], numClasses: 10 }],
+  'ref-cnn': [refCnn(), { inputShape: [28, 28, 1], numClasses: 10 }],
+  'skip-bn': [refSkipBn(), { inputShape: [28, 28, 1], numClasses: 10 }],
+  'pointwise': [
+    chainGenome([
+      { id: 'c1', kind: 'conv2d', filters: 16, kernelSize: 3, strides: 2, padding: 'same', activation: 'relu' },
+      { id: 'c2', kind: 'conv2d', filters: 32, kernelSize: 1, strides: 1, padding: 'same', activation: 'relu' },
+      { id: 'c3', kind: 'conv2d', filters: 32, kernelSize: 1, strides: 1, padding: 'same', activation: 'relu' },
+      { id: 'g', kind: 'global-avg-pool' },
+    ]),
+    { inputShape: [28, 28, 3], numClasses: 10 },
+  ],
+};
+const [genome, data] = table[which]!;
+await initBackend({ prefer: ['wasm'] });
+
+const variants: Array<{ name: string; on: () => void; off: () => void }> = [
+  { name: 'all ours (auto)', on: () => {}, off: () => {} },
+  { name: 'filter grad: transposed-conv always', on: () => (filterGradOptions.route = 'transposed-conv'), off: () => (filterGradOptions.route = 'auto') },
+  { name: 'built-in Conv2DBackpropInput', on: () => setWasmKernelOverride('Conv2DBackpropInput', false), off: () => setWasmKernelOverride('Conv2DBackpropInput', true) },
+  { name: 'built-in MaxPoolGrad (wrong for 2×2)', on: () => setWasmKernelOverride('MaxPoolGrad', false), off: () => setWasmKernelOverride('MaxPoolGrad', true) },
+  { name: 'built-in BatchMatMul', on: () => setWasmKernelOverride('BatchMatMul', false), off: () => setWasmKernelOverride('BatchMatMul', true) },
+];
+const only = process.argv.slice(3);
+const chosen = only.length ? variants.filter((v, i) => i === 0 || only.some((o) => v.name.includes(o))) : variants;
+
+const batch = 64;
+const samples = syntheticSamples(data, batch, 1);
+const model = buildModel(genome, data, 1);
+const optimizer = tf.train.adam(0.001);
+const x = tf.tensor(samples.features, [batch, ...data.inputShape]);
+const y = tf.oneHot(tf.tensor1d(samples.labels, 'int32'), data.numClasses);
+const step = () => tf.dispose(optimizer.minimize(() => crossEntropy(model.apply(x, { training: true }) as tf.Tensor, y), true) ?? []);
+const times = new Map<string, number[]>(chosen.map((v) => [v.name, []]));
+for (let round = 0; round < 8; round++) {
+  for (const v of chosen) {
+    v.on();
+    step();
+    const c0 = process.cpuUsage();
+    for (let i = 0; i < 4; i++) step();
+    const c = process.cpuUsage(c0);
+    v.off();
+    times.get(v.name)!.push((c.user + c.system) / 1000 / 4);
+  }
+}
+const median = (a: number[]) => [...a].sort((p, q) => p - q)[Math.floor(a.length / 2)]!;
+for (const [name, t] of times) console.log(`${which} ${name.padEnd(40)} ${median(t).toFixed(1).padStart(7)} ms CPU/step  ${((batch / median(t)) * 1000).toFixed(0).padStart(6)} samples per CPU-second`);
