@@ -8,6 +8,8 @@ import { RunStore } from './store/run-store.js';
 import { EvaluationQueue } from './queue/evaluation-queue.js';
 import { RunManager, type RunManagerEvents } from './run/run-manager.js';
 import { createHttpServer } from './http/server.js';
+import { StallChecker } from './queue/stall-checker.js';
+import { loadSecrets, type CoordinatorSecrets } from './config/secrets.js';
 
 export const COORDINATOR_VERSION = '0.1.0';
 
@@ -28,6 +30,16 @@ export interface CoordinatorOptions {
   /** Milliseconds between reconcile passes. @default 1000 */
   tickMs: number;
   logger: Logger;
+  /** Token workers present to join (heartbeats, datasets). @default kept in dataDir/secrets.json, random on first start */
+  joinToken?: string;
+  /** Token for run control, revocation and export. @default kept in dataDir/secrets.json, random on first start */
+  adminToken?: string;
+  /** Whether status views (GET /status, the dashboard) need no token. @default true */
+  publicStatus: boolean;
+  /** Lock length the workers use; the coordinator's stall check must agree. @default 30000 */
+  lockDurationMs: number;
+  /** How often the coordinator looks for jobs of vanished workers. @default 15000 */
+  stalledIntervalMs: number;
 }
 
 export function resolveCoordinatorOptions(given: Partial<CoordinatorOptions>): CoordinatorOptions {
@@ -39,6 +51,9 @@ export function resolveCoordinatorOptions(given: Partial<CoordinatorOptions>): C
     queue: DEFAULT_QUEUE_LOCATION,
     tickMs: 1000,
     logger: createLogger('coordinator'),
+    publicStatus: true,
+    lockDurationMs: 30_000,
+    stalledIntervalMs: 15_000,
     ...defined,
   };
 }
@@ -52,6 +67,8 @@ export class Coordinator {
     readonly manager: RunManager,
     readonly http: FastifyInstance,
     readonly url: string,
+    readonly secrets: CoordinatorSecrets & { path: string },
+    private readonly stallChecker: StallChecker,
   ) {}
 
   /** Opens the store, connects to the queue, resumes an unfinished run if there is one, and listens. */
@@ -64,13 +81,23 @@ export class Coordinator {
     const queue = new EvaluationQueue(options.queue, log.child({ part: 'queue' }));
     const manager = new RunManager({ store, queue, log: log.child({ part: 'run' }), dataDir, tickMs: options.tickMs }, events);
     const startedAt = Date.now();
-    const http = await createHttpServer({ manager, logger: log.child({ part: 'http' }), version: COORDINATOR_VERSION, startedAt });
+    const secrets = await loadSecrets(dataDir, { joinToken: options.joinToken, adminToken: options.adminToken });
+    const http = await createHttpServer({
+      manager,
+      queue,
+      logger: log.child({ part: 'http' }),
+      version: COORDINATOR_VERSION,
+      startedAt,
+      tokens: { joinToken: secrets.joinToken, adminToken: secrets.adminToken, publicStatus: options.publicStatus },
+    });
     const address = await http.listen({ port: options.port, host: options.host });
     const url = address.replace('0.0.0.0', '127.0.0.1').replace('[::]', '127.0.0.1');
     log.info({ url, dataDir, prefix: options.queue.prefix, queue: options.queue.queueName }, 'coordinator listening');
     await manager.resume();
     await manager.startLoop();
-    return new Coordinator(options, store, queue, manager, http, url);
+    const stallChecker = new StallChecker(options.queue, { lockDurationMs: options.lockDurationMs, stalledIntervalMs: options.stalledIntervalMs }, log.child({ part: 'stall-check' }));
+    stallChecker.start();
+    return new Coordinator(options, store, queue, manager, http, url, secrets, stallChecker);
   }
 
   /** Starts a new run (the previous one must have ended). */
@@ -83,6 +110,7 @@ export class Coordinator {
   }
 
   async close(): Promise<void> {
+    await this.stallChecker.close();
     await this.manager.stopLoop();
     await this.http.close();
     await this.queue.close();

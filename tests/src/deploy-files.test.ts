@@ -47,6 +47,13 @@ describe('docker-compose.yml', () => {
     expect(options.redisUrl).toBe('redis://redis:6379');
   });
 
+  it('gives workers the same join token as the coordinator, and the coordinator an admin token', () => {
+    const env = (name: string) => (compose.services[name] as { environment?: Record<string, string> }).environment ?? {};
+    expect(env('worker').NETBREEDER_JOIN_TOKEN).toBe(env('coordinator').NETBREEDER_JOIN_TOKEN);
+    expect(env('coordinator').NETBREEDER_JOIN_TOKEN).toMatch(/^\$\{NETBREEDER_JOIN_TOKEN:\?/);
+    expect(env('coordinator').NETBREEDER_ADMIN_TOKEN).toMatch(/^\$\{NETBREEDER_ADMIN_TOKEN:\?/);
+  });
+
   it('builds from a Dockerfile whose entry point exists', () => {
     const dockerfile = readFileSync(join(root, 'Dockerfile'), 'utf8');
     const entry = /ENTRYPOINT \[(.*)\]/.exec(dockerfile)?.[1];

@@ -104,7 +104,7 @@ describe('a run end to end with two workers', () => {
     expect(champion.test.accuracy).toBeGreaterThan(0.4); // clearly better than chance (0.25) on 4 balanced classes
 
     const out = join(cluster.dataDir, 'exported');
-    await downloadChampion(cluster.coordinator.url, run.id, out);
+    await downloadChampion(cluster.coordinator.url, run.id, out, cluster.coordinator.secrets.adminToken);
     const modelJson = JSON.parse(await readFile(join(out, 'model.json'), 'utf8'));
     const weights = await readFile(join(out, 'weights.bin'));
     await initBackend();

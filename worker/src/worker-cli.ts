@@ -19,6 +19,11 @@ Options:
   --until HH:MM       stop taking jobs at this local time and exit
   --cache-dir DIR     dataset cache folder               (default ~/.cache/netbreeder/datasets)
   --cache-max-mb MB   dataset cache cap                  (default 2048)
+  --join-token T      the coordinator's join token       (default $NETBREEDER_JOIN_TOKEN)
+  --idle-load F       take jobs only while the PC's own load per core is below F (0..1),
+                      for example 0.3; checked every 15 s
+  --lock-ms MS        job lock length; a vanished worker's job returns after it (default 30000)
+  --stalled-check-ms MS  how often this worker looks for stalled jobs   (default 15000)
   -h, --help          this text
 
 Stop: Ctrl-C (or SIGTERM) finishes the current job, then exits; a second Ctrl-C abandons it (the
@@ -26,7 +31,7 @@ coordinator hands it to another worker).
 
 Examples:
   netbreeder worker --coordinator http://build-server:7460 --redis redis://build-server:6379
-  netbreeder worker --coordinator http://10.0.0.5:7460 --until 07:30 --memory-cap 2048
+  netbreeder worker --coordinator http://10.0.0.5:7460 --until 07:30 --memory-cap 2048 --idle-load 0.3
 `;
 
 const WORKER_ARGS = {
@@ -40,6 +45,10 @@ const WORKER_ARGS = {
   until: { type: 'string' },
   'cache-dir': { type: 'string' },
   'cache-max-mb': { type: 'string' },
+  'join-token': { type: 'string' },
+  'idle-load': { type: 'string' },
+  'lock-ms': { type: 'string' },
+  'stalled-check-ms': { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -65,7 +74,18 @@ export function parseWorkerArgs(argv: string[], env: NodeJS.ProcessEnv = process
     until: values.until ?? null,
     cacheDir: values['cache-dir'],
     cacheMaxMb: int('cache-max-mb', values['cache-max-mb'], 1, 1_048_576),
+    joinToken: values['join-token'] ?? env.NETBREEDER_JOIN_TOKEN ?? null,
+    idleLoad: fraction('idle-load', values['idle-load']),
+    lockDurationMs: int('lock-ms', values['lock-ms'], 1000, 3_600_000),
+    stalledIntervalMs: int('stalled-check-ms', values['stalled-check-ms'], 500, 3_600_000),
   });
+}
+
+function fraction(name: string, v: string | undefined): number | null {
+  if (v === undefined) return null;
+  const n = Number(v);
+  if (!Number.isFinite(n) || n <= 0 || n > 1) throw new Error(`--${name} must be a number above 0 and at most 1, got '${v}'`);
+  return n;
 }
 
 /** Runs `netbreeder worker …` until the worker stops; returns the process exit code. */

@@ -16,6 +16,9 @@ Commands:
   demo          evolve a network for invented demo data on this machine, about 3 minutes
   status        show a coordinator's status
   export        download a run's champion (genome, TensorFlow.js model, report)
+  runs          list the runs a coordinator holds
+  pause, resume, stop
+                control a coordinator's run (needs the admin token)
 
 'netbreeder <command> --help' shows each command's options and examples.
 `;
@@ -32,6 +35,14 @@ Options:
   --host ADDR       listen address                        (default 0.0.0.0)
   --redis URL       Redis with the job queue              (default $REDIS_URL or redis://127.0.0.1:6379)
   --prefix NAME     Redis key prefix                      (default netbreeder)
+  --join-token T    token workers must present            (default $NETBREEDER_JOIN_TOKEN, else
+                    kept in DIR/secrets.json, random on first start)
+  --admin-token T   token for run control and export      (default $NETBREEDER_ADMIN_TOKEN, else
+                    kept in DIR/secrets.json)
+  --private-status  status and dashboard need a token too (default: readable by anyone who can
+                    reach the port)
+  --lock-ms MS      workers' job lock length; must match theirs          (default 30000)
+  --stalled-check-ms MS  how often to look for jobs of vanished workers  (default 15000)
   -h, --help        this text
 
 Examples:
@@ -54,7 +65,10 @@ Examples:
 
 const STATUS_HELP = `netbreeder status: a compact view of a coordinator's run and workers.
 
-Usage: netbreeder status [--coordinator URL] [--watch]
+Usage: netbreeder status [--coordinator URL] [--watch] [--token T]
+
+--token (or NETBREEDER_ADMIN_TOKEN / NETBREEDER_JOIN_TOKEN) is needed when the coordinator runs
+with --private-status.
 
 Examples:
   netbreeder status --coordinator http://build-server:${DEFAULT_PORT}
@@ -63,7 +77,7 @@ Examples:
 
 const EXPORT_HELP = `netbreeder export: download a run's champion into a folder.
 
-Usage: netbreeder export --run ID --out DIR [--coordinator URL]
+Usage: netbreeder export --run ID --out DIR [--coordinator URL] [--admin-token T]
 
 Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md.
 
@@ -91,6 +105,11 @@ export const COORDINATOR_OPTIONS = {
   host: { type: 'string' },
   redis: { type: 'string' },
   prefix: { type: 'string' },
+  'join-token': { type: 'string' },
+  'admin-token': { type: 'string' },
+  'private-status': { type: 'boolean' },
+  'lock-ms': { type: 'string' },
+  'stalled-check-ms': { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -103,12 +122,18 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
     port: numberOption('port', values.port, 0, 65535),
     host: values.host,
     queue: { ...DEFAULT_QUEUE_LOCATION, redisUrl: values.redis ?? redisDefault(), prefix: values.prefix ?? process.env.NETBREEDER_PREFIX ?? DEFAULT_QUEUE_LOCATION.prefix },
+    joinToken: values['join-token'] ?? process.env.NETBREEDER_JOIN_TOKEN,
+    adminToken: values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN,
+    publicStatus: !values['private-status'],
+    lockDurationMs: numberOption('lock-ms', values['lock-ms'], 1000, 3_600_000),
+    stalledIntervalMs: numberOption('stalled-check-ms', values['stalled-check-ms'], 500, 3_600_000),
   });
   const active = coordinator.store.unfinishedRun();
   if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${config ? '; --run ignored until it ends' : ''}\n`);
   else if (config) process.stdout.write(`started run ${(await coordinator.startRun(config)).id}\n`);
   else process.stdout.write('no run yet: restart with --run FILE to start one\n');
   process.stdout.write(`coordinator listening on ${coordinator.url} · status: ${coordinator.url}/status\n`);
+  process.stdout.write(`tokens (join for workers, admin for control and export): ${coordinator.secrets.path}\n`);
   await new Promise<void>((resolve) => {
     const stop = () => resolve();
     process.once('SIGINT', stop);
@@ -119,13 +144,15 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
 }
 
 async function statusCommand(argv: string[]): Promise<number> {
-  const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, watch: { type: 'boolean' }, help: { type: 'boolean', short: 'h' } } });
+  const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, watch: { type: 'boolean' }, token: { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
   if (values.help) return void process.stdout.write(STATUS_HELP), 0;
   const url = new URL('/status', values.coordinator ?? coordinatorDefault());
+  const token = values.token ?? process.env.NETBREEDER_ADMIN_TOKEN ?? process.env.NETBREEDER_JOIN_TOKEN;
   for (;;) {
-    const res = await fetch(url).catch((err: Error) => {
+    const res = await fetch(url, { headers: token ? { authorization: `Bearer ${token}` } : {} }).catch((err: Error) => {
       throw new Error(`cannot reach the coordinator at ${url.origin}: ${err.message}; is it running? (--coordinator URL)`);
     });
+    if (!res.ok) throw new Error(`coordinator answered ${res.status}: ${await res.text()}`);
     const status = statusResponseValidator.parse(await res.json());
     const text = statusTable(status);
     process.stdout.write(values.watch && process.stdout.isTTY ? `\x1b[H\x1b[2J${text}\n` : `${text}\n`);
@@ -135,10 +162,14 @@ async function statusCommand(argv: string[]): Promise<number> {
 }
 
 async function exportCommand(argv: string[]): Promise<number> {
-  const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, run: { type: 'string' }, out: { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
+  const { values } = parseArgs({
+    args: argv,
+    options: { coordinator: { type: 'string' }, run: { type: 'string' }, out: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } },
+  });
   if (values.help) return void process.stdout.write(EXPORT_HELP), 0;
   if (!values.run || !values.out) throw new Error('export needs --run ID and --out DIR (see netbreeder export --help)');
-  const files = await downloadChampion(values.coordinator ?? coordinatorDefault(), values.run, values.out, (name, bytes) =>
+  const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN ?? null;
+  const files = await downloadChampion(values.coordinator ?? coordinatorDefault(), values.run, values.out, token, (name, bytes) =>
     process.stdout.write(`  ${name} (${bytes.toLocaleString('en-US')} bytes)\n`),
   );
   process.stdout.write(`exported ${files.length} files to ${values.out}\n`);
@@ -161,7 +192,56 @@ async function demoCommand(argv: string[]): Promise<number> {
   });
 }
 
+const CONTROL_HELP = `netbreeder pause | resume | stop: control a coordinator's run.
+
+Usage: netbreeder pause --run ID [--coordinator URL] [--admin-token T]
+
+pause queues no new evaluations (queued ones still train and are recorded); resume goes on;
+stop ends the run without a champion. The admin token comes from --admin-token or
+NETBREEDER_ADMIN_TOKEN (the coordinator keeps it in its data folder's secrets.json).
+
+Example:
+  NETBREEDER_ADMIN_TOKEN=… netbreeder pause --coordinator http://build-server:${DEFAULT_PORT} --run r1abc
+`;
+
+function controlCommand(action: 'pause' | 'resume' | 'stop') {
+  return async (argv: string[]): Promise<number> => {
+    const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, run: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
+    if (values.help) return void process.stdout.write(CONTROL_HELP), 0;
+    if (!values.run) throw new Error(`${action} needs --run ID (netbreeder runs lists them)`);
+    const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN;
+    const res = await fetch(new URL(`/runs/${encodeURIComponent(values.run)}/${action}`, values.coordinator ?? coordinatorDefault()), {
+      method: 'POST',
+      headers: token ? { authorization: `Bearer ${token}` } : {},
+    });
+    const body = (await res.json()) as { state?: string; error?: { message: string; fix: string } };
+    if (!res.ok) throw new Error(`${action} refused (${res.status}): ${body.error?.message}; ${body.error?.fix}`);
+    process.stdout.write(`run ${values.run} is now ${body.state}\n`);
+    return 0;
+  };
+}
+
+const RUNS_HELP = `netbreeder runs: list the runs a coordinator holds.
+
+Usage: netbreeder runs [--coordinator URL] [--token T]
+`;
+
+async function runsCommand(argv: string[]): Promise<number> {
+  const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, token: { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
+  if (values.help) return void process.stdout.write(RUNS_HELP), 0;
+  const token = values.token ?? process.env.NETBREEDER_ADMIN_TOKEN ?? process.env.NETBREEDER_JOIN_TOKEN;
+  const res = await fetch(new URL('/runs', values.coordinator ?? coordinatorDefault()), { headers: token ? { authorization: `Bearer ${token}` } : {} });
+  if (!res.ok) throw new Error(`coordinator answered ${res.status}: ${await res.text()}`);
+  const runs = (await res.json()) as Array<{ id: string; name: string; state: string; createdAt: string; proposals: number }>;
+  process.stdout.write(runs.length ? `${runs.map((r) => `${r.id.padEnd(20)} ${r.state.padEnd(18)} ${String(r.proposals).padStart(6)} evaluations  ${r.createdAt}  ${r.name}`).join('\n')}\n` : 'no runs\n');
+  return 0;
+}
+
 export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
+  runs: runsCommand,
+  pause: controlCommand('pause'),
+  resume: controlCommand('resume'),
+  stop: controlCommand('stop'),
   coordinator: coordinatorCommand,
   worker: runWorkerCli,
   demo: demoCommand,

@@ -54,7 +54,7 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
   const workers: ChildProcess[] = [];
   for (let i = 0; i < opts.workers; i++) {
     const w = spawnWorker(['--coordinator', coordinator.url, '--redis', opts.redisUrl, '--prefix', prefix, '--id', `demo-worker-${i + 1}`, '--nice', '0', '--cache-dir', join(dataDir, 'worker-cache')], {
-      env: { NETBREEDER_LOG_LEVEL: process.env.NETBREEDER_LOG_LEVEL ?? 'warn' },
+      env: { NETBREEDER_LOG_LEVEL: process.env.NETBREEDER_LOG_LEVEL ?? 'warn', NETBREEDER_JOIN_TOKEN: coordinator.secrets.joinToken },
       logFile: 'inherit',
     });
     workers.push(w);

@@ -8,6 +8,10 @@ export const HTTP_ERRORS = {
   NB_NO_RUN: { status: 404, fix: 'start a run first (netbreeder coordinator --run FILE)' },
   NB_NO_CHAMPION: { status: 404, fix: "wait until the run's state is 'finished'" },
   NB_UNKNOWN_DATASET: { status: 404, fix: 'the dataset hash is not one of this coordinator; check the job payload' },
+  NB_UNAUTHORIZED: { status: 401, fix: 'pass the join token (workers) or the admin token (run control, export)' },
+  NB_WORKER_REVOKED: { status: 403, fix: 'this worker id was revoked by an admin; ask them, or stop this worker' },
+  NB_RUN_STATE: { status: 409, fix: "check the run's state in GET /status; the action does not apply to it" },
+  NB_GENOME_REJECTED: { status: 400, fix: "change the genome as the issues say; it must obey the run's search space" },
   NB_INTERNAL: { status: 500, fix: "see the coordinator's log" },
 } as const;
 

@@ -3,23 +3,27 @@ import Fastify, { LogController, type FastifyBaseLogger, type FastifyInstance } 
 import { Type } from '@sinclair/typebox';
 import { StatusResponseSchema, WorkerHeartbeatSchema, workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
-import type { RunManager } from '../run/run-manager.js';
+import { GenomeRejectedError, RunStateError, type RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
 import { CHAMPION_FILES, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
-import { HTTP_ERRORS, HttpError } from './error-codes.js';
+import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
+import { accessHook, type AccessTokens } from './access.js';
 
 export interface HttpServerOptions {
   manager: RunManager;
   logger: Logger;
   version: string;
   startedAt: number;
+  tokens: AccessTokens;
 }
 
 const RunIdParams = Type.Object({ id: Type.String({ pattern: '^[A-Za-z0-9_-]{1,64}$' }) });
+const WorkerIdParams = Type.Object({ id: Type.String({ pattern: '^[A-Za-z0-9_.:-]{1,128}$' }) });
 
 /**
  * The coordinator's HTTP API (fastify). Schemas are declared with each route and compiled at
- * start-up. Errors answer `{ error: { code, message, fix } }` with codes from {@link HTTP_ERRORS}.
+ * start-up. Errors answer `{ error: { code, message, fix } }` with codes from {@link HTTP_ERRORS};
+ * who may call which route is set by `config.access` (see ./access.ts).
  */
 export async function createHttpServer(opts: HttpServerOptions): Promise<FastifyInstance> {
   const { manager } = opts;
@@ -31,21 +35,36 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     // Validate exactly as the shared schemas say: no silent stripping of unknown fields, no type coercion.
     ajv: { customOptions: { removeAdditional: false, coerceTypes: false, useDefaults: false } },
   });
+  const reject = (req: { method: string; url: string }, reason: string) => store.logEvent(null, 'rejected-request', { method: req.method, url: req.url, reason });
+  const send = (reply: import('fastify').FastifyReply, code: HttpErrorCode, message: string, extra: Record<string, unknown> = {}) =>
+    reply.status(HTTP_ERRORS[code].status).send({ error: { code, message, fix: HTTP_ERRORS[code].fix, ...extra } });
+
+  app.addHook(
+    'onRequest',
+    accessHook(opts.tokens, (req, access) => {
+      reject(req, `missing or unknown token for ${access} access`);
+      opts.logger.warn({ method: req.method, url: req.url, access, ip: req.ip }, 'request refused: missing or unknown token');
+    }),
+  );
 
   app.setErrorHandler((err: Error & { validation?: unknown; statusCode?: number }, req, reply) => {
-    if (err instanceof HttpError) {
-      return reply.status(err.status).send({ error: { code: err.code, message: err.message, fix: HTTP_ERRORS[err.code].fix } });
+    if (err instanceof HttpError) return send(reply, err.code, err.message);
+    if (err instanceof RunStateError) return send(reply, 'NB_RUN_STATE', err.message);
+    if (err instanceof GenomeRejectedError) {
+      reject(req, err.message);
+      return send(reply, 'NB_GENOME_REJECTED', err.message, { issues: err.issues });
     }
     if (err.validation || (err.statusCode && err.statusCode < 500)) {
-      store.logEvent(null, 'rejected-request', { method: req.method, url: req.url, reason: err.message });
-      return reply.status(400).send({ error: { code: 'NB_BAD_REQUEST', message: err.message, fix: HTTP_ERRORS.NB_BAD_REQUEST.fix } });
+      reject(req, err.message);
+      return send(reply, 'NB_BAD_REQUEST', err.message);
     }
     opts.logger.error({ err: err.message, stack: err.stack, url: req.url }, 'request failed');
-    return reply.status(500).send({ error: { code: 'NB_INTERNAL', message: err.message, fix: HTTP_ERRORS.NB_INTERNAL.fix } });
+    return send(reply, 'NB_INTERNAL', err.message);
   });
-  app.setNotFoundHandler((req, reply) =>
-    reply.status(404).send({ error: { code: 'NB_NOT_FOUND', message: `no route ${req.method} ${req.url}`, fix: HTTP_ERRORS.NB_NOT_FOUND.fix } }),
-  );
+  app.setNotFoundHandler((req, reply) => {
+    reject(req, 'unknown route');
+    return send(reply, 'NB_NOT_FOUND', `no route ${req.method} ${req.url}`);
+  });
 
   const runOr404 = (id: string) => {
     const run = store.getRun(id);
@@ -53,7 +72,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     return run;
   };
 
-  app.get('/health', async () => ({ ok: true }));
+  app.get('/health', { config: { access: 'status' } }, async () => ({ ok: true }));
 
   app.get('/status', { schema: { response: { 200: StatusResponseSchema } } }, async () =>
     buildStatus(manager, { version: opts.version, startedAt: opts.startedAt }),
@@ -70,26 +89,58 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     return summary;
   });
 
-  app.get('/runs/:id/champion/files/:name', { schema: { params: Type.Object({ id: RunIdParams.properties.id, name: Type.Union(CHAMPION_FILES.map((f) => Type.Literal(f))) }) } }, async (req, reply) => {
-    const { id, name } = req.params as { id: string; name: ChampionFileName };
-    const files = championFiles(store, runOr404(id));
-    if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
-    const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : 'application/octet-stream';
-    return reply.type(type).send(files.get(name));
+  app.get(
+    '/runs/:id/champion/files/:name',
+    { config: { access: 'admin' }, schema: { params: Type.Object({ id: RunIdParams.properties.id, name: Type.Union(CHAMPION_FILES.map((f) => Type.Literal(f))) }) } },
+    async (req, reply) => {
+      const { id, name } = req.params as { id: string; name: ChampionFileName };
+      const files = championFiles(store, runOr404(id));
+      if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
+      const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : 'application/octet-stream';
+      return reply.type(type).send(files.get(name));
+    },
+  );
+
+  for (const action of ['pause', 'resume', 'stop'] as const) {
+    app.post(`/runs/:id/${action}`, { config: { access: 'admin' }, schema: { params: RunIdParams } }, async (req) => {
+      const { id } = req.params as { id: string };
+      runOr404(id);
+      const run = await manager.control(id, action);
+      return { id: run.id, state: run.state };
+    });
+  }
+
+  app.post('/runs/:id/genomes', { config: { access: 'admin' }, schema: { params: RunIdParams, body: Type.Object({ genome: Type.Unknown() }, { additionalProperties: false }) } }, async (req, reply) => {
+    const { id } = req.params as { id: string };
+    runOr404(id);
+    const ev = await manager.submitGenome(id, (req.body as { genome: unknown }).genome);
+    return reply.status(201).send({ evaluationId: ev.id, genomeHash: ev.genomeHash });
   });
 
-  app.get('/datasets/:sha256', { schema: { params: Type.Object({ sha256: Type.String({ pattern: '^[0-9a-f]{64}$' }) }) } }, async (req, reply) => {
+  app.post('/workers/:id/revoke', { config: { access: 'admin' }, schema: { params: WorkerIdParams, body: Type.Object({ reason: Type.String({ minLength: 1, maxLength: 500 }) }, { additionalProperties: false }) } }, async (req) => {
+    const { id } = req.params as { id: string };
+    manager.revokeWorker(id, (req.body as { reason: string }).reason);
+    return { workerId: id, revoked: true };
+  });
+
+  app.get('/datasets/:sha256', { config: { access: 'join' }, schema: { params: Type.Object({ sha256: Type.String({ pattern: '^[0-9a-f]{64}$' }) }) } }, async (req, reply) => {
     const { sha256 } = req.params as { sha256: string };
     const run = store.listRuns().find((r) => r.dataset.manifest.sha256 === sha256);
     if (!run || !existsSync(run.dataset.shardPath)) throw new HttpError('NB_UNKNOWN_DATASET', `no dataset ${sha256} on this coordinator`);
     return reply.type('application/octet-stream').header('content-length', run.dataset.manifest.bytes).send(createReadStream(run.dataset.shardPath));
   });
 
-  app.post('/workers/heartbeat', { schema: { body: WorkerHeartbeatSchema } }, async (req, reply) => {
+  app.post('/workers/heartbeat', { config: { access: 'join' }, schema: { body: WorkerHeartbeatSchema } }, async (req, reply) => {
     // fastify has checked the body against the schema; the shared validator is the same rule set.
-    manager.recordHeartbeat(workerHeartbeatValidator.parse(req.body) as WorkerHeartbeat);
+    const hb = workerHeartbeatValidator.parse(req.body) as WorkerHeartbeat;
+    if (manager.isRevoked(hb.workerId)) {
+      reject(req, `revoked worker ${hb.workerId}`);
+      return send(reply, 'NB_WORKER_REVOKED', `worker ${hb.workerId} is revoked`);
+    }
+    manager.recordHeartbeat(hb);
     return reply.status(204).send();
   });
+
 
   await app.ready();
   return app;

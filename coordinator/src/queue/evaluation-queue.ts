@@ -93,6 +93,17 @@ export class EvaluationQueue {
     await this.events.waitUntilReady();
   }
 
+  /**
+   * Checks the marker key this coordinator keeps beside its queue. A missing marker means Redis
+   * lost its data (FLUSHALL, or a restart without persistence): the marker is set again and
+   * `'lost'` returned, so the caller can rebuild the queue from the store.
+   */
+  async checkMarker(storeId: string): Promise<'present' | 'lost'> {
+    const key = `${this.location.prefix}:${this.location.queueName}:netbreeder-store`;
+    const set = await this.connection.set(key, storeId, 'NX');
+    return set === 'OK' ? 'lost' : 'present';
+  }
+
   /** Removes every job of this queue (tests and `netbreeder reset` only). */
   async obliterate(): Promise<void> {
     await this.queue.obliterate({ force: true });

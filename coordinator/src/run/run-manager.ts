@@ -3,7 +3,10 @@ import { readFile } from 'node:fs/promises';
 import {
   EVALUATION_JOB_VERSION,
   analyzeGenome,
+  canonicalGenome,
+  checkGenome,
   createRandom,
+  genomeHash,
   decodeShard,
   defaultSearchSpace,
   describeGenome,
@@ -11,6 +14,7 @@ import {
   type DataShape,
   type EvaluationJob,
   type EvaluationResult,
+  type GenomeAnalysis,
   type LabelledSamples,
   type RunConfig,
   type SearchSpace,
@@ -19,7 +23,7 @@ import {
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
-import { createSearchAlgorithm, type SearchAlgorithm } from '../search/index.js';
+import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
 import { prepareDataset } from '../datasets/index.js';
 import { scoreChampion } from '../champion/score-champion.js';
@@ -48,6 +52,19 @@ export interface RunManagerEvents {
   runFinished?: (run: RunRecord) => void;
 }
 
+/** A request that the run's state does not allow (pausing a finished run, say). */
+export class RunStateError extends Error {
+  override name = 'RunStateError';
+}
+
+/** A submitted genome that breaks the run's search space; `issues` says each problem. */
+export class GenomeRejectedError extends Error {
+  override name = 'GenomeRejectedError';
+  constructor(readonly issues: string[]) {
+    super(`genome rejected: ${issues.join('; ')}`);
+  }
+}
+
 /** Derives each search evaluation's training seed from the run's seed and the proposal's position. */
 export const evaluationSeed = (runSeed: number, seq: number): number => createRandom(`${runSeed}:search:${seq}`).uint32();
 
@@ -70,6 +87,7 @@ export class RunManager {
   private data: DataShape | null = null;
   private testSplit: LabelledSamples | null = null;
   private timer: NodeJS.Timeout | null = null;
+  private revoked: Set<string> | null = null;
   private ticking: Promise<void> | null = null;
   private tickAgain = false;
   private readonly now: () => number;
@@ -135,8 +153,25 @@ export class RunManager {
       { space: this.space, data: this.data, seed: run.seed },
       (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );
-    // The store is the truth: every evaluation it still owes a result must be in the queue.
-    for (const ev of this.store.pendingEvaluations(run.id)) await this.opts.queue.add(ev.job);
+    await this.rebuildQueue('coordinator started');
+  }
+
+  /**
+   * The store is the truth: every evaluation it still owes a result is (re-)added to the queue.
+   * Adding a job id that Redis still has changes nothing, so nothing is queued twice.
+   */
+  private async rebuildQueue(reason: string): Promise<void> {
+    const run = this.run!;
+    const pending = this.store.pendingEvaluations(run.id);
+    let added = 0;
+    for (const ev of pending) {
+      if (!(await this.opts.queue.has(ev.id))) added++;
+      await this.opts.queue.add(ev.job);
+    }
+    if (added > 0) {
+      this.store.logEvent(run.id, 'queue-rebuilt', { reason, pending: pending.length, added });
+      this.opts.log.warn({ reason, pending: pending.length, added }, 'queue rebuilt from the store');
+    }
   }
 
   /** Starts the reconcile loop (and listens for finished jobs to react at once). */
@@ -175,6 +210,7 @@ export class RunManager {
 
   private async pass(): Promise<void> {
     if (!this.run) return;
+    if ((await this.opts.queue.checkMarker(this.run.id)) === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
     for (const job of await this.opts.queue.finished()) await this.reconcile(job);
     const run = this.currentRun();
     if (!run) return;
@@ -184,6 +220,7 @@ export class RunManager {
 
   /** Records heartbeats and marks the worker's current evaluation running. */
   recordHeartbeat(hb: WorkerHeartbeat): void {
+    if (this.isRevoked(hb.workerId)) throw new Error(`worker ${hb.workerId} is revoked`);
     const now = this.now();
     this.store.transaction(() => {
       this.store.upsertWorker(hb, now);
@@ -199,6 +236,58 @@ export class RunManager {
 
   isWorkerAlive(lastSeenAt: number): boolean {
     return lastSeenAt >= this.now() - this.workerTimeoutMs;
+  }
+
+  /** True when results and heartbeats of this worker are refused. */
+  isRevoked(workerId: string): boolean {
+    if (!this.revoked) this.revoked = new Set(this.store.events(null, 'worker-revoked').map((e) => (e.detail as { workerId: string }).workerId));
+    return this.revoked.has(workerId);
+  }
+
+  /** Refuses every later result and heartbeat of `workerId` (a PC that misbehaves or left the office). */
+  revokeWorker(workerId: string, reason: string): void {
+    if (this.isRevoked(workerId)) return;
+    this.store.logEvent(null, 'worker-revoked', { workerId, reason });
+    this.revoked!.add(workerId);
+    this.opts.log.warn({ workerId, reason }, 'worker revoked; its results will be refused');
+  }
+
+  /**
+   * Pauses, resumes or stops the current run. A paused run queues nothing new (jobs already queued
+   * still train and are recorded); a stopped run ends without a champion.
+   */
+  async control(runId: string, action: 'pause' | 'resume' | 'stop'): Promise<RunRecord> {
+    const run = this.store.getRun(runId);
+    if (!run) throw new Error(`no run ${runId}`);
+    const allowed: Record<typeof action, RunRecord['state'][]> = {
+      pause: ['searching'],
+      resume: ['paused'],
+      stop: ['searching', 'paused', 'training-champion'],
+    };
+    if (!allowed[action].includes(run.state)) throw new RunStateError(`cannot ${action} run ${runId} while it is ${run.state}`);
+    const next = action === 'pause' ? 'paused' : action === 'resume' ? 'searching' : 'stopped';
+    this.store.transaction(() => {
+      this.store.setRunState(runId, next, { now: this.now() });
+      this.store.logEvent(runId, `run-${next}`, { from: run.state, action });
+    });
+    this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);
+    if (action !== 'pause') await this.tick();
+    return this.store.getRun(runId)!;
+  }
+
+  /**
+   * Queues a genome the user brings (a baseline of their own) as one more search evaluation of the
+   * current run. The genome must pass the run's search space; nothing is stored when it does not.
+   */
+  async submitGenome(runId: string, value: unknown): Promise<EvaluationRecord> {
+    const run = this.store.getRun(runId);
+    if (!run || run.id !== this.run?.id) throw new Error(`run ${runId} is not the run this coordinator drives`);
+    if (run.state !== 'searching' && run.state !== 'paused') throw new RunStateError(`run ${runId} is ${run.state}; genomes can be added while it searches`);
+    const check = checkGenome(value, this.space, this.data!);
+    if (!check.ok) throw new GenomeRejectedError(check.issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message)));
+    const genome = canonicalGenome(check.genome);
+    await this.queueProposal(run.id, { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' }, check.analysis);
+    return this.store.evaluations(run.id).at(-1)!;
   }
 
   // ---- search phase --------------------------------------------------------------------------
@@ -223,11 +312,16 @@ export class RunManager {
   }
 
   private async proposeOne(runId: string): Promise<void> {
-    const algorithm = this.algorithm!;
-    const run = this.store.getRun(runId)!;
-    const proposal = algorithm.propose();
+    const proposal = this.algorithm!.propose();
     const analysis = analyzeGenome(proposal.genome, this.data!);
     if (!analysis.ok) throw new Error(`search proposed an invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
+    await this.queueProposal(runId, proposal, analysis.analysis);
+  }
+
+  /** Records a proposal (genome, evaluation, lineage, algorithm snapshot) in one transaction, then queues it. */
+  private async queueProposal(runId: string, proposal: Proposal, analysis: GenomeAnalysis): Promise<void> {
+    const algorithm = this.algorithm!;
+    const run = this.store.getRun(runId)!;
     const seq = run.proposals;
     const job: EvaluationJob = {
       schemaVersion: EVALUATION_JOB_VERSION,
@@ -245,8 +339,8 @@ export class RunManager {
       this.store.putGenome({
         hash: proposal.genomeHash,
         genome: proposal.genome,
-        params: analysis.analysis.params,
-        flops: analysis.analysis.flops,
+        params: analysis.params,
+        flops: analysis.flops,
         summary: describeGenome(proposal.genome, this.data!.numClasses),
       });
       this.store.addEvaluation(job, seq, this.now(), true);
@@ -277,9 +371,8 @@ export class RunManager {
     } else if (job.state === 'completed') {
       const problem = this.resultProblem(ev, job.returnvalue);
       if (problem) {
-        this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
-        this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected');
-        await this.recordFailedAttempt(ev, `invalid result: ${problem}`, false);
+        await this.rejectResult(ev, problem);
+        return;
       } else if (ev.kind === 'search') {
         this.recordSearchResult(ev, job.returnvalue as EvaluationResult);
       } else {
@@ -291,12 +384,29 @@ export class RunManager {
     await this.opts.queue.remove(job.id);
   }
 
+  /**
+   * A result that cannot be recorded changes nothing but the event log: the same job goes back in
+   * the queue for another worker. Past `maxAttempts` rejections the attempt counts as failed.
+   */
+  private async rejectResult(ev: EvaluationRecord, problem: string): Promise<void> {
+    this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
+    this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected; the job goes back in the queue');
+    await this.opts.queue.remove(ev.id);
+    const run = this.store.getRun(ev.runId)!;
+    if (this.store.countEventsNaming(ev.runId, 'rejected-result', ev.id) >= run.config.evaluation.maxAttempts) {
+      await this.recordFailedAttempt(ev, `every result for it was rejected; the last because ${problem}`, false);
+    } else {
+      await this.opts.queue.add(ev.job);
+    }
+  }
+
   /** Why a returned value cannot be recorded for `ev`, or null when it can. */
   private resultProblem(ev: EvaluationRecord, value: unknown): string | null {
     const issues = evaluationResultValidator.issues(value);
     if (issues.length) return issues.slice(0, 5).map((i) => `${i.path || '(root)'} ${i.message}`).join('; ');
     const result = value as EvaluationResult;
     if (result.evaluationId !== ev.id) return `result names evaluation ${result.evaluationId}, not ${ev.id}`;
+    if (this.isRevoked(result.workerId)) return `worker ${result.workerId} is revoked`;
     if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
     if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
     return null;

@@ -369,6 +369,13 @@ export class RunStore {
     this.db.prepare('INSERT INTO events (run_id, at, kind, detail_json) VALUES (?, ?, ?, ?)').run(runId, now, kind, JSON.stringify(detail));
   }
 
+  /** How many events of `kind` name `evaluationId` (in their detail). */
+  countEventsNaming(runId: string | null, kind: string, evaluationId: string): number {
+    return (this.db
+      .prepare("SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ? AND json_extract(detail_json, '$.evaluationId') = ?")
+      .get(runId, kind, evaluationId) as Row).n as number;
+  }
+
   events(runId: string | null, kind?: string): Array<{ at: number; kind: string; detail: unknown }> {
     const rows = (kind
       ? this.db.prepare('SELECT * FROM events WHERE run_id IS ? AND kind = ? ORDER BY id').all(runId, kind)

@@ -50,7 +50,7 @@ export class TestCluster {
   spawnWorker(id: string, extraArgs: string[] = []): ChildProcess {
     const child = spawnWorker(
       ['--coordinator', this.coordinator.url, '--redis', REDIS_URL, '--prefix', this.prefix, '--id', id, '--nice', '0', '--cache-dir', join(this.dataDir, `cache-${id}`), ...extraArgs],
-      { env: { NETBREEDER_LOG_LEVEL: 'info' } },
+      { env: { NETBREEDER_LOG_LEVEL: 'info', NETBREEDER_JOIN_TOKEN: this.coordinator.secrets.joinToken } },
     );
     child.stderr?.on('data', (chunk: Buffer) => {
       this.workerLogs.push(`[${id}] ${chunk.toString()}`);

@@ -3,6 +3,7 @@ import { mkdir, readFile, readdir, rename, rm, stat, utimes, writeFile } from 'n
 import { join } from 'node:path';
 import type { DatasetManifest } from '@netbreeder/shared-types';
 import type { Logger } from 'pino';
+import { authHeader } from './auth-header.js';
 
 /** Where and how much a worker caches downloaded training shards. */
 export interface DatasetCacheOptions {
@@ -14,6 +15,8 @@ export interface DatasetCacheOptions {
   coordinatorUrl: string;
   /** Download attempts before a job fails (each one verified by sha256). @default 3 */
   attempts?: number;
+  /** The coordinator's join token. */
+  joinToken?: string | null;
 }
 
 /**
@@ -67,7 +70,7 @@ export class DatasetCache {
     let lastError = '';
     for (let attempt = 1; attempt <= this.attempts; attempt++) {
       try {
-        const res = await fetch(url);
+        const res = await fetch(url, { headers: authHeader(this.opts.joinToken ?? null) });
         if (!res.ok) throw new Error(`HTTP ${res.status} from ${url}`);
         const bytes = Buffer.from(await res.arrayBuffer());
         const sha = createHash('sha256').update(bytes).digest('hex');

@@ -1,5 +1,6 @@
 import type { Logger } from 'pino';
 import { workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { authHeader } from './auth-header.js';
 
 /**
  * Posts the worker's heartbeat to the coordinator on a fixed interval (and on demand, when the
@@ -17,6 +18,7 @@ export class HeartbeatSender {
     private readonly intervalMs: number,
     private readonly snapshot: () => WorkerHeartbeat,
     private readonly log: Logger,
+    private readonly joinToken: string | null = null,
   ) {}
 
   start(): void {
@@ -48,7 +50,7 @@ export class HeartbeatSender {
     try {
       const res = await fetch(new URL('/workers/heartbeat', this.coordinatorUrl), {
         method: 'POST',
-        headers: { 'content-type': 'application/json' },
+        headers: { 'content-type': 'application/json', ...authHeader(this.joinToken) },
         body: JSON.stringify(body),
         signal: AbortSignal.timeout(Math.max(2000, this.intervalMs)),
       });

@@ -1,4 +1,4 @@
-import { hostname, setPriority } from 'node:os';
+import { hostname, loadavg, setPriority } from 'node:os';
 import { UnrecoverableError, Worker, type Job } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
@@ -45,6 +45,7 @@ export class WorkerAgent {
   private connection: Redis | null = null;
   private worker: Worker | null = null;
   private stopTimer: NodeJS.Timeout | null = null;
+  private idleTimer: NodeJS.Timeout | null = null;
   private stopping: Promise<void> | null = null;
   private readonly host = hostname();
   private markStopped: () => void = () => {};
@@ -56,8 +57,11 @@ export class WorkerAgent {
     private readonly log: Logger,
   ) {
     this.training = new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
-    this.cache = new DatasetCache({ dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl }, log);
-    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log);
+    this.cache = new DatasetCache(
+      { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
+      log,
+    );
+    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log, options.joinToken);
   }
 
   /** The worker's lifecycle state. */
@@ -94,12 +98,36 @@ export class WorkerAgent {
     this.worker.on('error', (err) => this.log.warn({ err: err.message }, 'queue worker error'));
     this.state = 'idle';
     void this.heartbeat.send();
+    if (this.options.idleLoad !== null) this.startIdleRule(this.options.idleLoad);
     if (this.options.until) {
       const ms = msUntilClockTime(this.options.until, new Date());
       this.log.info({ until: this.options.until, inMinutes: Math.round(ms / 60_000) }, 'will stop at the set time');
       this.stopTimer = setTimeout(() => void this.stop(), ms);
       this.stopTimer.unref();
     }
+  }
+
+  /**
+   * The "only when idle" rule: every `idleCheckMs` the 1-minute load average per core, less the one
+   * core this worker's own training uses, is compared with `threshold`; above it the worker stops
+   * taking new jobs (the current one finishes), below it the worker takes jobs again.
+   */
+  private startIdleRule(threshold: number): void {
+    const check = () => {
+      if (!this.worker || this.stopping) return;
+      const busyCores = Math.max(0, loadavg()[0]! - (this.state === 'training' ? 1 : 0));
+      const load = busyCores / coreCount();
+      if (load > threshold && !this.worker.isPaused()) {
+        this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is in use: taking no new jobs until it is idle again');
+        void this.worker.pause(true);
+      } else if (load <= threshold && this.worker.isPaused()) {
+        this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is idle again: taking jobs');
+        this.worker.resume();
+      }
+    };
+    this.idleTimer = setInterval(check, this.options.idleCheckMs);
+    this.idleTimer.unref();
+    check();
   }
 
   private heartbeatMessage(): WorkerHeartbeat {
@@ -185,6 +213,7 @@ export class WorkerAgent {
     if (this.stopping) return this.stopping;
     this.stopping = (async () => {
       if (this.stopTimer) clearTimeout(this.stopTimer);
+      if (this.idleTimer) clearInterval(this.idleTimer);
       this.state = 'draining';
       void this.heartbeat.send();
       this.log.info({ currentEvaluationId: this.current }, 'draining: finishing the current job, taking no new ones');

@@ -30,6 +30,15 @@ export interface WorkerOptions {
   stalledIntervalMs: number;
   /** Local clock time (HH:MM) at which the worker stops taking jobs and exits; null = never. @default null */
   until: string | null;
+  /** Token the coordinator gave for joining (heartbeats, datasets). @default $NETBREEDER_JOIN_TOKEN or none */
+  joinToken: string | null;
+  /**
+   * Take jobs only while the PC is otherwise idle: the 1-minute load average per core, less this
+   * worker's own training, must stay below this fraction (0..1); null = always take jobs. @default null
+   */
+  idleLoad: number | null;
+  /** How often the idle rule is checked, in milliseconds. @default 15000 */
+  idleCheckMs: number;
 }
 
 export function defaultCacheDir(): string {
@@ -54,6 +63,9 @@ export function resolveWorkerOptions(given: Partial<WorkerOptions>): WorkerOptio
     lockDurationMs: 30_000,
     stalledIntervalMs: 15_000,
     until: null,
+    joinToken: null,
+    idleLoad: null,
+    idleCheckMs: 15_000,
     ...defined,
   };
 }
