@@ -16,7 +16,9 @@ describe('coordinator HTTP API', () => {
   afterAll(async () => {
     await cluster?.stop();
   });
-  const inject = (opts: InjectOptions) => cluster.coordinator.http.inject(opts);
+  /** Requests as a worker would send them, with the join token. */
+  const inject = (opts: InjectOptions) =>
+    cluster.coordinator.http.inject({ ...opts, headers: { authorization: `Bearer ${cluster.coordinator.secrets.joinToken}`, ...opts.headers } });
 
   it('answers GET /status with a valid status before any run exists', async () => {
     const res = await inject({ method: 'GET', url: '/status' });
@@ -49,6 +51,36 @@ describe('coordinator HTTP API', () => {
 
   it('logs every rejected request', () => {
     expect(cluster.coordinator.store.events(null, 'rejected-request').length).toBeGreaterThanOrEqual(5);
+  });
+
+  it('refuses heartbeats and dataset downloads without the join token, and logs it', async () => {
+    const bare = (o: InjectOptions) => cluster.coordinator.http.inject(o);
+    const before = cluster.coordinator.store.events(null, 'rejected-request').length;
+    const noToken = await bare({ method: 'POST', url: '/workers/heartbeat', payload: heartbeat({ workerId: 'pc-9' }) });
+    expect(noToken.statusCode).toBe(401);
+    expect(noToken.json().error.code).toBe('NB_UNAUTHORIZED');
+    const wrong = await bare({ method: 'GET', url: `/datasets/${'0'.repeat(64)}`, headers: { authorization: 'Bearer guess' } });
+    expect(wrong.statusCode).toBe(401);
+    expect(cluster.coordinator.store.listWorkers().map((w) => w.heartbeat.workerId)).not.toContain('pc-9');
+    expect(cluster.coordinator.store.events(null, 'rejected-request').length).toBe(before + 2);
+    // status stays readable without a token (public by default)
+    expect((await bare({ method: 'GET', url: '/status' })).statusCode).toBe(200);
+  });
+
+  it('keeps admin routes for the admin token: the join token is not enough', async () => {
+    const asWorker = await inject({ method: 'POST', url: '/workers/pc-7/revoke', payload: { reason: 'test' } });
+    expect(asWorker.statusCode).toBe(401);
+    const asAdmin = await inject({
+      method: 'POST',
+      url: '/workers/pc-7/revoke',
+      payload: { reason: 'memory errors on this PC' },
+      headers: { authorization: `Bearer ${cluster.coordinator.secrets.adminToken}` },
+    });
+    expect(asAdmin.statusCode).toBe(200);
+    // a revoked worker's heartbeats are refused from now on
+    const hb = await inject({ method: 'POST', url: '/workers/heartbeat', payload: heartbeat({ state: 'training' }) });
+    expect(hb.statusCode).toBe(403);
+    expect(hb.json().error.code).toBe('NB_WORKER_REVOKED');
   });
 
   it('answers unknown routes, runs and datasets with a coded 404', async () => {

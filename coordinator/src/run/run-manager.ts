@@ -25,7 +25,7 @@ import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js'
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
-import { prepareDataset } from '../datasets/index.js';
+import { loadDataset } from '../importers/index.js';
 import { scoreChampion } from '../champion/score-champion.js';
 import { exportChampion } from '../champion/export-champion.js';
 
@@ -116,12 +116,14 @@ export class RunManager {
 
   /** Prepares the dataset, records a new run and starts searching. */
   async startRun(config: RunConfig): Promise<RunRecord> {
-    const prepared = prepareDataset(config.dataset, config.split, config.seed);
-    const dataset = await storeDataset(prepared, this.opts.dataDir);
+    // Reads, splits and encodes the data (nothing is written if that fails), then stores it.
+    const { dataset: prepared, preparation } = await loadDataset(config, { log: this.opts.log });
+    const dataset = await storeDataset(prepared, this.opts.dataDir, preparation);
     const id = `r${this.now().toString(36)}${randomBytes(3).toString('hex')}`;
     this.store.transaction(() => {
       this.store.createRun({ id, name: config.name, config, seed: config.seed, dataset, now: this.now() });
       this.store.logEvent(id, 'run-created', { name: config.name, dataset: dataset.manifest.sha256 });
+      for (const warning of preparation.warnings) this.store.logEvent(id, 'dataset-warning', warning);
     });
     this.opts.log.info(
       { runId: id, train: prepared.train.count, val: prepared.val.count, test: prepared.test.count, classes: prepared.classNames },
@@ -142,17 +144,22 @@ export class RunManager {
   }
 
   private async attach(run: RunRecord): Promise<void> {
-    this.run = run;
-    this.space = run.config.searchSpace ?? defaultSearchSpace();
+    const space = run.config.searchSpace ?? defaultSearchSpace();
     const m = run.dataset.manifest;
-    this.data = { inputShape: m.inputShape, numClasses: m.numClasses };
-    this.testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
-    this.algorithm = createSearchAlgorithm(
+    const data = { inputShape: m.inputShape, numClasses: m.numClasses };
+    const testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
+    const algorithm = createSearchAlgorithm(
       run.config.search.algorithm,
       { populationSize: run.config.search.populationSize, sampleSize: run.config.search.sampleSize },
-      { space: this.space, data: this.data, seed: run.seed },
+      { space, data, seed: run.seed },
       (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );
+    // Only now, with everything ready, does the reconcile loop see the run.
+    this.space = space;
+    this.data = data;
+    this.testSplit = testSplit;
+    this.algorithm = algorithm;
+    this.run = run;
     await this.rebuildQueue('coordinator started');
   }
 
