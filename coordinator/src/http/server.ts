@@ -8,6 +8,7 @@ import { buildStatus } from '../run/status-report.js';
 import { CHAMPION_FILES, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
 import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
+import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 
 export interface HttpServerOptions {
   manager: RunManager;
@@ -15,6 +16,8 @@ export interface HttpServerOptions {
   version: string;
   startedAt: number;
   tokens: AccessTokens;
+  /** The job queue, for queue depth in /metrics; without it that metric is left out. */
+  queue?: EvaluationQueue;
 }
 
 const RunIdParams = Type.Object({ id: Type.String({ pattern: '^[A-Za-z0-9_-]{1,64}$' }) });
