@@ -24,8 +24,11 @@ const GENOMES: Array<{ name: string; genome: Genome; data: DataShape }> = [
   { name: 'ref-cnn', genome: refCnn(), data: IMAGE },
   { name: 'skip-bn', genome: refSkipBn(), data: IMAGE },
 ];
-/** Batches measured per backend (after one warm-up batch): the cpu backend is ~100× slower. */
-const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 60, wasm: 60, cpu: 3 };
+/**
+ * Batches measured per backend. wasm and tensorflow get one warm-up batch first (operator set-up,
+ * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
+ */
+const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 60, wasm: 60, cpu: 2 };
 const CPU_MLP_BATCHES = quick ? 3 : 20;
 
 interface Row {
@@ -66,7 +69,7 @@ async function measure(name: string, genome: Genome, data: DataShape, backend: B
   const batches = backend === 'cpu' && name === 'ref-mlp' ? CPU_MLP_BATCHES : BATCHES[backend];
   const train = syntheticSamples(data, batchSize * batches, 1);
   const budget = (n: number) => ({ epochs: 1, maxSeconds: 600, maxSamples: n * batchSize });
-  await trainGenome({ genome, data, train, val: null, budget: budget(1), seed: 1 }); // warm-up: kernel setup, first allocations
+  if (backend !== 'cpu') await trainGenome({ genome, data, train, val: null, budget: budget(1), seed: 1 }); // warm-up
   const cpu0 = process.cpuUsage();
   const outcome = await trainGenome({ genome, data, train, val: null, budget: budget(batches), seed: 1 });
   const cpu = process.cpuUsage(cpu0);
