@@ -4,7 +4,7 @@
  * to a {@link PreparedDataset}. Importers of the user's own files (CSV, image folders, IDX) produce
  * `LabelledSamples` at the edge and reuse the split.
  */
-export { DatasetError, type DatasetErrorCode } from './dataset-error.js';
+export { DatasetError, type DatasetErrorCode, type DatasetErrorLocation } from './dataset-error.js';
 export {
   generateDemoTiles,
   DEMO_TILE_SIZE,
@@ -25,3 +25,27 @@ export {
   type SplitIndices,
 } from './split.js';
 export { prepareDataset } from './prepare-dataset.js';
+export { encodeTable, type EncodedTable, type TableEncodingOptions } from './table-encoding.js';
+export type { RawTable, RawColumn, RawNumericColumn, RawCategoricalColumn } from './raw-table.js';
+export { checkShardSize, shardBytes } from './shard-size.js';
+export {
+  datasetWarnings,
+  duplicatesAcrossSplits,
+  splitClassCounts,
+  TINY_CLASS_TRAIN_SAMPLES,
+  IMBALANCE_RATIO,
+  type DatasetWarning,
+  type SplitClassCounts,
+} from './dataset-report.js';
+export {
+  describePreprocessing,
+  type DatasetPreparation,
+  type DatasetPreprocessing,
+  type ColumnEncoding,
+  type NumericColumnEncoding,
+  type CategoricalColumnEncoding,
+  type TablePreprocessing,
+  type ImagePreprocessing,
+  type IdxPreprocessing,
+  type DemoPreprocessing,
+} from './preprocessing.js';

@@ -1,12 +1,13 @@
-import type { DatasetSource, LabelledSamples, PreparedDataset } from '@netbreeder/shared-types';
+import type { DatasetSource, PreparedDataset } from '@netbreeder/shared-types';
+import { DatasetError } from './dataset-error.js';
 import { generateDemoTiles } from './demo-tiles.js';
 import { stratifiedSplit, type SplitFractions } from './split.js';
 
 /**
  * Turns a run file's dataset source into the three splits the run trains, validates and tests on.
- * Pure: the demo source is generated here; sources read from files (CSV tables, image folders, IDX
- * files) are meant to be loaded at the edge into {@link LabelledSamples} and then go through the
- * same {@link stratifiedSplit}, each as one more `case` below.
+ * Pure: only the demo source is generated here. Sources read from files (CSV tables, image folders,
+ * IDX files) are read, split and encoded by `loadDataset` in coordinator/src/importers, which
+ * splits raw rows first so that encoders are fitted on the training split only.
  *
  * `seed` seeds the split only (a run's seed, say); the demo source carries its own data seed, so
  * one dataset can be split in different ways.
@@ -17,9 +18,17 @@ export function prepareDataset(source: DatasetSource, fractions: SplitFractions,
       const tiles = generateDemoTiles({ samplesPerClass: source.samplesPerClass, seed: source.seed });
       return stratifiedSplit(tiles, tiles.inputShape, tiles.classNames, fractions, seed);
     }
+    case 'csv':
+    case 'image-folder':
+    case 'idx':
+      throw new DatasetError(
+        'NB_DATASET_BAD_OPTIONS',
+        `dataset source kind "${source.kind}" is read from files: load it with loadDataset (coordinator/src/importers), which reads, splits and encodes it`,
+        { field: 'dataset.kind' },
+      );
     default: {
-      const unknown: never = source.kind;
-      throw new Error(`dataset source kind "${String(unknown)}" is not supported by this coordinator`);
+      const unknown: never = source;
+      throw new Error(`dataset source kind "${String((unknown as { kind: unknown }).kind)}" is not supported by this coordinator`);
     }
   }
 }

@@ -144,22 +144,17 @@ export class RunManager {
   }
 
   private async attach(run: RunRecord): Promise<void> {
-    const space = run.config.searchSpace ?? defaultSearchSpace();
+    this.run = run;
+    this.space = run.config.searchSpace ?? defaultSearchSpace();
     const m = run.dataset.manifest;
-    const data = { inputShape: m.inputShape, numClasses: m.numClasses };
-    const testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
-    const algorithm = createSearchAlgorithm(
+    this.data = { inputShape: m.inputShape, numClasses: m.numClasses };
+    this.testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
+    this.algorithm = createSearchAlgorithm(
       run.config.search.algorithm,
       { populationSize: run.config.search.populationSize, sampleSize: run.config.search.sampleSize },
-      { space, data, seed: run.seed },
+      { space: this.space, data: this.data, seed: run.seed },
       (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );
-    // Only now, with everything ready, does the reconcile loop see the run.
-    this.space = space;
-    this.data = data;
-    this.testSplit = testSplit;
-    this.algorithm = algorithm;
-    this.run = run;
     await this.rebuildQueue('coordinator started');
   }
 

@@ -1,6 +1,7 @@
 import Database from 'better-sqlite3';
 import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, WorkerHeartbeat } from '@netbreeder/shared-types';
 import { MIGRATIONS } from './migrations.js';
+import type { DatasetPreparation } from '../datasets/index.js';
 
 /** Where a run's prepared data lives on the coordinator's disk. */
 export interface StoredDataset {
@@ -9,6 +10,8 @@ export interface StoredDataset {
   shardPath: string;
   /** Held-out test split; never served. */
   testPath: string;
+  /** How the inputs were encoded (fitted on the training split), class counts per split, warnings. Absent in runs stored before dataset import existed. */
+  preparation?: DatasetPreparation;
 }
 
 export interface RunRecord {

@@ -11,7 +11,117 @@ export const DemoTilesSourceSchema = Type.Object(
   { additionalProperties: false },
 );
 
-export const DatasetSourceSchema = Type.Union([DemoTilesSourceSchema]);
+/** Cell texts that mean "no value" in a CSV table, unless the run file lists its own. */
+export const DEFAULT_MISSING_VALUE_TOKENS = ['', 'NA', 'N/A', 'NaN', 'nan', 'null', 'NULL', '?'] as const;
+
+/**
+ * A CSV table with a header row: one sample per row, one column holds the class label, the other
+ * columns are features. Paths in a run file are relative to the run file's folder.
+ *
+ * Column kinds: with `categoricalColumns: "auto"` (the default) a feature column is numeric when
+ * every non-missing cell in it is a number, and categorical when at most 95% of them are numbers;
+ * a column with more than 95% numbers and a few other cells is refused as a numeric column with a
+ * typo (the error names the line), unless the run file lists it in `categoricalColumns`. With an
+ * explicit list, the listed columns are categorical and every other feature column must be numeric.
+ *
+ * Encoding, fitted on the training split only: numeric columns are standardised with the training
+ * mean and standard deviation (a constant column is only centred); categorical columns become one
+ * one-hot block over the categories seen in training, in sorted order. A category that appears only
+ * in validation or test encodes as all zeros.
+ */
+export const CsvSourceSchema = Type.Object(
+  {
+    kind: Type.Literal('csv'),
+    /** The CSV file; relative paths are relative to the run file's folder. */
+    path: Type.String({ minLength: 1 }),
+    /** Header name of the column that holds the class of each row. */
+    labelColumn: Type.String({ minLength: 1 }),
+    /** Field separator, one character. @default "," */
+    delimiter: Type.String({ minLength: 1, maxLength: 1, default: ',' }),
+    /** `"auto"` (see above) or the exact list of categorical feature columns. @default "auto" */
+    categoricalColumns: Type.Union([Type.Literal('auto'), Type.Array(Type.String({ minLength: 1 }), { maxItems: 10_000 })], { default: 'auto' }),
+    /** Columns left out of the features (an id, a timestamp). @default [] */
+    ignoreColumns: Type.Array(Type.String({ minLength: 1 }), { maxItems: 10_000, default: [] }),
+    /** Cell texts (after trimming spaces) that mean a missing value. @default DEFAULT_MISSING_VALUE_TOKENS */
+    missingValues: Type.Array(Type.String({ maxLength: 50 }), { maxItems: 100, default: [...DEFAULT_MISSING_VALUE_TOKENS] }),
+    /**
+     * What a missing feature value becomes. `fill`: a numeric cell takes the training mean (0 after
+     * standardisation), a categorical cell encodes as all zeros. `drop-row`: rows with any missing
+     * feature are left out before the split (the count is logged). `error`: the import is refused,
+     * naming the first such line. A missing label is always an error. @default "fill"
+     */
+    missing: Type.Union([Type.Literal('fill'), Type.Literal('drop-row'), Type.Literal('error')], { default: 'fill' }),
+    /** Standardise numeric columns with the training split's mean and standard deviation. @default true */
+    standardize: Type.Boolean({ default: true }),
+  },
+  { additionalProperties: false },
+);
+export type CsvSource = Static<typeof CsvSourceSchema>;
+
+/** Side lengths in pixels that every image is resized to. */
+export const ImageSizeSchema = Type.Object(
+  {
+    width: Type.Integer({ minimum: 1, maximum: 1024 }),
+    height: Type.Integer({ minimum: 1, maximum: 1024 }),
+  },
+  { additionalProperties: false },
+);
+
+/**
+ * A folder of labelled images: one sub-folder per class (its name is the class name), PNG or JPEG
+ * files inside (`.png`, `.jpg`, `.jpeg`, any case). Other files and hidden files are skipped (and
+ * counted in a warning). Pixels are scaled to [0, 1]; an alpha channel is ignored.
+ */
+export const ImageFolderSourceSchema = Type.Object(
+  {
+    kind: Type.Literal('image-folder'),
+    /** The folder holding one sub-folder per class; relative to the run file's folder. */
+    path: Type.String({ minLength: 1 }),
+    /**
+     * Resize every image to this size. When absent every image must already have the size of the
+     * first one; a different size is refused, naming the file.
+     */
+    imageSize: Type.Optional(ImageSizeSchema),
+    /** `area` averages the source pixels each target pixel covers (best for shrinking); `bilinear` interpolates. @default "area" */
+    resize: Type.Union([Type.Literal('area'), Type.Literal('bilinear')], { default: 'area' }),
+    /** 1: grayscale (luma, ITU-R BT.601 weights); 3: RGB. @default 1 */
+    channels: Type.Union([Type.Literal(1), Type.Literal(3)], { default: 1 }),
+  },
+  { additionalProperties: false },
+);
+export type ImageFolderSource = Static<typeof ImageFolderSourceSchema>;
+
+/**
+ * A pair of IDX files (the open format of the MNIST distribution): one of samples (magic
+ * 0x0000 08|09|0B|0C|0D|0E 01..04, big-endian sizes) and one of integer labels, with the same count.
+ * Files ending in `.gz` are unpacked. Sample arrays of 2 dimensions after the count become
+ * [height, width, 1] images, of 1 dimension flat feature vectors, of 3 dimensions images with channels.
+ */
+export const IdxSourceSchema = Type.Object(
+  {
+    kind: Type.Literal('idx'),
+    /** IDX file of the samples (MNIST: `train-images-idx3-ubyte`); relative to the run file's folder. */
+    images: Type.String({ minLength: 1 }),
+    /** IDX file of the labels, one integer per sample; relative to the run file's folder. */
+    labels: Type.String({ minLength: 1 }),
+    /** Names of the classes by label value (label v is classNames[v]). When absent, the distinct label values, ascending. */
+    classNames: Type.Optional(Type.Array(Type.String({ minLength: 1, maxLength: 200 }), { minItems: 2, maxItems: 10_000 })),
+    /** Divide unsigned-byte samples by 255 so they lie in [0, 1]; other types are kept as they are. @default true */
+    scaleBytes: Type.Boolean({ default: true }),
+  },
+  { additionalProperties: false },
+);
+export type IdxSource = Static<typeof IdxSourceSchema>;
+
+/** Where a run's data comes from: the invented demo, or the user's own files. */
+export const DatasetSourceSchema = Type.Union([DemoTilesSourceSchema, CsvSourceSchema, ImageFolderSourceSchema, IdxSourceSchema]);
+/** Each dataset source kind with its schema, to check a run file's dataset against the kind it names. */
+export const DATASET_SOURCE_SCHEMAS = {
+  'demo-tiles': DemoTilesSourceSchema,
+  csv: CsvSourceSchema,
+  'image-folder': ImageFolderSourceSchema,
+  idx: IdxSourceSchema,
+} as const;
 export type DatasetSource = Static<typeof DatasetSourceSchema>;
 
 export const SearchAlgorithmNameSchema = Type.Union([Type.Literal('aging-evolution'), Type.Literal('random')]);
@@ -24,6 +134,12 @@ export const RunConfigSchema = Type.Object(
     /** Seeds the search, the data split and every evaluation. */
     seed: Type.Integer({ minimum: 0, maximum: 4294967295, default: 1 }),
     dataset: DatasetSourceSchema,
+    /**
+     * Largest training shard (train + validation, as float32) the run may send to workers, in MiB.
+     * Workers decode the whole shard in memory, so it must also fit under each worker's
+     * `--memory-cap`; a larger dataset is refused before anything is stored. @default 1024
+     */
+    maxDatasetMb: Type.Integer({ minimum: 1, maximum: 1_048_576, default: 1024 }),
     /** Fractions of the data held out for validation and test; the rest trains. */
     split: Type.Object(
       {

@@ -1,0 +1,136 @@
+import type { LabelledSamples, PreparedDataset } from '@netbreeder/shared-types';
+import type { ColumnEncoding, TablePreprocessing } from './preprocessing.js';
+import type { RawColumn, RawTable } from './raw-table.js';
+import { checkShardSize } from './shard-size.js';
+import { stratifiedSplitIndices, type SplitFractions, type SplitIndices } from './split.js';
+
+/** What {@link encodeTable} needs besides the table. */
+export interface TableEncodingOptions {
+  fractions: SplitFractions;
+  /** Seeds the split. */
+  seed: number | string;
+  /** Standardise numeric columns with the training mean and standard deviation. */
+  standardize: boolean;
+  /** Largest training shard allowed, MiB (checked before encoding). */
+  maxDatasetMb: number;
+  /** Recorded in the preprocessing. */
+  missing: TablePreprocessing['missing'];
+  missingValues: string[];
+}
+
+export interface EncodedTable {
+  dataset: PreparedDataset;
+  preprocessing: TablePreprocessing;
+  split: SplitIndices;
+  /** Feature columns with a single value (or none) in the training split. */
+  constantColumns: string[];
+}
+
+const collator = new Intl.Collator('en', { numeric: true });
+
+/**
+ * Splits a table's rows three ways (stratified by class, seeded) and only then fits the encoding
+ * on the training rows: numeric columns' mean and standard deviation, categorical columns' list of
+ * categories. The same encoding is applied to all three splits, so nothing from validation or test
+ * leaks into it; a category seen only outside training encodes as all zeros, like a missing one.
+ * Pure.
+ */
+export function encodeTable(table: RawTable, options: TableEncodingOptions): EncodedTable {
+  const split = stratifiedSplitIndices(table.labels, table.classNames, options.fractions, options.seed);
+  const constantColumns: string[] = [];
+  let offset = 0;
+  const encodings: ColumnEncoding[] = table.columns.map((col) => {
+    const enc = fitColumn(col, split.train, offset, options.standardize);
+    if (enc.constant) constantColumns.push(col.name);
+    offset += enc.encoding.kind === 'numeric' ? 1 : enc.encoding.categories.length;
+    return enc.encoding;
+  });
+  const featureCount = offset;
+  checkShardSize(split.train.length + split.val.length, Math.max(1, featureCount), options.maxDatasetMb, table.file);
+  const encode = (indices: Int32Array): LabelledSamples => encodeRows(table, encodings, featureCount, options.standardize, indices);
+  const preprocessing: TablePreprocessing = {
+    kind: 'table',
+    file: table.file,
+    labelColumn: table.labelColumn,
+    columns: encodings,
+    featureCount,
+    missing: options.missing,
+    missingValues: options.missingValues,
+    droppedRows: table.droppedRows,
+    standardized: options.standardize,
+    ignoredColumns: table.ignoredColumns,
+  };
+  return {
+    dataset: {
+      inputShape: [featureCount],
+      classNames: [...table.classNames],
+      train: encode(split.train),
+      val: encode(split.val),
+      test: encode(split.test),
+    },
+    preprocessing,
+    split,
+    constantColumns,
+  };
+}
+
+function fitColumn(col: RawColumn, train: Int32Array, offset: number, standardize: boolean): { encoding: ColumnEncoding; constant: boolean } {
+  if (col.kind === 'numeric') {
+    let n = 0;
+    let sum = 0;
+    let min = Infinity;
+    let max = -Infinity;
+    for (const i of train) {
+      const v = col.values[i]!;
+      if (Number.isNaN(v)) continue;
+      n++;
+      sum += v;
+      if (v < min) min = v;
+      if (v > max) max = v;
+    }
+    const mean = n > 0 ? sum / n : 0;
+    let squares = 0;
+    for (const i of train) {
+      const v = col.values[i]!;
+      if (!Number.isNaN(v)) squares += (v - mean) ** 2;
+    }
+    const sd = n > 0 ? Math.sqrt(squares / n) : 0;
+    const constant = !(max > min);
+    return { encoding: { name: col.name, kind: 'numeric', offset, mean, std: standardize && sd > 0 ? sd : 1 }, constant };
+  }
+  const seen = new Uint8Array(col.values.length);
+  for (const i of train) {
+    const code = col.codes[i]!;
+    if (code >= 0) seen[code] = 1;
+  }
+  const categories = col.values.filter((_, code) => seen[code] === 1).sort(collator.compare);
+  return { encoding: { name: col.name, kind: 'categorical', offset, categories }, constant: categories.length <= 1 };
+}
+
+function encodeRows(table: RawTable, encodings: ColumnEncoding[], width: number, standardize: boolean, indices: Int32Array): LabelledSamples {
+  const features = new Float32Array(indices.length * width);
+  const labels = new Int32Array(indices.length);
+  table.columns.forEach((col, c) => {
+    const enc = encodings[c]!;
+    if (col.kind === 'numeric' && enc.kind === 'numeric') {
+      // A missing value takes the training mean (0 once standardised).
+      const { mean, std } = enc;
+      for (let k = 0; k < indices.length; k++) {
+        const v = col.values[indices[k]!]!;
+        const filled = Number.isNaN(v) ? mean : v;
+        features[k * width + enc.offset] = standardize ? (filled - mean) / std : filled;
+      }
+    } else if (col.kind === 'categorical' && enc.kind === 'categorical') {
+      const slot = new Int32Array(col.values.length).fill(-1);
+      const position = new Map(enc.categories.map((name, p) => [name, p]));
+      col.values.forEach((name, code) => (slot[code] = position.get(name) ?? -1));
+      for (let k = 0; k < indices.length; k++) {
+        const code = col.codes[indices[k]!]!;
+        const p = code >= 0 ? slot[code]! : -1;
+        if (p >= 0) features[k * width + enc.offset + p] = 1;
+      }
+    }
+  });
+  for (let k = 0; k < indices.length; k++) labels[k] = table.labels[indices[k]!]!;
+  return { features, labels, count: indices.length };
+}
