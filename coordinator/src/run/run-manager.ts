@@ -144,17 +144,22 @@ export class RunManager {
   }
 
   private async attach(run: RunRecord): Promise<void> {
-    this.run = run;
-    this.space = run.config.searchSpace ?? defaultSearchSpace();
+    const space = run.config.searchSpace ?? defaultSearchSpace();
     const m = run.dataset.manifest;
-    this.data = { inputShape: m.inputShape, numClasses: m.numClasses };
-    this.testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
-    this.algorithm = createSearchAlgorithm(
+    const data = { inputShape: m.inputShape, numClasses: m.numClasses };
+    const testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
+    const algorithm = createSearchAlgorithm(
       run.config.search.algorithm,
       { populationSize: run.config.search.populationSize, sampleSize: run.config.search.sampleSize },
-      { space: this.space, data: this.data, seed: run.seed },
+      { space, data, seed: run.seed },
       (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );
+    // Only now, with everything ready, does the reconcile loop see the run.
+    this.space = space;
+    this.data = data;
+    this.testSplit = testSplit;
+    this.algorithm = algorithm;
+    this.run = run;
     await this.rebuildQueue('coordinator started');
   }
 
