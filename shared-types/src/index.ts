@@ -16,3 +16,4 @@ export * from './messages/status-response.js';
 export * from './messages/validators.js';
 export * from './dataset/labelled-samples.js';
 export * from './dataset/shard-codec.js';
+export * from './messages/dashboard-responses.js';

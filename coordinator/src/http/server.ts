@@ -9,6 +9,7 @@ import { CHAMPION_FILES, championFiles, championSummary, type ChampionFileName }
 import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
+import { registerDashboardRoutes } from './dashboard-routes.js';
 
 export interface HttpServerOptions {
   manager: RunManager;
@@ -144,6 +145,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     return reply.status(204).send();
   });
 
+  registerDashboardRoutes(app, { manager, queue: opts.queue });
 
   await app.ready();
   return app;

@@ -385,4 +385,59 @@ export class RunStore {
       : this.db.prepare('SELECT * FROM events WHERE run_id IS ? ORDER BY id').all(runId)) as Row[];
     return rows.map((r) => ({ at: r.at as number, kind: r.kind as string, detail: JSON.parse(r.detail_json as string) }));
   }
+
+  // ---- dashboard and metrics queries ---------------------------------------------------------
+
+  /**
+   * Finished (done or failed) search evaluations of a run with `finished_at >= since`, oldest first,
+   * at most `limit`, each with its genome's size. Reads through `evaluations_by_run_finished`.
+   */
+  finishedSearchEvaluationsSince(runId: string, since: number, limit: number): Array<EvaluationRecord & { params: number; flops: number; backend: string | null; trainSeconds: number | null; samplesPerSecond: number | null }> {
+    const rows = this.db
+      .prepare(
+        `SELECT e.*, g.params, g.flops FROM evaluations e INDEXED BY evaluations_by_run_finished JOIN genomes g ON g.hash = e.genome_hash
+         WHERE e.run_id = ? AND e.finished_at >= ? AND e.kind = 'search' AND e.state IN ('done', 'failed')
+         ORDER BY e.finished_at, e.id LIMIT ?`,
+      )
+      .all(runId, since, limit) as Row[];
+    return rows.map((r) => ({
+      ...evaluationFromRow(r),
+      params: r.params as number,
+      flops: r.flops as number,
+      backend: (r.backend as string | null) ?? null,
+      trainSeconds: (r.train_seconds as number | null) ?? null,
+      samplesPerSecond: (r.samples_per_second as number | null) ?? null,
+    }));
+  }
+
+  /** When each done search evaluation of a run finished, how long it trained and how fast: the raw data of throughput over time. */
+  trainingSpans(runId: string): Array<{ finishedAt: number; trainSeconds: number; samplesPerSecond: number }> {
+    return (
+      this.db
+        .prepare(
+          `SELECT finished_at, train_seconds, samples_per_second FROM evaluations INDEXED BY evaluations_by_run_finished
+           WHERE run_id = ? AND finished_at IS NOT NULL AND kind = 'search' AND state = 'done' ORDER BY finished_at`,
+        )
+        .all(runId) as Row[]
+    ).map((r) => ({ finishedAt: r.finished_at as number, trainSeconds: (r.train_seconds as number | null) ?? 0, samplesPerSecond: (r.samples_per_second as number | null) ?? 0 }));
+  }
+
+  /** The best validation accuracy each of `hashes` reached in a run's search (absent when it has no done evaluation). */
+  bestAccuracyByGenome(runId: string, hashes: readonly string[]): Map<string, number> {
+    const out = new Map<string, number>();
+    const stmt = this.db.prepare(`SELECT MAX(val_accuracy) AS best FROM evaluations WHERE run_id = ? AND kind = 'search' AND state = 'done' AND genome_hash = ?`);
+    for (const hash of new Set(hashes)) {
+      const best = (stmt.get(runId, hash) as Row).best as number | null;
+      if (best != null) out.set(hash, best);
+    }
+    return out;
+  }
+
+  /** How many events of `kind` the store holds: of one run (`null`: those of no run), or of all when `runId` is omitted. */
+  countEvents(kind: string, runId?: string | null): number {
+    const row = (runId === undefined
+      ? this.db.prepare('SELECT COUNT(*) AS n FROM events WHERE kind = ?').get(kind)
+      : this.db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ?').get(runId, kind)) as Row;
+    return row.n as number;
+  }
 }

@@ -1,0 +1,186 @@
+/* netbreeder run watch: the four charts (Chart.js, served from the coordinator's node_modules).
+   Exposes window.NbCharts.create() → { bestTime, bestCount, scatter, throughput, ...setters }. */
+(function () {
+  'use strict';
+  const css = getComputedStyle(document.documentElement);
+  const colour = (name, fallback) => (css.getPropertyValue(name) || fallback).trim();
+  const C = {
+    ink: colour('--ink', '#1e2a2e'),
+    soft: colour('--ink-soft', '#56666b'),
+    rule: colour('--rule', '#ddd5c4'),
+    glaze: colour('--glaze', '#1f6f78'),
+    clay: colour('--clay', '#bf5430'),
+    ochre: colour('--ochre', '#c39122'),
+  };
+  const alpha = (hex, a) => {
+    const n = parseInt(hex.replace('#', ''), 16);
+    return `rgba(${(n >> 16) & 255}, ${(n >> 8) & 255}, ${n & 255}, ${a})`;
+  };
+
+  const pct = (v) => `${(v * 100).toFixed(v >= 0.999 ? 0 : 1)}%`;
+  const compact = (v) => {
+    const a = Math.abs(v);
+    if (a >= 1e9) return `${+(v / 1e9).toPrecision(3)}G`;
+    if (a >= 1e6) return `${+(v / 1e6).toPrecision(3)}M`;
+    if (a >= 1e3) return `${+(v / 1e3).toPrecision(3)}k`;
+    return `${+v.toPrecision(3)}`;
+  };
+  /** Minutes since the search began as a clock reading: 0:45, 12:05, 2:10:00. */
+  const clock = (v) => {
+    const total = Math.round(v * 60);
+    const h = Math.floor(total / 3600);
+    const m = Math.floor((total % 3600) / 60);
+    const sec = String(total % 60).padStart(2, '0');
+    return h ? `${h}:${String(m).padStart(2, '0')}:${sec}` : `${m}:${sec}`;
+  };
+
+  function setDefaults() {
+    const d = window.Chart.defaults;
+    d.animation = false; // live updates and print alike: no motion
+    d.responsive = true;
+    d.maintainAspectRatio = false;
+    d.font.family = "'DejaVu Sans', 'Segoe UI', system-ui, sans-serif";
+    d.font.size = 11;
+    d.color = C.soft;
+    d.borderColor = alpha(C.rule, 0.9);
+    d.plugins.legend.display = false;
+    d.plugins.tooltip.backgroundColor = C.ink;
+    d.plugins.tooltip.padding = 8;
+  }
+
+  const accuracyAxis = () => ({ min: 0, max: 1, ticks: { callback: (v) => pct(v), stepSize: 0.2 }, title: { display: true, text: 'validation accuracy' } });
+
+  function create() {
+    setDefaults();
+    const Chart = window.Chart;
+
+    const bestTime = new Chart(document.getElementById('chart-best-time'), {
+      type: 'line',
+      data: { datasets: [{ label: 'best so far', data: [], borderColor: C.glaze, backgroundColor: alpha(C.glaze, 0.12), fill: 'origin', stepped: 'after', pointRadius: 2.5, pointBackgroundColor: C.glaze, borderWidth: 2 }] },
+      options: {
+        parsing: false,
+        scales: { x: { type: 'linear', min: 0, ticks: { callback: (v) => clock(v), maxTicksLimit: 8 }, title: { display: true, text: 'time since the search began' } }, y: accuracyAxis() },
+        plugins: { tooltip: { callbacks: { label: (c) => `best ${pct(c.parsed.y)} at ${clock(c.parsed.x)}` } } },
+      },
+    });
+
+    const bestCount = new Chart(document.getElementById('chart-best-count'), {
+      type: 'line',
+      data: {
+        datasets: [
+          { label: 'best so far', data: [], borderColor: C.clay, stepped: 'after', pointRadius: 0, borderWidth: 2, order: 1 },
+          { label: 'each evaluation', type: 'scatter', data: [], pointRadius: 2.5, pointBackgroundColor: alpha(C.ink, 0.35), pointBorderWidth: 0, order: 2 },
+        ],
+      },
+      options: {
+        parsing: false,
+        scales: { x: { type: 'linear', min: 0, ticks: { precision: 0 }, title: { display: true, text: 'evaluations finished' } }, y: accuracyAxis() },
+        plugins: { tooltip: { callbacks: { label: (c) => `${c.dataset.label}: ${pct(c.parsed.y)} (#${c.parsed.x})` } } },
+      },
+    });
+
+    let sizeKey = 'params';
+    const scatter = new Chart(document.getElementById('chart-scatter'), {
+      type: 'scatter',
+      data: {
+        datasets: [
+          { label: 'evaluations', data: [], pointRadius: 3.5, pointBackgroundColor: alpha(C.glaze, 0.55), pointBorderColor: C.glaze, pointBorderWidth: 1 },
+          { label: 'leader', data: [], pointRadius: 7, pointStyle: 'rectRot', pointBackgroundColor: C.clay, pointBorderColor: C.ink, pointBorderWidth: 1 },
+        ],
+      },
+      options: {
+        parsing: false,
+        scales: {
+          x: { type: 'logarithmic', ticks: { callback: (v) => (/^[125]/.test(String(v)) ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
+          y: accuracyAxis(),
+        },
+        plugins: {
+          tooltip: {
+            callbacks: {
+              label: (c) => {
+                const p = c.raw;
+                return `${pct(p.y)} · ${compact(p.params)} params · ${compact(p.flops)} FLOPs${p.workerId ? ` · ${p.workerId}` : ''}`;
+              },
+            },
+          },
+        },
+      },
+    });
+
+    const throughput = new Chart(document.getElementById('chart-throughput'), {
+      data: {
+        labels: [],
+        datasets: [
+          { type: 'bar', label: 'evaluations / min', data: [], backgroundColor: alpha(C.ochre, 0.75), borderColor: C.ochre, borderWidth: 1, yAxisID: 'y', order: 2 },
+          { type: 'line', label: 'samples / s', data: [], borderColor: C.glaze, backgroundColor: C.glaze, pointRadius: 0, borderWidth: 2, tension: 0.25, yAxisID: 'y2', order: 1 },
+        ],
+      },
+      options: {
+        scales: {
+          x: { ticks: { maxTicksLimit: 10, autoSkip: true }, title: { display: true, text: 'time since the search began' } },
+          y: { beginAtZero: true, position: 'left', title: { display: true, text: 'evaluations / min' }, ticks: { precision: 1 } },
+          y2: { beginAtZero: true, position: 'right', grid: { drawOnChartArea: false }, title: { display: true, text: 'samples / s' }, ticks: { callback: (v) => compact(v) } },
+        },
+        plugins: { legend: { display: true, position: 'top', align: 'end', labels: { boxWidth: 10, boxHeight: 10 } } },
+      },
+    });
+
+    /** Rebuilds the scatter's points from every evaluation; `leaderHash` is drawn larger. */
+    function setEvaluations(points, leaderHash) {
+      const done = points.filter((p) => p.state === 'done' && p.valAccuracy != null && p[sizeKey] > 0);
+      const toPoint = (p) => ({ x: p[sizeKey], y: p.valAccuracy, params: p.params, flops: p.flops, workerId: p.workerId });
+      scatter.data.datasets[0].data = done.map(toPoint);
+      scatter.data.datasets[1].data = done.filter((p) => p.genomeHash === leaderHash).slice(0, 1).map(toPoint);
+      scatter.update('none');
+    }
+    function setSizeKey(key, points, leaderHash) {
+      sizeKey = key;
+      scatter.options.scales.x.title.text = `${key === 'params' ? 'parameters' : 'FLOPs per sample'} (log scale)`;
+      setEvaluations(points, leaderHash);
+    }
+    /** Running best over time and over evaluations, from evaluations sorted by finish time. */
+    function setBest(points, startMs, nowMs) {
+      const timeline = [];
+      const byCount = [];
+      const dots = [];
+      let best = -1;
+      let n = 0;
+      for (const p of points) {
+        if (p.state !== 'done' || p.valAccuracy == null) continue;
+        n += 1;
+        dots.push({ x: n, y: p.valAccuracy });
+        if (p.valAccuracy > best) {
+          best = p.valAccuracy;
+          timeline.push({ x: Math.max(0, (p.finishedAt - startMs) / 60000), y: best });
+          byCount.push({ x: n, y: best });
+        }
+      }
+      if (timeline.length) {
+        const end = Math.max(timeline[timeline.length - 1].x, (nowMs - startMs) / 60000);
+        timeline.push({ x: end, y: best });
+        byCount.push({ x: n, y: best });
+      }
+      bestTime.data.datasets[0].data = timeline;
+      bestTime.data.datasets[0].pointRadius = timeline.map((_, i) => (i === timeline.length - 1 ? 0 : 2.5));
+      bestCount.data.datasets[0].data = byCount;
+      bestCount.data.datasets[1].data = dots;
+      bestTime.update('none');
+      bestCount.update('none');
+    }
+    function setThroughput(answer, startMs) {
+      throughput.data.labels = answer.buckets.map((b) => clock(Math.max(0, (b.start - startMs) / 60000)));
+      throughput.data.datasets[0].data = answer.buckets.map((b) => b.evaluationsPerMinute);
+      throughput.data.datasets[1].data = answer.buckets.map((b) => b.samplesPerSecond);
+      throughput.update('none');
+    }
+
+    const all = [bestTime, bestCount, scatter, throughput];
+    // Redraw to the print boxes (see print.css), and back.
+    window.addEventListener('beforeprint', () => all.forEach((c) => c.resize()));
+    window.addEventListener('afterprint', () => all.forEach((c) => c.resize()));
+
+    return { bestTime, bestCount, scatter, throughput, setEvaluations, setSizeKey, setBest, setThroughput, pct, compact };
+  }
+
+  window.NbCharts = { create };
+})();

@@ -1,0 +1,247 @@
+/* netbreeder run watch: polls the coordinator's JSON routes and updates the page in place.
+   GET /status (run, counts, workers, best, champion), /runs/:id/evaluations?since= (incremental),
+   /runs/:id/throughput, /runs/:id/top, /runs/:id/lineage/:hash. `?every=SECONDS` sets the pace. */
+(function () {
+  'use strict';
+  const params = new URLSearchParams(location.search);
+  const EVERY_MS = Math.max(1, Number(params.get('every')) || 3) * 1000;
+  const $ = (id) => document.getElementById(id);
+  const charts = window.NbCharts.create();
+  const { pct, compact } = charts;
+
+  const state = {
+    runId: null,
+    startMs: 0,
+    cursor: 0,
+    points: new Map(), // evaluationId → point; answers repeat the cursor's millisecond, so keyed
+    leaderHash: null,
+    pickedHash: null,
+    lineageKey: null,
+    sizeKey: 'params',
+    lastOk: 0,
+    polls: 0,
+  };
+  // For people poking at the page from the console, and for the page's browser test.
+  window.netbreederDashboard = { charts, state };
+
+  async function getJson(path) {
+    const res = await fetch(path, { headers: { accept: 'application/json' }, cache: 'no-store' });
+    if (!res.ok) throw new Error(`${path}: HTTP ${res.status}`);
+    return res.json();
+  }
+
+  const text = (el, value) => {
+    el.textContent = value;
+    return el;
+  };
+  const cell = (value, cls) => {
+    const td = document.createElement('td');
+    if (cls) td.className = cls;
+    td.textContent = value;
+    return td;
+  };
+  const ago = (seconds) => {
+    if (seconds < 1) return 'just now';
+    if (seconds < 90) return `${Math.round(seconds)} s ago`;
+    if (seconds < 5400) return `${Math.round(seconds / 60)} min ago`;
+    return `${(seconds / 3600).toFixed(1)} h ago`;
+  };
+  const duration = (seconds) => {
+    const s = Math.round(seconds);
+    const h = Math.floor(s / 3600);
+    const m = Math.floor((s % 3600) / 60);
+    return h ? `${h} h ${m} min` : m ? `${m} min ${s % 60} s` : `${s} s`;
+  };
+  const sortedPoints = () => [...state.points.values()].sort((a, b) => a.finishedAt - b.finishedAt || a.seq - b.seq);
+
+  function showStatus(s) {
+    const run = s.run;
+    text($('foot-coordinator'), `coordinator ${s.coordinator.version}, up ${duration(s.coordinator.uptimeSeconds)}`);
+    if (!run) return;
+    text($('run-name'), run.name);
+    const pill = $('run-state');
+    pill.className = `pill pill-${run.state}`;
+    text(pill, run.state.replace('-', ' '));
+    text($('run-id'), run.id);
+    text($('run-algorithm'), `${run.algorithm} · seed ${run.seed}`);
+    text($('run-elapsed'), `${duration(run.elapsedSeconds)} of at most ${run.maxMinutes} min`);
+    document.title = `${run.name} · ${run.state} · netbreeder`;
+
+    const e = s.evaluations;
+    text($('tile-done'), String(e.done));
+    text($('tile-done-note'), `of ${run.maxEvaluations} planned${e.failed ? ` · ${e.failed} failed` : ''}`);
+    text($('tile-flight'), String(e.running + e.queued));
+    text($('tile-flight-note'), `${e.running} training · ${e.queued} queued`);
+    text($('tile-best'), s.best ? pct(s.best.valAccuracy) : '–');
+    text($('tile-best-note'), s.best ? `${compact(s.best.paramCount)} params · ${compact(s.best.flops)} FLOPs` : 'no result yet');
+    text($('tile-rate'), s.throughput.perMinuteLastMinute.toFixed(0));
+    text($('tile-rate-note'), `last minute · ${s.throughput.perMinuteSinceStart.toFixed(1)} since start`);
+    const alive = s.workers.filter((w) => w.alive);
+    text($('tile-workers'), String(alive.length));
+    text($('tile-workers-note'), `${s.workers.length} seen · ${compact(alive.reduce((t, w) => t + w.samplesPerSecond, 0))} samples/s`);
+    text($('tile-champion'), s.champion ? pct(s.champion.testAccuracy) : '–');
+    text($('tile-champion-note'), s.champion ? `validation ${pct(s.champion.valAccuracy)}` : run.state === 'training-champion' ? 'training now…' : 'after the search');
+    showWorkers(s.workers);
+  }
+
+  function showWorkers(workers) {
+    const body = $('workers-table').tBodies[0];
+    const rows = workers
+      .slice()
+      .sort((a, b) => Number(b.alive) - Number(a.alive) || a.workerId.localeCompare(b.workerId))
+      .map((w) => {
+        const tr = document.createElement('tr');
+        const label = w.alive ? w.state : 'lost';
+        tr.className = w.alive ? 'alive' : 'lost';
+        tr.dataset.workerId = w.workerId;
+        tr.append(
+          cell(w.workerId, 'mono'),
+          cell(w.host),
+          cell(w.backend ?? '–'),
+          cell(String(w.cores), 'num'),
+          cell(w.currentEvaluationId ?? '–', 'mono'),
+          cell(String(w.evaluationsDone), 'num'),
+          cell(w.samplesPerSecond ? compact(w.samplesPerSecond) : '–', 'num'),
+          cell(ago(w.secondsSinceHeartbeat)),
+        );
+        const st = document.createElement('td');
+        const span = document.createElement('span');
+        span.className = `state ${label}`;
+        span.textContent = label;
+        st.append(span);
+        tr.append(st);
+        return tr;
+      });
+    if (!rows.length) return;
+    body.replaceChildren(...rows);
+    text($('workers-hint'), `${workers.filter((w) => w.alive).length} alive of ${workers.length}`);
+  }
+
+  async function pullEvaluations() {
+    for (let i = 0; i < 20; i++) {
+      const answer = await getJson(`/runs/${state.runId}/evaluations?since=${state.cursor}`);
+      for (const p of answer.evaluations) state.points.set(p.evaluationId, p);
+      state.cursor = answer.cursor;
+      if (!answer.more) break;
+    }
+  }
+
+  function showTop(top) {
+    const body = $('top-table').tBodies[0];
+    if (!top.genomes.length) return;
+    body.replaceChildren(
+      ...top.genomes.map((g) => {
+        const tr = document.createElement('tr');
+        tr.dataset.genomeHash = g.genomeHash;
+        if (g.genomeHash === (state.pickedHash ?? state.leaderHash)) tr.className = 'picked';
+        tr.title = `evaluation ${g.evaluationId}`;
+        tr.append(cell(String(g.rank), 'num'), cell(g.summary, 'summary'), cell(pct(g.valAccuracy), 'num'), cell(compact(g.params), 'num'), cell(compact(g.flops), 'num'));
+        tr.addEventListener('click', () => {
+          state.pickedHash = g.genomeHash === state.leaderHash ? null : g.genomeHash;
+          for (const row of body.rows) row.classList.toggle('picked', row.dataset.genomeHash === g.genomeHash);
+          refreshLineage(true).catch(() => undefined);
+        });
+        return tr;
+      }),
+    );
+  }
+
+  function genomeLines(g) {
+    const box = document.createElement('div');
+    const figures = document.createElement('div');
+    figures.className = 'figures';
+    const b = document.createElement('b');
+    b.textContent = g.valAccuracy == null ? 'not scored' : pct(g.valAccuracy);
+    figures.append(b, ` · ${compact(g.params)} params · ${compact(g.flops)} FLOPs · `, Object.assign(document.createElement('span'), { className: 'mono', textContent: g.genomeHash.slice(0, 10) }));
+    const genome = document.createElement('div');
+    genome.className = 'genome';
+    genome.textContent = g.summary;
+    box.append(genome, figures);
+    return box;
+  }
+
+  function showLineage(lineage, whose) {
+    const list = $('lineage');
+    const items = [];
+    const root = document.createElement('li');
+    root.className = 'root';
+    const head = document.createElement('div');
+    head.append(Object.assign(document.createElement('span'), { className: 'op', textContent: 'minimal ancestor' }));
+    root.append(head, genomeLines(lineage.ancestor));
+    items.push(root);
+    lineage.steps.forEach((step, i) => {
+      const li = document.createElement('li');
+      if (i === lineage.steps.length - 1) li.className = 'leaf';
+      const line = document.createElement('div');
+      line.append(Object.assign(document.createElement('span'), { className: 'op', textContent: step.operator }), ' ', Object.assign(document.createElement('span'), { className: 'detail', textContent: step.detail }));
+      li.append(line, genomeLines(step.child));
+      items.push(li);
+    });
+    list.replaceChildren(...items);
+    text($('lineage-hint'), `${whose}: ${lineage.steps.length} mutation${lineage.steps.length === 1 ? '' : 's'} from its minimal ancestor`);
+  }
+
+  async function refreshLineage(force) {
+    const hash = state.pickedHash ?? state.leaderHash;
+    if (!hash || !state.runId) return;
+    const whose = state.pickedHash ? 'the selected genome' : state.leaderIs;
+    const key = `${state.runId}:${hash}:${whose}`;
+    if (!force && key === state.lineageKey) return;
+    const lineage = await getJson(`/runs/${state.runId}/lineage/${hash}`);
+    state.lineageKey = key;
+    showLineage(lineage, whose);
+  }
+
+  async function poll() {
+    const status = await getJson('/status');
+    showStatus(status);
+    const run = status.run;
+    if (!run) return;
+    if (run.id !== state.runId) {
+      Object.assign(state, { runId: run.id, cursor: 0, points: new Map(), pickedHash: null, lineageKey: null });
+    }
+    // The search starts when the run is created (GET /status counts its elapsed time from there).
+    state.startMs = Date.parse(run.createdAt);
+    const endMs = state.startMs + run.elapsedSeconds * 1000;
+    // The champion, once there is one, else the best so far, is the leader whose lineage is shown.
+    state.leaderHash = status.champion?.genomeHash ?? status.best?.genomeHash ?? null;
+    state.leaderIs = status.champion ? 'the champion' : 'the best so far';
+
+    const [, throughput, top] = await Promise.all([pullEvaluations(), getJson(`/runs/${run.id}/throughput`), getJson(`/runs/${run.id}/top?limit=8`)]);
+    const points = sortedPoints();
+    charts.setBest(points, state.startMs, endMs);
+    charts.setEvaluations(points, state.leaderHash);
+    charts.setThroughput(throughput, state.startMs);
+    text($('throughput-hint'), `from finished evaluations, ${throughput.bucketSeconds} s buckets`);
+    const failed = points.filter((p) => p.state === 'failed').length;
+    text($('scatter-caption'), `${points.length - failed} scored evaluations${failed ? ` (${failed} failed, not drawn)` : ''} · validation accuracy against size, log scale`);
+    showTop(top);
+    await refreshLineage(false);
+  }
+
+  function setSize(key) {
+    state.sizeKey = key;
+    for (const [id, k] of [['size-params', 'params'], ['size-flops', 'flops']]) {
+      $(id).classList.toggle('on', k === key);
+      $(id).setAttribute('aria-pressed', String(k === key));
+    }
+    charts.setSizeKey(key, sortedPoints(), state.leaderHash);
+  }
+  $('size-params').addEventListener('click', () => setSize('params'));
+  $('size-flops').addEventListener('click', () => setSize('flops'));
+
+  async function loop() {
+    try {
+      await poll();
+      state.lastOk = Date.now();
+      state.polls += 1;
+      $('live-dot').className = 'live-dot ok';
+      text($('updated'), `updated ${new Date().toLocaleTimeString()}`);
+    } catch (err) {
+      $('live-dot').className = 'live-dot stale';
+      text($('updated'), `cannot reach the coordinator (${err.message}); retrying`);
+    }
+    setTimeout(loop, EVERY_MS);
+  }
+  loop();
+})();
