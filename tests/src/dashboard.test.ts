@@ -1,0 +1,237 @@
+import { existsSync } from 'node:fs';
+import { mkdir } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { chromium, type Browser, type Page } from 'playwright-core';
+import {
+  defaultSearchSpace,
+  evaluationsResponseValidator,
+  lineageResponseValidator,
+  statusResponseValidator,
+  throughputResponseValidator,
+  topGenomesResponseValidator,
+  type EvaluationsResponse,
+} from '@netbreeder/shared-types';
+import { parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
+import { TestCluster, waitFor } from './support/harness.js';
+
+/**
+ * The dashboard page in a real headless browser (Debian's chromium, driven by playwright-core)
+ * against a coordinator with a real run: two worker processes training real tiny models.
+ * Screenshots land in test-artifacts/ (dashboard-live.png, dashboard-finished.png, dashboard-print.png).
+ */
+const EVALUATIONS = 10;
+const CHROMIUM = '/usr/bin/chromium';
+const ARTIFACTS = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'test-artifacts');
+
+/** What the page's charts hold and have drawn, read from Chart.js inside the page. */
+interface DrawnChart {
+  points: number;
+  drawn: number;
+}
+type DrawnCharts = Record<'bestTime' | 'bestCount' | 'scatter' | 'throughput', DrawnChart[]>;
+
+/** For each chart and dataset: how many data points it holds and how many it placed inside its plot area. */
+const drawnCharts = (page: Page): Promise<DrawnCharts> =>
+  page.evaluate(() => {
+    const dash = (globalThis as unknown as { netbreederDashboard: { charts: Record<string, unknown> } }).netbreederDashboard;
+    type Element = { x: number; y: number; skip?: boolean };
+    type ChartLike = {
+      data: { datasets: Array<{ data: unknown[] }> };
+      chartArea: { left: number; right: number; top: number; bottom: number };
+      getDatasetMeta(i: number): { data: Element[] };
+    };
+    const out: Record<string, Array<{ points: number; drawn: number }>> = {};
+    for (const name of ['bestTime', 'bestCount', 'scatter', 'throughput']) {
+      const chart = dash.charts[name] as ChartLike;
+      const a = chart.chartArea;
+      out[name] = chart.data.datasets.map((ds, i) => ({
+        points: ds.data.length,
+        drawn: chart
+          .getDatasetMeta(i)
+          .data.filter((el) => !el.skip && Number.isFinite(el.x) && Number.isFinite(el.y) && el.x >= a.left - 1 && el.x <= a.right + 1 && el.y >= a.top - 1 && el.y <= a.bottom + 1).length,
+      }));
+    }
+    return out as DrawnCharts;
+  });
+
+const pageState = (page: Page) =>
+  page.evaluate(() => {
+    const s = (globalThis as unknown as { netbreederDashboard: { state: { polls: number; points: Map<string, unknown>; runId: string | null } } }).netbreederDashboard.state;
+    return { polls: s.polls, points: s.points.size, runId: s.runId };
+  });
+
+describe('the dashboard page, live, in headless chromium', () => {
+  let cluster: TestCluster;
+  let run: RunRecord;
+  let browser: Browser;
+  let page: Page;
+  const consoleErrors: string[] = [];
+
+  beforeAll(async () => {
+    if (!existsSync(CHROMIUM)) throw new Error(`no browser at ${CHROMIUM}: install Debian's chromium (apt-get install chromium); .ci/run does this`);
+    await mkdir(ARTIFACTS, { recursive: true });
+    cluster = await TestCluster.start('dashboard');
+    // Small and quick, in the style of the end-to-end test.
+    // The end-to-end test's settings: small and quick, but training visibly learns.
+    const config = parseRunConfig({
+      name: 'dashboard check',
+      seed: 5,
+      dataset: { kind: 'demo-tiles', samplesPerClass: 150, seed: 5 },
+      search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2 },
+      budget: { maxEvaluations: EVALUATIONS, maxMinutes: 10 },
+      evaluation: { maxSeconds: 30 },
+      champion: { epochs: 8, maxSeconds: 60 },
+      searchSpace: { ...defaultSearchSpace(), epochs: { min: 3, max: 6 }, learningRate: { min: 1e-3, max: 3e-2 }, maxFlops: 2_000_000, filters: { min: 4, max: 16 }, units: { min: 8, max: 64 } },
+    });
+    cluster.spawnWorker('dash-w1');
+    cluster.spawnWorker('dash-w2');
+    run = await cluster.coordinator.startRun(config);
+    browser = await chromium.launch({
+      executablePath: CHROMIUM,
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run', '--disable-quic'],
+    });
+    page = await browser.newPage({ viewport: { width: 1440, height: 1000 } });
+    page.on('console', (m) => {
+      if (m.type() === 'error') consoleErrors.push(m.text());
+    });
+    page.on('pageerror', (e) => consoleErrors.push(e.message));
+  });
+
+  afterAll(async () => {
+    await browser?.close();
+    await cluster?.stop();
+  });
+
+  it('serves the page, its files and the charting library without a network', async () => {
+    const url = cluster.coordinator.url;
+    for (const path of ['/', '/dashboard']) {
+      const res = await fetch(`${url}${path}`);
+      expect(res.status).toBe(200);
+      expect(res.headers.get('content-type')).toContain('text/html');
+      expect(await res.text()).toContain('/dashboard/dashboard.js');
+    }
+    const lib = await fetch(`${url}/dashboard/vendor/chart.umd.min.js`);
+    expect(lib.status).toBe(200);
+    expect((await lib.text()).length).toBeGreaterThan(50_000);
+    expect((await fetch(`${url}/dashboard/nothing.js`)).status).toBe(400); // only the listed files
+  });
+
+  it('updates live while the search runs: charts with points, the live workers in the table', async () => {
+    const url = cluster.coordinator.url;
+    // Wait until both workers have reported and a few results are in, while the search still runs.
+    await waitFor(
+      'two live workers and three results',
+      async () => {
+        const s = statusResponseValidator.parse(await (await fetch(`${url}/status`)).json());
+        return s.workers.filter((w) => w.alive).length === 2 && s.evaluations.done >= 3 ? s : null;
+      },
+      180_000,
+      500,
+    ).catch((err: Error) => {
+      throw new Error(`${err.message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);
+    });
+    await page.goto(`${url}/?every=1`);
+    const firstPoll = await waitFor('the page to poll once', async () => ((await pageState(page)).polls >= 1 ? true : null), 20_000, 200);
+    expect(firstPoll).toBe(true);
+    const doneNow = cluster.coordinator.store.counts(run.id).done;
+    // The page keeps up without a reload: it holds at least every result the store had a moment ago.
+    await waitFor('the page to hold every finished evaluation', async () => ((await pageState(page)).points >= doneNow ? true : null), 20_000, 250);
+    const charts = await drawnCharts(page);
+    expect(charts.scatter[0]!.points).toBeGreaterThanOrEqual(doneNow);
+    expect(charts.scatter[0]!.drawn).toBe(charts.scatter[0]!.points);
+    expect(charts.bestTime[0]!.drawn).toBeGreaterThanOrEqual(2); // the first result and the line's end
+    expect(charts.bestCount[1]!.drawn).toBeGreaterThanOrEqual(doneNow); // a dot per evaluation
+    expect(charts.throughput[0]!.points).toBeGreaterThanOrEqual(1);
+    expect(charts.throughput[0]!.drawn).toBe(charts.throughput[0]!.points);
+
+    const rows = await page.$$eval('#workers-table tbody tr', (trs) =>
+      trs.map((tr) => {
+        const row = tr as unknown as { dataset: { workerId?: string }; querySelectorAll(s: string): ArrayLike<{ textContent: string | null }> };
+        return { id: row.dataset.workerId ?? '', cells: Array.from(row.querySelectorAll('td')).map((td) => td.textContent ?? '') };
+      }),
+    );
+    expect(rows.map((r) => r.id).sort()).toEqual(['dash-w1', 'dash-w2']);
+    for (const r of rows) {
+      expect(['wasm', 'tensorflow', 'cpu']).toContain(r.cells[2]);
+      expect(['training', 'idle', 'starting']).toContain(r.cells[8]); // alive, not 'lost'
+    }
+    expect(await page.textContent('#run-state')).toMatch(/searching|training champion/);
+    await page.screenshot({ path: join(ARTIFACTS, 'dashboard-live.png'), fullPage: true });
+  });
+
+  it('answers the JSON routes from the store: incremental evaluations, throughput, top, lineage', async () => {
+    const url = cluster.coordinator.url;
+    await waitFor('the run to finish', () => ['finished', 'failed'].includes(cluster.coordinator.store.getRun(run.id)!.state), 240_000, 500);
+    const store = cluster.coordinator.store;
+    expect(store.getRun(run.id)!.state, store.getRun(run.id)!.failure ?? '').toBe('finished');
+
+    const all: EvaluationsResponse = evaluationsResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/evaluations`)).json());
+    const finished = store.evaluations(run.id).filter((e) => e.kind === 'search' && (e.state === 'done' || e.state === 'failed'));
+    expect(all.evaluations.map((e) => e.evaluationId).sort()).toEqual(finished.map((e) => e.id).sort());
+    expect(all.more).toBe(false);
+    // in finish order, and the cursor is the last finish time
+    const times = all.evaluations.map((e) => e.finishedAt);
+    expect(times).toEqual([...times].sort((a, b) => a - b));
+    expect(all.cursor).toBe(times[times.length - 1]);
+    // incremental: from a middle cursor only the later ones (and those of that same millisecond) come
+    const middle = times[Math.floor(times.length / 2)]!;
+    const later = evaluationsResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/evaluations?since=${middle}`)).json());
+    expect(later.evaluations.map((e) => e.evaluationId).sort()).toEqual(all.evaluations.filter((e) => e.finishedAt >= middle).map((e) => e.evaluationId).sort());
+    // paging with a limit walks the same list
+    const paged = evaluationsResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/evaluations?limit=3`)).json());
+    expect(paged.evaluations).toHaveLength(3);
+    expect(paged.more).toBe(true);
+
+    const throughput = throughputResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/throughput`)).json());
+    expect(throughput.buckets.reduce((s, b) => s + b.evaluations, 0)).toBe(store.counts(run.id).done);
+    expect(throughput.buckets.some((b) => b.samplesPerSecond > 0)).toBe(true);
+
+    const top = topGenomesResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/top?limit=3`)).json());
+    // one row per distinct genome, in the store's order (best accuracy, then fewest parameters)
+    const expected = store.topEvaluations(run.id, 1000).filter((e, i, all) => all.findIndex((o) => o.genomeHash === e.genomeHash) === i).slice(0, 3);
+    expect(top.genomes.map((g) => g.evaluationId)).toEqual(expected.map((e) => e.id));
+    expect(top.genomes[0]!.valAccuracy).toBe(expected[0]!.valAccuracy);
+
+    const champion = store.getChampion(run.id)!;
+    const lineage = lineageResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/lineage/${champion.genomeHash}`)).json());
+    const chain = store.lineageChain(run.id, champion.genomeHash);
+    expect(lineage.steps.map((s) => s.operator)).toEqual(chain.map((l) => l.operator));
+    expect(lineage.steps.length ? lineage.steps[lineage.steps.length - 1]!.child.genomeHash : lineage.ancestor.genomeHash).toBe(champion.genomeHash);
+    expect(store.lineageChain(run.id, lineage.ancestor.genomeHash)).toEqual([]); // the ancestor has no recorded parent
+
+    expect((await fetch(`${url}/runs/${run.id}/lineage/${'0'.repeat(64)}`)).status).toBe(404);
+    expect((await fetch(`${url}/runs/nope/top`)).status).toBe(404);
+    expect((await fetch(`${url}/runs/${run.id}/evaluations?since=soon`)).status).toBe(400);
+  });
+
+  it('shows the finished run: champion, leading genomes and the lineage chain; prints on white', async () => {
+    const store = cluster.coordinator.store;
+    const champion = store.getChampion(run.id)!;
+    const chain = store.lineageChain(run.id, champion.genomeHash);
+    await waitFor('the page to show the champion', async () => ((await page.textContent('#tile-champion'))?.includes('%') ? true : null), 20_000, 250);
+    await waitFor('the lineage to be drawn', async () => ((await page.$$('#lineage li:not(.empty)')).length === chain.length + 1 ? true : null), 20_000, 250);
+    expect(await page.textContent('#run-state')).toBe('finished');
+    expect(await page.textContent('#lineage-hint')).toContain('the champion');
+    const topRows = await page.$$eval('#top-table tbody tr', (trs) => trs.map((tr) => (tr as unknown as { dataset: { genomeHash?: string } }).dataset.genomeHash ?? ''));
+    expect(topRows[0]).toBe(store.topEvaluations(run.id, 1)[0]!.genomeHash);
+    const charts = await drawnCharts(page);
+    expect(charts.scatter[0]!.points).toBe(store.counts(run.id).done);
+    expect(charts.scatter[1]!.drawn).toBe(1); // the champion, marked
+    // the FLOPs view redraws the same points
+    await page.click('#size-flops');
+    expect((await drawnCharts(page)).scatter[0]!.drawn).toBe(store.counts(run.id).done);
+    await page.click('#size-params');
+    await page.screenshot({ path: join(ARTIFACTS, 'dashboard-finished.png'), fullPage: true });
+
+    await page.emulateMedia({ media: 'print' });
+    const background = await page.evaluate(() => (globalThis as unknown as { getComputedStyle(e: unknown): { backgroundColor: string }; document: { body: unknown } }).getComputedStyle((globalThis as unknown as { document: { body: unknown } }).document.body).backgroundColor);
+    expect(background).toBe('rgb(255, 255, 255)');
+    await page.setViewportSize({ width: 794, height: 1123 }); // A4 at 96 dpi
+    await page.screenshot({ path: join(ARTIFACTS, 'dashboard-print.png'), fullPage: true });
+    await page.pdf({ path: join(ARTIFACTS, 'dashboard-print.pdf'), format: 'A4', printBackground: true });
+    await page.emulateMedia({ media: 'screen' });
+    expect(consoleErrors).toEqual([]);
+  });
+});
