@@ -1,6 +1,13 @@
 import { readFile } from 'node:fs/promises';
+import { dirname, resolve } from 'node:path';
 import { Value } from '@sinclair/typebox/value';
-import { RunConfigSchema, runConfigValidator, searchSpaceValidator, ValidationError, type RunConfig } from '@netbreeder/shared-types';
+import { DATASET_SOURCE_SCHEMAS, RunConfigSchema, createValidator, runConfigValidator, searchSpaceValidator, ValidationError, type RunConfig } from '@netbreeder/shared-types';
+import { resolveSourcePaths } from '../importers/load-dataset.js';
+
+/** One validator per dataset source kind, so a bad dataset is reported field by field, not as "matches no kind". */
+const sourceValidators = Object.fromEntries(
+  Object.entries(DATASET_SOURCE_SCHEMAS).map(([kind, schema]) => [kind, createValidator(`dataset source "${kind}"`, schema)]),
+) as Record<string, ReturnType<typeof createValidator>>;
 
 /**
  * Turns a user's run description (from a JSON run file or an HTTP body) into a complete run
@@ -11,13 +18,23 @@ export function parseRunConfig(input: unknown): RunConfig {
   if (input === null || typeof input !== 'object' || Array.isArray(input)) {
     throw new ValidationError('run configuration', [{ path: '', message: 'must be a JSON object' }]);
   }
-  const withDefaults = Value.Default(RunConfigSchema, structuredClone(input));
+  const withDefaults = Value.Default(RunConfigSchema, structuredClone(input)) as Record<string, unknown>;
+  const dataset = withDefaults.dataset as { kind?: unknown } | undefined;
+  const kind = dataset && typeof dataset === 'object' ? dataset.kind : undefined;
+  if (typeof kind === 'string' && kind in sourceValidators) {
+    const schema = DATASET_SOURCE_SCHEMAS[kind as keyof typeof DATASET_SOURCE_SCHEMAS];
+    withDefaults.dataset = Value.Default(schema, dataset);
+    const issues = sourceValidators[kind]!.issues(withDefaults.dataset);
+    if (issues.length) throw new ValidationError('run configuration', issues.map((i) => ({ path: `/dataset${i.path}`, message: i.message })));
+  } else if (dataset !== undefined) {
+    throw new ValidationError('run configuration', [{ path: '/dataset/kind', message: `must be one of ${Object.keys(DATASET_SOURCE_SCHEMAS).map((k) => `"${k}"`).join(', ')}` }]);
+  }
   const config = runConfigValidator.parse(withDefaults);
   if (config.searchSpace) searchSpaceValidator.parse(config.searchSpace);
   return config;
 }
 
-/** Reads and parses a JSON run file; errors name the file. */
+/** Reads and parses a JSON run file; errors name the file. Dataset paths come back absolute, resolved against the run file's folder. */
 export async function readRunConfigFile(path: string): Promise<RunConfig> {
   let text: string;
   try {
@@ -32,7 +49,9 @@ export async function readRunConfigFile(path: string): Promise<RunConfig> {
     throw new Error(`run file ${path} is not valid JSON: ${(err as Error).message}`);
   }
   try {
-    return parseRunConfig(json);
+    const config = parseRunConfig(json);
+    // Data paths in a run file are relative to the run file's folder.
+    return { ...config, dataset: resolveSourcePaths(config.dataset, dirname(resolve(path))) };
   } catch (err) {
     if (err instanceof ValidationError) throw new ValidationError(`run file ${path}`, err.issues);
     throw err;
