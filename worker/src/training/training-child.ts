@@ -18,8 +18,21 @@ const send = (message: ChildMessage): Promise<void> =>
 
 let cached: { key: string; shard: TrainingShard } | null = null;
 
-async function loadShard(path: string): Promise<TrainingShard> {
+/** A shard whose decoded size (about its file size: float32 values) is above the worker's memory cap: do not retry. */
+class ShardTooLargeError extends TrainingError {
+  override readonly code = 'NB_DATASET_TOO_LARGE';
+  override readonly retryable = false;
+}
+
+async function loadShard(path: string, memoryCapMb: number | undefined): Promise<TrainingShard> {
   const info = await stat(path);
+  // Checked before reading: decoding holds the file and its arrays, about the file size each.
+  if (memoryCapMb != null && info.size > memoryCapMb * 2 ** 20) {
+    throw new ShardTooLargeError(
+      `the training shard is ${(info.size / 2 ** 20).toFixed(1)} MiB decoded, above this worker's memory cap of ${memoryCapMb} MiB; ` +
+        'start the worker with a larger --memory-cap, or make the run\'s dataset smaller (maxDatasetMb in the run file)',
+    );
+  }
   const key = `${path}:${info.size}:${info.mtimeMs}`;
   if (cached?.key !== key) {
     cached = null; // let the old shard be collected before the new one is read
@@ -34,7 +47,7 @@ class ShardMismatchError extends TrainingError {
 }
 
 async function train(id: number, request: ChildTrainRequest): Promise<void> {
-  const shard = await loadShard(request.shardPath);
+  const shard = await loadShard(request.shardPath, request.memoryCapMb);
   if (sampleSize(shard.inputShape) !== sampleSize(request.data.inputShape)) {
     throw new ShardMismatchError(`the shard holds samples of shape [${shard.inputShape.join(', ')}], the job expects [${request.data.inputShape.join(', ')}]; the dataset manifest and shard disagree`);
   }
