@@ -186,7 +186,7 @@ function checkHeader(header: string[], file: string, options: CsvTableOptions): 
   const list = header.map((h) => `"${h}"`).join(', ');
   const need = (name: string, setting: string): void => {
     if (!seen.has(name)) {
-      throw new DatasetError('NB_DATASET_NO_SUCH_COLUMN', `${file}: ${setting} names column "${name}", which is not in the header (${list})`, { file, line: 1, field: name });
+      throw new DatasetError('NB_DATASET_NO_SUCH_COLUMN', `${file}: line 1: ${setting} names column "${name}", which is not in the header (${list})`, { file, line: 1, field: name });
     }
   };
   need(options.labelColumn, 'labelColumn');
