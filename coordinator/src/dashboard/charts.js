@@ -91,7 +91,7 @@
       options: {
         parsing: false,
         scales: {
-          x: { type: 'logarithmic', ticks: { callback: (v) => (/^[125]/.test(String(v)) ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
+          x: { type: 'logarithmic', ticks: { maxRotation: 0, autoSkipPadding: 6, callback: (v) => (/^[125]/.test(String(v)) ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
           y: accuracyAxis(),
         },
         plugins: {

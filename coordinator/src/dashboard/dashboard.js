@@ -78,7 +78,8 @@
     text($('tile-rate-note'), `last minute · ${s.throughput.perMinuteSinceStart.toFixed(1)} since start`);
     const alive = s.workers.filter((w) => w.alive);
     text($('tile-workers'), String(alive.length));
-    text($('tile-workers-note'), `${s.workers.length} seen · ${compact(alive.reduce((t, w) => t + w.samplesPerSecond, 0))} samples/s`);
+    const training = alive.filter((w) => w.state === 'training');
+    text($('tile-workers-note'), `${s.workers.length} seen · ${training.length ? `${compact(training.reduce((t, w) => t + w.samplesPerSecond, 0))} samples/s now` : 'none training'}`);
     text($('tile-champion'), s.champion ? pct(s.champion.testAccuracy) : '–');
     text($('tile-champion-note'), s.champion ? `validation ${pct(s.champion.valAccuracy)}` : run.state === 'training-champion' ? 'training now…' : 'after the search');
     showWorkers(s.workers);

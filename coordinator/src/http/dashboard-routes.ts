@@ -39,7 +39,6 @@ const PAGE_FILES = {
   'dashboard.js': 'text/javascript; charset=utf-8',
   'charts.js': 'text/javascript; charset=utf-8',
 } as const;
-type PageFile = keyof typeof PAGE_FILES;
 
 /** Chart.js's self-contained browser build (the package's exports hide it, so it is found beside its main file). */
 const chartLibraryPath = (): string => join(dirname(createRequire(import.meta.url).resolve('chart.js')), 'chart.umd.min.js');
@@ -69,8 +68,10 @@ export function registerDashboardRoutes(app: FastifyInstance, opts: DashboardRou
   const sendPage = async (_req: unknown, reply: import('fastify').FastifyReply) => reply.type(page.type).header('cache-control', 'no-cache').send(page.body);
   app.get('/', sendPage);
   app.get('/dashboard', sendPage);
-  app.get('/dashboard/:file', { schema: { params: Type.Object({ file: Type.Union((Object.keys(PAGE_FILES) as PageFile[]).map((f) => Type.Literal(f))) }) } }, async (req, reply) => {
-    const asset = assets.get((req.params as { file: PageFile }).file)!;
+  app.get('/dashboard/:file', async (req, reply) => {
+    const file = (req.params as { file: string }).file;
+    const asset = Object.hasOwn(PAGE_FILES, file) ? assets.get(file) : undefined;
+    if (!asset) throw new HttpError('NB_NOT_FOUND', `the dashboard has no file ${file}`);
     return reply.type(asset.type).header('cache-control', 'no-cache').send(asset.body);
   });
   app.get('/dashboard/vendor/chart.umd.min.js', async (_req, reply) => {

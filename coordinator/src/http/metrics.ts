@@ -24,7 +24,7 @@ const EVALUATION_STATES = ['queued', 'running', 'done', 'failed'] as const;
  * | netbreeder_run_info | gauge | run, name, state | 1 for the run being watched |
  * | netbreeder_evaluations | gauge | run, kind, state | evaluations in the store by kind (search, champion) and state |
  * | netbreeder_throughput_evaluations_per_minute | gauge | run, window | done search evaluations per minute: `last_minute` or `since_start` |
- * | netbreeder_training_samples_per_second | gauge | | training speed summed over alive workers (their last heartbeats) |
+ * | netbreeder_training_samples_per_second | gauge | | training speed summed over the alive workers training now (their last heartbeats) |
  * | netbreeder_queue_jobs | gauge | state | BullMQ jobs by state (waiting, prioritized, active, completed, failed, delayed) |
  * | netbreeder_workers_alive | gauge | | workers with a recent heartbeat that have not stopped |
  * | netbreeder_workers_known | gauge | | workers the store has ever heard from |
@@ -88,10 +88,10 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
 
   new Gauge({
     name: 'netbreeder_training_samples_per_second',
-    help: 'Training samples per second summed over the alive workers (from their last heartbeats).',
+    help: 'Training samples per second summed over the alive workers that are training now (each at the speed of its last evaluation, from its heartbeat).',
     registers,
     collect() {
-      this.set(aliveWorkers().reduce((sum, w) => sum + w.heartbeat.samplesPerSecond, 0));
+      this.set(aliveWorkers().filter((w) => w.heartbeat.state === 'training').reduce((sum, w) => sum + w.heartbeat.samplesPerSecond, 0));
     },
   });
 
