@@ -175,6 +175,20 @@ describe('GET /metrics with a real run', () => {
     for (const [state, n] of Object.entries(jobs)) expect(sample(m, 'netbreeder_queue_jobs', { state }), state).toBe(n);
   });
 
+  it('reads the same after a coordinator restart: nothing is counted only in memory', async () => {
+    const before = parseStrict(await scrape(cluster.coordinator.url));
+    const throughputBefore = await (await fetch(`${cluster.coordinator.url}/runs/${run.id}/throughput`)).json();
+    const { dataDir, prefix } = cluster;
+    await cluster.stop({ keepData: true });
+    cluster = await TestCluster.start('metrics', { dataDir, prefix });
+    const after = parseStrict(await scrape(cluster.coordinator.url));
+    const series = (f: ReturnType<typeof parseStrict>, name: string) => f.get(name)!.samples;
+    for (const name of ['netbreeder_run_info', 'netbreeder_evaluations', 'netbreeder_best_validation_accuracy', 'netbreeder_reissues_total', 'netbreeder_workers_known']) {
+      expect(series(after, name), name).toEqual(series(before, name));
+    }
+    expect(await (await fetch(`${cluster.coordinator.url}/runs/${run.id}/throughput`)).json()).toEqual(throughputBefore);
+  });
+
   it('keeps one registry per coordinator: a second one in this process answers for itself', async () => {
     const other = await TestCluster.start('metrics-other');
     try {
