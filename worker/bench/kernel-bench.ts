@@ -9,6 +9,7 @@
  */
 import * as tf from '@tensorflow/tfjs';
 import { initBackend } from '../src/training/backend.js';
+import { inputGradOptions } from '../src/training/kernels/conv-gradients.js';
 import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
 
 await initBackend({ prefer: ['wasm'] });
@@ -54,7 +55,7 @@ console.log('## BatchMatMul, 64×784 · 784×256 (2·64·784·256 FLOPs)');
   }
 }
 
-console.log('## Conv2DBackpropInput: ours (forward conv of flipped filter) vs built-in');
+console.log('## Conv2DBackpropInput: ours (forward conv of the flipped filter; strided: by phase or over the dilated dy) vs built-in');
 for (const [xs, co, k, s, pad] of [
   [[64, 14, 14, 16], 32, 3, 1, 'same'],
   [[64, 14, 14, 16], 32, 1, 1, 'same'],
@@ -66,10 +67,13 @@ for (const [xs, co, k, s, pad] of [
   const w = tf.randomNormal([k, k, xs[3]!, co]);
   const fl = 2 * tf.util.sizeFromShape(info.outShape) * k * k * xs[3]!;
   const run = kernel('Conv2DBackpropInput', { dy, filter: w }, { strides: [s, s], pad, dataFormat: 'NHWC', inputShape: xs });
-  for (const ours of [true, false]) {
-    setWasmKernelOverride('Conv2DBackpropInput', ours);
-    line(`${ours ? 'ours    ' : 'built-in'} x[${xs}] co${co} k${k} s${s} ${pad}`, cpuMs(run), fl);
+  for (const variant of ['by phase', 'dilated dy', 'built-in'] as const) {
+    setWasmKernelOverride('Conv2DBackpropInput', variant !== 'built-in');
+    inputGradOptions.byPhase = variant === 'by phase';
+    if (s === 1 && variant === 'dilated dy') continue; // the same computation at stride 1
+    line(`${variant.padEnd(10)} x[${xs}] co${co} k${k} s${s} ${pad}`, cpuMs(run), fl);
   }
+  inputGradOptions.byPhase = true;
   setWasmKernelOverride('Conv2DBackpropInput', true);
 }
 
@@ -86,7 +90,11 @@ for (const [xs, k, m, s] of [
   const attrs = { strides: [s, s], pad: 'same', dilations: [1, 1] };
   line(`forward x[${xs}] k${k} m${m} s${s}`, cpuMs(() => tf.depthwiseConv2d(x as tf.Tensor4D, w as tf.Tensor4D, s, 'same').dispose()), fl);
   line(`filter gradient`, cpuMs(kernel('DepthwiseConv2dNativeBackpropFilter', { x, dy }, { ...attrs, filterShape: [k, k, xs[3]!, m] })), fl);
-  line(`input gradient`, cpuMs(kernel('DepthwiseConv2dNativeBackpropInput', { dy, filter: w }, { ...attrs, inputShape: xs })), fl);
+  for (const byPhase of s > 1 ? [true, false] : [false]) {
+    inputGradOptions.depthwiseByPhase = byPhase;
+    line(`input gradient${s > 1 ? (byPhase ? ' by phase' : ' over dilated dy') : ''}`, cpuMs(kernel('DepthwiseConv2dNativeBackpropInput', { dy, filter: w }, { ...attrs, inputShape: xs })), fl);
+  }
+  inputGradOptions.depthwiseByPhase = false;
 }
 
 console.log('## reading results back (dataSync) on wasm');

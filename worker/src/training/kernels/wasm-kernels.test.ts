@@ -3,6 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { createRandom } from '@netbreeder/shared-types';
 import { initBackend } from '../backend.js';
 import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.js';
+import { inputGradOptions } from './conv-gradients.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
 
 // Reference: the TensorFlow.js cpu backend, the library's own reference implementation of every
@@ -103,7 +104,15 @@ describe('wasm training kernels match the cpu backend (reference implementation)
           filterGradOptions.route = 'auto';
         }
       }
-      expect(await compare('Conv2DBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape })).toBeLessThan(TOLERANCE);
+      // Both forms of a strided input gradient: by output phase, and over the stride-dilated dy.
+      for (const byPhase of [true, false]) {
+        inputGradOptions.byPhase = byPhase;
+        try {
+          expect(await compare('Conv2DBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape }), `byPhase ${byPhase}`).toBeLessThan(TOLERANCE);
+        } finally {
+          inputGradOptions.byPhase = true;
+        }
+      }
     });
   }
 
@@ -115,7 +124,14 @@ describe('wasm training kernels match the cpu backend (reference implementation)
       const filter = { shape: filterShape, data: randomArray(tf.util.sizeFromShape(filterShape), `f ${c.name}`) };
       const common = { strides: [c.stride, c.stride], pad: c.pad, dilations: [1, 1], dimRoundingMode: undefined };
       expect(await compare('DepthwiseConv2dNativeBackpropFilter', { x, dy }, { ...common, filterShape })).toBeLessThan(TOLERANCE);
-      expect(await compare('DepthwiseConv2dNativeBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape })).toBeLessThan(TOLERANCE);
+      for (const byPhase of [true, false]) {
+        inputGradOptions.depthwiseByPhase = byPhase;
+        try {
+          expect(await compare('DepthwiseConv2dNativeBackpropInput', { dy, filter }, { ...common, inputShape: c.xShape }), `byPhase ${byPhase}`).toBeLessThan(TOLERANCE);
+        } finally {
+          inputGradOptions.depthwiseByPhase = false;
+        }
+      }
     });
   }
 

@@ -95,18 +95,26 @@ export class WasmOpRunner {
     const [sh, sw] = strides;
     if (sh === 1 && sw === 1) return this.reshape(x, x.shape.slice());
     const [n, h, w, c] = x.shape as [number, number, number, number];
-    const six = this.reshape(x, [n, h, 1, w, 1, c]);
-    const padded = this.pad(six, [
+    // Two rank-4 pads (columns, then rows): the backend's rank-6 kernels take a slow general path.
+    const cols = this.reshape(x, [n * h, w, 1, c]);
+    const colsPadded = this.pad(cols, [
       [0, 0],
-      [0, 0],
-      [0, sh - 1],
       [0, 0],
       [0, sw - 1],
       [0, 0],
     ]);
-    this.free(six);
-    const out = this.reshape(padded, [n, h * sh, w * sw, c]);
-    this.free(padded);
+    this.free(cols);
+    const rows = this.reshape(colsPadded, [n, h, 1, w * sw * c]);
+    this.free(colsPadded);
+    const rowsPadded = this.pad(rows, [
+      [0, 0],
+      [0, 0],
+      [0, sh - 1],
+      [0, 0],
+    ]);
+    this.free(rows);
+    const out = this.reshape(rowsPadded, [n, h * sh, w * sw, c]);
+    this.free(rowsPadded);
     return out;
   }
 }
