@@ -1,7 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { dirname, resolve } from 'node:path';
 import { Value } from '@sinclair/typebox/value';
-import { DATASET_SOURCE_SCHEMAS, RunConfigSchema, createValidator, runConfigValidator, searchSpaceValidator, ValidationError, type RunConfig } from '@netbreeder/shared-types';
+import { DATASET_SOURCE_SCHEMAS, RunConfigSchema, createValidator, runConfigValidator, searchSpaceValidator, ValidationError, type RunConfig, type ValidationIssue } from '@netbreeder/shared-types';
 import { resolveSourcePaths } from '../importers/load-dataset.js';
 
 /** One validator per dataset source kind, so a bad dataset is reported field by field, not as "matches no kind". */
@@ -21,17 +21,26 @@ export function parseRunConfig(input: unknown): RunConfig {
   const withDefaults = Value.Default(RunConfigSchema, structuredClone(input)) as Record<string, unknown>;
   const dataset = withDefaults.dataset as { kind?: unknown } | undefined;
   const kind = dataset && typeof dataset === 'object' ? dataset.kind : undefined;
+  const issues: ValidationIssue[] = [];
   if (typeof kind === 'string' && kind in sourceValidators) {
     const schema = DATASET_SOURCE_SCHEMAS[kind as keyof typeof DATASET_SOURCE_SCHEMAS];
     withDefaults.dataset = Value.Default(schema, dataset);
-    const issues = sourceValidators[kind]!.issues(withDefaults.dataset);
-    if (issues.length) throw new ValidationError('run configuration', issues.map((i) => ({ path: `/dataset${i.path}`, message: i.message })));
+    issues.push(...sourceValidators[kind]!.issues(withDefaults.dataset).map((i) => ({ path: `/dataset${i.path}`, message: i.message })));
   } else if (dataset !== undefined) {
-    throw new ValidationError('run configuration', [{ path: '/dataset/kind', message: `must be one of ${Object.keys(DATASET_SOURCE_SCHEMAS).map((k) => `"${k}"`).join(', ')}` }]);
+    issues.push({ path: '/dataset/kind', message: `must be one of ${Object.keys(DATASET_SOURCE_SCHEMAS).map((k) => `"${k}"`).join(', ')}` });
   }
+  // Every other field too, so one look at the error shows all that is wrong.
+  issues.push(...runConfigValidator.issues(withDefaults).filter((i) => !i.path.startsWith('/dataset') || dataset === undefined));
+  if (issues.length) throw new ValidationError('run configuration', dedupeByPath(issues));
   const config = runConfigValidator.parse(withDefaults);
   if (config.searchSpace) searchSpaceValidator.parse(config.searchSpace);
   return config;
+}
+
+/** One issue per field: TypeBox reports a union mismatch once per alternative. */
+function dedupeByPath(issues: ValidationIssue[]): ValidationIssue[] {
+  const seen = new Set<string>();
+  return issues.filter((i) => (seen.has(i.path) ? false : (seen.add(i.path), true)));
 }
 
 /** Reads and parses a JSON run file; errors name the file. Dataset paths come back absolute, resolved against the run file's folder. */

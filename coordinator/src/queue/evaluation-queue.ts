@@ -54,6 +54,11 @@ export class EvaluationQueue {
     return (await this.queue.getJob(evaluationId)) != null;
   }
 
+  /** The job's BullMQ state ('waiting', 'active', 'completed', …, or 'unknown' when Redis lacks it). */
+  async jobState(evaluationId: string): Promise<string> {
+    return this.queue.getJobState(evaluationId);
+  }
+
   /** Up to `limit` finished jobs of each kind, oldest first. */
   async finished(limit = 200): Promise<FinishedJob[]> {
     const out: FinishedJob[] = [];

@@ -278,8 +278,17 @@ export class RunManager {
       this.store.logEvent(runId, `run-${next}`, { from: run.state, action });
     });
     this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);
+    if (action === 'stop') await this.cancelPending(runId);
     if (action !== 'pause') await this.tick();
     return this.store.getRun(runId)!;
+  }
+
+  /** Takes a stopped run's owed evaluations out of the queue; a result that still arrives is ignored. */
+  private async cancelPending(runId: string): Promise<void> {
+    for (const ev of this.store.pendingEvaluations(runId)) {
+      await this.opts.queue.remove(ev.id).catch(() => undefined); // a job being trained cannot be removed; its result is ignored
+      this.store.recordFailure(ev.id, 'run stopped', this.now());
+    }
   }
 
   /**
