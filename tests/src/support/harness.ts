@@ -32,7 +32,7 @@ export class TestCluster {
     readonly prefix: string,
   ) {}
 
-  static async start(name: string, opts: { dataDir?: string; prefix?: string } = {}): Promise<TestCluster> {
+  static async start(name: string, opts: { dataDir?: string; prefix?: string; lockDurationMs?: number; stalledIntervalMs?: number } = {}): Promise<TestCluster> {
     const dataDir = opts.dataDir ?? (await mkdtemp(join(tmpdir(), `nb-${name}-`)));
     const prefix = opts.prefix ?? uniquePrefix(name);
     const coordinator = await Coordinator.start({
@@ -42,6 +42,8 @@ export class TestCluster {
       tickMs: 250,
       queue: { redisUrl: REDIS_URL, prefix, queueName: 'evaluations' },
       logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn'),
+      lockDurationMs: opts.lockDurationMs,
+      stalledIntervalMs: opts.stalledIntervalMs,
     });
     return new TestCluster(coordinator, dataDir, prefix);
   }
