@@ -128,6 +128,12 @@ describe('a run end to end with two workers', () => {
     expect(predicted).toEqual(stored.testPredictions);
     const accuracy = predicted.filter((p, i) => p === test.labels[i]).length / test.count;
     expect(accuracy).toBe(champion.test.accuracy);
-    expect(await readFile(join(out, 'report.md'), 'utf8')).toContain('held-out test accuracy');
+    const report = await readFile(join(out, 'report.md'), 'utf8');
+    expect(report).toContain('held-out test accuracy');
+    expect(report).toContain('confusion matrix');
+    // the confusion matrix accounts for every test sample, its diagonal for the correct ones
+    const saved = JSON.parse(await readFile(join(out, 'champion.json'), 'utf8')) as { test: { confusion: number[][] } };
+    expect(saved.test.confusion.flat().reduce((a, b) => a + b, 0)).toBe(test.count);
+    expect(saved.test.confusion.reduce((a, row, i) => a + row[i]!, 0)).toBe(predicted.filter((p, i) => p === test.labels[i]).length);
   });
 });

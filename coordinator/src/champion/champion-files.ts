@@ -1,6 +1,30 @@
-import { analyzeGenome, canonicalGenome, type ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { readFileSync } from 'node:fs';
+import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
+import { describePreprocessing } from '../datasets/index.js';
+
+const labelCache = new Map<string, Int32Array>();
+
+/** The held-out test split's labels of a run (read once from the coordinator's disk). */
+function testLabelsOf(run: RunRecord): Int32Array {
+  let labels = labelCache.get(run.dataset.testPath);
+  if (!labels) {
+    labels = decodeShard(readFileSync(run.dataset.testPath)).train.labels;
+    labelCache.set(run.dataset.testPath, labels);
+  }
+  return labels;
+}
+
+/** counts[true][predicted] over the test split. */
+export function confusionMatrix(labels: ArrayLike<number>, predictions: readonly number[], numClasses: number): number[][] {
+  const m = Array.from({ length: numClasses }, () => new Array<number>(numClasses).fill(0));
+  predictions.forEach((p, i) => {
+    const row = m[labels[i]!];
+    if (row && p >= 0 && p < numClasses) row[p]!++;
+  });
+  return m;
+}
 
 /** Names of the files a champion export holds, in the order they are written. */
 export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'champion.json', 'report.md'] as const;
@@ -10,6 +34,7 @@ export type ChampionFileName = (typeof CHAMPION_FILES)[number];
 export function championSummary(store: RunStore, run: RunRecord) {
   const champion = store.getChampion(run.id);
   if (!champion) return null;
+  const testLabels = testLabelsOf(run);
   const genome = store.getGenome(champion.genomeHash)!;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   return {
@@ -21,7 +46,13 @@ export function championSummary(store: RunStore, run: RunRecord) {
     paramCount: genome.params,
     flops: genome.flops,
     validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId },
-    test: { accuracy: champion.testAccuracy, loss: champion.testLoss, samples: champion.testPredictions.length },
+    test: {
+      accuracy: champion.testAccuracy,
+      loss: champion.testLoss,
+      samples: champion.testPredictions.length,
+      /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). */
+      confusion: confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses),
+    },
     finalTraining: {
       evaluationId: champion.evaluationId,
       epochs: champion.result.epochsRun,
@@ -32,6 +63,9 @@ export function championSummary(store: RunStore, run: RunRecord) {
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
+    /** How raw samples must be prepared before they go into the model (what the import fitted). */
+    input: run.dataset.preparation ? describePreprocessing(run.dataset.preparation.preprocessing) : 'demo tiles: 16×16 grayscale, pixel values in [0, 1]',
+    trainingCurve: champion.result.history,
     files: [...CHAMPION_FILES],
   };
 }

@@ -3,6 +3,7 @@ import { parseArgs } from 'node:util';
 import { runWorkerCli, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
 import { statusResponseValidator } from '@netbreeder/shared-types';
 import { Coordinator, DEFAULT_PORT } from '../coordinator.js';
+import type { RunRecord } from '../store/run-store.js';
 import { readRunConfigFile } from '../config/run-config.js';
 import { runDemo, defaultDemoWorkers } from './demo.js';
 import { statusTable } from './format.js';
@@ -130,7 +131,10 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
   });
   const active = coordinator.store.unfinishedRun();
   if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${config ? '; --run ignored until it ends' : ''}\n`);
-  else if (config) process.stdout.write(`started run ${(await coordinator.startRun(config)).id}\n`);
+  else if (config) {
+    const run = await coordinator.startRun(config);
+    process.stdout.write(`started run ${run.id}\n${describePreparation(run)}`);
+  }
   else process.stdout.write('no run yet: restart with --run FILE to start one\n');
   process.stdout.write(`coordinator listening on ${coordinator.url} · status: ${coordinator.url}/status\n`);
   process.stdout.write(`tokens (join for workers, admin for control and export): ${coordinator.secrets.path}\n`);
@@ -141,6 +145,23 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
   });
   await coordinator.close();
   return 0;
+}
+
+/** Class counts per split and the dataset's warnings, as the coordinator recorded them. */
+function describePreparation(run: RunRecord): string {
+  const m = run.dataset.manifest;
+  const prep = run.dataset.preparation;
+  const lines = [`dataset ${m.sha256.slice(0, 12)}: ${m.classNames.length} classes, samples of shape [${m.inputShape.join(', ')}]`];
+  if (prep) {
+    lines.push('  class                     train    val   test');
+    m.classNames.forEach((name, i) =>
+      lines.push(`  ${name.padEnd(24).slice(0, 24)} ${String(prep.classCounts.train[i]).padStart(6)} ${String(prep.classCounts.val[i]).padStart(6)} ${String(prep.classCounts.test[i]).padStart(6)}`),
+    );
+    for (const w of prep.warnings) lines.push(`  warning: ${w.message}`);
+  } else {
+    lines.push(`  ${m.trainCount} training and ${m.valCount} validation samples`);
+  }
+  return `${lines.join('\n')}\n`;
 }
 
 async function statusCommand(argv: string[]): Promise<number> {

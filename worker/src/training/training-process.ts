@@ -63,7 +63,14 @@ export class TrainingProcess {
   start(): Promise<BackendChoice> {
     if (this.closed) return Promise.reject(new TrainingProcessError('the training process was closed; create a new one'));
     if (this.ready) return this.ready;
-    const child = fork(CHILD_ENTRY, [], { execArgv: ['--import', TSX_LOADER], stdio: ['ignore', 'inherit', 'inherit', 'ipc'], serialization: 'advanced' });
+    const child = fork(CHILD_ENTRY, [], {
+      execArgv: ['--import', TSX_LOADER],
+      stdio: ['ignore', 'inherit', 'inherit', 'ipc'],
+      serialization: 'advanced',
+      // One worker uses one core: the native backend, where it installs, would otherwise start a
+      // thread pool the size of the machine (the wasm backend is single-threaded in Node anyway).
+      env: { ...process.env, TF_NUM_INTRAOP_THREADS: '1', TF_NUM_INTEROP_THREADS: '1' },
+    });
     this.child = child;
     this.ready = new Promise<BackendChoice>((resolve, reject) => {
       const onMessage = (message: ChildMessage) => {
