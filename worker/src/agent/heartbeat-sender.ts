@@ -19,6 +19,8 @@ export class HeartbeatSender {
     private readonly snapshot: () => WorkerHeartbeat,
     private readonly log: Logger,
     private readonly joinToken: string | null = null,
+    /** Called when the coordinator answers that this worker id is revoked. */
+    private readonly onRevoked: () => void = () => {},
   ) {}
 
   start(): void {
@@ -54,6 +56,11 @@ export class HeartbeatSender {
         body: JSON.stringify(body),
         signal: AbortSignal.timeout(Math.max(2000, this.intervalMs)),
       });
+      if (res.status === 403) {
+        this.log.error('the coordinator revoked this worker; stopping');
+        this.onRevoked();
+        return;
+      }
       if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
       if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
       this.failures = 0;

@@ -61,7 +61,10 @@ export class WorkerAgent {
       { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
       log,
     );
-    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log, options.joinToken);
+    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log, options.joinToken, () => {
+      // Its results would be refused: give the current job back at once and leave.
+      void this.stop({ force: true });
+    });
   }
 
   /** The worker's lifecycle state. */
