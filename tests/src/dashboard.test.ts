@@ -87,6 +87,7 @@ describe('the dashboard page, live, in headless chromium', () => {
     });
     cluster.spawnWorker('dash-w1');
     cluster.spawnWorker('dash-w2');
+    await cluster.waitForReadyWorkers(2);
     run = await cluster.coordinator.startRun(config);
     browser = await chromium.launch({
       executablePath: CHROMIUM,

@@ -42,8 +42,7 @@ describe('a run end to end with two workers', () => {
     });
     cluster.spawnWorker('w1');
     cluster.spawnWorker('w2');
-    // Both workers ready (backend chosen) before the run starts, so both get work.
-    await waitFor('two ready workers', () => cluster.coordinator.store.listWorkers().filter((w) => w.heartbeat.backend && w.heartbeat.state === 'idle').length === 2, 60_000);
+    await cluster.waitForReadyWorkers(2);
     run = await cluster.coordinator.startRun(config);
     try {
       await waitFor(

@@ -103,6 +103,7 @@ describe('GET /metrics with a real run', () => {
     });
     cluster.spawnWorker('met-w1');
     cluster.spawnWorker('met-w2');
+    await cluster.waitForReadyWorkers(2);
     run = await cluster.coordinator.startRun(config);
     const url = cluster.coordinator.url;
     try {

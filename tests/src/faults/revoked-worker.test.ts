@@ -19,7 +19,7 @@ describe('a revoked worker', () => {
     const suspect = cluster.spawnWorker('suspect', [...faultWorkerArgs()]);
     cluster.spawnWorker('trusted', faultWorkerArgs());
     const store = cluster.coordinator.store;
-    await waitFor('two ready workers', () => store.listWorkers().filter((w) => w.heartbeat.backend && w.heartbeat.state === 'idle').length === 2, 60_000);
+    await cluster.waitForReadyWorkers(2);
     const run = await cluster.coordinator.startRun(config);
     await waitFor('the suspect to be training', () => store.listWorkers().find((w) => w.heartbeat.workerId === 'suspect')?.heartbeat.currentEvaluationId, 60_000, 50);
 

@@ -22,7 +22,7 @@ describe('a slow worker that reports after its lock was taken over', () => {
     const sleepy = cluster.spawnWorker('sleepy', faultWorkerArgs());
     cluster.spawnWorker('steady', faultWorkerArgs());
     const store = cluster.coordinator.store;
-    await waitFor('two ready workers', () => store.listWorkers().filter((w) => w.heartbeat.backend && w.heartbeat.state === 'idle').length === 2, 60_000);
+    await cluster.waitForReadyWorkers(2);
     const run = await cluster.coordinator.startRun(config);
 
     const held = await waitFor('the sleepy worker to be training', () => store.listWorkers().find((w) => w.heartbeat.workerId === 'sleepy')?.heartbeat.currentEvaluationId, 60_000, 50);

@@ -62,6 +62,11 @@ export class TestCluster {
     return child;
   }
 
+  /** Waits until `n` workers have chosen their backend and are idle, so all of them get work. */
+  async waitForReadyWorkers(n: number, timeoutMs = 60_000): Promise<void> {
+    await waitFor(`${n} ready workers`, () => this.coordinator.store.listWorkers().filter((w) => w.heartbeat.backend && w.heartbeat.state === 'idle').length >= n, timeoutMs);
+  }
+
   /** Stops workers, empties this cluster's queue, closes the coordinator and removes the data. */
   async stop(opts: { keepData?: boolean } = {}): Promise<void> {
     for (const w of this.workers) if (w.exitCode === null) w.kill('SIGKILL');
