@@ -348,7 +348,7 @@ export class RunManager {
       genome: proposal.genome,
       genomeHash: proposal.genomeHash,
       seed: evaluationSeed(run.seed, seq),
-      budget: { epochs: proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
+      budget: { epochs: proposal.budgetEpochs ?? proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
       dataset: run.dataset.manifest,
     };
     this.store.transaction(() => {
@@ -432,7 +432,16 @@ export class RunManager {
     const recorded = this.store.transaction(() => {
       const outcome = this.store.recordResult(ev.id, result, this.now());
       if (outcome !== 'recorded') return false;
-      this.algorithm!.observe({ evaluationId: ev.id, genomeHash: ev.genomeHash, genome: ev.job.genome, fitness: result.valAccuracy! });
+      this.algorithm!.observe({
+        evaluationId: ev.id,
+        genomeHash: ev.genomeHash,
+        genome: ev.job.genome,
+        fitness: result.valAccuracy!,
+        budgetEpochs: ev.job.budget.epochs,
+        params: result.paramCount,
+        flops: result.flops,
+        trainSeconds: result.trainSeconds,
+      });
       this.store.saveSearchSnapshot(ev.runId, this.algorithm!.snapshot());
       return true;
     });

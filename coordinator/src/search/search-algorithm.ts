@@ -18,6 +18,11 @@ export interface Proposal<G = Genome> {
   mutation: Mutation | null;
   /** One line for the record: why this genome, from which parent, by which change. */
   reason: string;
+  /**
+   * Training epochs for this evaluation, for multi-fidelity algorithms (a low rung trains briefly);
+   * absent: the genome's own `training.epochs`.
+   */
+  budgetEpochs?: number;
 }
 
 /** A finished evaluation the algorithm learns from. */
@@ -29,6 +34,13 @@ export interface Observation<G = Genome> {
   genome: G;
   /** Validation accuracy: higher is better. A finite number. */
   fitness: number;
+  /** Epochs the evaluation trained for (its budget), for multi-fidelity algorithms. */
+  budgetEpochs?: number;
+  /** Size and cost of the genome, for multi-objective algorithms (from `analyzeGenome`). */
+  params?: number;
+  flops?: number;
+  /** Seconds the training took on its worker. */
+  trainSeconds?: number;
 }
 
 /**
