@@ -124,6 +124,10 @@ describe('a run end to end with two workers', () => {
     const predicted = Array.from((model.predict(x) as tf.Tensor).argMax(-1).dataSync());
     x.dispose();
     const stored = cluster.coordinator.store.getChampion(run.id)!;
+    // The best three distinct genomes were trained again and the best on the test split exported.
+    const scored = cluster.coordinator.store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { testAccuracy: number; genomeHash: string });
+    expect(scored.length).toBe(Math.min(3, new Set(cluster.coordinator.store.evaluations(run.id).filter((e) => e.kind === 'search').map((e) => e.genomeHash)).size));
+    expect(stored.testAccuracy).toBe(Math.max(...scored.map((c) => c.testAccuracy)));
     expect(predicted).toEqual(stored.testPredictions);
     const accuracy = predicted.filter((p, i) => p === test.labels[i]).length / test.count;
     expect(accuracy).toBe(champion.test.accuracy);

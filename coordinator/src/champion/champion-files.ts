@@ -62,6 +62,11 @@ export function championSummary(store: RunStore, run: RunRecord) {
       data: 'train + validation',
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
+    /** Every genome that got the final training, with its validation (search) and test scores. */
+    candidates: store.events(run.id, 'champion-candidate-scored').map((e) => {
+      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number };
+      return { ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' };
+    }),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
     /** How raw samples must be prepared before they go into the model (what the import fitted). */
     input: run.dataset.preparation ? describePreprocessing(run.dataset.preparation.preprocessing) : 'demo tiles: 16×16 grayscale, pixel values in [0, 1]',

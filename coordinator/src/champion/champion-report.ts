@@ -48,6 +48,16 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     ...Object.entries(c.genome.training).map(([k, v]) => `- ${k}: ${v}`),
     '',
+    '## How it was chosen',
+    '',
+    c.candidates.length > 1
+      ? `The ${c.candidates.length} best distinct genomes of the search were each trained again on train + validation and scored on the held-out test split; the best of them by test accuracy is this champion. Because the test split chose among ${c.candidates.length}, its test score is slightly optimistic; the others' scores are below.`
+      : 'The best genome of the search was trained again on train + validation and scored once on the held-out test split.',
+    '',
+    '| genome | validation (search) | test |',
+    '|---|---|---|',
+    ...c.candidates.map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${pct(k.testAccuracy)} |`),
+    '',
     '## How it was found',
     '',
     c.lineage.length === 0

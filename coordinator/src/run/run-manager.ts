@@ -26,8 +26,7 @@ import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.j
 import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
-import { scoreChampion } from '../champion/score-champion.js';
-import { exportChampion } from '../champion/export-champion.js';
+import { ChampionPhase } from './champion-phase.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -94,6 +93,7 @@ export class RunManager {
   private readonly tickMs: number;
   private readonly workerTimeoutMs: number;
   private readonly queueSlack: number;
+  private readonly champion: ChampionPhase;
 
   constructor(
     private readonly opts: RunManagerOptions,
@@ -103,6 +103,15 @@ export class RunManager {
     this.tickMs = opts.tickMs ?? 1000;
     this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
     this.queueSlack = opts.queueSlack ?? 1;
+    this.champion = new ChampionPhase({
+      store: opts.store,
+      queue: opts.queue,
+      log: opts.log,
+      dataDir: opts.dataDir,
+      now: this.now,
+      testSplit: () => this.testSplit!,
+      onFinished: (run) => this.events.runFinished?.(run),
+    });
   }
 
   get store(): RunStore {
@@ -222,7 +231,7 @@ export class RunManager {
     const run = this.currentRun();
     if (!run) return;
     if (run.state === 'searching') await this.advanceSearch(run);
-    else if (run.state === 'training-champion') await this.ensureChampionJob(run);
+    else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
 
   /** Records heartbeats and marks the worker's current evaluation running. */
@@ -317,7 +326,7 @@ export class RunManager {
     const counts = this.store.counts(run.id, 'search');
     const inFlight = counts.queued + counts.running;
     if (this.searchBudgetSpent(run)) {
-      if (inFlight === 0) await this.beginChampion(run);
+      if (inFlight === 0) await this.champion.begin(run);
       return;
     }
     const target = Math.max(2, this.aliveWorkers() + this.queueSlack);
@@ -392,7 +401,7 @@ export class RunManager {
       } else if (ev.kind === 'search') {
         this.recordSearchResult(ev, job.returnvalue as EvaluationResult);
       } else {
-        await this.recordChampionResult(ev, job.returnvalue as EvaluationResult);
+        await this.champion.recordResult(ev, job.returnvalue as EvaluationResult);
       }
     } else {
       await this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable);
@@ -471,71 +480,7 @@ export class RunManager {
     });
     this.opts.log.warn({ evaluationId: ev.id, reason, reissuedAs: next?.evaluationId ?? null }, 'evaluation attempt failed');
     if (next) await this.opts.queue.add(next);
-    else if (ev.kind === 'champion') this.store.setRunState(ev.runId, 'failed', { now: this.now(), failure: `champion training failed: ${reason}` });
+    else if (ev.kind === 'champion') await this.champion.attemptGivenUp(ev.runId);
   }
 
-  // ---- champion phase --------------------------------------------------------------------------
-
-  private async beginChampion(run: RunRecord): Promise<void> {
-    const [best] = this.store.topEvaluations(run.id, 1);
-    if (!best) {
-      this.store.setRunState(run.id, 'failed', { now: this.now(), failure: 'no evaluation succeeded, so there is no champion' });
-      this.opts.log.error({ runId: run.id }, 'run ended without a single successful evaluation');
-      return;
-    }
-    this.store.setRunState(run.id, 'training-champion');
-    this.store.logEvent(run.id, 'champion-chosen', { evaluationId: best.id, valAccuracy: best.valAccuracy });
-    this.opts.log.info({ runId: run.id, evaluationId: best.id, valAccuracy: best.valAccuracy }, 'search done; training the champion on train + validation');
-    await this.ensureChampionJob(this.store.getRun(run.id)!);
-  }
-
-  /** Queues the champion's final training once (idempotent across restarts). */
-  private async ensureChampionJob(run: RunRecord): Promise<void> {
-    if (this.store.evaluations(run.id).some((e) => e.kind === 'champion')) return;
-    const [best] = this.store.topEvaluations(run.id, 1);
-    if (!best) return;
-    const job: EvaluationJob = {
-      ...best.job,
-      kind: 'champion',
-      attempt: 1,
-      evaluationId: evaluationId(run.id, best.seq, 1, 'champion'),
-      // The same initial weights that earned the genome its place; only the data (train +
-      // validation) and the budget change.
-      seed: best.job.seed,
-      budget: { epochs: run.config.champion.epochs, maxSeconds: run.config.champion.maxSeconds },
-    };
-    this.store.addEvaluation(job, best.seq, this.now(), false);
-    await this.opts.queue.add(job);
-  }
-
-  private async recordChampionResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
-    const source = this.store.topEvaluations(ev.runId, 1)[0]!;
-    const score = await scoreChampion(result.model!, this.testSplit!);
-    const recorded = this.store.transaction(() => {
-      if (this.store.recordResult(ev.id, result, this.now()) !== 'recorded') return false;
-      this.store.saveChampion(
-        {
-          runId: ev.runId,
-          evaluationId: ev.id,
-          sourceEvaluationId: source.id,
-          genomeHash: ev.genomeHash,
-          valAccuracy: source.valAccuracy!,
-          testAccuracy: score.accuracy,
-          testLoss: score.loss,
-          testPredictions: Array.from(score.predictions),
-          result: { ...result, model: undefined },
-          createdAt: this.now(),
-        },
-        JSON.stringify(result.model),
-      );
-      this.store.setRunState(ev.runId, 'finished', { now: this.now() });
-      return true;
-    });
-    if (!recorded) return;
-    const run = this.store.getRun(ev.runId)!;
-    const dir = await exportChampion(this.store, run, `${this.opts.dataDir}/runs/${run.id}/champion`);
-    this.store.logEvent(run.id, 'champion-exported', { dir, testAccuracy: score.accuracy });
-    this.opts.log.info({ runId: run.id, testAccuracy: score.accuracy, dir }, 'champion scored on the held-out test split and exported');
-    this.events.runFinished?.(run);
-  }
 }

@@ -181,6 +181,11 @@ export const RunConfigSchema = Type.Object(
         /** Epochs of the final training on train + validation. */
         epochs: Type.Integer({ minimum: 1, maximum: 1000, default: 15 }),
         maxSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400, default: 600 }),
+        /**
+         * How many of the best distinct genomes get the final training; the one that scores best
+         * on the held-out test split is exported (the report lists every candidate's scores).
+         */
+        topK: Type.Integer({ minimum: 1, maximum: 20, default: 3 }),
       },
       { additionalProperties: false, default: {} },
     ),
