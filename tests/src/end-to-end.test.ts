@@ -131,6 +131,10 @@ describe('a run end to end with two workers', () => {
     expect(predicted).toEqual(stored.testPredictions);
     const accuracy = predicted.filter((p, i) => p === test.labels[i]).length / test.count;
     expect(accuracy).toBe(champion.test.accuracy);
+    const html = await readFile(join(out, 'report.html'), 'utf8');
+    // the architecture diagram has one box per layer, plus input and head
+    expect(html.match(/<g class="layer">/g)?.length).toBe((champion.genome as { nodes: unknown[] }).nodes.length + 2);
+    expect(html).toContain('confusion matrix');
     const report = await readFile(join(out, 'report.md'), 'utf8');
     expect(report).toContain('held-out test accuracy');
     expect(report).toContain('confusion matrix');

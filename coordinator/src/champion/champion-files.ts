@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
+import { championReportHtml } from './champion-report-html.js';
 import { describePreprocessing } from '../datasets/index.js';
 
 const labelCache = new Map<string, Int32Array>();
@@ -27,7 +28,7 @@ export function confusionMatrix(labels: ArrayLike<number>, predictions: readonly
 }
 
 /** Names of the files a champion export holds, in the order they are written. */
-export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'champion.json', 'report.md'] as const;
+export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'champion.json', 'report.md', 'report.html'] as const;
 export type ChampionFileName = (typeof CHAMPION_FILES)[number];
 
 /** What GET /runs/:id/champion returns, and champion.json holds. */
@@ -35,6 +36,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const champion = store.getChampion(run.id);
   if (!champion) return null;
   const testLabels = testLabelsOf(run);
+  const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { evaluationId: string; latencyMsPerSample?: number; backend?: string });
+  const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   return {
@@ -45,6 +48,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     genome: genome.genome,
     paramCount: genome.params,
     flops: genome.flops,
+    /** Median time to classify one sample alone, measured on the coordinator's CPU when it was scored. */
+    latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null },
     validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId },
     test: {
       accuracy: champion.testAccuracy,
@@ -64,7 +69,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
     lineage: store.lineageChain(run.id, champion.genomeHash),
     /** Every genome that got the final training, with its validation (search) and test scores. */
     candidates: store.events(run.id, 'champion-candidate-scored').map((e) => {
-      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number };
+      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string };
       return { ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' };
     }),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
@@ -101,5 +106,6 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
+    ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : []))],
   ]);
 }

@@ -16,6 +16,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     `| validation accuracy (during search) | ${pct(c.validation.accuracy)} |`,
     `| parameters | ${c.paramCount.toLocaleString('en-US')} |`,
     `| forward FLOPs per sample | ${c.flops.toLocaleString('en-US')} |`,
+    `| CPU latency per sample | ${c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median, ${c.latency.backend} backend on the coordinator)`} |`,
     `| final training | ${c.finalTraining.epochs} epochs on ${c.finalTraining.data}, ${c.finalTraining.seconds.toFixed(1)} s on ${c.finalTraining.backend} (${c.finalTraining.workerId}) |`,
     `| genome hash | \`${c.genomeHash}\` |`,
     '',

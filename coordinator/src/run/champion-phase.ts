@@ -109,6 +109,7 @@ export class ChampionPhase {
         testAccuracy: score.accuracy,
         testLoss: score.loss,
         backend: score.backend,
+        latencyMsPerSample: score.latencyMsPerSample,
       });
       if (better) {
         this.o.store.saveChampion(

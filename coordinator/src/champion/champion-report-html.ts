@@ -1,0 +1,142 @@
+import { INPUT_ID, topologicalOrder, type NodeAnalysis } from '@netbreeder/shared-types';
+import type { ChampionSummaryDocument } from './champion-files.js';
+
+const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
+const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
+
+/**
+ * The architecture as an SVG: one box per layer (with its output shape), laid out in columns by
+ * depth from the input, arrows along every connection, so skip connections show as long edges.
+ */
+export function architectureSvg(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
+  const topo = topologicalOrder(c.genome);
+  const nodes = topo.ok ? topo.order : c.genome.nodes;
+  const shapes = new Map(layers.map((l) => [l.id, l.outputShape]));
+  const depth = new Map<string, number>([[INPUT_ID, 0]]);
+  for (const n of nodes) depth.set(n.id, 1 + Math.max(...n.inputs.map((i) => depth.get(i) ?? 0)));
+  const headDepth = (depth.get(c.genome.output) ?? 0) + 1;
+  const all = [
+    { id: INPUT_ID, label: 'input', inputs: [] as string[] },
+    ...nodes.map((n) => ({ id: n.id, label: n.kind, inputs: n.inputs })),
+    { id: 'head', label: `head: dense ${c.settings.dataset.numClasses} softmax`, inputs: [c.genome.output] },
+  ];
+  depth.set('head', headDepth);
+  const columns = new Map<number, string[]>();
+  for (const n of all) columns.set(depth.get(n.id)!, [...(columns.get(depth.get(n.id)!) ?? []), n.id]);
+  const W = 150;
+  const H = 58;
+  const GAP_X = 40;
+  const GAP_Y = 18;
+  const pos = new Map<string, { x: number; y: number }>();
+  for (const [d, ids] of columns) ids.forEach((id, row) => pos.set(id, { x: 10 + d * (W + GAP_X), y: 10 + row * (H + GAP_Y) }));
+  const width = 20 + (headDepth + 1) * (W + GAP_X);
+  const height = 20 + Math.max(...[...columns.values()].map((ids) => ids.length)) * (H + GAP_Y);
+  const detail = (id: string): string => {
+    const n = c.genome.nodes.find((x) => x.id === id);
+    if (!n) return id === INPUT_ID ? `[${c.settings.dataset.inputShape.join('×')}]` : '';
+    const parts: string[] = [];
+    if ('units' in n) parts.push(`${n.units} units`);
+    if ('filters' in n) parts.push(`${n.kernelSize}×${n.kernelSize}×${n.filters}`);
+    if (n.kind === 'depthwise-conv2d') parts.push(`${n.kernelSize}×${n.kernelSize}×${n.depthMultiplier}`);
+    if ('poolSize' in n) parts.push(`${n.poolSize}×${n.poolSize}`);
+    if ('strides' in n && n.strides > 1) parts.push(`stride ${n.strides}`);
+    if ('rate' in n) parts.push(`rate ${n.rate}`);
+    if ('activation' in n) parts.push(n.activation);
+    return parts.join(', ');
+  };
+  const edges = all.flatMap((n) =>
+    n.inputs.map((i) => {
+      const a = pos.get(i)!;
+      const b = pos.get(n.id)!;
+      return `<line x1="${a.x + W}" y1="${a.y + H / 2}" x2="${b.x}" y2="${b.y + H / 2}" class="edge" marker-end="url(#arrow)"/>`;
+    }),
+  );
+  const boxes = all.map((n) => {
+    const p = pos.get(n.id)!;
+    const shape = n.id === INPUT_ID ? c.settings.dataset.inputShape : n.id === 'head' ? [c.settings.dataset.numClasses] : shapes.get(n.id);
+    return `<g class="layer"><rect x="${p.x}" y="${p.y}" width="${W}" height="${H}" rx="6"/>
+<text x="${p.x + 8}" y="${p.y + 18}" class="kind">${esc(n.label)}</text>
+<text x="${p.x + 8}" y="${p.y + 34}">${esc(detail(n.id))}</text>
+<text x="${p.x + 8}" y="${p.y + 50}" class="shape">${shape ? `→ ${shape.join('×')}` : ''}</text></g>`;
+  });
+  // Scales down to the page width (and to A4 when printed) instead of scrolling.
+  return `<svg xmlns="http://www.w3.org/2000/svg" width="100%" style="max-width: ${width}px" viewBox="0 0 ${width} ${height}" role="img" aria-label="architecture">
+<defs><marker id="arrow" viewBox="0 0 10 10" refX="10" refY="5" markerWidth="7" markerHeight="7" orient="auto-start-reverse"><path d="M 0 0 L 10 5 L 0 10 z"/></marker></defs>
+${edges.join('\n')}
+${boxes.join('\n')}
+</svg>`;
+}
+
+/** The final training's loss per epoch as a small SVG line chart. */
+function curveSvg(c: ChampionSummaryDocument): string {
+  const h = c.trainingCurve;
+  if (h.length === 0) return '<p>No epochs recorded.</p>';
+  const W = 480;
+  const H = 180;
+  const maxLoss = Math.max(...h.map((e) => e.trainLoss), 1e-9);
+  const x = (i: number) => 40 + (h.length === 1 ? 0 : (i / (h.length - 1)) * (W - 60));
+  const y = (v: number) => 10 + (1 - v / maxLoss) * (H - 40);
+  const ya = (v: number) => 10 + (1 - v) * (H - 40);
+  const line = (f: (e: (typeof h)[number]) => number, scale: (v: number) => number) => h.map((e, i) => `${i ? 'L' : 'M'}${x(i).toFixed(1)},${scale(f(e)).toFixed(1)}`).join(' ');
+  return `<svg xmlns="http://www.w3.org/2000/svg" width="${W}" height="${H}" role="img" aria-label="training curve">
+<line x1="40" y1="${H - 30}" x2="${W - 20}" y2="${H - 30}" class="axis"/><line x1="40" y1="10" x2="40" y2="${H - 30}" class="axis"/>
+<path d="${line((e) => e.trainLoss, y)}" class="loss"/><path d="${line((e) => e.trainAccuracy, ya)}" class="acc"/>
+<text x="44" y="${H - 12}">epoch 1</text><text x="${W - 70}" y="${H - 12}">epoch ${h.length}</text>
+<text x="${W - 150}" y="22" class="loss-label">loss (max ${maxLoss.toFixed(3)})</text><text x="${W - 150}" y="38" class="acc-label">train accuracy (0–100%)</text>
+</svg>`;
+}
+
+/**
+ * The champion report as one self-contained HTML page (no scripts, no external files): the
+ * architecture drawn, the scores, the confusion matrix, the final training curve, how the
+ * champion was chosen and found, and the settings to reproduce it. Prints on A4.
+ */
+export function championReportHtml(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
+  const names = c.settings.dataset.classNames;
+  const maxCell = Math.max(1, ...c.test.confusion.flat());
+  const confusion = `<table class="confusion"><tr><th>true \\ predicted</th>${names.map((n) => `<th>${esc(n)}</th>`).join('')}</tr>
+${c.test.confusion.map((row, i) => `<tr><th>${esc(names[i]!)}</th>${row.map((v, j) => `<td style="background: rgba(${i === j ? '31,120,110' : '176,80,40'}, ${(0.08 + 0.6 * (v / maxCell)).toFixed(2)})">${v}</td>`).join('')}</tr>`).join('\n')}</table>`;
+  const rows = (pairs: Array<[string, string]>) => pairs.map(([k, v]) => `<tr><th>${esc(k)}</th><td>${v}</td></tr>`).join('\n');
+  return `<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>Champion of ${esc(c.runName)}</title>
+<style>
+body { font: 14px/1.45 system-ui, sans-serif; color: #1d2430; margin: 2rem auto; max-width: 60rem; padding: 0 1rem; }
+h1 { font-size: 1.5rem; border-bottom: 3px solid #b5542b; padding-bottom: .3rem; } h2 { font-size: 1.1rem; margin-top: 2rem; color: #1f6f66; }
+table { border-collapse: collapse; margin: .5rem 0; } th, td { border: 1px solid #cfd6de; padding: .25rem .6rem; text-align: left; }
+.confusion td { text-align: right; min-width: 3rem; } .big { font-size: 1.2rem; font-weight: 600; }
+svg text { font: 11px system-ui, sans-serif; fill: #1d2430; } svg .kind { font-weight: 700; } svg .shape { fill: #5b6675; }
+.layer rect { fill: #f3efe7; stroke: #b5542b; } .edge { stroke: #1f6f66; stroke-width: 1.4; } marker path { fill: #1f6f66; }
+.axis { stroke: #8a94a3; } .loss { fill: none; stroke: #b5542b; stroke-width: 2; } .acc { fill: none; stroke: #1f6f66; stroke-width: 2; }
+.loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
+@media print { body { margin: 0; max-width: none; } .diagram { overflow: visible; } h2 { break-after: avoid; } table, svg { break-inside: avoid; } }
+</style></head><body>
+<h1>Champion of run ${esc(c.runName)} <small>(${esc(c.runId)})</small></h1>
+<p class="big">Held-out test accuracy ${pct(c.test.accuracy)} on ${c.test.samples} samples never used in the search or its training.</p>
+<table>${rows([
+    ['architecture', esc(c.summary)],
+    ['validation accuracy (during search)', pct(c.validation.accuracy)],
+    ['parameters', c.paramCount.toLocaleString('en-US')],
+    ['forward FLOPs per sample', c.flops.toLocaleString('en-US')],
+    ['CPU latency per sample', c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median; ${esc(String(c.latency.backend))} backend, coordinator's CPU)`],
+    ['final training', `${c.finalTraining.epochs} epochs on ${c.finalTraining.data}, ${c.finalTraining.seconds.toFixed(1)} s on ${esc(c.finalTraining.backend)} (${esc(c.finalTraining.workerId)})`],
+    ['genome hash', `<code>${c.genomeHash}</code>`],
+  ])}</table>
+<h2>Architecture</h2>
+<div class="diagram">${architectureSvg(c, layers)}</div>
+<h2>Test split: confusion matrix</h2>
+${confusion}
+<h2>Final training</h2>
+${curveSvg(c)}
+<h2>How it was chosen</h2>
+<p>${c.candidates.length > 1 ? `The ${c.candidates.length} best distinct genomes of the search were trained again on train + validation and scored on the test split; this one scored best. Because the test split chose among ${c.candidates.length}, its score is slightly optimistic.` : 'The best genome of the search was trained again on train + validation and scored once on the test split.'}</p>
+<table><tr><th>genome</th><th>validation (search)</th><th>test</th></tr>
+${c.candidates.map((k) => `<tr><td>${k.genomeHash === c.genomeHash ? '<b>champion</b> ' : ''}<code>${k.genomeHash.slice(0, 12)}</code> ${esc(k.summary)}</td><td>${pct(k.valAccuracy)}</td><td>${pct(k.testAccuracy)}</td></tr>`).join('\n')}</table>
+<h2>How it was found</h2>
+${c.lineage.length === 0 ? '<p>An initial member of the population (no mutation led to it).</p>' : `<ol>${c.lineage.map((l) => `<li><code>${l.parentHash.slice(0, 12)}</code> → <code>${l.childHash.slice(0, 12)}</code>: ${esc(l.operator)} (${esc(l.detail)})</li>`).join('')}</ol>`}
+<h2>Feeding the model</h2>
+<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}. Load <code>model.json</code> + <code>weights.bin</code> with <code>tf.loadLayersModel</code>.</p>
+<h2>Reproduce</h2>
+<p>Search ${esc(c.settings.config.search.algorithm)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>
+</body></html>
+`;
+}
