@@ -5,4 +5,8 @@ export { resolveWorkerOptions, defaultCacheDir, type WorkerOptions } from './age
 export { DatasetCache, type DatasetCacheOptions } from './agent/dataset-cache.js';
 export { openRedis, DEFAULT_QUEUE_LOCATION, type QueueLocation } from './agent/redis-connection.js';
 export { msUntilClockTime } from './agent/stop-time.js';
-export { runWorkerCli, parseWorkerArgs, WORKER_HELP } from './worker-cli.js';
+export { runWorkerCli, parseWorkerArgs, parseSimulationArgs, WORKER_HELP } from './worker-cli.js';
+export type { Trainer } from './agent/trainer.js';
+export type { WorkerAgentParts } from './agent/worker-agent.js';
+export { SimulatedTraining, parseSimulateSpec, drawLogNormalSeconds, syntheticAccuracy, type SimulationSettings, type SimulatedTrainingOptions } from './agent/simulated-training.js';
+export { SimulatedFleet, type SimulatedFleetOptions, type FleetStats } from './agent/simulated-fleet.js';

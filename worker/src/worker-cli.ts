@@ -3,6 +3,8 @@ import { pino } from 'pino';
 import { WorkerAgent } from './agent/worker-agent.js';
 import { resolveWorkerOptions, type WorkerOptions } from './agent/worker-options.js';
 import { msUntilClockTime } from './agent/stop-time.js';
+import { parseSimulateSpec, type SimulationSettings } from './agent/simulated-training.js';
+import { SimulatedFleet } from './agent/simulated-fleet.js';
 
 export const WORKER_HELP = `netbreeder worker: join a coordinator and train candidate networks on this PC's CPU.
 
@@ -25,6 +27,16 @@ Options:
   --lock-ms MS        job lock length; a vanished worker's job returns after it (default 30000)
   --stalled-check-ms MS  how often this worker looks for stalled jobs   (default 15000)
   -h, --help          this text
+
+Test and benchmark only (nothing is trained; results are synthetic and worthless for a real search):
+  --simulate lognormal:MEAN_S:SIGMA  take real jobs from the real queue but, instead of training,
+                      wait a seeded log-normal time with that mean (seconds) and log spread, then
+                      return a synthetic result (backend cpu, accuracy from the genome's size and hash)
+  --drop-rate P       with --simulate: abandon each job with probability P (the simulated PC
+                      vanishes without reporting; its job's lock lapses and it is reissued)
+  --simulate-count N  with --simulate: run N simulated workers in this one process, each with its
+                      own queue worker, Redis connection, id (ID-s0 … ID-sN-1) and heartbeats (default 1)
+  --simulate-seed S   with --simulate: seed of the drawn times and drops (default simulate)
 
 Stop: Ctrl-C (or SIGTERM) finishes the current job, then exits; a second Ctrl-C abandons it (the
 coordinator hands it to another worker).
@@ -49,8 +61,27 @@ const WORKER_ARGS = {
   'idle-load': { type: 'string' },
   'lock-ms': { type: 'string' },
   'stalled-check-ms': { type: 'string' },
+  simulate: { type: 'string' },
+  'drop-rate': { type: 'string' },
+  'simulate-count': { type: 'string' },
+  'simulate-seed': { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
+
+/** The simulated-worker settings of `netbreeder worker` (test and benchmark only), or null without `--simulate`. */
+export function parseSimulationArgs(argv: string[]): (SimulationSettings & { count: number }) | null {
+  const { values } = parseArgs({ args: argv, options: WORKER_ARGS, strict: true });
+  const extras = (['drop-rate', 'simulate-count', 'simulate-seed'] as const).filter((k) => values[k] !== undefined);
+  if (values.simulate === undefined) {
+    if (extras.length) throw new Error(`--${extras[0]} needs --simulate lognormal:MEAN_S:SIGMA (simulated workers are for tests and benchmarks only)`);
+    return null;
+  }
+  const dropRate = values['drop-rate'] === undefined ? 0 : Number(values['drop-rate']);
+  if (!Number.isFinite(dropRate) || dropRate < 0 || dropRate >= 1) throw new Error(`--drop-rate must be a number from 0 up to (not including) 1, got '${values['drop-rate']}'`);
+  const count = values['simulate-count'] === undefined ? 1 : Number(values['simulate-count']);
+  if (!Number.isInteger(count) || count < 1 || count > 5000) throw new Error(`--simulate-count must be a whole number from 1 to 5000, got '${values['simulate-count']}'`);
+  return { ...parseSimulateSpec(values.simulate), dropRate, count, seed: values['simulate-seed'] ?? 'simulate' };
+}
 
 /** Parses `netbreeder worker` arguments into complete options ('help' when help was asked for). */
 export function parseWorkerArgs(argv: string[], env: NodeJS.ProcessEnv = process.env): WorkerOptions | 'help' {
@@ -96,6 +127,8 @@ export async function runWorkerCli(argv: string[]): Promise<number> {
     return 0;
   }
   const log = pino({ level: process.env.NETBREEDER_LOG_LEVEL ?? 'info', base: { component: 'worker', workerId: options.workerId } }, pino.destination(2));
+  const simulation = parseSimulationArgs(argv);
+  if (simulation) return runSimulatedFleet(options, simulation, log);
   const agent = new WorkerAgent(options, log);
   let signals = 0;
   const onSignal = (signal: string) => {
@@ -107,5 +140,20 @@ export async function runWorkerCli(argv: string[]): Promise<number> {
   process.on('SIGTERM', onSignal);
   await agent.start();
   await agent.stopped;
+  return 0;
+}
+
+/** Runs `--simulate` workers until a signal (test and benchmark only). Prints one JSON line of fleet stats to stdout when stopped. */
+async function runSimulatedFleet(options: WorkerOptions, simulation: SimulationSettings & { count: number }, log: pino.Logger): Promise<number> {
+  const fleet = new SimulatedFleet({ worker: options, simulation, count: simulation.count }, log);
+  const stopped = new Promise<void>((resolve) => {
+    process.once('SIGINT', () => resolve());
+    process.once('SIGTERM', () => resolve());
+  });
+  await fleet.start();
+  await stopped;
+  await fleet.stop({ force: true }); // simulated jobs in flight are abandoned, as by a vanished PC
+  const stats = fleet.snapshot();
+  process.stdout.write(`${JSON.stringify({ simulatedFleet: { ...stats, waitsMs: undefined, waits: stats.waitsMs.length } })}\n`);
   return 0;
 }

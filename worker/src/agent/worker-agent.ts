@@ -20,6 +20,15 @@ import { HeartbeatSender } from './heartbeat-sender.js';
 import { openRedis } from './redis-connection.js';
 import { coreCount, type WorkerOptions } from './worker-options.js';
 import { msUntilClockTime } from './stop-time.js';
+import type { Trainer } from './trainer.js';
+
+/** Parts a {@link WorkerAgent} can be given instead of building its own. */
+export interface WorkerAgentParts {
+  /** What trains the jobs. @default a `TrainingProcess` (the training child process) */
+  trainer?: Trainer;
+  /** Dataset cache, shared by agents running in one process. @default one of its own in `options.cacheDir` */
+  cache?: DatasetCache;
+}
 
 export const WORKER_VERSION = '0.1.0';
 
@@ -39,7 +48,7 @@ export class WorkerAgent {
   private lastSamplesPerSecond = 0;
   private backend: BackendName | null = null;
   private backendReason = 'not started';
-  private readonly training: TrainingProcess;
+  private readonly training: Trainer;
   private readonly cache: DatasetCache;
   private readonly heartbeat: HeartbeatSender;
   private connection: Redis | null = null;
@@ -55,9 +64,10 @@ export class WorkerAgent {
   constructor(
     readonly options: WorkerOptions,
     private readonly log: Logger,
+    parts: WorkerAgentParts = {},
   ) {
-    this.training = new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
-    this.cache = new DatasetCache(
+    this.training = parts.trainer ?? new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
+    this.cache = parts.cache ?? new DatasetCache(
       { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
       log,
     );
