@@ -2,7 +2,7 @@
 export { Coordinator, COORDINATOR_VERSION, DEFAULT_PORT, resolveCoordinatorOptions, type CoordinatorOptions } from './coordinator.js';
 export { RunStore, type RunRecord, type EvaluationRecord, type ChampionRecord, type StoredDataset } from './store/run-store.js';
 export { EvaluationQueue, type FinishedJob } from './queue/evaluation-queue.js';
-export { RunManager, evaluationSeed, type RunManagerOptions, type RunManagerEvents } from './run/run-manager.js';
+export { RunManager, evaluationSeed, type RunControl, type RunManagerOptions, type RunManagerEvents } from './run/run-manager.js';
 export { buildStatus } from './run/status-report.js';
 export { parseRunConfig, readRunConfigFile } from './config/run-config.js';
 export { loadDataset, resolveSourcePaths, type LoadedDataset, type LoadDatasetOptions } from './importers/index.js';

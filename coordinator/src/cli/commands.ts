@@ -18,7 +18,7 @@ Commands:
   status        show a coordinator's status
   export        download a run's champion (genome, TensorFlow.js model, report)
   runs          list the runs a coordinator holds
-  pause, resume, stop
+  pause, resume, stop, finish
                 control a coordinator's run (needs the admin token)
 
 'netbreeder <command> --help' shows each command's options and examples.
@@ -213,19 +213,20 @@ async function demoCommand(argv: string[]): Promise<number> {
   });
 }
 
-const CONTROL_HELP = `netbreeder pause | resume | stop: control a coordinator's run.
+const CONTROL_HELP = `netbreeder pause | resume | stop | finish: control a coordinator's run.
 
 Usage: netbreeder pause --run ID [--coordinator URL] [--admin-token T]
 
 pause queues no new evaluations (queued ones still train and are recorded); resume goes on;
-stop ends the run without a champion. The admin token comes from --admin-token or
+stop ends the run without a champion; finish ends the search now (what is training completes)
+and trains, scores and exports the champion, as at the end of the budget. The admin token comes from --admin-token or
 NETBREEDER_ADMIN_TOKEN (the coordinator keeps it in its data folder's secrets.json).
 
 Example:
   NETBREEDER_ADMIN_TOKEN=… netbreeder pause --coordinator http://build-server:${DEFAULT_PORT} --run r1abc
 `;
 
-function controlCommand(action: 'pause' | 'resume' | 'stop') {
+function controlCommand(action: 'pause' | 'resume' | 'stop' | 'finish') {
   return async (argv: string[]): Promise<number> => {
     const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, run: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
     if (values.help) return void process.stdout.write(CONTROL_HELP), 0;
@@ -263,6 +264,7 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   pause: controlCommand('pause'),
   resume: controlCommand('resume'),
   stop: controlCommand('stop'),
+  finish: controlCommand('finish'),
   coordinator: coordinatorCommand,
   worker: runWorkerCli,
   demo: demoCommand,

@@ -105,7 +105,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     },
   );
 
-  for (const action of ['pause', 'resume', 'stop'] as const) {
+  for (const action of ['pause', 'resume', 'stop', 'finish'] as const) {
     app.post(`/runs/:id/${action}`, { config: { access: 'admin' }, schema: { params: RunIdParams } }, async (req) => {
       const { id } = req.params as { id: string };
       runOr404(id);

@@ -51,6 +51,12 @@ export interface RunManagerEvents {
   runFinished?: (run: RunRecord) => void;
 }
 
+/**
+ * What an admin can do to a run: pause (queue nothing new), resume, stop (end without a champion),
+ * or finish (end the search now: what is in flight completes, then the champion is trained).
+ */
+export type RunControl = 'pause' | 'resume' | 'stop' | 'finish';
+
 /** A request that the run's state does not allow (pausing a finished run, say). */
 export class RunStateError extends Error {
   override name = 'RunStateError';
@@ -272,19 +278,20 @@ export class RunManager {
    * Pauses, resumes or stops the current run. A paused run queues nothing new (jobs already queued
    * still train and are recorded); a stopped run ends without a champion.
    */
-  async control(runId: string, action: 'pause' | 'resume' | 'stop'): Promise<RunRecord> {
+  async control(runId: string, action: RunControl): Promise<RunRecord> {
     const run = this.store.getRun(runId);
     if (!run) throw new Error(`no run ${runId}`);
-    const allowed: Record<typeof action, RunRecord['state'][]> = {
+    const allowed: Record<RunControl, RunRecord['state'][]> = {
       pause: ['searching'],
       resume: ['paused'],
       stop: ['searching', 'paused', 'training-champion'],
+      finish: ['searching', 'paused'],
     };
     if (!allowed[action].includes(run.state)) throw new RunStateError(`cannot ${action} run ${runId} while it is ${run.state}`);
-    const next = action === 'pause' ? 'paused' : action === 'resume' ? 'searching' : 'stopped';
+    const next = action === 'pause' ? 'paused' : action === 'stop' ? 'stopped' : 'searching';
     this.store.transaction(() => {
       this.store.setRunState(runId, next, { now: this.now() });
-      this.store.logEvent(runId, `run-${next}`, { from: run.state, action });
+      this.store.logEvent(runId, action === 'finish' ? 'run-finish-requested' : `run-${next}`, { from: run.state, action });
     });
     this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);
     if (action === 'stop') await this.cancelPending(runId);
@@ -318,6 +325,7 @@ export class RunManager {
   // ---- search phase --------------------------------------------------------------------------
 
   private searchBudgetSpent(run: RunRecord): boolean {
+    if (this.store.events(run.id, 'run-finish-requested').length > 0) return true;
     const elapsedMin = (this.now() - (run.searchStartedAt ?? run.createdAt)) / 60_000;
     return run.proposals >= run.config.budget.maxEvaluations || elapsedMin >= run.config.budget.maxMinutes;
   }
