@@ -10,17 +10,43 @@ export {
   type SearchAlgorithm,
   type SearchContext,
 } from './search-algorithm.js';
-export { resolveSearchSettings, SEARCH_SETTING_DEFAULTS, type ResolvedSearchSettings, type SearchSettings } from './search-settings.js';
+export {
+  resolveSearchSettings,
+  SEARCH_SETTING_DEFAULTS,
+  SIZE_OBJECTIVES,
+  type ResolvedSearchSettings,
+  type SearchSettings,
+  type SizeObjective,
+} from './search-settings.js';
 export {
   parseSearchSnapshot,
   SEARCH_SNAPSHOT_VERSION,
   SearchSnapshotError,
   type AgingEvolutionSnapshot,
+  type AshaRungMember,
+  type AshaSnapshot,
+  type ParetoEvolutionSnapshot,
+  type ParetoMember,
   type RandomSearchSnapshot,
   type SearchSnapshot,
 } from './snapshot.js';
 export { AgingEvolution, type AgingEvolutionOptions } from './aging-evolution.js';
 export { RandomSearch, type RandomSearchOptions } from './random-search.js';
+export { SuccessiveHalving, type AshaVariant, type SuccessiveHalvingOptions } from './successive-halving.js';
+export { hyperbandBrackets, rungBudgets, type HalvingRound, type HyperbandBracket } from './hyperband-brackets.js';
+export { ParetoEvolution, type ParetoEvolutionOptions } from './pareto-evolution.js';
+export {
+  crowdedCompare,
+  crowdingDistance,
+  dominates,
+  hypervolume2d,
+  nonDominatedSort,
+  paretoFront,
+  rankAndCrowding,
+  selectSurvivors,
+  type ObjectiveVector,
+  type RankAndCrowding,
+} from './nsga2.js';
 export { tournamentSelect, type TournamentResult } from './tournament.js';
 export { describeMutations, genomeVariation, randomGenome, type RandomGenome, type Variation } from './variation.js';
 export { minimalGenome, MinimalGenomeError, randomTrainingGenes, type GenomeContext } from './minimal-genome.js';

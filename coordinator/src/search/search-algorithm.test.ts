@@ -10,7 +10,7 @@ const space = defaultSearchSpace();
 const settings = { populationSize: 8, sampleSize: 3 };
 const make = (name: SearchAlgorithmName, seed: number, data: DataShape = IMAGE, snapshot?: SearchSnapshot): SearchAlgorithm =>
   createSearchAlgorithm(name, settings, { space, data, seed }, snapshot);
-const NAMES: SearchAlgorithmName[] = ['aging-evolution', 'random'];
+const NAMES: SearchAlgorithmName[] = ['aging-evolution', 'random', 'asha', 'asha-evolution', 'pareto-evolution'];
 const keys = (d: Driver) => d.proposals.map(proposalKey);
 /** Through JSON and back, as the store would keep it. */
 const stored = (s: SearchSnapshot): SearchSnapshot => JSON.parse(JSON.stringify(s)) as SearchSnapshot;
@@ -24,8 +24,8 @@ describe.each(NAMES)('%s', (name) => {
     ['image', IMAGE],
     ['flat', FLAT],
   ] as const)('same seed and same observations give identical proposals (%s data)', (_d, data) => {
-    const a = new Driver('same').run(make(name, 11, data), 90);
-    const b = new Driver('same').run(make(name, 11, data), 90);
+    const a = new Driver('same', data).run(make(name, 11, data), 90);
+    const b = new Driver('same', data).run(make(name, 11, data), 90);
     expect(a.proposals.length).toBeGreaterThan(40);
     expect(keys(a)).toEqual(keys(b));
     expect(a.proposals.map((p) => p.genome)).toEqual(b.proposals.map((p) => p.genome));

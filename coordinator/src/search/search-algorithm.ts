@@ -2,9 +2,11 @@ import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, ty
 import { AgingEvolution } from './aging-evolution.js';
 import { minimalGenome } from './minimal-genome.js';
 import type { Mutation, MutateOptions } from './mutations.js';
+import { ParetoEvolution } from './pareto-evolution.js';
 import { RandomSearch } from './random-search.js';
 import { resolveSearchSettings, type SearchSettings } from './search-settings.js';
 import { parseSearchSnapshot, SearchSnapshotError, type SearchSnapshot } from './snapshot.js';
+import { SuccessiveHalving } from './successive-halving.js';
 import { genomeVariation } from './variation.js';
 
 /** One genome the algorithm wants trained, with its lineage and why it was chosen. */
@@ -70,7 +72,7 @@ export interface SearchContext {
   mutation?: MutateOptions;
 }
 
-export const SEARCH_ALGORITHM_NAMES: readonly SearchAlgorithmName[] = ['aging-evolution', 'random'];
+export const SEARCH_ALGORITHM_NAMES: readonly SearchAlgorithmName[] = ['aging-evolution', 'random', 'asha', 'asha-evolution', 'pareto-evolution'];
 
 /**
  * Builds the named algorithm over network genomes, or restores it from `snapshot` so it continues
@@ -93,8 +95,16 @@ export function createSearchAlgorithm(
   const restored = snapshot === undefined ? undefined : parseSearchSnapshot(snapshot, variation);
   if (restored && restored.algorithm !== name) throw new SearchSnapshotError(`the snapshot belongs to '${restored.algorithm}', not '${name}'`);
   if (restored && restored.seed !== ctx.seed) throw new SearchSnapshotError(`the snapshot was seeded with ${restored.seed}, not ${ctx.seed}; resume with the run's own seed`);
-  if (name === 'random') {
-    return new RandomSearch({ settings: resolved, variation, seed: ctx.seed, snapshot: restored?.algorithm === 'random' ? restored : undefined });
+  const seed = ctx.seed;
+  switch (name) {
+    case 'random':
+      return new RandomSearch({ settings: resolved, variation, seed, snapshot: restored?.algorithm === 'random' ? restored : undefined });
+    case 'asha':
+    case 'asha-evolution':
+      return new SuccessiveHalving({ variant: name, settings: resolved, variation, seed, snapshot: restored?.algorithm === name ? restored : undefined });
+    case 'pareto-evolution':
+      return new ParetoEvolution({ settings: resolved, variation, seed, snapshot: restored?.algorithm === 'pareto-evolution' ? restored : undefined });
+    case 'aging-evolution':
+      return new AgingEvolution({ settings: resolved, variation, seed, snapshot: restored?.algorithm === 'aging-evolution' ? restored : undefined });
   }
-  return new AgingEvolution({ settings: resolved, variation, seed: ctx.seed, snapshot: restored?.algorithm === 'aging-evolution' ? restored : undefined });
 }

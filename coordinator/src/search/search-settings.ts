@@ -13,21 +13,44 @@ export interface SearchSettings {
    * gets a count drawn uniformly from 0 to this.
    * @default 12 */
   randomMutations?: number;
+  /** Reduction factor of successive halving: rung k+1 trains eta times longer than rung k, and the
+   * top floor(|rung k| / eta) of rung k are promoted.
+   * @default 3 */
+  eta?: number;
+  /** Epochs of the lowest rung of successive halving, where every new configuration starts.
+   * @default 1 */
+  minEpochs?: number;
+  /** Epochs of the top rung of successive halving (the rungs are minEpochs·eta^k below it, then this).
+   * @default 9 */
+  maxEpochs?: number;
+  /** What multi-objective selection minimises against validation accuracy.
+   * @default 'params' */
+  objective?: SizeObjective;
 }
+
+/** A size or cost to minimise against accuracy: the genome's parameter count or its FLOPs per sample. */
+export type SizeObjective = 'params' | 'flops';
+export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops'];
 
 export type ResolvedSearchSettings = Required<SearchSettings>;
 
-export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12 } as const;
+/** The one place the optional settings get their defaults (the run file schema carries the same ones, checked by a test). */
+export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params' } as const;
 
 /** Applies the defaults and checks every value, naming the one that is wrong. */
 export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchSettings {
+  const d = SEARCH_SETTING_DEFAULTS;
   const resolved: ResolvedSearchSettings = {
     populationSize: settings.populationSize,
     sampleSize: settings.sampleSize,
-    initialMutations: settings.initialMutations ?? SEARCH_SETTING_DEFAULTS.initialMutations,
-    randomMutations: settings.randomMutations ?? SEARCH_SETTING_DEFAULTS.randomMutations,
+    initialMutations: settings.initialMutations ?? d.initialMutations,
+    randomMutations: settings.randomMutations ?? d.randomMutations,
+    eta: settings.eta ?? d.eta,
+    minEpochs: settings.minEpochs ?? d.minEpochs,
+    maxEpochs: settings.maxEpochs ?? d.maxEpochs,
+    objective: settings.objective ?? d.objective,
   };
-  const whole = (name: keyof ResolvedSearchSettings, min: number) => {
+  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective'>, min: number) => {
     const v = resolved[name];
     if (!Number.isInteger(v) || v < min) throw new RangeError(`search setting ${name} must be a whole number ≥ ${min}, got ${String(v)}`);
   };
@@ -35,5 +58,14 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
   whole('sampleSize', 1);
   whole('initialMutations', 0);
   whole('randomMutations', 0);
+  whole('eta', 2);
+  whole('minEpochs', 1);
+  whole('maxEpochs', 1);
+  if (resolved.maxEpochs < resolved.minEpochs) {
+    throw new RangeError(`search setting maxEpochs (${resolved.maxEpochs}) must be at least minEpochs (${resolved.minEpochs}); raise maxEpochs or lower minEpochs`);
+  }
+  if (!SIZE_OBJECTIVES.includes(resolved.objective)) {
+    throw new RangeError(`search setting objective must be one of ${SIZE_OBJECTIVES.join(', ')}, got ${String(resolved.objective)}`);
+  }
   return resolved;
 }

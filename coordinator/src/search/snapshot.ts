@@ -37,7 +37,47 @@ export interface RandomSearchSnapshot extends SnapshotBase {
   settings: Pick<ResolvedSearchSettings, 'randomMutations'>;
 }
 
-export type SearchSnapshot<G = Genome> = AgingEvolutionSnapshot<G> | RandomSearchSnapshot;
+/** One result in a rung of successive halving. */
+export interface AshaRungMember<G = Genome> {
+  evaluationId: string;
+  genomeHash: string;
+  genome: G;
+  fitness: number;
+  /** True once it was proposed for the next rung (whether or not that result ever arrived). */
+  promoted: boolean;
+}
+
+export interface AshaSnapshot<G = Genome> extends SnapshotBase {
+  algorithm: 'asha' | 'asha-evolution';
+  settings: Pick<ResolvedSearchSettings, 'eta' | 'minEpochs' | 'maxEpochs'>;
+  /** Promotions proposed so far. */
+  promotions: number;
+  /** Each rung's results in arrival order, lowest rung first. */
+  rungs: AshaRungMember<G>[][];
+  /** The state of the source of new configurations (random search or aging evolution); `rng` above is a copy of its random state. */
+  source: AgingEvolutionSnapshot<G> | RandomSearchSnapshot;
+}
+
+/** A member of multi-objective evolution: its accuracy and the size objective it is weighed against. */
+export interface ParetoMember<G = Genome> {
+  evaluationId: string;
+  genomeHash: string;
+  genome: G;
+  fitness: number;
+  /** The value of the run's objective (parameter count or FLOPs), minimised. */
+  cost: number;
+}
+
+export interface ParetoEvolutionSnapshot<G = Genome> extends SnapshotBase {
+  algorithm: 'pareto-evolution';
+  settings: Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations' | 'objective'>;
+  /** Initial members proposed so far. */
+  initialProposed: number;
+  /** The living members, oldest first. */
+  population: ParetoMember<G>[];
+}
+
+export type SearchSnapshot<G = Genome> = AgingEvolutionSnapshot<G> | RandomSearchSnapshot | AshaSnapshot<G> | ParetoEvolutionSnapshot<G>;
 
 /** A snapshot that cannot be restored: malformed, or taken by another algorithm or with other settings. */
 export class SearchSnapshotError extends Error {
@@ -51,37 +91,90 @@ export class SearchSnapshotError extends Error {
 const isObject = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const isCount = (v: unknown): v is number => Number.isInteger(v) && (v as number) >= 0;
 const isUint32 = (v: unknown): boolean => isCount(v) && (v as number) <= 0xffffffff;
+const isFiniteNumber = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+
+const ALGORITHMS = ['aging-evolution', 'random', 'asha', 'asha-evolution', 'pareto-evolution'] as const;
+/** The whole-number settings each algorithm's snapshot records. */
+const COUNT_SETTINGS: Record<(typeof ALGORITHMS)[number], readonly string[]> = {
+  'aging-evolution': ['populationSize', 'sampleSize', 'initialMutations'],
+  random: ['randomMutations'],
+  asha: ['eta', 'minEpochs', 'maxEpochs'],
+  'asha-evolution': ['eta', 'minEpochs', 'maxEpochs'],
+  'pareto-evolution': ['populationSize', 'sampleSize', 'initialMutations'],
+};
+
+/** Checks a list of members (genome, hash, id, fitness, and `extra` fields), adding what is wrong to `problems`. */
+function checkMembers<G>(
+  list: unknown,
+  path: string,
+  variation: Variation<G>,
+  problems: string[],
+  extra: (m: Record<string, unknown>, at: string) => void = () => undefined,
+): void {
+  if (!Array.isArray(list)) {
+    problems.push(`${path} must be an array`);
+    return;
+  }
+  list.forEach((m: unknown, i) => {
+    const at = `${path}[${i}]`;
+    if (!isObject(m)) return problems.push(`${at} must be an object`);
+    if (typeof m.evaluationId !== 'string' || !m.evaluationId) problems.push(`${at}.evaluationId must be a non-empty string`);
+    if (!isFiniteNumber(m.fitness)) problems.push(`${at}.fitness must be a finite number`);
+    if (!variation.isGenome(m.genome)) problems.push(`${at}.genome does not match the genome schema`);
+    else if (variation.hash(m.genome) !== m.genomeHash) problems.push(`${at}.genomeHash is not the hash of its genome`);
+    extra(m, at);
+    return undefined;
+  });
+}
 
 /**
  * Checks a stored snapshot (for instance one read back from the store as JSON) and returns it typed.
- * Every population member's genome must have the genome's form and the hash recorded beside it.
- * Throws {@link SearchSnapshotError} listing what is wrong.
+ * Every member's genome must have the genome's form and the hash recorded beside it; a successive
+ * halving snapshot's configuration source is checked the same way. Throws {@link SearchSnapshotError}
+ * listing what is wrong.
  */
 export function parseSearchSnapshot<G>(value: unknown, variation: Variation<G>): SearchSnapshot<G> {
   const problems: string[] = [];
   if (!isObject(value)) throw new SearchSnapshotError('search snapshot must be an object');
+  const algorithm = ALGORITHMS.find((a) => a === value.algorithm);
   if (value.version !== SEARCH_SNAPSHOT_VERSION) problems.push(`version ${String(value.version)} is not ${SEARCH_SNAPSHOT_VERSION}`);
-  if (value.algorithm !== 'aging-evolution' && value.algorithm !== 'random') problems.push(`unknown algorithm ${String(value.algorithm)}`);
+  if (!algorithm) problems.push(`unknown algorithm ${String(value.algorithm)}`);
   if (!isUint32(value.seed)) problems.push('seed must be a 32-bit unsigned integer');
   if (!Array.isArray(value.rng) || value.rng.length !== 4 || !value.rng.every(isUint32)) problems.push('rng must be four 32-bit unsigned integers');
   for (const k of ['proposed', 'observed'] as const) if (!isCount(value[k])) problems.push(`${k} must be a whole number ≥ 0`);
   if (!isObject(value.settings)) problems.push('settings must be an object');
-  else {
-    const names = value.algorithm === 'random' ? ['randomMutations'] : ['populationSize', 'sampleSize', 'initialMutations'];
-    for (const k of names) if (!isCount(value.settings[k])) problems.push(`settings.${k} must be a whole number ≥ 0`);
+  else if (algorithm) {
+    for (const k of COUNT_SETTINGS[algorithm]) if (!isCount(value.settings[k])) problems.push(`settings.${k} must be a whole number ≥ 0`);
+    if (algorithm === 'pareto-evolution' && value.settings.objective !== 'params' && value.settings.objective !== 'flops') {
+      problems.push(`settings.objective must be "params" or "flops"`);
+    }
   }
-  if (value.algorithm === 'aging-evolution') {
+  if (algorithm === 'aging-evolution' || algorithm === 'pareto-evolution') {
     if (!isCount(value.initialProposed)) problems.push('initialProposed must be a whole number ≥ 0');
-    if (!Array.isArray(value.population)) problems.push('population must be an array');
+    checkMembers(value.population, 'population', variation, problems, (m, at) => {
+      if (algorithm === 'pareto-evolution' && !(isFiniteNumber(m.cost) && m.cost >= 0)) problems.push(`${at}.cost must be a finite number ≥ 0`);
+    });
+  }
+  if (algorithm === 'asha' || algorithm === 'asha-evolution') {
+    if (!isCount(value.promotions)) problems.push('promotions must be a whole number ≥ 0');
+    if (!Array.isArray(value.rungs) || !value.rungs.length) problems.push('rungs must be a non-empty array');
     else {
-      value.population.forEach((m: unknown, i) => {
-        if (!isObject(m)) return problems.push(`population[${i}] must be an object`);
-        if (typeof m.evaluationId !== 'string' || !m.evaluationId) problems.push(`population[${i}].evaluationId must be a non-empty string`);
-        if (typeof m.fitness !== 'number' || !Number.isFinite(m.fitness)) problems.push(`population[${i}].fitness must be a finite number`);
-        if (!variation.isGenome(m.genome)) problems.push(`population[${i}].genome does not match the genome schema`);
-        else if (variation.hash(m.genome) !== m.genomeHash) problems.push(`population[${i}].genomeHash is not the hash of its genome`);
-        return undefined;
-      });
+      value.rungs.forEach((rung: unknown, k) =>
+        checkMembers(rung, `rungs[${k}]`, variation, problems, (m, at) => {
+          if (typeof m.promoted !== 'boolean') problems.push(`${at}.promoted must be true or false`);
+        }),
+      );
+    }
+    const want = algorithm === 'asha' ? 'random' : 'aging-evolution';
+    if (!isObject(value.source) || value.source.algorithm !== want) problems.push(`source must be a '${want}' snapshot`);
+    else {
+      try {
+        parseSearchSnapshot(value.source, variation);
+        if (JSON.stringify(value.source.rng) !== JSON.stringify(value.rng)) problems.push('rng must equal source.rng');
+      } catch (err) {
+        if (!(err instanceof SearchSnapshotError)) throw err;
+        problems.push(`source: ${err.message}`);
+      }
     }
   }
   if (problems.length) throw new SearchSnapshotError(`cannot restore the search snapshot: ${problems.join('; ')}`);

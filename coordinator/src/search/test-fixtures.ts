@@ -1,4 +1,4 @@
-import { createRandom, defaultSearchSpace, type DataShape, type Genome, type LayerNode, type Random, type SearchSpace } from '@netbreeder/shared-types';
+import { analyzeGenome, createRandom, defaultSearchSpace, type DataShape, type Genome, type LayerNode, type Random, type SearchSpace } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 
@@ -42,7 +42,8 @@ export function syntheticFitness(g: Genome): number {
 /**
  * Plays a coordinator with several evaluations in flight: each step either asks for a proposal
  * (always while fewer than 3 are pending) or reports one pending proposal, picked at random, with
- * its synthetic fitness. Its own random source is separate from the algorithm's, and its state
+ * its synthetic fitness, its budget (the proposal's, else the genome's epochs) and its real size
+ * from `analyzeGenome`. Its own random source is separate from the algorithm's, and its state
  * lives outside the algorithm, so one driver can carry on with a restored algorithm.
  */
 export class Driver {
@@ -51,7 +52,11 @@ export class Driver {
   private readonly pending: { proposal: Proposal; index: number }[] = [];
   private readonly rng: Random;
 
-  constructor(seed: number | string = 'driver') {
+  /** `data`: the shape the genomes are analysed on for the observations' params and FLOPs. */
+  constructor(
+    seed: number | string = 'driver',
+    private readonly data: DataShape = IMAGE,
+  ) {
     this.rng = createRandom(seed);
   }
 
@@ -63,7 +68,18 @@ export class Driver {
       return;
     }
     const [done] = this.pending.splice(this.rng.int(0, this.pending.length - 1), 1);
-    const o: Observation = { evaluationId: `eval-${done!.index}`, genomeHash: done!.proposal.genomeHash, genome: done!.proposal.genome, fitness: syntheticFitness(done!.proposal.genome) };
+    const { proposal, index } = done!;
+    const analysis = analyzeGenome(proposal.genome, this.data);
+    if (!analysis.ok) throw new Error(`the driver got an invalid genome: ${JSON.stringify(analysis.issues)}`);
+    const o: Observation = {
+      evaluationId: `eval-${index}`,
+      genomeHash: proposal.genomeHash,
+      genome: proposal.genome,
+      fitness: syntheticFitness(proposal.genome),
+      budgetEpochs: proposal.budgetEpochs ?? proposal.genome.training.epochs,
+      params: analysis.analysis.params,
+      flops: analysis.analysis.flops,
+    };
     this.observations.push(o);
     alg.observe(o);
   }
@@ -75,4 +91,4 @@ export class Driver {
 }
 
 /** The parts of a proposal that must replay exactly. */
-export const proposalKey = (p: Proposal) => ({ genomeHash: p.genomeHash, parentHashes: p.parentHashes, mutation: p.mutation, reason: p.reason });
+export const proposalKey = (p: Proposal) => ({ genomeHash: p.genomeHash, parentHashes: p.parentHashes, mutation: p.mutation, reason: p.reason, budgetEpochs: p.budgetEpochs });

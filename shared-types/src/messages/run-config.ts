@@ -124,7 +124,20 @@ export const DATASET_SOURCE_SCHEMAS = {
 } as const;
 export type DatasetSource = Static<typeof DatasetSourceSchema>;
 
-export const SearchAlgorithmNameSchema = Type.Union([Type.Literal('aging-evolution'), Type.Literal('random')]);
+/**
+ * The search algorithms a run may name: `aging-evolution` (regularized evolution), `random` (the
+ * baseline), `asha` (asynchronous successive halving over the epoch budget, random configurations),
+ * `asha-evolution` (the same, new configurations are children of aging evolution) and
+ * `pareto-evolution` (evolution selecting by non-dominated rank and crowding distance, accuracy
+ * against `objective`).
+ */
+export const SearchAlgorithmNameSchema = Type.Union([
+  Type.Literal('aging-evolution'),
+  Type.Literal('random'),
+  Type.Literal('asha'),
+  Type.Literal('asha-evolution'),
+  Type.Literal('pareto-evolution'),
+]);
 export type SearchAlgorithmName = Static<typeof SearchAlgorithmNameSchema>;
 
 /** A run file: what to search, on what data, for how long. Every field has a default. */
@@ -155,6 +168,20 @@ export const RunConfigSchema = Type.Object(
         populationSize: Type.Integer({ minimum: 2, maximum: 10_000, default: 20 }),
         /** Members drawn per tournament (S). */
         sampleSize: Type.Integer({ minimum: 1, maximum: 10_000, default: 5 }),
+        /**
+         * Reduction factor of `asha` and `asha-evolution`: each rung trains eta times longer than the
+         * one below, and the top 1/eta of a rung is promoted to the next. @default 3
+         */
+        eta: Type.Integer({ minimum: 2, maximum: 100, default: 3 }),
+        /** Training epochs of the lowest rung of `asha` and `asha-evolution` (every new configuration starts there). @default 1 */
+        minEpochs: Type.Integer({ minimum: 1, maximum: 1000, default: 1 }),
+        /**
+         * Training epochs of the top rung of `asha` and `asha-evolution`; the rungs are minEpochs·eta^k
+         * below it. Must be at least minEpochs. @default 9
+         */
+        maxEpochs: Type.Integer({ minimum: 1, maximum: 1000, default: 9 }),
+        /** What `pareto-evolution` minimises against validation accuracy: parameter count or FLOPs per sample. @default "params" */
+        objective: Type.Union([Type.Literal('params'), Type.Literal('flops')], { default: 'params' }),
       },
       { additionalProperties: false, default: {} },
     ),

@@ -1,0 +1,156 @@
+import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { MutationError } from './mutations.js';
+import { crowdedCompare, rankAndCrowding, type RankAndCrowding } from './nsga2.js';
+import { assertObservation } from './observation.js';
+import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
+import type { ResolvedSearchSettings } from './search-settings.js';
+import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
+import { describeMutations, randomGenome, type Variation } from './variation.js';
+
+export interface ParetoEvolutionOptions<G> {
+  /** P, S, the initial members' mutation count and the size objective, already resolved. */
+  settings: Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations' | 'objective'>;
+  /** How genomes are made, mutated and hashed. */
+  variation: Variation<G>;
+  /** Seeds the random source; ignored when restoring, where the snapshot's state rules. */
+  seed: number;
+  /** A snapshot from {@link ParetoEvolution.snapshot} (already checked with `parseSearchSnapshot`). */
+  snapshot?: ParetoEvolutionSnapshot<G>;
+}
+
+const short = (hash: string) => hash.slice(0, 12);
+const objectives = (members: readonly ParetoMember<unknown>[]) => members.map((m) => [-m.fitness, m.cost]);
+
+/**
+ * Multi-objective evolution, asynchronous and steady-state, with the selection of NSGA-II (Deb et
+ * al., IEEE TEC 2002): validation accuracy is maximised against `objective` (parameter count or
+ * FLOPs per sample) minimised.
+ *
+ * - The first P proposals are initial members, as in aging evolution (a minimal genome with 0 to
+ *   `initialMutations` random mutations each); more are proposed while no result has arrived.
+ * - Otherwise S members are drawn uniformly with replacement and the best of them by the crowded
+ *   comparison (lower non-domination rank, then larger crowding distance; the earliest drawn among
+ *   equals) is the parent of a mutated child.
+ * - Each observation joins the population; when it then holds more than P members, the worst by
+ *   the crowded comparison leaves (the last front's most crowded member; the oldest among equals),
+ *   which is NSGA-II's elitist survivor rule applied one child at a time.
+ *
+ * Observations must carry the objective (`params` or `flops`); observing draws no randomness.
+ */
+export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
+  readonly name = 'pareto-evolution';
+  private readonly settings: ParetoEvolutionOptions<G>['settings'];
+  private readonly variation: Variation<G>;
+  private readonly seed: number;
+  private readonly rng: Random;
+  private population: ParetoMember<G>[];
+  private proposed: number;
+  private initialProposed: number;
+  private observed: number;
+
+  constructor(options: ParetoEvolutionOptions<G>) {
+    this.settings = { ...options.settings };
+    this.variation = options.variation;
+    const s = options.snapshot;
+    if (s) {
+      for (const k of ['populationSize', 'sampleSize', 'initialMutations', 'objective'] as const) {
+        if (s.settings[k] !== this.settings[k]) {
+          throw new SearchSnapshotError(`the snapshot was taken with ${k} ${s.settings[k]}, not ${this.settings[k]}; resume with the run's original settings`);
+        }
+      }
+    }
+    this.seed = s ? s.seed : options.seed;
+    this.rng = s ? restoreRandom(s.rng) : createRandom(options.seed);
+    this.population = s ? structuredClone(s.population) : [];
+    this.proposed = s ? s.proposed : 0;
+    this.initialProposed = s ? s.initialProposed : 0;
+    this.observed = s ? s.observed : 0;
+  }
+
+  propose(): Proposal<G> {
+    const { populationSize: P, sampleSize: S, objective } = this.settings;
+    this.proposed++;
+    if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`);
+    if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`);
+
+    const rc = rankAndCrowding(objectives(this.population));
+    const drawn: number[] = [];
+    let winner = -1;
+    for (let i = 0; i < S; i++) {
+      const k = this.rng.int(0, this.population.length - 1);
+      drawn.push(k);
+      if (winner < 0 || crowdedCompare(k, winner, rc) < 0) winner = k;
+    }
+    const parent = this.population[winner]!;
+    const choice =
+      `crowded tournament of ${S} draws with replacement from ${this.population.length} members (${new Set(drawn).size} distinct); ` +
+      `the best drawn, ${short(parent.genomeHash)} from evaluation ${parent.evaluationId} (fitness ${parent.fitness.toFixed(4)}, ` +
+      `${objective} ${parent.cost}, front ${rc.rank[winner]}, crowding ${rc.distance[winner]!.toFixed(3)}), is the parent`;
+    let child: ReturnType<Variation<G>['mutate']>;
+    try {
+      child = this.variation.mutate(parent.genome, this.rng);
+    } catch (err) {
+      if (!(err instanceof MutationError)) throw err;
+      return this.initialMember(`${choice}, but it has no valid mutation (${err.message}); a fresh member instead`);
+    }
+    return {
+      genome: child.genome,
+      genomeHash: this.variation.hash(child.genome),
+      parentHashes: [parent.genomeHash],
+      mutation: child.mutation,
+      reason: `${choice}; ${child.mutation.operator}: ${child.mutation.detail}`,
+    };
+  }
+
+  observe(o: Observation<G>): void {
+    assertObservation(o, this.variation);
+    const { objective, populationSize } = this.settings;
+    const cost = o[objective];
+    if (typeof cost !== 'number' || !Number.isFinite(cost) || cost < 0) {
+      throw new TypeError(`observation ${o.evaluationId}: pareto-evolution minimises ${objective} and needs it as a finite number ≥ 0, got ${String(cost)}`);
+    }
+    if (this.population.some((m) => m.evaluationId === o.evaluationId)) return;
+    this.population.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, cost });
+    this.observed++;
+    if (this.population.length > populationSize) this.population.splice(this.worst(rankAndCrowding(objectives(this.population))), 1);
+  }
+
+  /** The living members, oldest first (copies). */
+  members(): ParetoMember<G>[] {
+    return structuredClone(this.population);
+  }
+
+  snapshot(): ParetoEvolutionSnapshot<G> {
+    return {
+      version: SEARCH_SNAPSHOT_VERSION,
+      algorithm: 'pareto-evolution',
+      seed: this.seed,
+      rng: this.rng.state(),
+      proposed: this.proposed,
+      observed: this.observed,
+      settings: { ...this.settings },
+      initialProposed: this.initialProposed,
+      population: structuredClone(this.population),
+    };
+  }
+
+  /** The member the crowded comparison ranks last; the oldest among equals. */
+  private worst(rc: RankAndCrowding): number {
+    let worst = 0;
+    for (let i = 1; i < this.population.length; i++) if (crowdedCompare(i, worst, rc) > 0) worst = i;
+    return worst;
+  }
+
+  private initialMember(why: string): Proposal<G> {
+    this.initialProposed++;
+    const { genome, mutations, requested } = randomGenome(this.variation, this.rng, this.rng.int(0, this.settings.initialMutations));
+    const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
+    return {
+      genome,
+      genomeHash: this.variation.hash(genome),
+      parentHashes: [],
+      mutation: null,
+      reason: `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
+    };
+  }
+}

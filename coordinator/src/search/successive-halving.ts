@@ -1,0 +1,159 @@
+import type { Genome } from '@netbreeder/shared-types';
+import { AgingEvolution } from './aging-evolution.js';
+import { rungBudgets } from './hyperband-brackets.js';
+import { assertObservation } from './observation.js';
+import { RandomSearch } from './random-search.js';
+import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
+import type { ResolvedSearchSettings } from './search-settings.js';
+import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
+import type { Variation } from './variation.js';
+
+/** Where new configurations come from: independent random genomes, or children of aging evolution. */
+export type AshaVariant = 'asha' | 'asha-evolution';
+
+export interface SuccessiveHalvingOptions<G> {
+  /** `asha`: new configurations are random-search samples; `asha-evolution`: children of aging evolution. */
+  variant: AshaVariant;
+  /** eta and the rung budgets, plus the settings of the configuration source, already resolved. */
+  settings: Pick<ResolvedSearchSettings, 'eta' | 'minEpochs' | 'maxEpochs' | 'populationSize' | 'sampleSize' | 'initialMutations' | 'randomMutations'>;
+  /** How genomes are made, mutated and hashed. */
+  variation: Variation<G>;
+  /** Seeds the configuration source's random source; ignored when restoring. */
+  seed: number;
+  /** A snapshot from {@link SuccessiveHalving.snapshot} (already checked with `parseSearchSnapshot`). */
+  snapshot?: AshaSnapshot<G>;
+}
+
+const short = (hash: string) => hash.slice(0, 12);
+
+/**
+ * Asynchronous successive halving (ASHA: Li, Jamieson, Rostamizadeh, Gonina, Ben-tzur, Hardt,
+ * Recht, Talwalkar, MLSys 2020) over the training-epoch budget.
+ *
+ * - Rungs k = 0..K train for {@link rungBudgets}(minEpochs, maxEpochs, eta) epochs.
+ * - `propose()` scans the rungs from the one below the top down to rung 0; in rung k it ranks the
+ *   results by fitness (earlier result first among equals) and takes the first configuration in the
+ *   top floor(|rung k| / eta) that was not promoted yet: the same genome is proposed again with the
+ *   budget of rung k+1. Finding none, it proposes a new configuration at rung 0.
+ * - No barrier: a promotion is decided whenever work is asked for, on the results present. A job
+ *   that is lost never enters its rung; its configuration stays marked promoted and is not retried.
+ * - A rung holds each genome once (by hash); a repeated result for it is ignored.
+ * - `asha-evolution`: new configurations are children from {@link AgingEvolution}, which sees the
+ *   rung-0 results only, so its tournaments compare genomes trained for the same budget; a child
+ *   starts at rung 0, and only promoted ones get the full budget.
+ *
+ * Its only random draws are the configuration source's, so the snapshot's random state is that
+ * source's, and the same interleaving of propose and observe calls gives the same proposals.
+ */
+export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
+  readonly name: AshaVariant;
+  /** Epochs of each rung, lowest first. */
+  readonly budgets: readonly number[];
+  private readonly settings: SuccessiveHalvingOptions<G>['settings'];
+  private readonly variation: Variation<G>;
+  private readonly seed: number;
+  private readonly source: AgingEvolution<G> | RandomSearch<G>;
+  private rungs: AshaRungMember<G>[][];
+  private proposed: number;
+  private observed: number;
+  private promotions: number;
+
+  constructor(options: SuccessiveHalvingOptions<G>) {
+    this.name = options.variant;
+    this.settings = { ...options.settings };
+    this.variation = options.variation;
+    const { eta, minEpochs, maxEpochs } = this.settings;
+    this.budgets = rungBudgets(minEpochs, maxEpochs, eta);
+    const s = options.snapshot;
+    if (s) {
+      if (s.algorithm !== this.name) throw new SearchSnapshotError(`the snapshot belongs to '${s.algorithm}', not '${this.name}'`);
+      for (const k of ['eta', 'minEpochs', 'maxEpochs'] as const) {
+        if (s.settings[k] !== this.settings[k]) {
+          throw new SearchSnapshotError(`the snapshot was taken with ${k} ${s.settings[k]}, not ${this.settings[k]}; resume with the run's original settings`);
+        }
+      }
+      if (s.rungs.length !== this.budgets.length) throw new SearchSnapshotError(`the snapshot has ${s.rungs.length} rungs, these settings make ${this.budgets.length}`);
+    }
+    this.seed = s ? s.seed : options.seed;
+    const seed = this.seed;
+    if (this.name === 'asha') {
+      const snap = s?.source.algorithm === 'random' ? s.source : undefined;
+      if (s && !snap) throw new SearchSnapshotError(`an 'asha' snapshot must hold a 'random' configuration source, not '${s.source.algorithm}'`);
+      this.source = new RandomSearch({ settings: this.settings, variation: this.variation, seed, snapshot: snap });
+    } else {
+      const snap = s?.source.algorithm === 'aging-evolution' ? s.source : undefined;
+      if (s && !snap) throw new SearchSnapshotError(`an 'asha-evolution' snapshot must hold an 'aging-evolution' configuration source, not '${s.source.algorithm}'`);
+      this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, snapshot: snap });
+    }
+    this.rungs = s ? structuredClone(s.rungs) : this.budgets.map(() => []);
+    this.proposed = s ? s.proposed : 0;
+    this.observed = s ? s.observed : 0;
+    this.promotions = s ? s.promotions : 0;
+  }
+
+  propose(): Proposal<G> {
+    this.proposed++;
+    const { eta } = this.settings;
+    for (let k = this.budgets.length - 2; k >= 0; k--) {
+      const rung = this.rungs[k]!;
+      const quota = Math.floor(rung.length / eta);
+      if (!quota) continue;
+      const order = rung.map((_, i) => i).sort((a, b) => rung[b]!.fitness - rung[a]!.fitness || a - b);
+      for (let place = 0; place < quota; place++) {
+        const m = rung[order[place]!]!;
+        if (m.promoted) continue;
+        m.promoted = true;
+        this.promotions++;
+        return {
+          genome: structuredClone(m.genome),
+          genomeHash: m.genomeHash,
+          parentHashes: [],
+          mutation: null,
+          budgetEpochs: this.budgets[k + 1]!,
+          reason:
+            `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
+            `${short(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
+            `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`,
+        };
+      }
+    }
+    const fresh = this.source.propose();
+    return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}` };
+  }
+
+  observe(o: Observation<G>): void {
+    assertObservation(o, this.variation);
+    const k = o.budgetEpochs === undefined ? -1 : this.budgets.indexOf(o.budgetEpochs);
+    if (k < 0) {
+      throw new TypeError(
+        `observation ${o.evaluationId}: ${this.name} needs budgetEpochs, the epochs it trained for, equal to a rung budget (${this.budgets.join(', ')}); got ${String(o.budgetEpochs)}`,
+      );
+    }
+    if (k === 0) this.source.observe(o); // evolution learns from equal-budget results only
+    const rung = this.rungs[k]!;
+    if (rung.some((m) => m.genomeHash === o.genomeHash)) return;
+    rung.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false });
+    this.observed++;
+  }
+
+  /** Each rung's results in arrival order, lowest rung first (copies). */
+  rungMembers(): AshaRungMember<G>[][] {
+    return structuredClone(this.rungs);
+  }
+
+  snapshot(): AshaSnapshot<G> {
+    const source = this.source.snapshot();
+    return {
+      version: SEARCH_SNAPSHOT_VERSION,
+      algorithm: this.name,
+      seed: this.seed,
+      rng: source.rng,
+      proposed: this.proposed,
+      observed: this.observed,
+      settings: { eta: this.settings.eta, minEpochs: this.settings.minEpochs, maxEpochs: this.settings.maxEpochs },
+      promotions: this.promotions,
+      rungs: structuredClone(this.rungs),
+      source,
+    };
+  }
+}
