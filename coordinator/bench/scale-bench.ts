@@ -1,0 +1,284 @@
+/**
+ * `npm run bench:scale`: can one coordinator feed a thousand PCs? Loopback only, bounded (about 6
+ * minutes on a 2-core PC). Every phase uses its own random Redis prefix on the same Redis and
+ * simulated workers (real agents, queue and HTTP; simulated training) in a child process.
+ *
+ * 1. raw BullMQ: 20,000 no-op jobs added in bulk and completed by 50 plain BullMQ workers (the ceiling);
+ * 2. the project end to end with zero training time and 50 simulated workers (propose, queue,
+ *    complete, record, select the next); the ratio of 2 to 1;
+ * 3. 1,000 simulated workers with 10-second mean (log-normal) jobs: evaluations/s, the wait from a
+ *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, /status latency;
+ * 4. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations: coordinator CPU
+ *    per recorded result, evaluations/s and /status latency at each size.
+ *
+ * The coordinator runs in this process (its CPU figure includes this script's light polling).
+ * Prints a table and, last, one JSON object with every figure.
+ *
+ *   npm run bench:scale [-- --quick]     (--quick: shorter windows, 100k largest store; a smoke run)
+ */
+import { fork, type ChildProcess } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
+import { mkdtemp, rm } from 'node:fs/promises';
+import { cpus, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { createRequire } from 'node:module';
+import { parseArgs } from 'node:util';
+import Database from 'better-sqlite3';
+import { Queue } from 'bullmq';
+import { openRedis, type SimulationSettings } from '@netbreeder/worker';
+import { Coordinator } from '../src/coordinator.js';
+import { createLogger } from '../src/logger.js';
+import { parseRunConfig } from '../src/config/run-config.js';
+import type { FleetChildConfig, FleetChildMessage } from './scale-fleet.js';
+
+const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
+const QUEUE = 'evaluations';
+const { values: args } = parseArgs({ options: { quick: { type: 'boolean' } } });
+const QUICK = args.quick === true;
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+const prefix = (name: string) => `nbbench-${name}-${randomBytes(4).toString('hex')}`;
+const round = (v: number, d = 1) => Number(v.toFixed(d));
+const percentile = (values: number[], p: number) => {
+  const s = [...values].sort((a, b) => a - b);
+  return s.length ? s[Math.min(s.length - 1, Math.floor(p * s.length))]! : 0;
+};
+const TSX_LOADER = pathToFileURL(createRequire(import.meta.url).resolve('tsx')).href;
+const FLEET_ENTRY = fileURLToPath(new URL('./scale-fleet.ts', import.meta.url));
+
+/** A fleet child process and its IPC. */
+class Fleet {
+  private constructor(private readonly child: ChildProcess) {}
+  static async start(config: FleetChildConfig): Promise<Fleet> {
+    const child = fork(FLEET_ENTRY, [JSON.stringify(config)], { execArgv: ['--import', TSX_LOADER], stdio: ['ignore', 'inherit', 'inherit', 'ipc'] });
+    await new Promise<void>((resolve, reject) => {
+      child.once('message', (m: FleetChildMessage) => (m.type === 'ready' ? resolve() : reject(new Error('fleet did not start'))));
+      child.once('exit', (code) => reject(new Error(`fleet child exited with code ${code} before it was ready`)));
+    });
+    return new Fleet(child);
+  }
+  reset(): void {
+    this.child.send({ type: 'reset' });
+  }
+  report(): Promise<Extract<FleetChildMessage, { type: 'report' }>> {
+    return new Promise((resolve) => {
+      this.child.once('message', (m: FleetChildMessage) => resolve(m as Extract<FleetChildMessage, { type: 'report' }>));
+      this.child.send({ type: 'report' });
+    });
+  }
+  async stop(): Promise<void> {
+    const exited = new Promise<void>((r) => this.child.once('exit', () => r()));
+    this.child.send({ type: 'stop' });
+    await Promise.race([exited, sleep(20_000).then(() => this.child.kill('SIGKILL'))]);
+  }
+}
+
+async function startCoordinator(dataDir: string, queuePrefix: string): Promise<Coordinator> {
+  return Coordinator.start({ dataDir, port: 0, host: '127.0.0.1', queue: { redisUrl: REDIS_URL, prefix: queuePrefix, queueName: QUEUE }, logger: createLogger('coordinator', 'error') });
+}
+
+const runConfig = (maxSeconds: number) =>
+  parseRunConfig({
+    name: 'scale-bench',
+    seed: 1,
+    dataset: { kind: 'demo-tiles', samplesPerClass: 20, seed: 1 },
+    search: { algorithm: 'aging-evolution', populationSize: 100, sampleSize: 25 },
+    budget: { maxEvaluations: 10_000_000, maxMinutes: 600 },
+    evaluation: { maxSeconds },
+  });
+
+async function obliterate(queuePrefix: string): Promise<void> {
+  const connection = openRedis(REDIS_URL);
+  const q = new Queue(QUEUE, { connection, prefix: queuePrefix });
+  await q.obliterate({ force: true }).catch(() => undefined);
+  await q.close();
+  connection.disconnect();
+}
+
+/** Milliseconds of sequential GET /status, `n` times. */
+async function statusTimes(url: string, n: number): Promise<number[]> {
+  const out: number[] = [];
+  for (let i = 0; i < n; i++) {
+    const t = performance.now();
+    const res = await fetch(`${url}/status`);
+    await res.arrayBuffer();
+    out.push(performance.now() - t);
+  }
+  return out;
+}
+
+/** Evaluations done, the coordinator's CPU and /status latency over a window of `ms`. */
+async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number) {
+  const done0 = coordinator.store.counts(runId).done;
+  const cpu0 = process.cpuUsage();
+  const t0 = performance.now();
+  const status: number[] = [];
+  let peakRss = process.memoryUsage.rss();
+  while (performance.now() - t0 < ms) {
+    status.push(...(await statusTimes(coordinator.url, 1)));
+    peakRss = Math.max(peakRss, process.memoryUsage.rss());
+    await sleep(statusEveryMs);
+  }
+  const seconds = (performance.now() - t0) / 1000;
+  const cpu = process.cpuUsage(cpu0);
+  const results = coordinator.store.counts(runId).done - done0;
+  const cpuSeconds = (cpu.user + cpu.system) / 1e6;
+  return {
+    seconds: round(seconds),
+    results,
+    evaluationsPerSecond: round(results / seconds, 1),
+    coordinatorCpuPercent: round((100 * cpuSeconds) / seconds, 0),
+    cpuMsPerResult: results ? round((1000 * cpuSeconds) / results, 2) : null,
+    rssMb: round(peakRss / 2 ** 20, 0),
+    statusP50Ms: round(percentile(status, 0.5), 1),
+    statusP99Ms: round(percentile(status, 0.99), 1),
+  };
+}
+
+// ---- 1. raw BullMQ ------------------------------------------------------------------------------
+
+async function rawBullmq(workers: number, jobs: number) {
+  const p = prefix('raw');
+  const fleet = await Fleet.start({ mode: 'raw', count: workers, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE });
+  const connection = openRedis(REDIS_URL);
+  const q = new Queue(QUEUE, { connection, prefix: p });
+  const t0 = performance.now();
+  for (let i = 0; i < jobs; i += 1000) {
+    await q.addBulk(Array.from({ length: Math.min(1000, jobs - i) }, (_, k) => ({ name: 'noop', data: { i: i + k }, opts: { removeOnComplete: false } })));
+  }
+  for (;;) {
+    const { completed } = await q.getJobCounts('completed');
+    if (completed! >= jobs) break;
+    await sleep(50);
+  }
+  const seconds = (performance.now() - t0) / 1000;
+  await fleet.stop();
+  await q.obliterate({ force: true });
+  await q.close();
+  connection.disconnect();
+  return { workers, jobs, seconds: round(seconds, 2), jobsPerSecond: round(jobs / seconds, 0) };
+}
+
+// ---- 2. and 3. the project end to end ------------------------------------------------------------
+
+async function endToEnd(name: string, workers: number, simulation: SimulationSettings, warmupMs: number, measureMs: number) {
+  const dataDir = await mkdtemp(join(tmpdir(), `nb-bench-${name}-`));
+  const p = prefix(name);
+  const coordinator = await startCoordinator(dataDir, p);
+  const fleetStartedAt = performance.now();
+  const fleet = await Fleet.start({ mode: 'simulated', count: workers, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(dataDir, 'cache'), simulation });
+  const fleetStartSeconds = (performance.now() - fleetStartedAt) / 1000;
+  const run = await coordinator.startRun(runConfig(Math.max(60, simulation.meanSeconds * 10)));
+  await sleep(warmupMs);
+  fleet.reset();
+  const figures = await window(coordinator, run.id, measureMs, 1000);
+  const f = await fleet.report();
+  const alive = coordinator.manager.aliveWorkers();
+  await coordinator.manager.control(run.id, 'stop').catch(() => undefined);
+  await fleet.stop();
+  await coordinator.close();
+  await obliterate(p);
+  await rm(dataDir, { recursive: true, force: true });
+  return { workers, aliveWorkers: alive, fleetStartSeconds: round(fleetStartSeconds), ...figures, waitP50Ms: round(f.waitP50Ms, 0), waitP99Ms: round(f.waitP99Ms, 0), waits: f.waits, fleetRssMb: round(f.rssMb, 0) };
+}
+
+// ---- 4. a store holding many finished evaluations ---------------------------------------------
+
+/** Inserts synthetic finished evaluations directly (one transaction) until the run holds `total` of them. */
+function prefill(dataDir: string, runId: string, from: number, total: number): number {
+  const t0 = performance.now();
+  const db = new Database(join(dataDir, 'store.sqlite'));
+  const genome = (db.prepare('SELECT genome_hash FROM evaluations WHERE run_id = ? LIMIT 1').get(runId) as { genome_hash: string }).genome_hash;
+  const insert = db.prepare(
+    `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at, started_at, finished_at,
+       worker_id, backend, val_accuracy, val_loss, train_seconds, samples_per_second, result_json)
+     VALUES (?, ?, 'search', ?, 1, ?, 0, '{}', 'done', ?, ?, ?, 'prefill', 'cpu', ?, 2.0, 10, 0, NULL)`,
+  );
+  const past = Date.now() - 7 * 24 * 3600 * 1000; // a week ago, one result a second
+  db.transaction(() => {
+    for (let i = from; i < total; i++) {
+      const at = past + i * 1000;
+      insert.run(`${runId}-prefill${i}`, runId, -1 - i, genome, at - 10_000, at - 10_000, at, ((i * 7919) % 1000) / 10_000);
+    }
+  })();
+  db.close();
+  return (performance.now() - t0) / 1000;
+}
+
+async function storeGrowth(sizes: number[], measureMs: number) {
+  const dataDir = await mkdtemp(join(tmpdir(), 'nb-bench-store-'));
+  const p = prefix('store');
+  const simulation: SimulationSettings = { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'store' };
+  let coordinator = await startCoordinator(dataDir, p);
+  const run = await coordinator.startRun(runConfig(60));
+  await coordinator.close();
+  const rows: Array<Record<string, number | null>> = [];
+  let have = 0;
+  for (const size of sizes) {
+    const insertSeconds = prefill(dataDir, run.id, have, size);
+    have = size;
+    coordinator = await startCoordinator(dataDir, p);
+    const fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(dataDir, 'cache'), simulation });
+    await sleep(3000);
+    const figures = await window(coordinator, run.id, measureMs, 200);
+    const direct = await statusTimes(coordinator.url, 50);
+    await fleet.stop();
+    await coordinator.close();
+    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...figures, statusIdleP50Ms: round(percentile(direct, 0.5), 1) });
+  }
+  await obliterate(p);
+  await rm(dataDir, { recursive: true, force: true });
+  return rows;
+}
+
+// ---- main ---------------------------------------------------------------------------------------
+
+async function main(): Promise<void> {
+  const startedAt = performance.now();
+  const machine = `${cpus().length} cores, ${cpus()[0]?.model ?? 'unknown CPU'}, Node ${process.version}`;
+  console.log(`netbreeder scale benchmark on ${machine}${QUICK ? ' (quick)' : ''}`);
+
+  const raw = await rawBullmq(50, QUICK ? 5000 : 20_000);
+  console.log(`raw BullMQ, 50 workers, ${raw.jobs} no-op jobs: ${raw.jobsPerSecond} jobs/s`);
+
+  const zero = await endToEnd('zero', 50, { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'zero' }, 5000, QUICK ? 10_000 : 25_000);
+  const ratio = zero.evaluationsPerSecond / raw.jobsPerSecond;
+  console.log(`project end to end, 50 simulated workers, zero training: ${zero.evaluationsPerSecond} evaluations/s (${round(100 * ratio, 0)}% of raw)`);
+
+  const thousand = await endToEnd('thousand', 1000, { meanSeconds: 10, sigma: 0.5, dropRate: 0, seed: 'thousand' }, QUICK ? 15_000 : 25_000, QUICK ? 20_000 : 60_000);
+  console.log(`1,000 simulated workers, 10 s mean jobs: ${thousand.evaluationsPerSecond} evaluations/s`);
+
+  const sizes = QUICK ? [10_000, 100_000] : [10_000, 100_000, 1_000_000];
+  const growth = await storeGrowth(sizes, QUICK ? 8000 : 15_000);
+
+  const table: string[] = [];
+  const line = (a: string, b: string) => table.push(`${a.padEnd(58)} ${b}`);
+  line('figure', 'value');
+  line('-'.repeat(58), '-'.repeat(30));
+  line('raw BullMQ no-op jobs/s (50 workers, bulk add)', `${raw.jobsPerSecond}`);
+  line('project evaluations/s, zero training (50 workers)', `${zero.evaluationsPerSecond}`);
+  line('ratio project / raw', `${round(100 * ratio, 0)}%`);
+  line('  coordinator CPU, ms per result (zero training)', `${zero.cpuMsPerResult}`);
+  line('1,000 workers, 10 s jobs: evaluations/s', `${thousand.evaluationsPerSecond} (ideal ${round(thousand.workers / 10, 0)})`);
+  line('  workers alive (by heartbeat)', `${thousand.aliveWorkers}`);
+  line('  wait free → next job p50 / p99 ms', `${thousand.waitP50Ms} / ${thousand.waitP99Ms} (${thousand.waits} jobs)`);
+  line('  coordinator CPU % of one core / RSS MB', `${thousand.coordinatorCpuPercent} / ${thousand.rssMb}`);
+  line('  /status p50 / p99 ms', `${thousand.statusP50Ms} / ${thousand.statusP99Ms}`);
+  line('  fleet start (1,000 agents) s / fleet RSS MB', `${thousand.fleetStartSeconds} / ${thousand.fleetRssMb}`);
+  for (const g of growth) {
+    line(`store with ${g.finishedInStore!.toLocaleString('en')} finished: evaluations/s`, `${g.evaluationsPerSecond}`);
+    line('  CPU ms per result / /status p50 (loaded, idle) ms', `${g.cpuMsPerResult} / ${g.statusP50Ms}, ${g.statusIdleP50Ms}`);
+  }
+  const totalSeconds = round((performance.now() - startedAt) / 1000, 0);
+  line('benchmark wall time s', `${totalSeconds}`);
+  console.log(table.join('\n'));
+  console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, endToEndZeroTraining: zero, ratio: round(ratio, 3), thousandWorkers: thousand, storeGrowth: growth, totalSeconds }));
+}
+
+void main().then(
+  () => process.exit(0),
+  (err: Error) => {
+    console.error(`bench:scale failed: ${err.stack ?? err.message}`);
+    process.exit(1);
+  },
+);
