@@ -89,4 +89,32 @@ export const MIGRATIONS: readonly string[] = [
   );
   CREATE INDEX events_by_run ON events(run_id, id);
   `,
+  // 2: flat cost as a run grows. Counts by state are kept as incremental aggregates, maintained by
+  // triggers in the same transaction as every write to `evaluations` (so no caller can forget
+  // them), and finished search evaluations are indexed by score, so the best few are read without
+  // sorting every result.
+  `
+  CREATE TABLE evaluation_counts (
+    run_id TEXT NOT NULL,
+    kind TEXT NOT NULL,
+    state TEXT NOT NULL,
+    n INTEGER NOT NULL,
+    PRIMARY KEY (run_id, kind, state)
+  ) WITHOUT ROWID;
+  INSERT INTO evaluation_counts (run_id, kind, state, n) SELECT run_id, kind, state, COUNT(*) FROM evaluations GROUP BY run_id, kind, state;
+  CREATE TRIGGER evaluation_counts_insert AFTER INSERT ON evaluations BEGIN
+    INSERT INTO evaluation_counts (run_id, kind, state, n) VALUES (NEW.run_id, NEW.kind, NEW.state, 1)
+      ON CONFLICT (run_id, kind, state) DO UPDATE SET n = n + 1;
+  END;
+  CREATE TRIGGER evaluation_counts_update AFTER UPDATE OF run_id, kind, state ON evaluations
+    WHEN OLD.run_id IS NOT NEW.run_id OR OLD.kind IS NOT NEW.kind OR OLD.state IS NOT NEW.state BEGIN
+    UPDATE evaluation_counts SET n = n - 1 WHERE run_id = OLD.run_id AND kind = OLD.kind AND state = OLD.state;
+    INSERT INTO evaluation_counts (run_id, kind, state, n) VALUES (NEW.run_id, NEW.kind, NEW.state, 1)
+      ON CONFLICT (run_id, kind, state) DO UPDATE SET n = n + 1;
+  END;
+  CREATE TRIGGER evaluation_counts_delete AFTER DELETE ON evaluations BEGIN
+    UPDATE evaluation_counts SET n = n - 1 WHERE run_id = OLD.run_id AND kind = OLD.kind AND state = OLD.state;
+  END;
+  CREATE INDEX evaluations_by_run_kind_state_score ON evaluations(run_id, kind, state, val_accuracy DESC);
+  `,
 ];

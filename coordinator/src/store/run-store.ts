@@ -262,7 +262,8 @@ export class RunStore {
   /** Counts of one kind of evaluation by state. */
   counts(runId: string, kind: 'search' | 'champion' = 'search'): Record<EvaluationState, number> {
     const out: Record<EvaluationState, number> = { queued: 0, running: 0, done: 0, failed: 0 };
-    for (const r of this.db.prepare('SELECT state, COUNT(*) AS n FROM evaluations WHERE run_id = ? AND kind = ? GROUP BY state').all(runId, kind) as Row[]) {
+    // Kept by triggers in the same transaction as every write (migration 2): no scan of the run's rows.
+    for (const r of this.db.prepare('SELECT state, n FROM evaluation_counts WHERE run_id = ? AND kind = ?').all(runId, kind) as Row[]) {
       out[r.state as EvaluationState] = r.n as number;
     }
     return out;
@@ -273,11 +274,15 @@ export class RunStore {
     return (this.db.prepare(`SELECT COUNT(*) AS n FROM evaluations WHERE run_id = ? AND kind = 'search' AND state = 'done' AND finished_at >= ?`).get(runId, since) as Row).n as number;
   }
 
-  /** The best finished search evaluations: highest validation accuracy, then fewest parameters. */
+  /**
+   * The best finished search evaluations: highest validation accuracy, then fewest parameters.
+   * Walks `evaluations_by_run_kind_state_score` from the top, so only the leading rows are read.
+   */
   topEvaluations(runId: string, limit: number): Array<EvaluationRecord & { params: number; flops: number; summary: string; genome: Genome }> {
     const rows = this.db
       .prepare(
-        `SELECT e.*, g.params, g.flops, g.summary, g.genome_json FROM evaluations e JOIN genomes g ON g.hash = e.genome_hash
+        `SELECT e.*, g.params, g.flops, g.summary, g.genome_json FROM evaluations e INDEXED BY evaluations_by_run_kind_state_score
+         JOIN genomes g ON g.hash = e.genome_hash
          WHERE e.run_id = ? AND e.kind = 'search' AND e.state = 'done'
          ORDER BY e.val_accuracy DESC, g.params ASC, e.seq ASC LIMIT ?`,
       )
