@@ -128,3 +128,42 @@ describe('createSearchAlgorithm', () => {
     expect(stored(s)).toEqual(s);
   });
 });
+
+describe('createSearchAlgorithm: the multi-fidelity and multi-objective algorithms', () => {
+  const ctx = { space, data: IMAGE, seed: 1 };
+
+  it('refuses a snapshot taken with another eta, epoch range or objective', () => {
+    const a = createSearchAlgorithm('asha', { ...settings, eta: 3 }, ctx);
+    new Driver('s').run(a, 30);
+    expect(() => createSearchAlgorithm('asha', { ...settings, eta: 2 }, ctx, stored(a.snapshot()))).toThrow(/eta 3, not 2/);
+    expect(() => createSearchAlgorithm('asha', { ...settings, maxEpochs: 27 }, ctx, stored(a.snapshot()))).toThrow(/maxEpochs 9, not 27/);
+    const p = createSearchAlgorithm('pareto-evolution', settings, ctx);
+    expect(() => createSearchAlgorithm('pareto-evolution', { ...settings, objective: 'flops' }, ctx, stored(p.snapshot()))).toThrow(/objective params, not flops/);
+    expect(() => make('asha-evolution', 1, IMAGE, stored(a.snapshot()))).toThrow(/belongs to 'asha', not 'asha-evolution'/);
+  });
+
+  it('refuses a corrupted successive-halving snapshot, naming what is wrong', () => {
+    const alg = make('asha-evolution', 1);
+    new Driver('c').run(alg, 60);
+    const good = stored(alg.snapshot());
+    if (good.algorithm !== 'asha-evolution' || !good.rungs[0]!.length) throw new Error('expected rung results');
+    const badRung = structuredClone(good);
+    (badRung.rungs[0]![0] as { promoted: unknown }).promoted = 'yes';
+    expect(() => make('asha-evolution', 1, IMAGE, badRung)).toThrow(/rungs\[0\]\[0\]\.promoted must be true or false/);
+    const badSource = structuredClone(good);
+    if (badSource.source.algorithm !== 'aging-evolution') throw new Error('expected aging evolution inside');
+    badSource.source.population[0]!.genomeHash = '0'.repeat(64);
+    expect(() => make('asha-evolution', 1, IMAGE, badSource)).toThrow(/source: cannot restore.*population\[0\]\.genomeHash/);
+    const otherRng = { ...good, rng: [1, 2, 3, 4] } as SearchSnapshot;
+    expect(() => make('asha-evolution', 1, IMAGE, otherRng)).toThrow(/rng must equal source\.rng/);
+  });
+
+  it('the restart tests above did cover promotions and a trimmed Pareto population', () => {
+    const a = make('asha', 21);
+    const d = new Driver('restart').run(a, 110);
+    expect(d.proposals.filter((p) => p.reason.startsWith('promotion')).length).toBeGreaterThan(3);
+    const p = make('pareto-evolution', 21);
+    const e = new Driver('restart').run(p, 110);
+    expect(e.observations.length).toBeGreaterThan(settings.populationSize);
+  });
+});

@@ -1,0 +1,27 @@
+import { describe, expect, it } from 'vitest';
+import { RunConfigSchema } from '@netbreeder/shared-types';
+import { resolveSearchSettings, SEARCH_SETTING_DEFAULTS } from './search-settings.js';
+
+describe('resolveSearchSettings', () => {
+  it('fills the defaults', () => {
+    expect(resolveSearchSettings({ populationSize: 5, sampleSize: 2 })).toEqual({
+      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params',
+    });
+  });
+
+  it('has the same defaults as the run file schema', () => {
+    const search = RunConfigSchema.properties.search.properties;
+    expect(search.eta.default).toBe(SEARCH_SETTING_DEFAULTS.eta);
+    expect(search.minEpochs.default).toBe(SEARCH_SETTING_DEFAULTS.minEpochs);
+    expect(search.maxEpochs.default).toBe(SEARCH_SETTING_DEFAULTS.maxEpochs);
+    expect(search.objective.default).toBe(SEARCH_SETTING_DEFAULTS.objective);
+  });
+
+  it('names the bad value', () => {
+    const base = { populationSize: 5, sampleSize: 2 };
+    expect(() => resolveSearchSettings({ ...base, eta: 1 })).toThrow(/eta must be a whole number ≥ 2, got 1/);
+    expect(() => resolveSearchSettings({ ...base, minEpochs: 0 })).toThrow(/minEpochs must be a whole number ≥ 1/);
+    expect(() => resolveSearchSettings({ ...base, minEpochs: 4, maxEpochs: 3 })).toThrow(/maxEpochs \(3\) must be at least minEpochs \(4\)/);
+    expect(() => resolveSearchSettings({ ...base, objective: 'latency' as never })).toThrow(/objective must be one of params, flops, got latency/);
+  });
+});
