@@ -65,6 +65,7 @@ const pageState = (page: Page) =>
 describe('the dashboard page, live, in headless chromium', () => {
   let cluster: TestCluster;
   let run: RunRecord;
+  let startRun: () => Promise<RunRecord>;
   let browser: Browser;
   let page: Page;
   const consoleErrors: string[] = [];
@@ -88,7 +89,7 @@ describe('the dashboard page, live, in headless chromium', () => {
     cluster.spawnWorker('dash-w1');
     cluster.spawnWorker('dash-w2');
     await cluster.waitForReadyWorkers(2);
-    run = await cluster.coordinator.startRun(config);
+    startRun = () => cluster.coordinator.startRun(config);
     browser = await chromium.launch({
       executablePath: CHROMIUM,
       args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run', '--disable-quic'],
@@ -121,10 +122,12 @@ describe('the dashboard page, live, in headless chromium', () => {
   });
 
   it('updates live while the search runs: charts with points, the live workers in the table', async () => {
-    // Opened as the run starts; from then on the page must fill itself, without a reload.
+    // Opened just before the run starts (so a busy machine cannot finish the run before the page
+    // loads); from then on the page must fill itself, without a reload.
     await page.goto(`${cluster.coordinator.url}/?every=1`);
     await waitFor('the page to poll once', async () => ((await pageState(page)).polls >= 1 ? true : null), 20_000, 200);
     const atLoad = (await pageState(page)).points;
+    run = await startRun();
     const workerRowIds = () =>
       page.$$eval('#workers-table tbody tr', (trs) => trs.map((tr) => (tr as unknown as { dataset: { workerId?: string } }).dataset.workerId ?? '').filter(Boolean).sort());
     await waitFor(
@@ -211,7 +214,7 @@ describe('the dashboard page, live, in headless chromium', () => {
     const chain = store.lineageChain(run.id, champion.genomeHash);
     await waitFor('the page to show the champion', async () => ((await page.textContent('#tile-champion'))?.includes('%') ? true : null), 20_000, 250);
     await waitFor('the lineage to be drawn', async () => ((await page.$$('#lineage li:not(.empty)')).length === chain.length + 1 ? true : null), 20_000, 250);
-    expect(await page.textContent('#run-state')).toBe('finished');
+    await waitFor('the page to show the run finished', async () => ((await page.textContent('#run-state')) === 'finished' ? true : null), 20_000, 250);
     expect(await page.textContent('#lineage-hint')).toContain('the champion');
     const topRows = await page.$$eval('#top-table tbody tr', (trs) => trs.map((tr) => (tr as unknown as { dataset: { genomeHash?: string } }).dataset.genomeHash ?? ''));
     expect(topRows[0]).toBe(store.topEvaluations(run.id, 1)[0]!.genomeHash);

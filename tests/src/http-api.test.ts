@@ -90,3 +90,23 @@ describe('coordinator HTTP API', () => {
     expect((await inject({ method: 'GET', url: '/datasets/not-a-hash' })).statusCode).toBe(400);
   });
 });
+
+describe('a coordinator with private status', () => {
+  let cluster: TestCluster;
+  beforeAll(async () => {
+    cluster = await TestCluster.start('private', { publicStatus: false });
+  });
+  afterAll(async () => {
+    await cluster?.stop();
+  });
+
+  it('answers status only with a token, in a header or (for a browser) the query', async () => {
+    const url = cluster.coordinator.url;
+    expect((await fetch(`${url}/status`)).status).toBe(401);
+    expect((await fetch(`${url}/status`, { headers: { authorization: `Bearer ${cluster.coordinator.secrets.joinToken}` } })).status).toBe(200);
+    expect((await fetch(`${url}/status?token=${cluster.coordinator.secrets.adminToken}`)).status).toBe(200);
+    expect((await fetch(`${url}/status?token=wrong`)).status).toBe(401);
+    // the dashboard page itself holds no data and loads without a token
+    expect((await fetch(`${url}/`)).status).toBe(200);
+  });
+});

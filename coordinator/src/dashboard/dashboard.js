@@ -24,8 +24,12 @@
   // For people poking at the page from the console, and for the page's browser test.
   window.netbreederDashboard = { charts, state };
 
+  // A coordinator with private status is opened as /?token=…; the data requests carry it along.
+  const token = new URLSearchParams(location.search).get('token');
   async function getJson(path) {
-    const res = await fetch(path, { headers: { accept: 'application/json' }, cache: 'no-store' });
+    const headers = { accept: 'application/json' };
+    if (token) headers.authorization = `Bearer ${token}`;
+    const res = await fetch(path, { headers, cache: 'no-store' });
     if (!res.ok) throw new Error(`${path}: HTTP ${res.status}`);
     return res.json();
   }

@@ -3,13 +3,14 @@ import type { FastifyReply, FastifyRequest } from 'fastify';
 
 /**
  * Who may call a route:
+ * - `public`: anyone (the dashboard page's own files, which hold no run data);
  * - `status`: read-only views (status, dashboard, run lists); open to anyone when the coordinator's
  *   status is public, otherwise to holders of the join or admin token;
  * - `join`: workers (heartbeats, dataset downloads), with the join token (or the admin token);
  * - `admin`: run control, revocation, genome submission and champion export, with the admin token.
  * Routes say which in `config.access`; a GET route that says nothing is `status`, any other `admin`.
  */
-export type Access = 'status' | 'join' | 'admin';
+export type Access = 'public' | 'status' | 'join' | 'admin';
 
 export interface AccessTokens {
   joinToken: string;
@@ -24,17 +25,23 @@ const same = (a: string, b: string): boolean => {
   return x.length === y.length && timingSafeEqual(x, y);
 };
 
-/** The bearer token of a request (`Authorization: Bearer …`), or null. */
+/**
+ * The token of a request: `Authorization: Bearer …`, or for read-only GETs a `token` query
+ * parameter (so a browser can open the dashboard of a coordinator whose status is private).
+ */
 export function bearerToken(req: FastifyRequest): string | null {
   const header = req.headers.authorization;
-  if (!header) return null;
-  const m = /^Bearer\s+(\S+)$/i.exec(header);
-  return m ? m[1]! : null;
+  if (header) {
+    const m = /^Bearer\s+(\S+)$/i.exec(header);
+    return m ? m[1]! : null;
+  }
+  const query = req.query as { token?: unknown } | undefined;
+  return req.method === 'GET' && typeof query?.token === 'string' ? query.token : null;
 }
 
 /** True when `token` grants `access`. */
 export function grants(tokens: AccessTokens, access: Access, token: string | null): boolean {
-  if (access === 'status' && tokens.publicStatus) return true;
+  if (access === 'public' || (access === 'status' && tokens.publicStatus)) return true;
   if (!token) return false;
   if (same(token, tokens.adminToken)) return true;
   return access !== 'admin' && same(token, tokens.joinToken);

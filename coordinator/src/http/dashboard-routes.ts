@@ -66,15 +66,18 @@ export function registerDashboardRoutes(app: FastifyInstance, opts: DashboardRou
 
   const page = assets.get('index.html')!;
   const sendPage = async (_req: unknown, reply: import('fastify').FastifyReply) => reply.type(page.type).header('cache-control', 'no-cache').send(page.body);
-  app.get('/', sendPage);
-  app.get('/dashboard', sendPage);
-  app.get('/dashboard/:file', async (req, reply) => {
+  // The page and its static files hold no run data: anyone may load them. The data routes below
+  // keep the status access rule (a private coordinator: open the page as /?token=JOIN_OR_ADMIN).
+  const PUBLIC = { config: { access: 'public' as const } };
+  app.get('/', PUBLIC, sendPage);
+  app.get('/dashboard', PUBLIC, sendPage);
+  app.get('/dashboard/:file', PUBLIC, async (req, reply) => {
     const file = (req.params as { file: string }).file;
     const asset = Object.hasOwn(PAGE_FILES, file) ? assets.get(file) : undefined;
     if (!asset) throw new HttpError('NB_NOT_FOUND', `the dashboard has no file ${file}`);
     return reply.type(asset.type).header('cache-control', 'no-cache').send(asset.body);
   });
-  app.get('/dashboard/vendor/chart.umd.min.js', async (_req, reply) => {
+  app.get('/dashboard/vendor/chart.umd.min.js', PUBLIC, async (_req, reply) => {
     const asset = assets.get('vendor/chart.umd.min.js')!;
     return reply.type(asset.type).header('cache-control', 'max-age=3600').send(asset.body);
   });

@@ -32,7 +32,10 @@ export class TestCluster {
     readonly prefix: string,
   ) {}
 
-  static async start(name: string, opts: { dataDir?: string; prefix?: string; lockDurationMs?: number; stalledIntervalMs?: number } = {}): Promise<TestCluster> {
+  static async start(
+    name: string,
+    opts: { dataDir?: string; prefix?: string; lockDurationMs?: number; stalledIntervalMs?: number; publicStatus?: boolean } = {},
+  ): Promise<TestCluster> {
     const dataDir = opts.dataDir ?? (await mkdtemp(join(tmpdir(), `nb-${name}-`)));
     const prefix = opts.prefix ?? uniquePrefix(name);
     const coordinator = await Coordinator.start({
@@ -44,6 +47,7 @@ export class TestCluster {
       logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn'),
       lockDurationMs: opts.lockDurationMs,
       stalledIntervalMs: opts.stalledIntervalMs,
+      publicStatus: opts.publicStatus,
     });
     return new TestCluster(coordinator, dataDir, prefix);
   }
