@@ -52,6 +52,8 @@ export interface AshaSnapshot<G = Genome> extends SnapshotBase {
   settings: Pick<ResolvedSearchSettings, 'eta' | 'minEpochs' | 'maxEpochs'>;
   /** Promotions proposed so far. */
   promotions: number;
+  /** Results ignored because their budget matched no rung. */
+  offRung: number;
   /** Each rung's results in arrival order, lowest rung first. */
   rungs: AshaRungMember<G>[][];
   /** The state of the source of new configurations (random search or aging evolution); `rng` above is a copy of its random state. */
@@ -156,7 +158,7 @@ export function parseSearchSnapshot<G>(value: unknown, variation: Variation<G>):
     });
   }
   if (algorithm === 'asha' || algorithm === 'asha-evolution') {
-    if (!isCount(value.promotions)) problems.push('promotions must be a whole number ≥ 0');
+    for (const k of ['promotions', 'offRung'] as const) if (!isCount(value[k])) problems.push(`${k} must be a whole number ≥ 0`);
     if (!Array.isArray(value.rungs) || !value.rungs.length) problems.push('rungs must be a non-empty array');
     else {
       value.rungs.forEach((rung: unknown, k) =>

@@ -164,7 +164,7 @@ describe('SuccessiveHalving (asha)', () => {
     expect(sizes[3]).toBeGreaterThan(0); // something reached 27 epochs
   });
 
-  it('holds a genome once per rung and needs the budget on every result', () => {
+  it('holds a genome once per rung and leaves out results of no rung budget', () => {
     const alg = asha();
     const p = alg.propose();
     const o = result(p, 0.5);
@@ -172,8 +172,12 @@ describe('SuccessiveHalving (asha)', () => {
     alg.observe(o);
     alg.observe({ ...o, evaluationId: 'other' });
     expect(alg.rungMembers()[0]).toHaveLength(1);
-    expect(() => alg.observe({ ...o, budgetEpochs: undefined })).toThrow(/asha needs budgetEpochs.*rung budget \(1, 3, 9\); got undefined/);
-    expect(() => alg.observe({ ...o, budgetEpochs: 4 })).toThrow(/got 4/);
+    const q = alg.propose();
+    alg.observe({ ...result(q, 0.9), budgetEpochs: undefined });
+    alg.observe({ ...result(q, 0.9), budgetEpochs: 4 }); // say a genome a user submitted with 4 epochs
+    expect(alg.rungMembers().map((r) => r.length)).toEqual([1, 0, 0]);
+    expect(alg.snapshot().offRung).toBe(2);
+    expect(alg.snapshot().observed).toBe(1);
   });
 });
 

@@ -37,7 +37,9 @@ const short = (hash: string) => hash.slice(0, 12);
  *   budget of rung k+1. Finding none, it proposes a new configuration at rung 0.
  * - No barrier: a promotion is decided whenever work is asked for, on the results present. A job
  *   that is lost never enters its rung; its configuration stays marked promoted and is not retried.
- * - A rung holds each genome once (by hash); a repeated result for it is ignored.
+ * - A rung holds each genome once (by hash); a repeated result for it is ignored. A result whose
+ *   `budgetEpochs` is no rung's budget (or absent) is counted in the snapshot's `offRung` and
+ *   otherwise ignored: it is comparable with no rung.
  * - `asha-evolution`: new configurations are children from {@link AgingEvolution}, which sees the
  *   rung-0 results only, so its tournaments compare genomes trained for the same budget; a child
  *   starts at rung 0, and only promoted ones get the full budget.
@@ -57,6 +59,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
   private proposed: number;
   private observed: number;
   private promotions: number;
+  private offRung: number;
 
   constructor(options: SuccessiveHalvingOptions<G>) {
     this.name = options.variant;
@@ -89,6 +92,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     this.proposed = s ? s.proposed : 0;
     this.observed = s ? s.observed : 0;
     this.promotions = s ? s.promotions : 0;
+    this.offRung = s ? s.offRung : 0;
   }
 
   propose(): Proposal<G> {
@@ -125,9 +129,10 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     assertObservation(o, this.variation);
     const k = o.budgetEpochs === undefined ? -1 : this.budgets.indexOf(o.budgetEpochs);
     if (k < 0) {
-      throw new TypeError(
-        `observation ${o.evaluationId}: ${this.name} needs budgetEpochs, the epochs it trained for, equal to a rung budget (${this.budgets.join(', ')}); got ${String(o.budgetEpochs)}`,
-      );
+      // Trained for no rung's budget (a genome a user submitted with its own epochs): comparable with
+      // no rung, so it is counted and otherwise left out.
+      this.offRung++;
+      return;
     }
     if (k === 0) this.source.observe(o); // evolution learns from equal-budget results only
     const rung = this.rungs[k]!;
@@ -152,6 +157,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       observed: this.observed,
       settings: { eta: this.settings.eta, minEpochs: this.settings.minEpochs, maxEpochs: this.settings.maxEpochs },
       promotions: this.promotions,
+      offRung: this.offRung,
       rungs: structuredClone(this.rungs),
       source,
     };
