@@ -5,16 +5,15 @@ import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import {
-  defaultSearchSpace,
   evaluationsResponseValidator,
   lineageResponseValidator,
-  statusResponseValidator,
   throughputResponseValidator,
   topGenomesResponseValidator,
   type EvaluationsResponse,
 } from '@netbreeder/shared-types';
-import { parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
+import type { RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
+import { smallRunConfig } from './support/small-run.js';
 
 /**
  * The dashboard page in a real headless browser (Debian's chromium, driven by playwright-core)
@@ -74,18 +73,7 @@ describe('the dashboard page, live, in headless chromium', () => {
     if (!existsSync(CHROMIUM)) throw new Error(`no browser at ${CHROMIUM}: install Debian's chromium (apt-get install chromium); .ci/run does this`);
     await mkdir(ARTIFACTS, { recursive: true });
     cluster = await TestCluster.start('dashboard');
-    // Small and quick, in the style of the end-to-end test.
-    // The end-to-end test's settings: small and quick, but training visibly learns.
-    const config = parseRunConfig({
-      name: 'dashboard check',
-      seed: 5,
-      dataset: { kind: 'demo-tiles', samplesPerClass: 150, seed: 5 },
-      search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2 },
-      budget: { maxEvaluations: EVALUATIONS, maxMinutes: 10 },
-      evaluation: { maxSeconds: 30 },
-      champion: { epochs: 8, maxSeconds: 60 },
-      searchSpace: { ...defaultSearchSpace(), epochs: { min: 3, max: 6 }, learningRate: { min: 1e-3, max: 3e-2 }, maxFlops: 2_000_000, filters: { min: 4, max: 16 }, units: { min: 8, max: 64 } },
-    });
+    const config = smallRunConfig('dashboard check', EVALUATIONS);
     cluster.spawnWorker('dash-w1');
     cluster.spawnWorker('dash-w2');
     await cluster.waitForReadyWorkers(2);

@@ -2,10 +2,11 @@ import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as tf from '@tensorflow/tfjs';
-import { decodeShard, defaultSearchSpace, statusResponseValidator, type StatusResponse } from '@netbreeder/shared-types';
-import { CHAMPION_FILES, downloadChampion, parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
+import { decodeShard, statusResponseValidator, type StatusResponse } from '@netbreeder/shared-types';
+import { CHAMPION_FILES, downloadChampion, type RunRecord } from '@netbreeder/coordinator';
 import { initBackend } from '@netbreeder/worker';
 import { TestCluster, waitFor } from './support/harness.js';
+import { smallRunConfig } from './support/small-run.js';
 
 /**
  * The whole job on one machine: a real coordinator, two real worker processes training real (tiny)
@@ -21,25 +22,7 @@ describe('a run end to end with two workers', () => {
 
   beforeAll(async () => {
     cluster = await TestCluster.start('e2e');
-    // Small and quick, but enough data and epochs that training visibly learns.
-    const space = {
-      ...defaultSearchSpace(),
-      epochs: { min: 3, max: 6 },
-      learningRate: { min: 1e-3, max: 3e-2 },
-      maxFlops: 2_000_000,
-      filters: { min: 4, max: 16 },
-      units: { min: 8, max: 64 },
-    };
-    const config = parseRunConfig({
-      name: 'e2e',
-      seed: 5,
-      dataset: { kind: 'demo-tiles', samplesPerClass: 150, seed: 5 },
-      search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2 },
-      budget: { maxEvaluations: EVALUATIONS, maxMinutes: 10 },
-      evaluation: { maxSeconds: 30 },
-      champion: { epochs: 8, maxSeconds: 60 },
-      searchSpace: space,
-    });
+    const config = smallRunConfig('e2e', EVALUATIONS);
     cluster.spawnWorker('w1');
     cluster.spawnWorker('w2');
     await cluster.waitForReadyWorkers(2);

@@ -165,7 +165,7 @@ export class RunManager {
     const testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
     const algorithm = createSearchAlgorithm(
       run.config.search.algorithm,
-      { populationSize: run.config.search.populationSize, sampleSize: run.config.search.sampleSize },
+      (({ algorithm: _algorithm, ...settings }) => settings)(run.config.search),
       { space, data, seed: run.seed },
       (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );

@@ -53,20 +53,7 @@ export const SPATIAL_KINDS: readonly LayerKind[] = [
  */
 export function defaultSearchSpace(): SearchSpace {
   return {
-    allowedKinds: [
-      'dense',
-      'conv2d',
-      'max-pool2d',
-      'avg-pool2d',
-      'dropout',
-      'batch-norm',
-      'activation',
-      'flatten',
-      'global-avg-pool',
-      'global-max-pool',
-      'add',
-      'concat',
-    ],
+    allowedKinds: LAYER_KINDS.filter((k) => k !== 'depthwise-conv2d'),
     maxNodes: 24,
     maxParams: 250_000,
     maxFlops: 20_000_000,

@@ -1,7 +1,7 @@
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Queue, Worker, type Job } from 'bullmq';
+import { Queue, Worker } from 'bullmq';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { EVALUATION_RESULT_VERSION, defaultSearchSpace, type EvaluationJob, type EvaluationResult } from '@netbreeder/shared-types';
 import { openRedis } from '@netbreeder/worker';

@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { createRandom, statusResponseValidator, type StatusResponse } from '@netbreeder/shared-types';
 import { RunStore, spawnWorker } from '@netbreeder/coordinator';
-import { uniquePrefix, waitFor } from '../support/harness.js';
+import { uniquePrefix } from '../support/harness.js';
 import { freePort, signalTree, startCoordinatorProcess, startRedisServer, type Managed } from '../support/processes.js';
 import { FAULT_LOCK_MS, FAULT_STALLED_CHECK_MS, faultWorkerArgs, writeFaultRunFile } from '../support/fault-run.js';
 
