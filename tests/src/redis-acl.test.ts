@@ -38,7 +38,7 @@ describe('a worker with a restricted Redis ACL user', () => {
       dataset: { kind: 'demo-tiles', samplesPerClass: 20 },
       search: { populationSize: 3, sampleSize: 2 },
       budget: { maxEvaluations: 3 },
-      champion: { epochs: 2 },
+      champion: { epochs: 2, topK: 1 },
       searchSpace: { ...defaultSearchSpace(), epochs: { min: 1, max: 2 } },
     });
     const run = await cluster.coordinator.startRun(config);

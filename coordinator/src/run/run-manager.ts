@@ -253,7 +253,7 @@ export class RunManager {
   /** Workers whose last heartbeat is recent enough. */
   aliveWorkers(): number {
     const cutoff = this.now() - this.workerTimeoutMs;
-    return this.store.listWorkers().filter((w) => w.lastSeenAt >= cutoff && w.heartbeat.state !== 'stopped').length;
+    return this.store.countLiveWorkers(cutoff);
   }
 
   isWorkerAlive(lastSeenAt: number): boolean {

@@ -328,6 +328,13 @@ export class RunStore {
       .run(hb.workerId, JSON.stringify(hb), now, now);
   }
 
+  /** Workers heard from since `since` (ms epoch) that have not said they stopped; no JSON parsed. */
+  countLiveWorkers(since: number): number {
+    return (this.db
+      .prepare("SELECT COUNT(*) AS n FROM workers WHERE last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'")
+      .get(since) as Row).n as number;
+  }
+
   listWorkers(): Array<{ heartbeat: WorkerHeartbeat; firstSeenAt: number; lastSeenAt: number }> {
     return (this.db.prepare('SELECT * FROM workers ORDER BY first_seen_at').all() as Row[]).map((r) => ({
       heartbeat: JSON.parse(r.heartbeat_json as string) as WorkerHeartbeat,
