@@ -137,12 +137,16 @@ export class SimulatedTraining implements Trainer {
   }
 }
 
-/** Builds the genome's model with its initial (untrained) weights on the in-process cpu backend. */
+/**
+ * Builds the genome's model with its initial (untrained) weights, on whatever backend this process
+ * already uses (the same choice as everywhere: a process shares one TensorFlow.js engine, so a
+ * coordinator in the same process keeps its own backend).
+ */
 async function untrainedModel(request: ChildTrainRequest): Promise<NonNullable<TrainOutcome['model']>> {
-  const tf = await import('@tensorflow/tfjs');
+  const { initBackend } = await import('../training/backend.js');
   const { buildModel } = await import('../training/build-model.js');
   const { modelToMessage } = await import('../training/model-artifacts.js');
-  if (tf.getBackend() !== 'cpu') await tf.setBackend('cpu');
+  await initBackend();
   const model = buildModel(request.genome, request.data, request.seed);
   try {
     return await modelToMessage(model);
