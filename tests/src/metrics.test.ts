@@ -99,7 +99,7 @@ describe('GET /metrics with a real run', () => {
       budget: { maxEvaluations: EVALUATIONS, maxMinutes: 10 },
       evaluation: { maxSeconds: 30 },
       champion: { epochs: 3, maxSeconds: 60 },
-      searchSpace: { ...defaultSearchSpace(), epochs: { min: 2, max: 3 }, maxFlops: 1_000_000, filters: { min: 4, max: 12 }, units: { min: 8, max: 32 } },
+      searchSpace: { ...defaultSearchSpace(), epochs: { min: 6, max: 10 }, maxFlops: 1_000_000, filters: { min: 4, max: 12 }, units: { min: 8, max: 32 } },
     });
     cluster.spawnWorker('met-w1');
     cluster.spawnWorker('met-w2');
@@ -115,7 +115,7 @@ describe('GET /metrics with a real run', () => {
           return s.run?.state === 'finished' || s.run?.state === 'failed';
         },
         240_000,
-        500,
+        150,
       );
     } catch (err) {
       throw new Error(`${(err as Error).message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);

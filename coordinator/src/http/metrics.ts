@@ -2,6 +2,7 @@ import type { FastifyInstance } from 'fastify';
 import { Counter, Gauge, Registry } from 'prom-client';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { RunManager } from '../run/run-manager.js';
+import { runMinutes } from '../run/status-report.js';
 import type { RunRecord } from '../store/run-store.js';
 
 /** What `/metrics` reads on each scrape. */
@@ -77,8 +78,7 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
       const run = currentRun();
       if (!run) return;
       const now = Date.now();
-      const start = run.searchStartedAt ?? run.createdAt;
-      const minutes = Math.max(((run.finishedAt ?? now) - start) / 60_000, 1 / 60);
+      const minutes = runMinutes(run, now);
       this.set({ run: run.id, window: 'last_minute' }, store.doneSince(run.id, now - 60_000));
       this.set({ run: run.id, window: 'since_start' }, store.counts(run.id, 'search').done / minutes);
     },

@@ -3,6 +3,14 @@ import type { RunManager } from './run-manager.js';
 
 const iso = (ms: number) => new Date(ms).toISOString();
 
+/**
+ * Minutes a run has searched (to its end, once ended), at least one second's worth so that a
+ * rate over a just-started run stays finite. GET /status and /metrics both use it.
+ */
+export function runMinutes(run: { searchStartedAt: number | null; createdAt: number; finishedAt: number | null }, now: number): number {
+  return Math.max(((run.finishedAt ?? now) - (run.searchStartedAt ?? run.createdAt)) / 60_000, 1 / 60);
+}
+
 /** Builds GET /status from the store (the truth) and the run manager's view of worker liveness. */
 export function buildStatus(manager: RunManager, meta: { version: string; startedAt: number }, now = Date.now()): StatusResponse {
   const store = manager.store;
@@ -10,7 +18,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
   const counts = run ? store.counts(run.id, 'search') : { queued: 0, running: 0, done: 0, failed: 0 };
   const start = run ? (run.searchStartedAt ?? run.createdAt) : now;
   const end = run?.finishedAt ?? now;
-  const elapsedMinutes = Math.max((end - start) / 60_000, 1e-9);
+  const elapsedMinutes = run ? runMinutes(run, now) : 1;
   const [best] = run ? store.topEvaluations(run.id, 1) : [];
   const champion = run ? store.getChampion(run.id) : null;
   const championGenome = champion ? store.getGenome(champion.genomeHash) : null;
