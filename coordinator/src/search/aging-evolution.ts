@@ -4,8 +4,8 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AgingEvolutionSnapshot } from './snapshot.js';
 import { tournamentSelect } from './tournament.js';
-import { describeMutations, randomGenome, type Variation } from './variation.js';
-import { MutationError } from './mutations.js';
+import type { Variation } from './variation.js';
+import { childProposal, randomProposal, shortHash } from './proposals.js';
 
 export interface AgingEvolutionOptions<G> {
   /** P, S and the initial members' mutation count, already resolved (see `resolveSearchSettings`). */
@@ -18,7 +18,6 @@ export interface AgingEvolutionOptions<G> {
   snapshot?: AgingEvolutionSnapshot<G>;
 }
 
-const short = (hash: string) => hash.slice(0, 12);
 
 /**
  * Regularized (aging) evolution (Real, Aggarwal, Huang, Le, AAAI 2019, Algorithm 1), asynchronous:
@@ -88,22 +87,9 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
     const parent = this.population[winner]!;
     const choice =
       `tournament of ${S} draws with replacement from ${this.population.length} members ` +
-      `(${new Set(drawn).size} distinct); the fittest drawn, ${short(parent.genomeHash)} from evaluation ${parent.evaluationId} ` +
+      `(${new Set(drawn).size} distinct); the fittest drawn, ${shortHash(parent.genomeHash)} from evaluation ${parent.evaluationId} ` +
       `(fitness ${parent.fitness.toFixed(4)}), is the parent`;
-    let child: ReturnType<Variation<G>['mutate']>;
-    try {
-      child = this.variation.mutate(parent.genome, this.rng);
-    } catch (err) {
-      if (!(err instanceof MutationError)) throw err;
-      return this.initialMember(`${choice}, but it has no valid mutation (${err.message}); a fresh member instead`);
-    }
-    return {
-      genome: child.genome,
-      genomeHash: this.variation.hash(child.genome),
-      parentHashes: [parent.genomeHash],
-      mutation: child.mutation,
-      reason: `${choice}; ${child.mutation.operator}: ${child.mutation.detail}`,
-    };
+    return childProposal(this.variation, this.rng, parent, choice, (why) => this.initialMember(why));
   }
 
   observe(o: Observation<G>): void {
@@ -136,14 +122,7 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
 
   private initialMember(why: string): Proposal<G> {
     this.initialProposed++;
-    const { genome, mutations, requested } = randomGenome(this.variation, this.rng, this.rng.int(0, this.settings.initialMutations));
-    const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
-    return {
-      genome,
-      genomeHash: this.variation.hash(genome),
-      parentHashes: [],
-      mutation: null,
-      reason: `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
-    };
+    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why);
   }
+
 }

@@ -1,11 +1,11 @@
 import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
-import { MutationError } from './mutations.js';
 import { crowdedCompare, rankAndCrowding, type RankAndCrowding } from './nsga2.js';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
-import { describeMutations, randomGenome, type Variation } from './variation.js';
+import type { Variation } from './variation.js';
+import { childProposal, randomProposal, shortHash } from './proposals.js';
 
 export interface ParetoEvolutionOptions<G> {
   /** P, S, the initial members' mutation count and the size objective, already resolved. */
@@ -18,7 +18,6 @@ export interface ParetoEvolutionOptions<G> {
   snapshot?: ParetoEvolutionSnapshot<G>;
 }
 
-const short = (hash: string) => hash.slice(0, 12);
 const objectives = (members: readonly ParetoMember<unknown>[]) => members.map((m) => [-m.fitness, m.cost]);
 
 /**
@@ -84,22 +83,9 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
     const parent = this.population[winner]!;
     const choice =
       `crowded tournament of ${S} draws with replacement from ${this.population.length} members (${new Set(drawn).size} distinct); ` +
-      `the best drawn, ${short(parent.genomeHash)} from evaluation ${parent.evaluationId} (fitness ${parent.fitness.toFixed(4)}, ` +
+      `the best drawn, ${shortHash(parent.genomeHash)} from evaluation ${parent.evaluationId} (fitness ${parent.fitness.toFixed(4)}, ` +
       `${objective} ${parent.cost}, front ${rc.rank[winner]}, crowding ${rc.distance[winner]!.toFixed(3)}), is the parent`;
-    let child: ReturnType<Variation<G>['mutate']>;
-    try {
-      child = this.variation.mutate(parent.genome, this.rng);
-    } catch (err) {
-      if (!(err instanceof MutationError)) throw err;
-      return this.initialMember(`${choice}, but it has no valid mutation (${err.message}); a fresh member instead`);
-    }
-    return {
-      genome: child.genome,
-      genomeHash: this.variation.hash(child.genome),
-      parentHashes: [parent.genomeHash],
-      mutation: child.mutation,
-      reason: `${choice}; ${child.mutation.operator}: ${child.mutation.detail}`,
-    };
+    return childProposal(this.variation, this.rng, parent, choice, (why) => this.initialMember(why));
   }
 
   observe(o: Observation<G>): void {
@@ -143,14 +129,7 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
 
   private initialMember(why: string): Proposal<G> {
     this.initialProposed++;
-    const { genome, mutations, requested } = randomGenome(this.variation, this.rng, this.rng.int(0, this.settings.initialMutations));
-    const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
-    return {
-      genome,
-      genomeHash: this.variation.hash(genome),
-      parentHashes: [],
-      mutation: null,
-      reason: `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
-    };
+    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why);
   }
+
 }

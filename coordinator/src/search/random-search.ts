@@ -3,7 +3,8 @@ import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type RandomSearchSnapshot } from './snapshot.js';
-import { describeMutations, randomGenome, type Variation } from './variation.js';
+import type { Variation } from './variation.js';
+import { randomProposal } from './proposals.js';
 
 export interface RandomSearchOptions<G> {
   /** The most random mutations per sample, already resolved (see `resolveSearchSettings`). */
@@ -48,15 +49,7 @@ export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
 
   propose(): Proposal<G> {
     this.proposed++;
-    const { genome, mutations, requested } = randomGenome(this.variation, this.rng, this.rng.int(0, this.settings.randomMutations));
-    const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
-    return {
-      genome,
-      genomeHash: this.variation.hash(genome),
-      parentHashes: [],
-      mutation: null,
-      reason: `random sample ${this.proposed}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
-    };
+    return randomProposal(this.variation, this.rng, this.settings.randomMutations, `random sample ${this.proposed}`);
   }
 
   observe(o: Observation<G>): void {

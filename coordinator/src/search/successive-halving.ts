@@ -7,6 +7,7 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
+import { shortHash } from './proposals.js';
 
 /** Where new configurations come from: independent random genomes, or children of aging evolution. */
 export type AshaVariant = 'asha' | 'asha-evolution';
@@ -24,7 +25,6 @@ export interface SuccessiveHalvingOptions<G> {
   snapshot?: AshaSnapshot<G>;
 }
 
-const short = (hash: string) => hash.slice(0, 12);
 
 /**
  * Asynchronous successive halving (ASHA: Li, Jamieson, Rostamizadeh, Gonina, Ben-tzur, Hardt,
@@ -116,7 +116,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
           budgetEpochs: this.budgets[k + 1]!,
           reason:
             `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
-            `${short(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
+            `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
             `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`,
         };
       }
