@@ -101,30 +101,18 @@ export class ChampionPhase {
     const better = !current || score.accuracy > current.testAccuracy;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
-      this.o.store.logEvent(ev.runId, 'champion-candidate-scored', {
+      const scored = {
         evaluationId: ev.id,
         sourceEvaluationId: candidate.sourceEvaluationId,
         genomeHash: ev.genomeHash,
         valAccuracy: candidate.valAccuracy,
         testAccuracy: score.accuracy,
         testLoss: score.loss,
-        backend: score.backend,
-        latencyMsPerSample: score.latencyMsPerSample,
-      });
+      };
+      this.o.store.logEvent(ev.runId, 'champion-candidate-scored', { ...scored, backend: score.backend, latencyMsPerSample: score.latencyMsPerSample });
       if (better) {
         this.o.store.saveChampion(
-          {
-            runId: ev.runId,
-            evaluationId: ev.id,
-            sourceEvaluationId: candidate.sourceEvaluationId,
-            genomeHash: ev.genomeHash,
-            valAccuracy: candidate.valAccuracy,
-            testAccuracy: score.accuracy,
-            testLoss: score.loss,
-            testPredictions: Array.from(score.predictions),
-            result: { ...result, model: undefined },
-            createdAt: this.o.now(),
-          },
+          { runId: ev.runId, ...scored, testPredictions: Array.from(score.predictions), result: { ...result, model: undefined }, createdAt: this.o.now() },
           JSON.stringify(result.model),
         );
       }
