@@ -30,11 +30,12 @@ export class TestCluster {
     readonly coordinator: Coordinator,
     readonly dataDir: string,
     readonly prefix: string,
+    readonly redisUrl: string,
   ) {}
 
   static async start(
     name: string,
-    opts: { dataDir?: string; prefix?: string; lockDurationMs?: number; stalledIntervalMs?: number; publicStatus?: boolean } = {},
+    opts: { dataDir?: string; prefix?: string; lockDurationMs?: number; stalledIntervalMs?: number; publicStatus?: boolean; redisUrl?: string } = {},
   ): Promise<TestCluster> {
     const dataDir = opts.dataDir ?? (await mkdtemp(join(tmpdir(), `nb-${name}-`)));
     const prefix = opts.prefix ?? uniquePrefix(name);
@@ -43,19 +44,19 @@ export class TestCluster {
       port: 0,
       host: '127.0.0.1',
       tickMs: 250,
-      queue: { redisUrl: REDIS_URL, prefix, queueName: 'evaluations' },
+      queue: { redisUrl: opts.redisUrl ?? REDIS_URL, prefix, queueName: 'evaluations' },
       logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn'),
       lockDurationMs: opts.lockDurationMs,
       stalledIntervalMs: opts.stalledIntervalMs,
       publicStatus: opts.publicStatus,
     });
-    return new TestCluster(coordinator, dataDir, prefix);
+    return new TestCluster(coordinator, dataDir, prefix, opts.redisUrl ?? REDIS_URL);
   }
 
   /** Starts a worker process joined to this cluster; its log is kept for failure messages. */
   spawnWorker(id: string, extraArgs: string[] = []): ChildProcess {
     const child = spawnWorker(
-      ['--coordinator', this.coordinator.url, '--redis', REDIS_URL, '--prefix', this.prefix, '--id', id, '--nice', '0', '--cache-dir', join(this.dataDir, `cache-${id}`), ...extraArgs],
+      ['--coordinator', this.coordinator.url, '--redis', this.redisUrl, '--prefix', this.prefix, '--id', id, '--nice', '0', '--cache-dir', join(this.dataDir, `cache-${id}`), ...extraArgs],
       { env: { NETBREEDER_LOG_LEVEL: 'info', NETBREEDER_JOIN_TOKEN: this.coordinator.secrets.joinToken } },
     );
     child.stderr?.on('data', (chunk: Buffer) => {
