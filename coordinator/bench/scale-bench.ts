@@ -15,6 +15,7 @@
  * Prints a table and, last, one JSON object with every figure.
  *
  *   npm run bench:scale [-- --quick]     (--quick: shorter windows, 100k largest store; a smoke run)
+ *   npm run bench:scale -- --zero        (only the raw ceiling and the zero-training ratio)
  */
 import { fork, type ChildProcess } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
@@ -34,8 +35,10 @@ import type { FleetChildConfig, FleetChildMessage } from './scale-fleet.js';
 
 const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
 const QUEUE = 'evaluations';
-const { values: args } = parseArgs({ options: { quick: { type: 'boolean' } } });
+const { values: args } = parseArgs({ options: { quick: { type: 'boolean' }, zero: { type: 'boolean' } } });
 const QUICK = args.quick === true;
+/** `--zero`: only phases 1 and 2 (raw BullMQ and the zero-training ratio), for profiling the coordinator. */
+const ZERO_ONLY = args.zero === true;
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const prefix = (name: string) => `nbbench-${name}-${randomBytes(4).toString('hex')}`;
 const round = (v: number, d = 1) => Number(v.toFixed(d));
@@ -245,6 +248,10 @@ async function main(): Promise<void> {
   const ratio = zero.evaluationsPerSecond / raw.jobsPerSecond;
   console.log(`project end to end, 50 simulated workers, zero training: ${zero.evaluationsPerSecond} evaluations/s (${round(100 * ratio, 0)}% of raw)`);
 
+  if (ZERO_ONLY) {
+    console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, endToEndZeroTraining: zero, ratio: round(ratio, 3) }));
+    return;
+  }
   const thousand = await endToEnd('thousand', 1000, { meanSeconds: 10, sigma: 0.5, dropRate: 0, seed: 'thousand' }, QUICK ? 15_000 : 25_000, QUICK ? 20_000 : 60_000);
   console.log(`1,000 simulated workers, 10 s mean jobs: ${thousand.evaluationsPerSecond} evaluations/s`);
 

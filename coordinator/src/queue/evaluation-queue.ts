@@ -39,14 +39,13 @@ export class EvaluationQueue {
 
   /** Adds (or, when already there, leaves alone) one evaluation's job. */
   async add(job: EvaluationJob): Promise<void> {
-    await this.queue.add(job.kind, job, {
-      jobId: job.evaluationId,
-      attempts: 1,
-      removeOnComplete: false,
-      removeOnFail: false,
-      // Champion trainings go before search trainings.
-      priority: job.kind === 'champion' ? 1 : 10,
-    });
+    await this.queue.add(job.kind, job, jobOptions(job));
+  }
+
+  /** Adds many jobs in one round trip (each left alone when already there). */
+  async addMany(jobs: readonly EvaluationJob[]): Promise<void> {
+    if (jobs.length === 0) return;
+    await this.queue.addBulk(jobs.map((job) => ({ name: job.kind, data: job, opts: jobOptions(job) })));
   }
 
   /** True when Redis still knows the job (in any state). */
@@ -81,6 +80,11 @@ export class EvaluationQueue {
 
   async remove(evaluationId: string): Promise<void> {
     await this.queue.remove(evaluationId);
+  }
+
+  /** Removes many finished jobs; the commands go out together rather than one round trip each. */
+  async removeMany(evaluationIds: readonly string[]): Promise<void> {
+    await Promise.all(evaluationIds.map((id) => this.queue.remove(id)));
   }
 
   /** Jobs by BullMQ state, for status and metrics. */
@@ -120,6 +124,15 @@ export class EvaluationQueue {
     this.connection.disconnect();
   }
 }
+
+const jobOptions = (job: EvaluationJob) => ({
+  jobId: job.evaluationId,
+  attempts: 1,
+  removeOnComplete: false,
+  removeOnFail: false,
+  // Champion trainings go before search trainings.
+  priority: job.kind === 'champion' ? 1 : 10,
+});
 
 /** The URL without its password, for logs. */
 export function redactUrl(url: string): string {

@@ -95,6 +95,8 @@ export class RunManager {
   private revoked: Set<string> | null = null;
   private ticking: Promise<void> | null = null;
   private tickAgain = false;
+  /** True once `finish` was asked for the current run (also read back from the store on attach). */
+  private finishRequested = false;
   private readonly now: () => number;
   private readonly tickMs: number;
   private readonly workerTimeoutMs: number;
@@ -167,13 +169,14 @@ export class RunManager {
       run.config.search.algorithm,
       (({ algorithm: _algorithm, ...settings }) => settings)(run.config.search),
       { space, data, seed: run.seed },
-      (run.searchSnapshot as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
+      (this.store.searchSnapshot(run.id) as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );
     // Only now, with everything ready, does the reconcile loop see the run.
     this.space = space;
     this.data = data;
     this.testSplit = testSplit;
     this.algorithm = algorithm;
+    this.finishRequested = this.store.events(run.id, 'run-finish-requested').length > 0;
     this.run = run;
     await this.rebuildQueue('coordinator started');
   }
@@ -230,14 +233,38 @@ export class RunManager {
     return this.ticking;
   }
 
+  /**
+   * One reconcile pass. Every search result and failed attempt that finished since the last pass,
+   * and every new proposal they make room for, is written to the store in ONE transaction with one
+   * save of the search algorithm's state; only then are the jobs added to and removed from Redis,
+   * in bulk. A crash between the two is safe: on restart the store re-adds what it still owes, and
+   * finished jobs still in Redis are recognised as already recorded.
+   * Champion trainings (few, and scored here on the test split) are handled one at a time after.
+   */
   private async pass(): Promise<void> {
     if (!this.run) return;
     if ((await this.opts.queue.checkMarker(this.run.id)) === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
-    for (const job of await this.opts.queue.finished()) await this.reconcile(job);
+    const finished = await this.opts.queue.finished();
+    const batch = emptyBatch();
+    const championJobs: FinishedJob[] = [];
+    this.store.transaction(() => {
+      for (const job of finished) {
+        if (!this.reconcileSearchJob(job, batch)) championJobs.push(job);
+      }
+      const run = this.currentRun();
+      if (run?.state === 'searching' && !this.searchBudgetSpent(run)) this.proposeUpToTarget(run, batch);
+      if (batch.searchChanged) this.store.saveSearchSnapshot(this.run!.id, this.algorithm!.snapshot());
+    });
+    await this.opts.queue.removeMany(batch.remove);
+    await this.opts.queue.addMany(batch.add);
+    for (const { evaluationId, result } of batch.recorded) this.events.resultRecorded?.(this.store.getEvaluation(evaluationId)!, result);
+    for (const job of championJobs) await this.reconcileChampionJob(job);
     const run = this.currentRun();
     if (!run) return;
-    if (run.state === 'searching') await this.advanceSearch(run);
-    else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
+    if (run.state === 'searching' && this.searchBudgetSpent(run)) {
+      const counts = this.store.counts(run.id, 'search');
+      if (counts.queued + counts.running === 0) await this.champion.begin(run);
+    } else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
 
   /** Records heartbeats and marks the worker's current evaluation running. */
@@ -293,6 +320,7 @@ export class RunManager {
       this.store.setRunState(runId, next, { now: this.now() });
       this.store.logEvent(runId, action === 'finish' ? 'run-finish-requested' : `run-${next}`, { from: run.state, action });
     });
+    if (action === 'finish' && runId === this.run?.id) this.finishRequested = true;
     this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);
     if (action === 'stop') await this.cancelPending(runId);
     if (action !== 'pause') await this.tick();
@@ -318,49 +346,46 @@ export class RunManager {
     const check = checkGenome(value, this.space, this.data!);
     if (!check.ok) throw new GenomeRejectedError(check.issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message)));
     const genome = canonicalGenome(check.genome);
-    await this.queueProposal(run.id, { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' }, check.analysis);
-    return this.store.evaluations(run.id).at(-1)!;
+    const proposal: Proposal = { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' };
+    const job = this.store.transaction(() => this.recordProposal(this.store.getRun(run.id)!, proposal, check.analysis));
+    await this.opts.queue.add(job);
+    return this.store.getEvaluation(job.evaluationId)!;
   }
 
   // ---- search phase --------------------------------------------------------------------------
 
   private searchBudgetSpent(run: RunRecord): boolean {
-    if (this.store.events(run.id, 'run-finish-requested').length > 0) return true;
+    if (this.finishRequested) return true;
     const elapsedMin = (this.now() - (run.searchStartedAt ?? run.createdAt)) / 60_000;
     return run.proposals >= run.config.budget.maxEvaluations || elapsedMin >= run.config.budget.maxMinutes;
   }
 
-  private async advanceSearch(run: RunRecord): Promise<void> {
+  /** Proposes until one evaluation is in flight per alive worker plus the slack (inside the pass's transaction). */
+  private proposeUpToTarget(run: RunRecord, batch: QueueBatch): void {
     const counts = this.store.counts(run.id, 'search');
-    const inFlight = counts.queued + counts.running;
-    if (this.searchBudgetSpent(run)) {
-      if (inFlight === 0) await this.champion.begin(run);
-      return;
-    }
     const target = Math.max(2, this.aliveWorkers() + this.queueSlack);
-    let proposals = run.proposals;
-    for (let n = inFlight; n < target && proposals < run.config.budget.maxEvaluations; n++, proposals++) {
-      await this.proposeOne(run.id);
+    let current = run;
+    for (let n = counts.queued + counts.running; n < target && current.proposals < run.config.budget.maxEvaluations; n++) {
+      const proposal = this.algorithm!.propose();
+      const analysis = analyzeGenome(proposal.genome, this.data!);
+      if (!analysis.ok) throw new Error(`search proposed an invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
+      batch.add.push(this.recordProposal(current, proposal, analysis.analysis));
+      batch.searchChanged = true;
+      current = { ...current, proposals: current.proposals + 1 };
     }
   }
 
-  private async proposeOne(runId: string): Promise<void> {
-    const proposal = this.algorithm!.propose();
-    const analysis = analyzeGenome(proposal.genome, this.data!);
-    if (!analysis.ok) throw new Error(`search proposed an invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
-    await this.queueProposal(runId, proposal, analysis.analysis);
-  }
-
-  /** Records a proposal (genome, evaluation, lineage, algorithm snapshot) in one transaction, then queues it. */
-  private async queueProposal(runId: string, proposal: Proposal, analysis: GenomeAnalysis): Promise<void> {
-    const algorithm = this.algorithm!;
-    const run = this.store.getRun(runId)!;
+  /**
+   * Records a proposal (genome, evaluation, lineage) as evaluation number `run.proposals` of the run
+   * and returns its job; the caller is inside a transaction, saves the algorithm's state and queues the job.
+   */
+  private recordProposal(run: RunRecord, proposal: Proposal, analysis: GenomeAnalysis): EvaluationJob {
     const seq = run.proposals;
     const job: EvaluationJob = {
       schemaVersion: EVALUATION_JOB_VERSION,
       kind: 'search',
-      evaluationId: evaluationId(runId, seq, 1),
-      runId,
+      evaluationId: evaluationId(run.id, seq, 1),
+      runId: run.id,
       attempt: 1,
       genome: proposal.genome,
       genomeHash: proposal.genomeHash,
@@ -368,34 +393,36 @@ export class RunManager {
       budget: { epochs: proposal.budgetEpochs ?? proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
       dataset: run.dataset.manifest,
     };
-    this.store.transaction(() => {
-      this.store.putGenome({
-        hash: proposal.genomeHash,
-        genome: proposal.genome,
-        params: analysis.params,
-        flops: analysis.flops,
-        summary: describeGenome(proposal.genome, this.data!.numClasses),
-      });
-      this.store.addEvaluation(job, seq, this.now(), true);
-      for (const parent of proposal.parentHashes) {
-        this.store.addLineage(runId, {
-          evaluationId: job.evaluationId,
-          childHash: proposal.genomeHash,
-          parentHash: parent,
-          operator: proposal.mutation?.operator ?? 'none',
-          detail: proposal.mutation?.detail ?? proposal.reason,
-        });
-      }
-      this.store.saveSearchSnapshot(runId, algorithm.snapshot());
+    this.store.putGenome({
+      hash: proposal.genomeHash,
+      genome: proposal.genome,
+      params: analysis.params,
+      flops: analysis.flops,
+      summary: describeGenome(proposal.genome, this.data!.numClasses),
     });
-    await this.opts.queue.add(job);
+    this.store.addEvaluation(job, seq, this.now(), true);
+    for (const parent of proposal.parentHashes) {
+      this.store.addLineage(run.id, {
+        evaluationId: job.evaluationId,
+        childHash: proposal.genomeHash,
+        parentHash: parent,
+        operator: proposal.mutation?.operator ?? 'none',
+        detail: proposal.mutation?.detail ?? proposal.reason,
+      });
+    }
+    return job;
   }
 
   // ---- results -------------------------------------------------------------------------------
 
-  /** Validates one finished job's outcome and records it once; the job leaves Redis afterwards. */
-  private async reconcile(job: FinishedJob): Promise<void> {
+  /**
+   * Handles one finished job inside the pass's transaction: a search result or failed attempt, a job
+   * that names no evaluation, or one already recorded. Returns false, doing nothing, for a champion
+   * training still owed a result (that goes through {@link reconcileChampionJob}).
+   */
+  private reconcileSearchJob(job: FinishedJob, batch: QueueBatch): boolean {
     const ev = this.store.getEvaluation(job.id);
+    if (ev?.kind === 'champion' && (ev.state === 'queued' || ev.state === 'running')) return false;
     if (!ev) {
       this.store.logEvent(null, 'rejected-result', { evaluationId: job.id, reason: 'unknown evaluation id' });
       this.opts.log.warn({ evaluationId: job.id }, 'finished job names no evaluation of this store; removed');
@@ -404,32 +431,55 @@ export class RunManager {
     } else if (job.state === 'completed') {
       const problem = this.resultProblem(ev, job.returnvalue);
       if (problem) {
-        await this.rejectResult(ev, problem);
-        return;
-      } else if (ev.kind === 'search') {
-        this.recordSearchResult(ev, job.returnvalue as EvaluationResult);
-      } else {
+        this.rejectResult(ev, problem, batch);
+        return true;
+      }
+      this.recordSearchResult(ev, job.returnvalue as EvaluationResult, batch);
+    } else {
+      this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable, batch);
+    }
+    batch.remove.push(job.id);
+    return true;
+  }
+
+  /** Records a champion training's outcome (scored on the test split here), then carries out its queue work. */
+  private async reconcileChampionJob(job: FinishedJob): Promise<void> {
+    const ev = this.store.getEvaluation(job.id)!;
+    const batch = emptyBatch();
+    let givenUp = false;
+    if (job.state === 'completed') {
+      const problem = this.resultProblem(ev, job.returnvalue);
+      if (problem) this.store.transaction(() => this.rejectResult(ev, problem, batch));
+      else {
         await this.champion.recordResult(ev, job.returnvalue as EvaluationResult);
+        batch.remove.push(job.id);
       }
     } else {
-      await this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable);
+      givenUp = this.store.transaction(() => this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable, batch));
+      batch.remove.push(job.id);
     }
-    await this.opts.queue.remove(job.id);
+    await this.opts.queue.removeMany(batch.remove);
+    await this.opts.queue.addMany(batch.add);
+    if (givenUp) await this.champion.attemptGivenUp(ev.runId);
+  }
+
+  /** The configuration of `runId` (the driven run's is kept in memory; a run's config never changes). */
+  private configOf(runId: string): RunConfig {
+    return runId === this.run?.id ? this.run.config : this.store.getRun(runId)!.config;
   }
 
   /**
    * A result that cannot be recorded changes nothing but the event log: the same job goes back in
    * the queue for another worker. Past `maxAttempts` rejections the attempt counts as failed.
    */
-  private async rejectResult(ev: EvaluationRecord, problem: string): Promise<void> {
+  private rejectResult(ev: EvaluationRecord, problem: string, batch: QueueBatch): void {
     this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
     this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected; the job goes back in the queue');
-    await this.opts.queue.remove(ev.id);
-    const run = this.store.getRun(ev.runId)!;
-    if (this.store.countEventsNaming(ev.runId, 'rejected-result', ev.id) >= run.config.evaluation.maxAttempts) {
-      await this.recordFailedAttempt(ev, `every result for it was rejected; the last because ${problem}`, false);
+    batch.remove.push(ev.id);
+    if (this.store.countEventsNaming(ev.runId, 'rejected-result', ev.id) >= this.configOf(ev.runId).evaluation.maxAttempts) {
+      this.recordFailedAttempt(ev, `every result for it was rejected; the last because ${problem}`, false, batch);
     } else {
-      await this.opts.queue.add(ev.job);
+      batch.add.push(ev.job);
     }
   }
 
@@ -445,50 +495,55 @@ export class RunManager {
     return null;
   }
 
-  private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult): void {
-    const recorded = this.store.transaction(() => {
-      const outcome = this.store.recordResult(ev.id, result, this.now());
-      if (outcome !== 'recorded') return false;
-      this.algorithm!.observe({
-        evaluationId: ev.id,
-        genomeHash: ev.genomeHash,
-        genome: ev.job.genome,
-        fitness: result.valAccuracy!,
-        budgetEpochs: ev.job.budget.epochs,
-        params: result.paramCount,
-        flops: result.flops,
-        trainSeconds: result.trainSeconds,
-      });
-      this.store.saveSearchSnapshot(ev.runId, this.algorithm!.snapshot());
-      return true;
+  private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult, batch: QueueBatch): void {
+    if (this.store.recordResult(ev.id, result, this.now()) !== 'recorded') return;
+    this.algorithm!.observe({
+      evaluationId: ev.id,
+      genomeHash: ev.genomeHash,
+      genome: ev.job.genome,
+      fitness: result.valAccuracy!,
+      budgetEpochs: ev.job.budget.epochs,
+      params: result.paramCount,
+      flops: result.flops,
+      trainSeconds: result.trainSeconds,
     });
-    if (!recorded) return;
+    batch.searchChanged = true;
+    batch.recorded.push({ evaluationId: ev.id, result });
     this.opts.log.info(
       { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
       'evaluation recorded',
     );
-    this.events.resultRecorded?.(this.store.getEvaluation(ev.id)!, result);
   }
 
-  /** Records a failed attempt and, unless it cannot succeed, queues the next attempt. */
-  private async recordFailedAttempt(ev: EvaluationRecord, reason: string, unrecoverable: boolean): Promise<void> {
-    const run = this.store.getRun(ev.runId)!;
-    const canRetry = !unrecoverable && ev.attempt < run.config.evaluation.maxAttempts;
+  /**
+   * Records a failed attempt and, unless it cannot succeed, the next attempt (queued with the
+   * batch). Returns true when the evaluation was given up.
+   */
+  private recordFailedAttempt(ev: EvaluationRecord, reason: string, unrecoverable: boolean, batch: QueueBatch): boolean {
+    const canRetry = !unrecoverable && ev.attempt < this.configOf(ev.runId).evaluation.maxAttempts;
     const next: EvaluationJob | null = canRetry
       ? { ...ev.job, attempt: ev.attempt + 1, evaluationId: evaluationId(ev.runId, ev.seq, ev.attempt + 1, ev.kind) }
       : null;
-    this.store.transaction(() => {
-      if (this.store.recordFailure(ev.id, reason, this.now()) !== 'recorded') return;
-      if (next) {
-        this.store.addEvaluation(next, ev.seq, this.now(), false);
-        this.store.logEvent(ev.runId, 'reissued', { evaluationId: ev.id, next: next.evaluationId, reason });
-      } else {
-        this.store.logEvent(ev.runId, 'genome-failing', { evaluationId: ev.id, genomeHash: ev.genomeHash, attempts: ev.attempt, reason });
-      }
-    });
+    if (this.store.recordFailure(ev.id, reason, this.now()) !== 'recorded') return false;
+    if (next) {
+      this.store.addEvaluation(next, ev.seq, this.now(), false);
+      this.store.logEvent(ev.runId, 'reissued', { evaluationId: ev.id, next: next.evaluationId, reason });
+      batch.add.push(next);
+    } else {
+      this.store.logEvent(ev.runId, 'genome-failing', { evaluationId: ev.id, genomeHash: ev.genomeHash, attempts: ev.attempt, reason });
+    }
     this.opts.log.warn({ evaluationId: ev.id, reason, reissuedAs: next?.evaluationId ?? null }, 'evaluation attempt failed');
-    if (next) await this.opts.queue.add(next);
-    else if (ev.kind === 'champion') await this.champion.attemptGivenUp(ev.runId);
+    return next === null;
   }
-
 }
+
+/** Queue work and notifications a pass decided, carried out once its transaction has committed. */
+interface QueueBatch {
+  add: EvaluationJob[];
+  remove: string[];
+  recorded: Array<{ evaluationId: string; result: EvaluationResult }>;
+  /** True when the search algorithm saw a result or made a proposal, so its state must be saved. */
+  searchChanged: boolean;
+}
+
+const emptyBatch = (): QueueBatch => ({ add: [], remove: [], recorded: [], searchChanged: false });

@@ -71,6 +71,8 @@ export interface Mutation {
 export interface MutationOutcome {
   /** The child: it passes `checkGenome` and its hash differs from the parent's. */
   genome: Genome;
+  /** The child's canonical hash (computed anyway to compare it with the parent's). */
+  genomeHash: string;
   mutation: Mutation;
   /** Operator draws it took (1 when the first one worked). */
   attempts: number;
@@ -109,9 +111,11 @@ export function mutate(parent: Genome, ctx: MutateContext): MutationOutcome {
     const result = MUTATION_OPERATORS[operator](parent, ctx);
     if (!result) continue;
     const check = checkGenome(result.genome, ctx.space, ctx.data);
-    if (!check.ok || genomeHash(check.genome) === parentHash) continue;
+    if (!check.ok) continue;
+    const childHash = genomeHash(check.genome);
+    if (childHash === parentHash) continue;
     // A deep copy, so the child shares no node object with its parent.
-    return { genome: structuredClone(check.genome), mutation: { operator, detail: result.detail }, attempts: attempt };
+    return { genome: structuredClone(check.genome), genomeHash: childHash, mutation: { operator, detail: result.detail }, attempts: attempt };
   }
   throw new MutationError(
     `no valid child differing from genome ${parentHash?.slice(0, 12) ?? '(invalid)'} in ${maxAttempts} attempts; ` +

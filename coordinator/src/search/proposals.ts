@@ -42,7 +42,7 @@ export function childProposal<G>(
   }
   return {
     genome: child.genome,
-    genomeHash: variation.hash(child.genome),
+    genomeHash: child.genomeHash ?? variation.hash(child.genome),
     parentHashes: [parent.genomeHash],
     mutation: child.mutation,
     reason: `${chosen}; ${child.mutation.operator}: ${child.mutation.detail}`,

@@ -11,8 +11,11 @@ import { mutate, MutationError, type MutateOptions, type Mutation } from './muta
 export interface Variation<G> {
   /** A fresh, valid genome: the start of an initial member or a random-search sample. */
   minimal(rng: Random): G;
-  /** A valid child that differs from `parent`; throws {@link MutationError} when none is found. */
-  mutate(parent: G, rng: Random): { genome: G; mutation: Mutation };
+  /**
+   * A valid child that differs from `parent`; throws {@link MutationError} when none is found.
+   * May give the child's hash too, when it had to compute it anyway.
+   */
+  mutate(parent: G, rng: Random): { genome: G; mutation: Mutation; genomeHash?: string };
   /** Content hash: equal genomes give equal hashes. */
   hash(genome: G): string;
   /** True when `value` has the genome's form (used on restored snapshots). */
@@ -24,8 +27,8 @@ export function genomeVariation(space: SearchSpace, data: DataShape, options: Mu
   return {
     minimal: (rng) => minimalGenome({ space, data, rng }),
     mutate: (parent, rng) => {
-      const { genome, mutation } = mutate(parent, { space, data, rng, ...options });
-      return { genome, mutation };
+      const { genome, mutation, genomeHash } = mutate(parent, { space, data, rng, ...options });
+      return { genome, mutation, genomeHash };
     },
     hash: (genome) => genomeHash(genome),
     isGenome: (value): value is Genome => genomeValidator.check(value),

@@ -21,7 +21,6 @@ export interface RunRecord {
   state: RunState;
   seed: number;
   dataset: StoredDataset;
-  searchSnapshot: unknown;
   proposals: number;
   createdAt: number;
   searchStartedAt: number | null;
@@ -101,6 +100,9 @@ const evaluationFromRow = (r: Row): EvaluationRecord => ({
   error: (r.error as string | null) ?? null,
 });
 
+/** Every column of `runs` but the search snapshot, which only a resuming coordinator reads. */
+const RUN_COLUMNS = 'id, name, config_json, state, seed, dataset_json, proposals, created_at, search_started_at, finished_at, failure';
+
 const runFromRow = (r: Row): RunRecord => ({
   id: r.id as string,
   name: r.name as string,
@@ -108,7 +110,6 @@ const runFromRow = (r: Row): RunRecord => ({
   state: r.state as RunState,
   seed: r.seed as number,
   dataset: JSON.parse(r.dataset_json as string) as StoredDataset,
-  searchSnapshot: r.search_snapshot_json ? JSON.parse(r.search_snapshot_json as string) : null,
   proposals: r.proposals as number,
   createdAt: r.created_at as number,
   searchStartedAt: (r.search_started_at as number | null) ?? null,
@@ -123,6 +124,8 @@ const runFromRow = (r: Row): RunRecord => ({
  */
 export class RunStore {
   private readonly db: Database.Database;
+  /** Prepared statements by SQL text: preparing costs more than running a small statement. */
+  private readonly statements = new Map<string, Database.Statement>();
 
   constructor(path: string) {
     this.db = new Database(path);
@@ -143,6 +146,16 @@ export class RunStore {
     }
   }
 
+  /** The prepared statement for `sql`, prepared once per store. */
+  private sql(sql: string): Database.Statement {
+    let statement = this.statements.get(sql);
+    if (!statement) {
+      statement = this.db.prepare(sql);
+      this.statements.set(sql, statement);
+    }
+    return statement;
+  }
+
   /** Runs `fn` in one transaction: all of its writes land, or none. */
   transaction<T>(fn: () => T): T {
     return this.db.transaction(fn)();
@@ -155,8 +168,8 @@ export class RunStore {
   // ---- runs ----------------------------------------------------------------------------------
 
   createRun(run: { id: string; name: string; config: RunConfig; seed: number; dataset: StoredDataset; now: number }): void {
-    this.db
-      .prepare(
+    this
+      .sql(
         `INSERT INTO runs (id, name, config_json, state, seed, dataset_json, created_at, search_started_at)
          VALUES (?, ?, ?, 'searching', ?, ?, ?, ?)`,
       )
@@ -164,85 +177,91 @@ export class RunStore {
   }
 
   getRun(id: string): RunRecord | null {
-    const row = this.db.prepare('SELECT * FROM runs WHERE id = ?').get(id) as Row | undefined;
+    const row = this.sql(`SELECT ${RUN_COLUMNS} FROM runs WHERE id = ?`).get(id) as Row | undefined;
     return row ? runFromRow(row) : null;
   }
 
   listRuns(): RunRecord[] {
-    return (this.db.prepare('SELECT * FROM runs ORDER BY created_at DESC').all() as Row[]).map(runFromRow);
+    return (this.sql(`SELECT ${RUN_COLUMNS} FROM runs ORDER BY created_at DESC`).all() as Row[]).map(runFromRow);
   }
 
   /** The newest run that has not ended, to resume after a restart. */
   unfinishedRun(): RunRecord | null {
-    const row = this.db
-      .prepare(`SELECT * FROM runs WHERE state IN ('preparing', 'searching', 'paused', 'training-champion') ORDER BY created_at DESC LIMIT 1`)
+    const row = this
+      .sql(`SELECT ${RUN_COLUMNS} FROM runs WHERE state IN ('preparing', 'searching', 'paused', 'training-champion') ORDER BY created_at DESC LIMIT 1`)
       .get() as Row | undefined;
     return row ? runFromRow(row) : null;
   }
 
   setRunState(id: string, state: RunState, opts: { now?: number; failure?: string } = {}): void {
     const ended = state === 'finished' || state === 'failed' || state === 'stopped';
-    this.db
-      .prepare('UPDATE runs SET state = ?, finished_at = CASE WHEN ? THEN ? ELSE finished_at END, failure = COALESCE(?, failure) WHERE id = ?')
+    this
+      .sql('UPDATE runs SET state = ?, finished_at = CASE WHEN ? THEN ? ELSE finished_at END, failure = COALESCE(?, failure) WHERE id = ?')
       .run(state, ended ? 1 : 0, opts.now ?? Date.now(), opts.failure ?? null, id);
   }
 
+  /** The search algorithm's last saved state (parsed JSON), or null before the first proposal. */
+  searchSnapshot(runId: string): unknown {
+    const row = this.sql('SELECT search_snapshot_json FROM runs WHERE id = ?').get(runId) as Row | undefined;
+    return row?.search_snapshot_json ? JSON.parse(row.search_snapshot_json as string) : null;
+  }
+
   saveSearchSnapshot(runId: string, snapshot: unknown): void {
-    this.db.prepare('UPDATE runs SET search_snapshot_json = ? WHERE id = ?').run(JSON.stringify(snapshot), runId);
+    this.sql('UPDATE runs SET search_snapshot_json = ? WHERE id = ?').run(JSON.stringify(snapshot), runId);
   }
 
   // ---- genomes and evaluations -----------------------------------------------------------------
 
   putGenome(g: GenomeRecord): void {
-    this.db
-      .prepare('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)')
+    this
+      .sql('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)')
       .run(g.hash, JSON.stringify(g.genome), g.params, g.flops, g.summary);
   }
 
   getGenome(hash: string): GenomeRecord | null {
-    const r = this.db.prepare('SELECT * FROM genomes WHERE hash = ?').get(hash) as Row | undefined;
+    const r = this.sql('SELECT * FROM genomes WHERE hash = ?').get(hash) as Row | undefined;
     if (!r) return null;
     return { hash, genome: JSON.parse(r.genome_json as string) as Genome, params: r.params as number, flops: r.flops as number, summary: r.summary as string };
   }
 
   /** Inserts a queued evaluation; with `countsAsProposal` the run's proposal counter moves too. */
   addEvaluation(job: EvaluationJob, seq: number, now: number, countsAsProposal: boolean): void {
-    this.db
-      .prepare(
+    this
+      .sql(
         `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at)
          VALUES (?, ?, ?, ?, ?, ?, ?, ?, 'queued', ?)`,
       )
       .run(job.evaluationId, job.runId, job.kind, seq, job.attempt, job.genomeHash, job.seed, JSON.stringify(job), now);
-    if (countsAsProposal) this.db.prepare('UPDATE runs SET proposals = proposals + 1 WHERE id = ?').run(job.runId);
+    if (countsAsProposal) this.sql('UPDATE runs SET proposals = proposals + 1 WHERE id = ?').run(job.runId);
   }
 
   addLineage(runId: string, link: LineageLink): void {
-    this.db
-      .prepare('INSERT OR IGNORE INTO lineage (evaluation_id, run_id, child_hash, parent_hash, operator, detail) VALUES (?, ?, ?, ?, ?, ?)')
+    this
+      .sql('INSERT OR IGNORE INTO lineage (evaluation_id, run_id, child_hash, parent_hash, operator, detail) VALUES (?, ?, ?, ?, ?, ?)')
       .run(link.evaluationId, runId, link.childHash, link.parentHash, link.operator, link.detail);
   }
 
   getEvaluation(id: string): EvaluationRecord | null {
-    const r = this.db.prepare('SELECT * FROM evaluations WHERE id = ?').get(id) as Row | undefined;
+    const r = this.sql('SELECT * FROM evaluations WHERE id = ?').get(id) as Row | undefined;
     return r ? evaluationFromRow(r) : null;
   }
 
   /** Evaluations still owed a result (queued or running): what a rebuilt queue must hold. */
   pendingEvaluations(runId: string): EvaluationRecord[] {
-    return (this.db.prepare(`SELECT * FROM evaluations WHERE run_id = ? AND state IN ('queued', 'running') ORDER BY seq, attempt`).all(runId) as Row[]).map(
+    return (this.sql(`SELECT * FROM evaluations WHERE run_id = ? AND state IN ('queued', 'running') ORDER BY seq, attempt`).all(runId) as Row[]).map(
       evaluationFromRow,
     );
   }
 
   /** Marks a queued evaluation running on a worker (from its heartbeat); no effect otherwise. */
   markRunning(id: string, workerId: string, now: number): boolean {
-    return this.db.prepare(`UPDATE evaluations SET state = 'running', worker_id = ?, started_at = COALESCE(started_at, ?) WHERE id = ? AND state = 'queued'`).run(workerId, now, id).changes === 1;
+    return this.sql(`UPDATE evaluations SET state = 'running', worker_id = ?, started_at = COALESCE(started_at, ?) WHERE id = ? AND state = 'queued'`).run(workerId, now, id).changes === 1;
   }
 
   /** Records a result once: a second delivery of the same evaluation changes nothing. */
   recordResult(id: string, result: EvaluationResult, now: number): RecordOutcome {
-    const info = this.db
-      .prepare(
+    const info = this
+      .sql(
         `UPDATE evaluations SET state = 'done', finished_at = ?, worker_id = ?, backend = ?, val_accuracy = ?, val_loss = ?,
            train_seconds = ?, samples_per_second = ?, result_json = ?, started_at = COALESCE(started_at, ?)
          WHERE id = ? AND state IN ('queued', 'running')`,
@@ -254,7 +273,7 @@ export class RunStore {
 
   /** Records a failed attempt once. */
   recordFailure(id: string, error: string, now: number): RecordOutcome {
-    const info = this.db.prepare(`UPDATE evaluations SET state = 'failed', finished_at = ?, error = ? WHERE id = ? AND state IN ('queued', 'running')`).run(now, error.slice(0, 4000), id);
+    const info = this.sql(`UPDATE evaluations SET state = 'failed', finished_at = ?, error = ? WHERE id = ? AND state IN ('queued', 'running')`).run(now, error.slice(0, 4000), id);
     if (info.changes === 1) return 'recorded';
     return this.getEvaluation(id) ? 'duplicate' : 'unknown-evaluation';
   }
@@ -263,7 +282,7 @@ export class RunStore {
   counts(runId: string, kind: 'search' | 'champion' = 'search'): Record<EvaluationState, number> {
     const out: Record<EvaluationState, number> = { queued: 0, running: 0, done: 0, failed: 0 };
     // Kept by triggers in the same transaction as every write (migration 2): no scan of the run's rows.
-    for (const r of this.db.prepare('SELECT state, n FROM evaluation_counts WHERE run_id = ? AND kind = ?').all(runId, kind) as Row[]) {
+    for (const r of this.sql('SELECT state, n FROM evaluation_counts WHERE run_id = ? AND kind = ?').all(runId, kind) as Row[]) {
       out[r.state as EvaluationState] = r.n as number;
     }
     return out;
@@ -271,7 +290,7 @@ export class RunStore {
 
   /** Search evaluations finished (done) since `since` (ms epoch); reads only the rows in that time range. */
   doneSince(runId: string, since: number): number {
-    return (this.db.prepare(`SELECT COUNT(*) AS n FROM evaluations INDEXED BY evaluations_by_run_finished WHERE run_id = ? AND finished_at >= ? AND kind = 'search' AND state = 'done'`).get(runId, since) as Row).n as number;
+    return (this.sql(`SELECT COUNT(*) AS n FROM evaluations INDEXED BY evaluations_by_run_finished WHERE run_id = ? AND finished_at >= ? AND kind = 'search' AND state = 'done'`).get(runId, since) as Row).n as number;
   }
 
   /**
@@ -279,8 +298,8 @@ export class RunStore {
    * Walks `evaluations_by_run_kind_state_score` from the top, so only the leading rows are read.
    */
   topEvaluations(runId: string, limit: number): Array<EvaluationRecord & { params: number; flops: number; summary: string; genome: Genome }> {
-    const rows = this.db
-      .prepare(
+    const rows = this
+      .sql(
         `SELECT e.*, g.params, g.flops, g.summary, g.genome_json FROM evaluations e INDEXED BY evaluations_by_run_kind_state_score
          JOIN genomes g ON g.hash = e.genome_hash
          WHERE e.run_id = ? AND e.kind = 'search' AND e.state = 'done'
@@ -298,13 +317,13 @@ export class RunStore {
 
   /** Every evaluation of a run in proposal order (for reports and tests). */
   evaluations(runId: string): EvaluationRecord[] {
-    return (this.db.prepare('SELECT * FROM evaluations WHERE run_id = ? ORDER BY seq, attempt').all(runId) as Row[]).map(evaluationFromRow);
+    return (this.sql('SELECT * FROM evaluations WHERE run_id = ? ORDER BY seq, attempt').all(runId) as Row[]).map(evaluationFromRow);
   }
 
   /** The chain of mutations that led to `genomeHash`, from its earliest recorded ancestor. */
   lineageChain(runId: string, genomeHash: string, maxDepth = 1000): LineageLink[] {
     const chain: LineageLink[] = [];
-    const stmt = this.db.prepare('SELECT * FROM lineage WHERE run_id = ? AND child_hash = ? ORDER BY evaluation_id LIMIT 1');
+    const stmt = this.sql('SELECT * FROM lineage WHERE run_id = ? AND child_hash = ? ORDER BY evaluation_id LIMIT 1');
     let hash = genomeHash;
     const seen = new Set<string>();
     while (chain.length < maxDepth && !seen.has(hash)) {
@@ -320,8 +339,8 @@ export class RunStore {
   // ---- workers -------------------------------------------------------------------------------
 
   upsertWorker(hb: WorkerHeartbeat, now: number): void {
-    this.db
-      .prepare(
+    this
+      .sql(
         `INSERT INTO workers (id, heartbeat_json, first_seen_at, last_seen_at) VALUES (?, ?, ?, ?)
          ON CONFLICT(id) DO UPDATE SET heartbeat_json = excluded.heartbeat_json, last_seen_at = excluded.last_seen_at`,
       )
@@ -330,13 +349,13 @@ export class RunStore {
 
   /** Workers heard from since `since` (ms epoch) that have not said they stopped; no JSON parsed. */
   countLiveWorkers(since: number): number {
-    return (this.db
-      .prepare("SELECT COUNT(*) AS n FROM workers WHERE last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'")
+    return (this
+      .sql("SELECT COUNT(*) AS n FROM workers WHERE last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'")
       .get(since) as Row).n as number;
   }
 
   listWorkers(): Array<{ heartbeat: WorkerHeartbeat; firstSeenAt: number; lastSeenAt: number }> {
-    return (this.db.prepare('SELECT * FROM workers ORDER BY first_seen_at').all() as Row[]).map((r) => ({
+    return (this.sql('SELECT * FROM workers ORDER BY first_seen_at').all() as Row[]).map((r) => ({
       heartbeat: JSON.parse(r.heartbeat_json as string) as WorkerHeartbeat,
       firstSeenAt: r.first_seen_at as number,
       lastSeenAt: r.last_seen_at as number,
@@ -346,8 +365,8 @@ export class RunStore {
   // ---- champion ------------------------------------------------------------------------------
 
   saveChampion(c: ChampionRecord, artifactsJson: string): void {
-    this.db
-      .prepare(
+    this
+      .sql(
         `INSERT OR REPLACE INTO champions (run_id, evaluation_id, source_evaluation_id, genome_hash, val_accuracy, test_accuracy, test_loss,
            test_predictions_json, artifacts_json, result_json, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
       )
@@ -355,7 +374,7 @@ export class RunStore {
   }
 
   getChampion(runId: string): ChampionRecord | null {
-    const r = this.db.prepare('SELECT * FROM champions WHERE run_id = ?').get(runId) as Row | undefined;
+    const r = this.sql('SELECT * FROM champions WHERE run_id = ?').get(runId) as Row | undefined;
     if (!r) return null;
     return {
       runId,
@@ -373,7 +392,7 @@ export class RunStore {
 
   /** The champion's trained model (TensorFlow.js layers format, as the worker sent it). */
   getChampionArtifactsJson(runId: string): string | null {
-    const r = this.db.prepare('SELECT artifacts_json FROM champions WHERE run_id = ?').get(runId) as Row | undefined;
+    const r = this.sql('SELECT artifacts_json FROM champions WHERE run_id = ?').get(runId) as Row | undefined;
     return r ? (r.artifacts_json as string) : null;
   }
 
@@ -381,20 +400,20 @@ export class RunStore {
 
   /** Appends to the run's event log (rejections, reissues, state changes). */
   logEvent(runId: string | null, kind: string, detail: unknown, now = Date.now()): void {
-    this.db.prepare('INSERT INTO events (run_id, at, kind, detail_json) VALUES (?, ?, ?, ?)').run(runId, now, kind, JSON.stringify(detail));
+    this.sql('INSERT INTO events (run_id, at, kind, detail_json) VALUES (?, ?, ?, ?)').run(runId, now, kind, JSON.stringify(detail));
   }
 
   /** How many events of `kind` name `evaluationId` (in their detail). */
   countEventsNaming(runId: string | null, kind: string, evaluationId: string): number {
-    return (this.db
-      .prepare("SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ? AND json_extract(detail_json, '$.evaluationId') = ?")
+    return (this
+      .sql("SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ? AND json_extract(detail_json, '$.evaluationId') = ?")
       .get(runId, kind, evaluationId) as Row).n as number;
   }
 
   events(runId: string | null, kind?: string): Array<{ at: number; kind: string; detail: unknown }> {
     const rows = (kind
-      ? this.db.prepare('SELECT * FROM events WHERE run_id IS ? AND kind = ? ORDER BY id').all(runId, kind)
-      : this.db.prepare('SELECT * FROM events WHERE run_id IS ? ORDER BY id').all(runId)) as Row[];
+      ? this.sql('SELECT * FROM events WHERE run_id IS ? AND kind = ? ORDER BY id').all(runId, kind)
+      : this.sql('SELECT * FROM events WHERE run_id IS ? ORDER BY id').all(runId)) as Row[];
     return rows.map((r) => ({ at: r.at as number, kind: r.kind as string, detail: JSON.parse(r.detail_json as string) }));
   }
 
@@ -405,8 +424,8 @@ export class RunStore {
    * at most `limit`, each with its genome's size. Reads through `evaluations_by_run_finished`.
    */
   finishedSearchEvaluationsSince(runId: string, since: number, limit: number): Array<EvaluationRecord & { params: number; flops: number; backend: string | null; trainSeconds: number | null; samplesPerSecond: number | null }> {
-    const rows = this.db
-      .prepare(
+    const rows = this
+      .sql(
         `SELECT e.*, g.params, g.flops FROM evaluations e INDEXED BY evaluations_by_run_finished JOIN genomes g ON g.hash = e.genome_hash
          WHERE e.run_id = ? AND e.finished_at >= ? AND e.kind = 'search' AND e.state IN ('done', 'failed')
          ORDER BY e.finished_at, e.id LIMIT ?`,
@@ -425,8 +444,8 @@ export class RunStore {
   /** When each done search evaluation of a run finished, how long it trained and how fast: the raw data of throughput over time. */
   trainingSpans(runId: string): Array<{ finishedAt: number; trainSeconds: number; samplesPerSecond: number }> {
     return (
-      this.db
-        .prepare(
+      this
+        .sql(
           `SELECT finished_at, train_seconds, samples_per_second FROM evaluations INDEXED BY evaluations_by_run_finished
            WHERE run_id = ? AND finished_at IS NOT NULL AND kind = 'search' AND state = 'done' ORDER BY finished_at`,
         )
@@ -437,7 +456,7 @@ export class RunStore {
   /** The best validation accuracy each of `hashes` reached in a run's search (absent when it has no done evaluation). */
   bestAccuracyByGenome(runId: string, hashes: readonly string[]): Map<string, number> {
     const out = new Map<string, number>();
-    const stmt = this.db.prepare(`SELECT MAX(val_accuracy) AS best FROM evaluations WHERE run_id = ? AND kind = 'search' AND state = 'done' AND genome_hash = ?`);
+    const stmt = this.sql(`SELECT MAX(val_accuracy) AS best FROM evaluations WHERE run_id = ? AND kind = 'search' AND state = 'done' AND genome_hash = ?`);
     for (const hash of new Set(hashes)) {
       const best = (stmt.get(runId, hash) as Row).best as number | null;
       if (best != null) out.set(hash, best);
@@ -448,8 +467,8 @@ export class RunStore {
   /** How many events of `kind` the store holds: of one run (`null`: those of no run), or of all when `runId` is omitted. */
   countEvents(kind: string, runId?: string | null): number {
     const row = (runId === undefined
-      ? this.db.prepare('SELECT COUNT(*) AS n FROM events WHERE kind = ?').get(kind)
-      : this.db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ?').get(runId, kind)) as Row;
+      ? this.sql('SELECT COUNT(*) AS n FROM events WHERE kind = ?').get(kind)
+      : this.sql('SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ?').get(runId, kind)) as Row;
     return row.n as number;
   }
 }

@@ -12,6 +12,8 @@ export class HeartbeatSender {
   private failures = 0;
   private inFlight: Promise<void> | null = null;
   private again = false;
+  private lastNotifiedAt = -Infinity;
+  private trailing: NodeJS.Timeout | null = null;
 
   constructor(
     private readonly coordinatorUrl: string,
@@ -21,6 +23,8 @@ export class HeartbeatSender {
     private readonly joinToken: string | null = null,
     /** Called when the coordinator answers that this worker id is revoked. */
     private readonly onRevoked: () => void = () => {},
+    /** State changes closer together than this are sent as one heartbeat (very short jobs). @default 1000 */
+    private readonly minChangeGapMs = 1000,
   ) {}
 
   start(): void {
@@ -28,6 +32,28 @@ export class HeartbeatSender {
     this.timer = setInterval(() => void this.send(), this.intervalMs);
     this.timer.unref();
     void this.send();
+  }
+
+  /**
+   * Tells the coordinator about a state change (a job started or ended): at once, unless the last
+   * change was sent less than `minChangeGapMs` ago; then one heartbeat with the newest state
+   * follows when the gap is over. A worker finishing many tiny jobs a second so costs the
+   * coordinator one heartbeat a second, not two per job.
+   */
+  notifyChange(): void {
+    if (this.trailing) return;
+    const wait = this.lastNotifiedAt + this.minChangeGapMs - Date.now();
+    if (wait <= 0) {
+      this.lastNotifiedAt = Date.now();
+      void this.send();
+      return;
+    }
+    this.trailing = setTimeout(() => {
+      this.trailing = null;
+      this.lastNotifiedAt = Date.now();
+      void this.send();
+    }, wait);
+    this.trailing.unref();
   }
 
   /** Sends a heartbeat now; while one is on its way, one more follows it with the newest state. */
@@ -74,7 +100,9 @@ export class HeartbeatSender {
 
   async stop(): Promise<void> {
     if (this.timer) clearInterval(this.timer);
+    if (this.trailing) clearTimeout(this.trailing);
     this.timer = null;
+    this.trailing = null;
     await this.inFlight;
   }
 }

@@ -176,7 +176,7 @@ export class WorkerAgent {
 
     this.state = 'training';
     this.current = payload.evaluationId;
-    void this.heartbeat.send();
+    this.heartbeat.notifyChange();
     const log = this.log.child({ evaluationId: payload.evaluationId, kind: payload.kind, attempt: payload.attempt });
     try {
       const shardPath = await this.cache.ensure(payload.dataset);
@@ -209,7 +209,7 @@ export class WorkerAgent {
     } finally {
       this.current = null;
       if (this.state === 'training') this.state = 'idle';
-      void this.heartbeat.send();
+      this.heartbeat.notifyChange();
     }
   }
 
