@@ -15,7 +15,7 @@
  * Prints a table and, last, one JSON object with every figure.
  *
  *   npm run bench:scale [-- --quick]     (--quick: shorter windows, 100k largest store; a smoke run)
- *   npm run bench:scale -- --zero        (only the raw ceiling and the zero-training ratio)
+ *   npm run bench:scale -- --only zero,store --sizes 100000   (some phases only, for profiling)
  */
 import { fork, type ChildProcess } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
@@ -35,10 +35,14 @@ import type { FleetChildConfig, FleetChildMessage } from './scale-fleet.js';
 
 const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
 const QUEUE = 'evaluations';
-const { values: args } = parseArgs({ options: { quick: { type: 'boolean' }, zero: { type: 'boolean' } } });
+const { values: args } = parseArgs({ options: { quick: { type: 'boolean' }, only: { type: 'string' }, sizes: { type: 'string' } } });
 const QUICK = args.quick === true;
-/** `--zero`: only phases 1 and 2 (raw BullMQ and the zero-training ratio), for profiling the coordinator. */
-const ZERO_ONLY = args.zero === true;
+const PHASES = ['raw', 'zero', 'thousand', 'store'] as const;
+/** `--only zero,store`: run just those phases (for profiling one of them). */
+const ONLY = new Set(args.only ? args.only.split(',') : PHASES);
+for (const p of ONLY) if (!(PHASES as readonly string[]).includes(p)) throw new Error(`--only takes ${PHASES.join(', ')}; got '${p}'`);
+/** `--sizes 10000,100000`: the store sizes of phase 4. */
+const SIZES = args.sizes ? args.sizes.split(',').map(Number) : QUICK ? [10_000, 100_000] : [10_000, 100_000, 1_000_000];
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const prefix = (name: string) => `nbbench-${name}-${randomBytes(4).toString('hex')}`;
 const round = (v: number, d = 1) => Number(v.toFixed(d));
@@ -241,37 +245,36 @@ async function main(): Promise<void> {
   const machine = `${cpus().length} cores, ${cpus()[0]?.model ?? 'unknown CPU'}, Node ${process.version}`;
   console.log(`netbreeder scale benchmark on ${machine}${QUICK ? ' (quick)' : ''}`);
 
-  const raw = await rawBullmq(50, QUICK ? 5000 : 20_000);
-  console.log(`raw BullMQ, 50 workers, ${raw.jobs} no-op jobs: ${raw.jobsPerSecond} jobs/s`);
+  const raw = ONLY.has('raw') ? await rawBullmq(50, QUICK ? 5000 : 20_000) : null;
+  if (raw) console.log(`raw BullMQ, 50 workers, ${raw.jobs} no-op jobs: ${raw.jobsPerSecond} jobs/s`);
 
-  const zero = await endToEnd('zero', 50, { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'zero' }, 5000, QUICK ? 10_000 : 25_000);
-  const ratio = zero.evaluationsPerSecond / raw.jobsPerSecond;
-  console.log(`project end to end, 50 simulated workers, zero training: ${zero.evaluationsPerSecond} evaluations/s (${round(100 * ratio, 0)}% of raw)`);
+  const zero = ONLY.has('zero') ? await endToEnd('zero', 50, { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'zero' }, 5000, QUICK ? 10_000 : 25_000) : null;
+  const ratio = raw && zero ? zero.evaluationsPerSecond / raw.jobsPerSecond : null;
+  if (zero) console.log(`project end to end, 50 simulated workers, zero training: ${zero.evaluationsPerSecond} evaluations/s${ratio === null ? '' : ` (${round(100 * ratio, 0)}% of raw)`}`);
 
-  if (ZERO_ONLY) {
-    console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, endToEndZeroTraining: zero, ratio: round(ratio, 3) }));
-    return;
-  }
-  const thousand = await endToEnd('thousand', 1000, { meanSeconds: 10, sigma: 0.5, dropRate: 0, seed: 'thousand' }, QUICK ? 15_000 : 25_000, QUICK ? 20_000 : 60_000);
-  console.log(`1,000 simulated workers, 10 s mean jobs: ${thousand.evaluationsPerSecond} evaluations/s`);
+  const thousand = ONLY.has('thousand') ? await endToEnd('thousand', 1000, { meanSeconds: 10, sigma: 0.5, dropRate: 0, seed: 'thousand' }, QUICK ? 15_000 : 25_000, QUICK ? 20_000 : 60_000) : null;
+  if (thousand) console.log(`1,000 simulated workers, 10 s mean jobs: ${thousand.evaluationsPerSecond} evaluations/s`);
 
-  const sizes = QUICK ? [10_000, 100_000] : [10_000, 100_000, 1_000_000];
-  const growth = await storeGrowth(sizes, QUICK ? 8000 : 15_000);
+  const growth = ONLY.has('store') ? await storeGrowth(SIZES, QUICK ? 8000 : 15_000) : [];
 
   const table: string[] = [];
   const line = (a: string, b: string) => table.push(`${a.padEnd(58)} ${b}`);
   line('figure', 'value');
   line('-'.repeat(58), '-'.repeat(30));
-  line('raw BullMQ no-op jobs/s (50 workers, bulk add)', `${raw.jobsPerSecond}`);
-  line('project evaluations/s, zero training (50 workers)', `${zero.evaluationsPerSecond}`);
-  line('ratio project / raw', `${round(100 * ratio, 0)}%`);
-  line('  coordinator CPU, ms per result (zero training)', `${zero.cpuMsPerResult}`);
-  line('1,000 workers, 10 s jobs: evaluations/s', `${thousand.evaluationsPerSecond} (ideal ${round(thousand.workers / 10, 0)})`);
-  line('  workers alive (by heartbeat)', `${thousand.aliveWorkers}`);
-  line('  wait free → next job p50 / p99 ms', `${thousand.waitP50Ms} / ${thousand.waitP99Ms} (${thousand.waits} jobs)`);
-  line('  coordinator CPU % of one core / RSS MB', `${thousand.coordinatorCpuPercent} / ${thousand.rssMb}`);
-  line('  /status p50 / p99 ms', `${thousand.statusP50Ms} / ${thousand.statusP99Ms}`);
-  line('  fleet start (1,000 agents) s / fleet RSS MB', `${thousand.fleetStartSeconds} / ${thousand.fleetRssMb}`);
+  if (raw) line('raw BullMQ no-op jobs/s (50 workers, bulk add)', `${raw.jobsPerSecond}`);
+  if (zero) {
+    line('project evaluations/s, zero training (50 workers)', `${zero.evaluationsPerSecond}`);
+    if (ratio !== null) line('ratio project / raw', `${round(100 * ratio, 0)}%`);
+    line('  coordinator CPU, ms per result (zero training)', `${zero.cpuMsPerResult}`);
+  }
+  if (thousand) {
+    line('1,000 workers, 10 s jobs: evaluations/s', `${thousand.evaluationsPerSecond} (ideal ${round(thousand.workers / 10, 0)})`);
+    line('  workers alive (by heartbeat)', `${thousand.aliveWorkers}`);
+    line('  wait free → next job p50 / p99 ms', `${thousand.waitP50Ms} / ${thousand.waitP99Ms} (${thousand.waits} jobs)`);
+    line('  coordinator CPU % of one core / RSS MB', `${thousand.coordinatorCpuPercent} / ${thousand.rssMb}`);
+    line('  /status p50 / p99 ms', `${thousand.statusP50Ms} / ${thousand.statusP99Ms}`);
+    line('  fleet start (1,000 agents) s / fleet RSS MB', `${thousand.fleetStartSeconds} / ${thousand.fleetRssMb}`);
+  }
   for (const g of growth) {
     line(`store with ${g.finishedInStore!.toLocaleString('en')} finished: evaluations/s`, `${g.evaluationsPerSecond}`);
     line('  CPU ms per result / /status p50 (loaded, idle) ms', `${g.cpuMsPerResult} / ${g.statusP50Ms}, ${g.statusIdleP50Ms}`);
@@ -279,7 +282,7 @@ async function main(): Promise<void> {
   const totalSeconds = round((performance.now() - startedAt) / 1000, 0);
   line('benchmark wall time s', `${totalSeconds}`);
   console.log(table.join('\n'));
-  console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, endToEndZeroTraining: zero, ratio: round(ratio, 3), thousandWorkers: thousand, storeGrowth: growth, totalSeconds }));
+  console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, endToEndZeroTraining: zero, ratio: ratio === null ? null : round(ratio, 3), thousandWorkers: thousand, storeGrowth: growth, totalSeconds }));
 }
 
 void main().then(

@@ -42,10 +42,13 @@ export class EvaluationQueue {
     await this.queue.add(job.kind, job, jobOptions(job));
   }
 
-  /** Adds many jobs in one round trip (each left alone when already there). */
+  /**
+   * Adds many jobs (each left alone when already there). The adds go out together, not one round
+   * trip each, but as separate commands: a bulk add wakes only one waiting worker, and with a
+   * thousand workers blocked on an empty queue the rest would sit idle until their block timeout.
+   */
   async addMany(jobs: readonly EvaluationJob[]): Promise<void> {
-    if (jobs.length === 0) return;
-    await this.queue.addBulk(jobs.map((job) => ({ name: job.kind, data: job, opts: jobOptions(job) })));
+    await Promise.all(jobs.map((job) => this.add(job)));
   }
 
   /** True when Redis still knows the job (in any state). */

@@ -39,8 +39,15 @@ export interface RunManagerOptions {
   tickMs?: number;
   /** A worker counts as alive while its last heartbeat is younger than this. @default 20000 */
   workerTimeoutMs?: number;
-  /** Evaluations kept queued beyond one per alive worker, so no worker waits. @default 1 */
+  /**
+   * Evaluations kept queued beyond one per alive worker, so a worker that frees up finds its next
+   * job waiting: `queueSlack` plus `queueSlackPerWorker` times the alive workers (rounded up).
+   * A dozen PCs get 1 spare job; a thousand get 21, enough for the results that arrive while one
+   * reconcile pass runs. More slack means proposals made from slightly older results.
+   * @default 1 and 0.02
+   */
   queueSlack?: number;
+  queueSlackPerWorker?: number;
   /** Clock, for tests. @default Date.now */
   now?: () => number;
 }
@@ -101,6 +108,7 @@ export class RunManager {
   private readonly tickMs: number;
   private readonly workerTimeoutMs: number;
   private readonly queueSlack: number;
+  private readonly queueSlackPerWorker: number;
   private readonly champion: ChampionPhase;
 
   constructor(
@@ -111,6 +119,7 @@ export class RunManager {
     this.tickMs = opts.tickMs ?? 1000;
     this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
     this.queueSlack = opts.queueSlack ?? 1;
+    this.queueSlackPerWorker = opts.queueSlackPerWorker ?? 0.02;
     this.champion = new ChampionPhase({
       store: opts.store,
       queue: opts.queue,
@@ -363,7 +372,8 @@ export class RunManager {
   /** Proposes until one evaluation is in flight per alive worker plus the slack (inside the pass's transaction). */
   private proposeUpToTarget(run: RunRecord, batch: QueueBatch): void {
     const counts = this.store.counts(run.id, 'search');
-    const target = Math.max(2, this.aliveWorkers() + this.queueSlack);
+    const alive = this.aliveWorkers();
+    const target = Math.max(2, alive + Math.ceil(this.queueSlack + alive * this.queueSlackPerWorker));
     let current = run;
     for (let n = counts.queued + counts.running; n < target && current.proposals < run.config.budget.maxEvaluations; n++) {
       const proposal = this.algorithm!.propose();
