@@ -27,6 +27,9 @@ import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../s
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
+import { join } from 'node:path';
+import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
+import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -100,6 +103,8 @@ export class RunManager {
   private readonly workerTimeoutMs: number;
   private readonly queueSlack: number;
   private readonly champion: ChampionPhase;
+  /** Training checkpoints workers upload (files under `<dataDir>/checkpoints`, latest per evaluation sequence in the store). */
+  readonly checkpoints: CheckpointFiles;
 
   constructor(
     private readonly opts: RunManagerOptions,
@@ -109,6 +114,7 @@ export class RunManager {
     this.tickMs = opts.tickMs ?? 1000;
     this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
     this.queueSlack = opts.queueSlack ?? 1;
+    this.checkpoints = new CheckpointFiles(join(opts.dataDir, 'checkpoints'), opts.store, opts.log.child({ part: 'checkpoints' }));
     this.champion = new ChampionPhase({
       store: opts.store,
       queue: opts.queue,
@@ -368,6 +374,10 @@ export class RunManager {
       budget: { epochs: proposal.budgetEpochs ?? proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
       dataset: run.dataset.manifest,
     };
+    const policy = checkpointPolicy(run.config);
+    if (policy) job.checkpoints = policy;
+    const inherit = inheritedWeights(this.store, run.config, runId, proposal);
+    if (inherit) job.inherit = inherit;
     this.store.transaction(() => {
       this.store.putGenome({
         hash: proposal.genomeHash,
@@ -463,6 +473,10 @@ export class RunManager {
       return true;
     });
     if (!recorded) return;
+    // Without weight inheritance nothing continues a finished training: its checkpoint can go.
+    if (!checkpointSettings(this.store.getRun(ev.runId)!.config).inheritance) {
+      void this.checkpoints.drop(ev.runId, ev.seq).catch((err: Error) => this.opts.log.warn({ evaluationId: ev.id, err: err.message }, 'cannot delete a checkpoint file'));
+    }
     this.opts.log.info(
       { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
       'evaluation recorded',
@@ -477,6 +491,9 @@ export class RunManager {
     const next: EvaluationJob | null = canRetry
       ? { ...ev.job, attempt: ev.attempt + 1, evaluationId: evaluationId(ev.runId, ev.seq, ev.attempt + 1, ev.kind) }
       : null;
+    // The next attempt resumes from the latest checkpoint any attempt of this evaluation uploaded.
+    const resume = next && ev.kind === 'search' ? resumeRef(this.store, ev.runId, ev.seq) : undefined;
+    if (next && resume) next.resume = resume;
     this.store.transaction(() => {
       if (this.store.recordFailure(ev.id, reason, this.now()) !== 'recorded') return;
       if (next) {
