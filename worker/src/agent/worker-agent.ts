@@ -188,7 +188,7 @@ export class WorkerAgent {
     try {
       const shardPath = await this.cache.ensure(payload.dataset);
       const start = payload.kind === 'search' ? await this.startCheckpoint(payload) : undefined;
-      log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs, offered: start ? `${start.kind} ${start.sha256.slice(0, 12)}` : null }, 'training');
+      log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs, offered: start ? `${start.kind} ${start.sha256.slice(0, 12)} at epoch ${start.epoch}` : null }, 'training');
       const policy = payload.kind === 'search' ? payload.checkpoints : undefined;
       let uploads = Promise.resolve();
       const outcome = await this.training.train(
@@ -253,7 +253,7 @@ export class WorkerAgent {
     const offer = resume ? { kind: 'resumed' as const, ref: resume } : job.inherit ? { kind: job.inherit.kind, ref: job.inherit.checkpoint } : null;
     if (!offer) return undefined;
     const got = await this.checkpoints.fetch(offer.ref);
-    return { kind: offer.kind, bytes: got.bytes, sha256: offer.ref.sha256, fromEvaluationId: offer.ref.evaluationId, note: got.note };
+    return { kind: offer.kind, bytes: got.bytes, sha256: offer.ref.sha256, epoch: offer.ref.epoch, fromEvaluationId: offer.ref.evaluationId, note: got.note };
   }
 
   /**

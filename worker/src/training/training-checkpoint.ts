@@ -41,6 +41,8 @@ export interface StartCheckpoint {
   kind: 'resumed' | 'own-checkpoint' | 'parent-weights';
   bytes: Uint8Array | null;
   sha256: string;
+  /** The epoch its reference names (the file's header is what counts once it is read). */
+  epoch?: number;
   fromEvaluationId: string;
   note?: string;
 }
