@@ -81,7 +81,7 @@ async function main(): Promise<void> {
     budget: { epochs: genome.training.epochs, maxSeconds: 600 },
     seed,
     start,
-    checkpoints: withCheckpoints ? { everyEpochs: 1, final: false, runId: 'bench', evaluationId: id, genomeHash: genomeHash(genome) } : undefined,
+    checkpoints: withCheckpoints ? { everyEpochs: 1, final: false, runId: 'bench', evaluationId: id } : undefined,
   });
   /** Trains to the end; CPU of the child, plus this process's CPU spent on the checkpoints it hands out. */
   const whole = async (req: ChildTrainRequest) => {

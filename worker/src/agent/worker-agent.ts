@@ -202,7 +202,7 @@ export class WorkerAgent {
           exportModel: payload.kind === 'champion',
           memoryCapMb: this.options.memoryCapMb,
           start,
-          checkpoints: policy && { everyEpochs: policy.everyEpochs, final: policy.final, runId: payload.runId, evaluationId: payload.evaluationId, genomeHash: payload.genomeHash },
+          checkpoints: policy && { everyEpochs: policy.everyEpochs, final: policy.final, runId: payload.runId, evaluationId: payload.evaluationId },
         },
         {
           onEpoch: (record) => log.debug({ record }, 'epoch'),

@@ -2,6 +2,7 @@ import * as tf from '@tensorflow/tfjs';
 import {
   analyzeGenome,
   createRandom,
+  genomeHash,
   restoreRandom,
   sampleSize,
   type DataShape,
@@ -44,7 +45,7 @@ export interface TrainRequest {
    */
   start?: StartCheckpoint;
   /** Take checkpoints: every `everyEpochs` epochs (0: none) and, with `final`, at the end. */
-  checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string; genomeHash: string };
+  checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string };
   /** Receives each checkpoint; training waits for it before the next epoch. */
   onCheckpoint?: (bytes: Uint8Array, epoch: number, final: boolean) => void | Promise<void>;
 }
@@ -94,8 +95,8 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   let peakRss = process.memoryUsage.rss();
   let model = buildModel(genome, data, request.seed);
   let optimizer = makeOptimizer(optimizerName, learningRate);
-  const genomeHash = request.checkpoints?.genomeHash ?? '';
-  const begun = await applyStart(model, optimizer, request.start, { genomeHash, seed: request.seed, optimizer: optimizerName, trainCount: train.count });
+  const hash = genomeHash(genome);
+  const begun = await applyStart(model, optimizer, request.start, { genomeHash: hash, seed: request.seed, optimizer: optimizerName, trainCount: train.count });
   if (begun.rebuild) {
     model.dispose();
     optimizer.dispose();
@@ -109,12 +110,11 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   const history: EpochRecord[] = resumed ? [...resumed.history] : [];
   let samplesSeen = resumed?.samplesSeen ?? 0;
   let stepSeconds = resumed?.stepSeconds ?? 0;
-  const samplesAtStart = samplesSeen;
   const checkpoint = async (epoch: number, final: boolean) => {
     const c = request.checkpoints;
     if (!c || !request.onCheckpoint) return;
     if (final ? !c.final : !(c.everyEpochs > 0 && epoch % c.everyEpochs === 0)) return;
-    const identity = { runId: c.runId, evaluationId: c.evaluationId, genomeHash: c.genomeHash, seed: request.seed, backend, optimizer: optimizerName };
+    const identity = { runId: c.runId, evaluationId: c.evaluationId, genomeHash: hash, seed: request.seed, backend, optimizer: optimizerName };
     const bytes = await captureCheckpoint(model, optimizer, identity, { epoch, final, samplesSeen, stepSeconds, history, order, shuffle: random });
     await request.onCheckpoint(bytes, epoch, final);
   };
@@ -147,8 +147,8 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   };
 
   try {
-    // A sample budget counts this attempt's samples: a resumed attempt has the same budget left as a fresh one would.
-    const maxSamples = (budget.maxSamples ?? Infinity) + samplesAtStart;
+    // Counted over the whole training: a resumed one stops where the uninterrupted one would.
+    const maxSamples = budget.maxSamples ?? Infinity;
     const deadline = started + budget.maxSeconds * 1000;
     let trainLoss = 0;
     let trainAccuracy = 0;

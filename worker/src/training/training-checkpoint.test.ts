@@ -1,5 +1,5 @@
 import { beforeAll, describe, expect, it } from 'vitest';
-import { decodeCheckpoint, encodeCheckpoint, genomeHash, type DataShape, type Genome, type OptimizerName } from '@netbreeder/shared-types';
+import { decodeCheckpoint, encodeCheckpoint, type DataShape, type Genome, type OptimizerName } from '@netbreeder/shared-types';
 import { initBackend } from './backend.js';
 import { chainGenome, refSkipBn } from './reference-genomes.js';
 import { syntheticSamples } from './synthetic-samples.js';
@@ -26,7 +26,7 @@ const request = (genome: Genome, extra: Partial<TrainRequest> = {}): TrainReques
   val,
   budget: { epochs: 4, maxSeconds: 60 },
   seed: 21,
-  checkpoints: { everyEpochs: 1, final: true, runId: 'r1', evaluationId: 'r1-s0-a1', genomeHash: genomeHash(genome) },
+  checkpoints: { everyEpochs: 1, final: true, runId: 'r1', evaluationId: 'r1-s0-a1' },
   ...extra,
 });
 
@@ -58,6 +58,18 @@ describe('training checkpoints', () => {
       expect(resumed.samplesSeen).toBe(whole.samplesSeen);
     });
   }
+
+  it('a resumed training keeps the sample budget of the whole training', async () => {
+    const genome = net('adam');
+    const budget = { epochs: 6, maxSeconds: 60, maxSamples: train.count * 3 + 50 };
+    const checkpoints = new Map<number, Uint8Array>();
+    const whole = await trainGenome(request(genome, { budget, onCheckpoint: (bytes, epoch) => void checkpoints.set(epoch, bytes) }));
+    expect(whole.stoppedBy).toBe('samples');
+    const resumed = await trainGenome(request(genome, { budget, start: { kind: 'resumed', bytes: checkpoints.get(2)!, sha256: 'a'.repeat(64), fromEvaluationId: 'r1-s0-a1' } }));
+    expect(resumed.samplesSeen).toBe(budget.maxSamples);
+    expect(resumed.stoppedBy).toBe('samples');
+    expect(resumed.valLoss).toBe(whole.valLoss);
+  });
 
   it('starts cleanly from epoch 0, saying why, when the offered checkpoint is corrupt, missing or of another genome', async () => {
     const genome = net('adam');

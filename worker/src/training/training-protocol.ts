@@ -20,7 +20,7 @@ export interface ChildTrainRequest {
   /** Weights and state to start from (see `TrainRequest.start`). */
   start?: StartCheckpoint;
   /** Checkpoints to take; each is sent to the parent as a `checkpoint` message. */
-  checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string; genomeHash: string };
+  checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string };
 }
 
 /** Parent → child messages. */
