@@ -1,5 +1,6 @@
 import { randomBytes } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
 import {
   EVALUATION_JOB_VERSION,
   analyzeGenome,
@@ -27,7 +28,6 @@ import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../s
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
-import { join } from 'node:path';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
 import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 
@@ -473,10 +473,7 @@ export class RunManager {
       return true;
     });
     if (!recorded) return;
-    // Without weight inheritance nothing continues a finished training: its checkpoint can go.
-    if (!checkpointSettings(this.store.getRun(ev.runId)!.config).inheritance) {
-      void this.checkpoints.drop(ev.runId, ev.seq).catch((err: Error) => this.opts.log.warn({ evaluationId: ev.id, err: err.message }, 'cannot delete a checkpoint file'));
-    }
+    this.dropCheckpointUnlessInherited(ev);
     this.opts.log.info(
       { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
       'evaluation recorded',
@@ -506,6 +503,13 @@ export class RunManager {
     this.opts.log.warn({ evaluationId: ev.id, reason, reissuedAs: next?.evaluationId ?? null }, 'evaluation attempt failed');
     if (next) await this.opts.queue.add(next);
     else if (ev.kind === 'champion') await this.champion.attemptGivenUp(ev.runId);
+    else this.dropCheckpointUnlessInherited(ev);
+  }
+
+  /** Without weight inheritance nothing continues a finished (or given-up) training: its checkpoint file can go. */
+  private dropCheckpointUnlessInherited(ev: EvaluationRecord): void {
+    if (checkpointSettings(this.store.getRun(ev.runId)!.config).inheritance) return;
+    void this.checkpoints.drop(ev.runId, ev.seq).catch((err: Error) => this.opts.log.warn({ evaluationId: ev.id, err: err.message }, 'cannot delete a checkpoint file'));
   }
 
 }
