@@ -3,7 +3,7 @@ import { createHash } from 'node:crypto';
 import { readdir, readFile, writeFile } from 'node:fs/promises';
 import { afterAll, describe, expect, it } from 'vitest';
 import { parseRunConfig } from '@netbreeder/coordinator';
-import { defaultSearchSpace, type EvaluationJob, type EvaluationResult } from '@netbreeder/shared-types';
+import { defaultSearchSpace, encodeCheckpoint, type EvaluationJob, type EvaluationResult } from '@netbreeder/shared-types';
 import { TrainingProcess } from '@netbreeder/worker';
 import { TestCluster, waitFor } from '../support/harness.js';
 import { signalTree } from '../support/processes.js';
@@ -131,6 +131,20 @@ describe('checkpoints and resume after a lost worker', () => {
     expect(refused.status).toBe(400);
     expect(((await refused.json()) as { error: { code: string } }).error.code).toBe('NB_CHECKPOINT_HASH_MISMATCH');
     expect(store().checkpointBySha(claimed)).toBeNull();
+    // Whole but not a checkpoint, and a checkpoint of no evaluation this coordinator waits for: refused too.
+    const putBytes = async (body: Uint8Array) => {
+      const sha = createHash('sha256').update(body).digest('hex');
+      const res = await fetch(`${cluster.coordinator.url}/checkpoints/${sha}`, { method: 'PUT', headers: { 'content-type': 'application/octet-stream', authorization: `Bearer ${cluster.coordinator.secrets.joinToken}` }, body });
+      return { status: res.status, code: ((await res.json()) as { error?: { code: string } }).error?.code, sha };
+    };
+    expect(await putBytes(good)).toMatchObject({ status: 400, code: 'NB_BAD_CHECKPOINT' });
+    const stray = encodeCheckpoint(
+      { runId: 'rnone', evaluationId: 'rnone-s0-a1', genomeHash: 'a'.repeat(64), seed: 1, epoch: 1, final: false, backend: 'wasm', optimizer: 'adam', rng: { shuffle: [1, 2, 3, 4], dropout: [] }, samplesSeen: 1, stepSeconds: 0, history: [] },
+      [{ group: 'weight', name: 'w', shape: [1], values: Float32Array.of(0) }],
+    );
+    const strayAnswer = await putBytes(stray);
+    expect(strayAnswer).toMatchObject({ status: 409, code: 'NB_CHECKPOINT_REFUSED' });
+    expect(store().checkpointBySha(strayAnswer.sha)).toBeNull();
 
     // A worker whose every upload is corrupted after hashing (test-only fault mode, like a PC with faulty memory).
     for (const w of procs.values()) if (alive(w)) kill(w);
