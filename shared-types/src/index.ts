@@ -17,3 +17,6 @@ export * from './messages/validators.js';
 export * from './dataset/labelled-samples.js';
 export * from './dataset/shard-codec.js';
 export * from './messages/dashboard-responses.js';
+export * from './checkpoint/checkpoint-header.js';
+export * from './checkpoint/checkpoint-ref.js';
+export * from './checkpoint/checkpoint-codec.js';

@@ -4,6 +4,7 @@ import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
 import { describePreprocessing } from '../datasets/index.js';
+import { inheritanceSummary } from './inheritance-summary.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -76,6 +77,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** How raw samples must be prepared before they go into the model (what the import fitted). */
     input: run.dataset.preparation ? describePreprocessing(run.dataset.preparation.preprocessing) : 'demo tiles: 16×16 grayscale, pixel values in [0, 1]',
     trainingCurve: champion.result.history,
+    /** How the search trainings started (fresh, resumed, continued, inherited), the champion's own included. */
+    inheritance: inheritanceSummary(store, run, champion.sourceEvaluationId),
     files: [...CHAMPION_FILES],
   };
 }

@@ -1,5 +1,6 @@
 import { INPUT_ID, topologicalOrder, type NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
+import { describeStart } from './inheritance-summary.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
@@ -133,6 +134,8 @@ ${curveSvg(c)}
 ${c.candidates.map((k) => `<tr><td>${k.genomeHash === c.genomeHash ? '<b>champion</b> ' : ''}<code>${k.genomeHash.slice(0, 12)}</code> ${esc(k.summary)}</td><td>${pct(k.valAccuracy)}</td><td>${pct(k.testAccuracy)}</td></tr>`).join('\n')}</table>
 <h2>How it was found</h2>
 ${c.lineage.length === 0 ? '<p>An initial member of the population (no mutation led to it).</p>' : `<ol>${c.lineage.map((l) => `<li><code>${l.parentHash.slice(0, 12)}</code> → <code>${l.childHash.slice(0, 12)}</code>: ${esc(l.operator)} (${esc(l.detail)})</li>`).join('')}</ol>`}
+<h2>Checkpoints and weight inheritance</h2>
+<p>Weight inheritance ${c.inheritance.weightInheritance ? 'on' : 'off'}. Finished search trainings: ${Object.entries(c.inheritance.byKind).filter(([, n]) => n > 0).map(([k, n]) => `${n} ${esc(k)}`).join(', ')}; ${c.inheritance.epochsReused} epoch(s) not trained again. The champion's search evaluation: ${esc(describeStart(c.inheritance.champion))}.</p>
 <h2>Feeding the model</h2>
 <p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}. Load <code>model.json</code> + <code>weights.bin</code> with <code>tf.loadLayersModel</code>.</p>
 <h2>Reproduce</h2>

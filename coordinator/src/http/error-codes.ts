@@ -12,6 +12,11 @@ export const HTTP_ERRORS = {
   NB_WORKER_REVOKED: { status: 403, fix: 'this worker id was revoked by an admin; ask them, or stop this worker' },
   NB_RUN_STATE: { status: 409, fix: "check the run's state in GET /status; the action does not apply to it" },
   NB_GENOME_REJECTED: { status: 400, fix: "change the genome as the issues say; it must obey the run's search space" },
+  NB_CHECKPOINT_HASH_MISMATCH: { status: 400, fix: 'the body is not the checkpoint its sha256 names (corrupted on the way or in memory); nothing was stored, upload it again' },
+  NB_BAD_CHECKPOINT: { status: 400, fix: 'send a checkpoint file of the documented format as application/octet-stream' },
+  NB_CHECKPOINT_TOO_LARGE: { status: 413, fix: "the checkpoint is above the run's evaluation.checkpointMaxMb; raise it in the run file or use smaller genomes" },
+  NB_CHECKPOINT_REFUSED: { status: 409, fix: 'the checkpoint names no evaluation this coordinator is waiting for (unknown, finished, or another genome); nothing was stored' },
+  NB_UNKNOWN_CHECKPOINT: { status: 404, fix: 'no checkpoint with that hash (or for that evaluation) is held; train from epoch 0' },
   NB_INTERNAL: { status: 500, fix: "see the coordinator's log" },
 } as const;
 

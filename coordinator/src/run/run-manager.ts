@@ -1,5 +1,6 @@
 import { randomBytes } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
 import {
   EVALUATION_JOB_VERSION,
   analyzeGenome,
@@ -27,6 +28,8 @@ import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../s
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
+import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
+import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -110,6 +113,8 @@ export class RunManager {
   private readonly queueSlack: number;
   private readonly queueSlackPerWorker: number;
   private readonly champion: ChampionPhase;
+  /** Training checkpoints workers upload (files under `<dataDir>/checkpoints`, latest per evaluation sequence in the store). */
+  readonly checkpoints: CheckpointFiles;
 
   constructor(
     private readonly opts: RunManagerOptions,
@@ -120,6 +125,7 @@ export class RunManager {
     this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
     this.queueSlack = opts.queueSlack ?? 1;
     this.queueSlackPerWorker = opts.queueSlackPerWorker ?? 0.02;
+    this.checkpoints = new CheckpointFiles(join(opts.dataDir, 'checkpoints'), opts.store, opts.log.child({ part: 'checkpoints' }));
     this.champion = new ChampionPhase({
       store: opts.store,
       queue: opts.queue,
@@ -403,6 +409,10 @@ export class RunManager {
       budget: { epochs: proposal.budgetEpochs ?? proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
       dataset: run.dataset.manifest,
     };
+    const policy = checkpointPolicy(run.config);
+    if (policy) job.checkpoints = policy;
+    const inherit = inheritedWeights(this.store, run.config, run.id, proposal);
+    if (inherit) job.inherit = inherit;
     this.store.putGenome({
       hash: proposal.genomeHash,
       genome: proposal.genome,
@@ -519,6 +529,7 @@ export class RunManager {
     });
     batch.searchChanged = true;
     batch.recorded.push({ evaluationId: ev.id, result });
+    this.dropCheckpointUnlessInherited(ev);
     this.opts.log.info(
       { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
       'evaluation recorded',
@@ -534,6 +545,9 @@ export class RunManager {
     const next: EvaluationJob | null = canRetry
       ? { ...ev.job, attempt: ev.attempt + 1, evaluationId: evaluationId(ev.runId, ev.seq, ev.attempt + 1, ev.kind) }
       : null;
+    // The next attempt resumes from the latest checkpoint any attempt of this evaluation uploaded.
+    const resume = next && ev.kind === 'search' ? resumeRef(this.store, ev.runId, ev.seq) : undefined;
+    if (next && resume) next.resume = resume;
     if (this.store.recordFailure(ev.id, reason, this.now()) !== 'recorded') return false;
     if (next) {
       this.store.addEvaluation(next, ev.seq, this.now(), false);
@@ -541,9 +555,16 @@ export class RunManager {
       batch.add.push(next);
     } else {
       this.store.logEvent(ev.runId, 'genome-failing', { evaluationId: ev.id, genomeHash: ev.genomeHash, attempts: ev.attempt, reason });
+      if (ev.kind === 'search') this.dropCheckpointUnlessInherited(ev);
     }
     this.opts.log.warn({ evaluationId: ev.id, reason, reissuedAs: next?.evaluationId ?? null }, 'evaluation attempt failed');
     return next === null;
+  }
+
+  /** Without weight inheritance nothing continues a finished (or given-up) training: its checkpoint file can go. */
+  private dropCheckpointUnlessInherited(ev: EvaluationRecord): void {
+    if (checkpointSettings(this.configOf(ev.runId)).inheritance) return;
+    void this.checkpoints.drop(ev.runId, ev.seq).catch((err: Error) => this.opts.log.warn({ evaluationId: ev.id, err: err.message }, 'cannot delete a checkpoint file'));
   }
 }
 

@@ -25,6 +25,8 @@ export interface Proposal<G = Genome> {
    * absent: the genome's own `training.epochs`.
    */
   budgetEpochs?: number;
+  /** For a promotion: the evaluation of the lower rung it was promoted from (weight inheritance continues its checkpoint). */
+  promotedFrom?: string;
 }
 
 /** A finished evaluation the algorithm learns from. */

@@ -114,6 +114,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
           parentHashes: [],
           mutation: null,
           budgetEpochs: this.budgets[k + 1]!,
+          promotedFrom: m.evaluationId,
           reason:
             `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
             `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +

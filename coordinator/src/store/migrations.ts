@@ -117,4 +117,23 @@ export const MIGRATIONS: readonly string[] = [
   END;
   CREATE INDEX evaluations_by_run_kind_state_score ON evaluations(run_id, kind, state, val_accuracy DESC);
   `,
+  // 3: training checkpoints. One row per evaluation sequence (run, seq): the latest checkpoint any
+  // attempt of it uploaded (highest epoch), the file named by its sha256 under the data dir.
+  `
+  CREATE TABLE checkpoints (
+    run_id TEXT NOT NULL REFERENCES runs(id),
+    seq INTEGER NOT NULL,
+    evaluation_id TEXT NOT NULL,
+    genome_hash TEXT NOT NULL,
+    sha256 TEXT NOT NULL,
+    epoch INTEGER NOT NULL,
+    final INTEGER NOT NULL,
+    bytes INTEGER NOT NULL,
+    path TEXT NOT NULL,
+    created_at INTEGER NOT NULL,
+    PRIMARY KEY (run_id, seq)
+  );
+  CREATE INDEX checkpoints_by_sha ON checkpoints(sha256);
+  CREATE INDEX checkpoints_by_genome ON checkpoints(run_id, genome_hash, final, epoch);
+  `,
 ];

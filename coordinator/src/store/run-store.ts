@@ -77,6 +77,34 @@ export interface ChampionRecord {
   createdAt: number;
 }
 
+/** The latest checkpoint of one evaluation sequence (run, seq), as the store keeps it. */
+export interface CheckpointRecord {
+  runId: string;
+  seq: number;
+  /** The attempt that uploaded it. */
+  evaluationId: string;
+  genomeHash: string;
+  sha256: string;
+  epoch: number;
+  final: boolean;
+  bytes: number;
+  path: string;
+  createdAt: number;
+}
+
+const checkpointFromRow = (r: Row): CheckpointRecord => ({
+  runId: r.run_id as string,
+  seq: r.seq as number,
+  evaluationId: r.evaluation_id as string,
+  genomeHash: r.genome_hash as string,
+  sha256: r.sha256 as string,
+  epoch: r.epoch as number,
+  final: r.final === 1,
+  bytes: r.bytes as number,
+  path: r.path as string,
+  createdAt: r.created_at as number,
+});
+
 /** Outcome of offering a result to the store: only `recorded` changed anything. */
 export type RecordOutcome = 'recorded' | 'duplicate' | 'unknown-evaluation';
 
@@ -470,5 +498,57 @@ export class RunStore {
       ? this.sql('SELECT COUNT(*) AS n FROM events WHERE kind = ?').get(kind)
       : this.sql('SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ?').get(runId, kind)) as Row;
     return row.n as number;
+  }
+
+  // ---- checkpoints ---------------------------------------------------------------------------
+
+  /**
+   * Keeps `c` as the latest checkpoint of its (run, seq) unless one of a higher epoch is held.
+   * Returns whether it was kept and the record it replaced (whose file may go).
+   */
+  recordCheckpoint(c: CheckpointRecord): { kept: boolean; replaced: CheckpointRecord | null } {
+    return this.transaction(() => {
+      const held = this.latestCheckpoint(c.runId, c.seq);
+      if (held && held.epoch > c.epoch) return { kept: false, replaced: null };
+      this.db
+        .prepare(
+          `INSERT OR REPLACE INTO checkpoints (run_id, seq, evaluation_id, genome_hash, sha256, epoch, final, bytes, path, created_at)
+           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+        )
+        .run(c.runId, c.seq, c.evaluationId, c.genomeHash, c.sha256, c.epoch, c.final ? 1 : 0, c.bytes, c.path, c.createdAt);
+      return { kept: true, replaced: held && held.sha256 !== c.sha256 ? held : null };
+    });
+  }
+
+  /** The latest checkpoint of an evaluation sequence, or null. */
+  latestCheckpoint(runId: string, seq: number): CheckpointRecord | null {
+    const r = this.db.prepare('SELECT * FROM checkpoints WHERE run_id = ? AND seq = ?').get(runId, seq) as Row | undefined;
+    return r ? checkpointFromRow(r) : null;
+  }
+
+  /** A held checkpoint by its content hash, or null. */
+  checkpointBySha(sha256: string): CheckpointRecord | null {
+    const r = this.db.prepare('SELECT * FROM checkpoints WHERE sha256 = ? LIMIT 1').get(sha256) as Row | undefined;
+    return r ? checkpointFromRow(r) : null;
+  }
+
+  /** The final checkpoint of the longest finished training of a genome in a run (a parent's weights), or null. */
+  finalCheckpointOfGenome(runId: string, genomeHash: string): CheckpointRecord | null {
+    const r = this.db
+      .prepare('SELECT * FROM checkpoints WHERE run_id = ? AND genome_hash = ? AND final = 1 ORDER BY epoch DESC, seq DESC LIMIT 1')
+      .get(runId, genomeHash) as Row | undefined;
+    return r ? checkpointFromRow(r) : null;
+  }
+
+  /** Forgets the checkpoint of an evaluation sequence; returns what was removed. */
+  deleteCheckpoint(runId: string, seq: number): CheckpointRecord | null {
+    const held = this.latestCheckpoint(runId, seq);
+    if (held) this.db.prepare('DELETE FROM checkpoints WHERE run_id = ? AND seq = ?').run(runId, seq);
+    return held;
+  }
+
+  /** How many checkpoint rows name this file (0: the file may be deleted). */
+  checkpointFileUses(sha256: string): number {
+    return (this.db.prepare('SELECT COUNT(*) AS n FROM checkpoints WHERE sha256 = ?').get(sha256) as Row).n as number;
   }
 }

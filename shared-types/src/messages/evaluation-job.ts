@@ -1,6 +1,7 @@
 import { Type, type Static } from '@sinclair/typebox';
 import { GenomeSchema } from '../genome/genome-schema.js';
 import { DatasetManifestSchema, Sha256Schema } from './dataset-manifest.js';
+import { CheckpointRefSchema } from '../checkpoint/checkpoint-ref.js';
 
 export const EVALUATION_JOB_VERSION = 1;
 
@@ -16,6 +17,35 @@ export const TrainingBudgetSchema = Type.Object(
   { additionalProperties: false },
 );
 export type TrainingBudget = Static<typeof TrainingBudgetSchema>;
+
+/** When a search training uploads checkpoints (absent: never). */
+export const CheckpointPolicySchema = Type.Object(
+  {
+    /** Upload after every this many epochs; 0 = only the final one (when `final`). */
+    everyEpochs: Type.Integer({ minimum: 0, maximum: 1000 }),
+    /** Also upload the checkpoint of the training's end (weight inheritance needs it). */
+    final: Type.Boolean(),
+    /** Largest checkpoint the coordinator accepts, in bytes; a larger one is not uploaded. */
+    maxBytes: Type.Integer({ minimum: 1 }),
+  },
+  { additionalProperties: false },
+);
+export type CheckpointPolicy = Static<typeof CheckpointPolicySchema>;
+
+/**
+ * Weights a search training starts from instead of a fresh initialisation (weight inheritance):
+ * `own-checkpoint`, a promoted candidate's own checkpoint of its lower rung (it continues from
+ * that epoch); `parent-weights`, the final weights of the parent genome, copied layer by layer
+ * where names and shapes match.
+ */
+export const WeightSourceSchema = Type.Object(
+  {
+    kind: Type.Union([Type.Literal('own-checkpoint'), Type.Literal('parent-weights')]),
+    checkpoint: CheckpointRefSchema,
+  },
+  { additionalProperties: false },
+);
+export type WeightSource = Static<typeof WeightSourceSchema>;
 
 /**
  * The payload of one BullMQ job: train this genome on this dataset within this budget.
@@ -37,6 +67,12 @@ export const EvaluationJobSchema = Type.Object(
     seed: Type.Integer({ minimum: 0, maximum: 4294967295 }),
     budget: TrainingBudgetSchema,
     dataset: DatasetManifestSchema,
+    /** When to upload checkpoints; absent: never. */
+    checkpoints: Type.Optional(CheckpointPolicySchema),
+    /** The latest checkpoint of an earlier attempt of this evaluation, known when it was reissued. */
+    resume: Type.Optional(CheckpointRefSchema),
+    /** Weights to start from (weight inheritance); ignored when a `resume` checkpoint is used. */
+    inherit: Type.Optional(WeightSourceSchema),
   },
   { additionalProperties: false },
 );

@@ -1,4 +1,5 @@
 import { Type, type Static } from '@sinclair/typebox';
+import { TrainingStartSchema } from '../checkpoint/checkpoint-ref.js';
 
 export const EVALUATION_RESULT_VERSION = 1;
 
@@ -60,6 +61,8 @@ export const EvaluationResultSchema = Type.Object(
     stoppedBy: Type.Union([Type.Literal('epochs'), Type.Literal('seconds'), Type.Literal('samples')]),
     history: Type.Array(EpochRecordSchema, { maxItems: 1000 }),
     model: Type.Optional(ModelArtifactsSchema),
+    /** How the training started (fresh, resumed from a checkpoint, inherited weights); absent in results of workers before checkpoints. */
+    start: Type.Optional(TrainingStartSchema),
   },
   { additionalProperties: false },
 );

@@ -182,6 +182,13 @@ export const RunConfigSchema = Type.Object(
         maxEpochs: Type.Integer({ minimum: 1, maximum: 1000, default: 9 }),
         /** What `pareto-evolution` minimises against validation accuracy: parameter count or FLOPs per sample. @default "params" */
         objective: Type.Union([Type.Literal('params'), Type.Literal('flops')], { default: 'params' }),
+        /**
+         * Weight inheritance: a candidate promoted by `asha`/`asha-evolution` continues from its own
+         * checkpoint of the lower rung, and a child of evolution starts from its parent's final
+         * weights where layer names and shapes match (the rest is freshly initialised). Every search
+         * training then uploads its final checkpoint. @default false
+         */
+        weightInheritance: Type.Boolean({ default: false }),
       },
       { additionalProperties: false, default: {} },
     ),
@@ -200,6 +207,13 @@ export const RunConfigSchema = Type.Object(
         maxSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400, default: 120 }),
         /** Evaluations that fail this many times are given up (the genome is marked failing). */
         maxAttempts: Type.Integer({ minimum: 1, maximum: 20, default: 3 }),
+        /**
+         * A search training uploads a checkpoint (weights, optimizer state, epoch, random state) every
+         * this many epochs, so a reissued attempt resumes instead of starting over; 0 = never. @default 1
+         */
+        checkpointEveryEpochs: Type.Integer({ minimum: 0, maximum: 1000, default: 1 }),
+        /** Largest checkpoint the coordinator accepts, in MiB; a larger one is not uploaded (the attempt just cannot resume). @default 64 */
+        checkpointMaxMb: Type.Integer({ minimum: 1, maximum: 1024, default: 64 }),
       },
       { additionalProperties: false, default: {} },
     ),

@@ -54,10 +54,10 @@ export class TestCluster {
   }
 
   /** Starts a worker process joined to this cluster; its log is kept for failure messages. */
-  spawnWorker(id: string, extraArgs: string[] = []): ChildProcess {
+  spawnWorker(id: string, extraArgs: string[] = [], env: NodeJS.ProcessEnv = {}): ChildProcess {
     const child = spawnWorker(
       ['--coordinator', this.coordinator.url, '--redis', this.redisUrl, '--prefix', this.prefix, '--id', id, '--nice', '0', '--cache-dir', join(this.dataDir, `cache-${id}`), ...extraArgs],
-      { env: { NETBREEDER_LOG_LEVEL: 'info', NETBREEDER_JOIN_TOKEN: this.coordinator.secrets.joinToken } },
+      { env: { NETBREEDER_LOG_LEVEL: 'info', NETBREEDER_JOIN_TOKEN: this.coordinator.secrets.joinToken, ...env } },
     );
     child.stderr?.on('data', (chunk: Buffer) => {
       this.workerLogs.push(`[${id}] ${chunk.toString()}`);

@@ -16,6 +16,8 @@ import {
 import { TrainingProcess } from '../training/training-process.js';
 import { isRetryable } from '../training/errors.js';
 import { DatasetCache } from './dataset-cache.js';
+import { CheckpointClient } from './checkpoint-client.js';
+import type { StartCheckpoint } from '../training/training-checkpoint.js';
 import { HeartbeatSender } from './heartbeat-sender.js';
 import { openRedis } from './redis-connection.js';
 import { coreCount, type WorkerOptions } from './worker-options.js';
@@ -51,6 +53,7 @@ export class WorkerAgent {
   private readonly training: Trainer;
   private readonly cache: DatasetCache;
   private readonly heartbeat: HeartbeatSender;
+  private readonly checkpoints: CheckpointClient;
   private connection: Redis | null = null;
   private worker: Worker | null = null;
   private stopTimer: NodeJS.Timeout | null = null;
@@ -69,6 +72,10 @@ export class WorkerAgent {
     this.training = parts.trainer ?? new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
     this.cache = parts.cache ?? new DatasetCache(
       { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
+      log,
+    );
+    this.checkpoints = new CheckpointClient(
+      { coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken, corruptUploads: process.env.NETBREEDER_TEST_CORRUPT_CHECKPOINT_UPLOADS === '1' },
       log,
     );
     this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log, options.joinToken, () => {
@@ -180,7 +187,10 @@ export class WorkerAgent {
     const log = this.log.child({ evaluationId: payload.evaluationId, kind: payload.kind, attempt: payload.attempt });
     try {
       const shardPath = await this.cache.ensure(payload.dataset);
-      log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs }, 'training');
+      const start = payload.kind === 'search' ? await this.startCheckpoint(payload) : undefined;
+      log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs, offered: start ? `${start.kind} ${start.sha256.slice(0, 12)} at epoch ${start.epoch}` : null }, 'training');
+      const policy = payload.kind === 'search' ? payload.checkpoints : undefined;
+      let uploads = Promise.resolve();
       const outcome = await this.training.train(
         {
           genome: payload.genome,
@@ -191,9 +201,27 @@ export class WorkerAgent {
           seed: payload.seed,
           exportModel: payload.kind === 'champion',
           memoryCapMb: this.options.memoryCapMb,
+          start,
+          checkpoints: policy && { everyEpochs: policy.everyEpochs, final: policy.final, runId: payload.runId, evaluationId: payload.evaluationId },
         },
-        { onEpoch: (record) => log.debug({ record }, 'epoch') },
+        {
+          onEpoch: (record) => log.debug({ record }, 'epoch'),
+          onCheckpoint: (bytes, epoch, final) => {
+            if (bytes.length > policy!.maxBytes) {
+              log.warn({ epoch, bytes: bytes.length, maxBytes: policy!.maxBytes }, "checkpoint larger than the run's checkpointMaxMb; not uploaded (this training cannot resume)");
+              return;
+            }
+            // One upload at a time, in epoch order; training goes on meanwhile.
+            uploads = uploads.then(async () => {
+              const refused = await this.checkpoints.upload(bytes, { evaluationId: payload.evaluationId, epoch });
+              if (refused) log.warn({ epoch, final, reason: refused }, 'checkpoint not stored; a later attempt cannot resume from it');
+            });
+          },
+        },
       );
+      await uploads; // the final checkpoint is stored before the result that may point to it
+      if (outcome.start && outcome.start.kind !== 'fresh') log.info({ start: outcome.start.kind, fromEpoch: outcome.start.fromEpoch, copiedWeights: outcome.start.copiedWeights }, 'training continued from a checkpoint');
+      else if (outcome.start?.note) log.warn({ note: outcome.start.note }, 'checkpoint not usable; trained from epoch 0');
       const result: EvaluationResult = { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: payload.evaluationId, workerId: this.options.workerId, ...outcome };
       evaluationResultValidator.parse(result);
       this.done++;
@@ -211,6 +239,21 @@ export class WorkerAgent {
       if (this.state === 'training') this.state = 'idle';
       this.heartbeat.notifyChange();
     }
+  }
+
+  /**
+   * The checkpoint a search job starts from: the latest of an earlier attempt of the same
+   * evaluation (asked of the coordinator, which also knows checkpoints uploaded after the job was
+   * queued, or given in the reissued job), else the weights the job inherits. Downloaded and
+   * verified here; one that fails comes with a note, and the training starts from epoch 0.
+   */
+  private async startCheckpoint(job: EvaluationJob): Promise<StartCheckpoint | undefined> {
+    const known = job.checkpoints ? await this.checkpoints.latest(job.evaluationId) : null;
+    const resume = [known, job.resume].filter((r) => r != null).sort((a, b) => b.epoch - a.epoch)[0];
+    const offer = resume ? { kind: 'resumed' as const, ref: resume } : job.inherit ? { kind: job.inherit.kind, ref: job.inherit.checkpoint } : null;
+    if (!offer) return undefined;
+    const got = await this.checkpoints.fetch(offer.ref);
+    return { kind: offer.kind, bytes: got.bytes, sha256: offer.ref.sha256, epoch: offer.ref.epoch, fromEvaluationId: offer.ref.evaluationId, note: got.note };
   }
 
   /**

@@ -9,3 +9,7 @@ export { modelToMessage, artifactsFromMessage, loadModelFromMessage } from './mo
 export { estimateTrainingBytes, type TrainingMemoryEstimate } from './memory-estimate.js';
 export { shuffleInPlace, identityOrder } from './batches.js';
 export { TrainingError, InvalidGenomeError, GenomeTooLargeError, TrainingProcessError, TrainingAbortedError, isRetryable } from './errors.js';
+export { TrainingProcess, type TrainingProcessOptions, type TrainCallOptions } from './training-process.js';
+export type { ChildTrainRequest } from './training-protocol.js';
+export { planWeightCopy, type WeightSpec, type WeightCopyPlan } from './weight-inheritance.js';
+export type { StartCheckpoint } from './training-checkpoint.js';

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import { createRandom, type Random } from '@netbreeder/shared-types';
+import { createRandom, restoreRandom, type Random, type RandomState } from '@netbreeder/shared-types';
 
 /** Arguments of {@link SeededDropout}. */
 export interface SeededDropoutArgs {
@@ -21,7 +21,7 @@ export interface SeededDropoutArgs {
 export class SeededDropout extends tf.layers.Layer {
   static className = 'Dropout';
   readonly rate: number;
-  private readonly random: Random;
+  private random: Random;
 
   constructor(args: SeededDropoutArgs) {
     super({ name: args.name });
@@ -29,6 +29,16 @@ export class SeededDropout extends tf.layers.Layer {
     this.rate = args.rate;
     this.random = createRandom(`dropout ${args.seed}`);
     this.supportsMasking = true;
+  }
+
+  /** The mask source's state, for a training checkpoint. */
+  randomState(): RandomState {
+    return this.random.state();
+  }
+
+  /** Continues the mask sequence of a checkpointed training. */
+  restoreRandomState(state: RandomState): void {
+    this.random = restoreRandom(state);
   }
 
   override computeOutputShape(inputShape: tf.Shape | tf.Shape[]): tf.Shape | tf.Shape[] {

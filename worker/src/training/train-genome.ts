@@ -2,6 +2,8 @@ import * as tf from '@tensorflow/tfjs';
 import {
   analyzeGenome,
   createRandom,
+  genomeHash,
+  restoreRandom,
   sampleSize,
   type DataShape,
   type EpochRecord,
@@ -18,6 +20,7 @@ import { GenomeTooLargeError, InvalidGenomeError } from './errors.js';
 import { crossEntropy, evaluateModel } from './evaluate-model.js';
 import { estimateTrainingBytes } from './memory-estimate.js';
 import { modelToMessage } from './model-artifacts.js';
+import { applyStart, captureCheckpoint, type StartCheckpoint } from './training-checkpoint.js';
 
 /** One training of one genome. */
 export interface TrainRequest {
@@ -36,6 +39,15 @@ export interface TrainRequest {
   onEpoch?: (record: EpochRecord) => void;
   /** Refuse (with {@link GenomeTooLargeError}) a genome whose estimated training memory exceeds this. No cap when absent. */
   memoryCapMb?: number;
+  /**
+   * Weights and state to start from (a resumed attempt, a promoted candidate's own checkpoint, a
+   * parent's weights). One that cannot be used gives a fresh start, said in the outcome's `start`.
+   */
+  start?: StartCheckpoint;
+  /** Take checkpoints: every `everyEpochs` epochs (0: none) and, with `final`, at the end. */
+  checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string };
+  /** Receives each checkpoint; training waits for it before the next epoch. */
+  onCheckpoint?: (bytes: Uint8Array, epoch: number, final: boolean) => void | Promise<void>;
 }
 
 /** What one training yields: an evaluation result without the ids the worker adds. */
@@ -81,14 +93,31 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
 
   const started = performance.now();
   let peakRss = process.memoryUsage.rss();
-  const model = buildModel(genome, data, request.seed);
-  const optimizer = makeOptimizer(optimizerName, learningRate);
-  const random = createRandom(`shuffle ${request.seed}`);
-  const order = identityOrder(train.count);
+  let model = buildModel(genome, data, request.seed);
+  let optimizer = makeOptimizer(optimizerName, learningRate);
+  const hash = genomeHash(genome);
+  const begun = await applyStart(model, optimizer, request.start, { genomeHash: hash, seed: request.seed, optimizer: optimizerName, trainCount: train.count });
+  if (begun.rebuild) {
+    model.dispose();
+    optimizer.dispose();
+    model = buildModel(genome, data, request.seed);
+    optimizer = makeOptimizer(optimizerName, learningRate);
+  }
+  const resumed = begun.progress;
+  const random = resumed ? restoreRandom(resumed.shuffleState) : createRandom(`shuffle ${request.seed}`);
+  const order = resumed ? resumed.order : identityOrder(train.count);
   const assembler = new BatchAssembler(train, sampleLength, data.numClasses, Math.min(batchSize, train.count));
-  const history: EpochRecord[] = [];
-  let samplesSeen = 0;
-  let stepSeconds = 0;
+  const history: EpochRecord[] = resumed ? [...resumed.history] : [];
+  let samplesSeen = resumed?.samplesSeen ?? 0;
+  let stepSeconds = resumed?.stepSeconds ?? 0;
+  const checkpoint = async (epoch: number, final: boolean) => {
+    const c = request.checkpoints;
+    if (!c || !request.onCheckpoint) return;
+    if (final ? !c.final : !(c.everyEpochs > 0 && epoch % c.everyEpochs === 0)) return;
+    const identity = { runId: c.runId, evaluationId: c.evaluationId, genomeHash: hash, seed: request.seed, backend, optimizer: optimizerName };
+    const bytes = await captureCheckpoint(model, optimizer, identity, { epoch, final, samplesSeen, stepSeconds, history, order, shuffle: random });
+    await request.onCheckpoint(bytes, epoch, final);
+  };
   let stoppedBy: TrainOutcome['stoppedBy'] = 'epochs';
   let diverged = false;
 
@@ -118,11 +147,12 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   };
 
   try {
+    // Counted over the whole training: a resumed one stops where the uninterrupted one would.
     const maxSamples = budget.maxSamples ?? Infinity;
     const deadline = started + budget.maxSeconds * 1000;
     let trainLoss = 0;
     let trainAccuracy = 0;
-    epochs: for (let epoch = 1; epoch <= budget.epochs; epoch++) {
+    epochs: for (let epoch = (resumed?.epoch ?? 0) + 1; epoch <= budget.epochs; epoch++) {
       const epochStart = performance.now();
       shuffleInPlace(order, random);
       const sums = { loss: tf.scalar(0), correct: tf.scalar(0) };
@@ -174,6 +204,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
         // Let the event loop run (a child process flushes its epoch message to the parent here).
         await new Promise<void>((resolve) => setImmediate(resolve));
         if (trainLoss >= DIVERGED_LOSS) diverged = true;
+        await checkpoint(epoch, epoch === budget.epochs || cut !== null || diverged);
       }
       if (cut) {
         stoppedBy = cut;
@@ -197,6 +228,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
       peakRssBytes: peakRss,
       stoppedBy,
       history,
+      start: begun.start,
     };
     if (val && !last) {
       // The budget ended before the first batch: score the untrained model so the result is honest.

@@ -62,6 +62,9 @@ async function train(id: number, request: ChildTrainRequest): Promise<void> {
     exportModel: request.exportModel,
     memoryCapMb: request.memoryCapMb,
     onEpoch: (record) => void send({ type: 'epoch', id, record }),
+    start: request.start,
+    checkpoints: request.checkpoints,
+    onCheckpoint: (bytes, epoch, final) => send({ type: 'checkpoint', id, epoch, final, bytes }),
   });
   await send({ type: 'done', id, outcome });
 }

@@ -27,6 +27,8 @@ export interface TrainingProcessOptions {
 export interface TrainCallOptions {
   /** Called with every epoch's record as the child reports it. */
   onEpoch?: (record: EpochRecord) => void;
+  /** Called with every checkpoint the child takes (the job's `checkpoints` setting says when). */
+  onCheckpoint?: (bytes: Uint8Array, epoch: number, final: boolean) => void;
   /** Aborting kills the child (training cannot be interrupted otherwise) and rejects with {@link TrainingAbortedError}. */
   signal?: AbortSignal;
 }
@@ -36,6 +38,7 @@ interface PendingJob {
   resolve: (outcome: TrainOutcome) => void;
   reject: (err: Error) => void;
   onEpoch?: (record: EpochRecord) => void;
+  onCheckpoint?: TrainCallOptions['onCheckpoint'];
 }
 
 const CHILD_ENTRY = fileURLToPath(new URL('./training-child.ts', import.meta.url));
@@ -101,6 +104,11 @@ export class TrainingProcess {
     return this.choice?.backend ?? null;
   }
 
+  /** Process id of the training child while it runs (for CPU accounting in benchmarks), else null. */
+  pid(): number | null {
+    return this.child?.pid ?? null;
+  }
+
   /** Why the child chose that backend (what was tried and passed over). */
   backendReason(): string {
     return this.choice?.reason ?? 'not started';
@@ -156,6 +164,7 @@ export class TrainingProcess {
       this.pending = {
         id,
         onEpoch: call.onEpoch,
+        onCheckpoint: call.onCheckpoint,
         resolve: (outcome) => {
           settle();
           resolve(outcome);
@@ -177,6 +186,12 @@ export class TrainingProcess {
         job.onEpoch?.(message.record);
       } catch (err) {
         this.options.log?.warn({ err: (err as Error).message }, 'onEpoch callback threw; ignored');
+      }
+    } else if (message.type === 'checkpoint') {
+      try {
+        job.onCheckpoint?.(message.bytes, message.epoch, message.final);
+      } catch (err) {
+        this.options.log?.warn({ err: (err as Error).message }, 'onCheckpoint callback threw; ignored');
       }
     } else if (message.type === 'done') {
       job.resolve(message.outcome);

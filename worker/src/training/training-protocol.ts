@@ -1,5 +1,6 @@
 import type { BackendName, DataShape, EpochRecord, Genome, TrainingBudget } from '@netbreeder/shared-types';
 import type { TrainOutcome } from './train-genome.js';
+import type { StartCheckpoint } from './training-checkpoint.js';
 
 /**
  * One training, as the parent hands it to the training child: the samples come from a shard file
@@ -16,6 +17,10 @@ export interface ChildTrainRequest {
   seed: number;
   exportModel?: boolean;
   memoryCapMb?: number;
+  /** Weights and state to start from (see `TrainRequest.start`). */
+  start?: StartCheckpoint;
+  /** Checkpoints to take; each is sent to the parent as a `checkpoint` message. */
+  checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string };
 }
 
 /** Parent → child messages. */
@@ -29,5 +34,6 @@ export type ChildMessage =
   | { type: 'ready'; backend: BackendName; reason: string }
   | { type: 'init-failed'; message: string }
   | { type: 'epoch'; id: number; record: EpochRecord }
+  | { type: 'checkpoint'; id: number; epoch: number; final: boolean; bytes: Uint8Array }
   | { type: 'done'; id: number; outcome: TrainOutcome }
   | { type: 'error'; id: number; message: string; code: string; retryable: boolean };
