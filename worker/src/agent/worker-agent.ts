@@ -1,5 +1,5 @@
 import { hostname, loadavg, setPriority } from 'node:os';
-import { UnrecoverableError, Worker, type Job } from 'bullmq';
+import { DelayedError, UnrecoverableError, Worker, type Job } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import {
@@ -18,7 +18,8 @@ import { isRetryable } from '../training/errors.js';
 import { DatasetCache } from './dataset-cache.js';
 import { HeartbeatSender } from './heartbeat-sender.js';
 import { openRedis } from './redis-connection.js';
-import { coreCount, type WorkerOptions } from './worker-options.js';
+import { assertTestModeAllowed, coreCount, type WorkerOptions } from './worker-options.js';
+import { inflateOutcome } from './lying-worker.js';
 import { msUntilClockTime } from './stop-time.js';
 import type { Trainer } from './trainer.js';
 
@@ -66,6 +67,10 @@ export class WorkerAgent {
     private readonly log: Logger,
     parts: WorkerAgentParts = {},
   ) {
+    if (options.testOnlyInflateAccuracy !== null) {
+      assertTestModeAllowed('a worker that inflates its accuracies');
+      log.warn({ inflateBy: options.testOnlyInflateAccuracy }, 'TEST ONLY: this worker reports inflated validation accuracies');
+    }
     this.training = parts.trainer ?? new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
     this.cache = parts.cache ?? new DatasetCache(
       { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
@@ -98,7 +103,7 @@ export class WorkerAgent {
       this.log.warn({ attempt, delayMs }, 'cannot reach Redis; retrying with backoff'),
     );
     this.connection.on('error', (err: Error) => this.log.debug({ err: err.message }, 'redis connection error'));
-    this.worker = new Worker(this.options.queueName, (job) => this.process(job), {
+    this.worker = new Worker(this.options.queueName, (job, token) => this.process(job, token), {
       connection: this.connection,
       prefix: this.options.prefix,
       concurrency: 1,
@@ -160,11 +165,13 @@ export class WorkerAgent {
       rssBytes: process.memoryUsage.rss(),
       memoryCapMb: this.options.memoryCapMb,
       version: WORKER_VERSION,
+      watts: this.options.watts,
+      wattsAssumed: this.options.wattsAssumed,
     };
   }
 
   /** The BullMQ processor: validate, fetch data, train in the child, return the result. */
-  private async process(job: Job): Promise<EvaluationResult> {
+  private async process(job: Job, token?: string): Promise<EvaluationResult> {
     const issues = evaluationJobValidator.issues(job.data);
     if (issues.length) {
       const reason = issues.slice(0, 5).map((i) => `${i.path} ${i.message}`).join('; ');
@@ -173,6 +180,7 @@ export class WorkerAgent {
     }
     const payload = job.data as EvaluationJob;
     if (payload.evaluationId !== job.id) throw new UnrecoverableError(`${DO_NOT_RETRY_PREFIX}job id ${job.id} does not match evaluation id ${payload.evaluationId}`);
+    if (payload.excludeWorkers?.includes(this.options.workerId)) await this.handBack(job, token);
 
     this.state = 'training';
     this.current = payload.evaluationId;
@@ -194,7 +202,8 @@ export class WorkerAgent {
         },
         { onEpoch: (record) => log.debug({ record }, 'epoch') },
       );
-      const result: EvaluationResult = { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: payload.evaluationId, workerId: this.options.workerId, ...outcome };
+      const reported = this.options.testOnlyInflateAccuracy === null ? outcome : inflateOutcome(outcome, this.options.testOnlyInflateAccuracy);
+      const result: EvaluationResult = { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: payload.evaluationId, workerId: this.options.workerId, ...reported };
       evaluationResultValidator.parse(result);
       this.done++;
       this.lastSamplesPerSecond = result.samplesPerSecond;
@@ -211,6 +220,21 @@ export class WorkerAgent {
       if (this.state === 'training') this.state = 'idle';
       void this.heartbeat.send();
     }
+  }
+
+  /**
+   * Gives a job this worker must not run (a verification of its own result, or any job once it is
+   * quarantined) back to the queue untouched: BullMQ's documented way for a processor to put an
+   * active job off is `moveToDelayed` + `DelayedError`, which costs no attempt. The job waits
+   * 1 to 2 s (jittered, so two excluded workers do not pass it to and fro in step) before any
+   * worker may take it, and this worker pauses as long before it takes another job.
+   */
+  private async handBack(job: Job, token: string | undefined): Promise<never> {
+    const delayMs = 1000 + Math.floor(Math.random() * 1000);
+    this.log.debug({ jobId: job.id, delayMs }, 'job excludes this worker; handed back to the queue');
+    await job.moveToDelayed(Date.now() + delayMs, token);
+    await new Promise((resolve) => setTimeout(resolve, delayMs));
+    throw new DelayedError();
   }
 
   /**
