@@ -143,6 +143,11 @@ export class RunStore {
     }
   }
 
+  /** The SQLite handle, for the store's companion tables (./trust-store.ts) only. */
+  get database(): Database.Database {
+    return this.db;
+  }
+
   /** Runs `fn` in one transaction: all of its writes land, or none. */
   transaction<T>(fn: () => T): T {
     return this.db.transaction(fn)();
