@@ -27,6 +27,7 @@ import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../s
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
+import { Verifier } from '../trust/verifier.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -100,6 +101,8 @@ export class RunManager {
   private readonly workerTimeoutMs: number;
   private readonly queueSlack: number;
   private readonly champion: ChampionPhase;
+  /** Replicated verification, worker trust and quarantine (../trust/verifier.ts). */
+  readonly verifier: Verifier;
 
   constructor(
     private readonly opts: RunManagerOptions,
@@ -109,6 +112,14 @@ export class RunManager {
     this.tickMs = opts.tickMs ?? 1000;
     this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
     this.queueSlack = opts.queueSlack ?? 1;
+    this.verifier = new Verifier({
+      store: opts.store,
+      queue: opts.queue,
+      log: opts.log,
+      now: this.now,
+      liveWorkers: () => this.store.listWorkers().filter((w) => this.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped').map((w) => w.heartbeat.workerId),
+      onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
+    });
     this.champion = new ChampionPhase({
       store: opts.store,
       queue: opts.queue,
@@ -117,6 +128,7 @@ export class RunManager {
       now: this.now,
       testSplit: () => this.testSplit!,
       onFinished: (run) => this.events.runFinished?.(run),
+      eligible: (ev) => this.verifier.counts(ev),
     });
   }
 
@@ -190,6 +202,7 @@ export class RunManager {
       if (!(await this.opts.queue.has(ev.id))) added++;
       await this.opts.queue.add(ev.job);
     }
+    await this.verifier.rebuildQueue(run.id);
     if (added > 0) {
       this.store.logEvent(run.id, 'queue-rebuilt', { reason, pending: pending.length, added });
       this.opts.log.warn({ reason, pending: pending.length, added }, 'queue rebuilt from the store');
@@ -236,6 +249,7 @@ export class RunManager {
     for (const job of await this.opts.queue.finished()) await this.reconcile(job);
     const run = this.currentRun();
     if (!run) return;
+    await this.verifier.checkTimeouts(run);
     if (run.state === 'searching') await this.advanceSearch(run);
     else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
@@ -334,7 +348,8 @@ export class RunManager {
     const counts = this.store.counts(run.id, 'search');
     const inFlight = counts.queued + counts.running;
     if (this.searchBudgetSpent(run)) {
-      if (inFlight === 0) await this.champion.begin(run);
+      // Champion candidates are verified on another worker first (and open spot checks settled).
+      if (inFlight === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run)))) await this.champion.begin(run);
       return;
     }
     const target = Math.max(2, this.aliveWorkers() + this.queueSlack);
@@ -395,6 +410,7 @@ export class RunManager {
 
   /** Validates one finished job's outcome and records it once; the job leaves Redis afterwards. */
   private async reconcile(job: FinishedJob): Promise<void> {
+    if (this.verifier.owns(job.id)) return this.verifier.reconcile(job);
     const ev = this.store.getEvaluation(job.id);
     if (!ev) {
       this.store.logEvent(null, 'rejected-result', { evaluationId: job.id, reason: 'unknown evaluation id' });
@@ -407,7 +423,7 @@ export class RunManager {
         await this.rejectResult(ev, problem);
         return;
       } else if (ev.kind === 'search') {
-        this.recordSearchResult(ev, job.returnvalue as EvaluationResult);
+        if (this.recordSearchResult(ev, job.returnvalue as EvaluationResult)) await this.verifier.afterSearchResult(this.store.getRun(ev.runId)!, ev.id);
       } else {
         await this.champion.recordResult(ev, job.returnvalue as EvaluationResult);
       }
@@ -440,12 +456,14 @@ export class RunManager {
     const result = value as EvaluationResult;
     if (result.evaluationId !== ev.id) return `result names evaluation ${result.evaluationId}, not ${ev.id}`;
     if (this.isRevoked(result.workerId)) return `worker ${result.workerId} is revoked`;
+    if (this.verifier.isQuarantined(result.workerId)) return `worker ${result.workerId} is quarantined (its results failed verification); another worker will run it`;
     if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
     if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
     return null;
   }
 
-  private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult): void {
+  /** Records a search result once and feeds it to the search; true when it was recorded now. */
+  private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult): boolean {
     const recorded = this.store.transaction(() => {
       const outcome = this.store.recordResult(ev.id, result, this.now());
       if (outcome !== 'recorded') return false;
@@ -462,12 +480,32 @@ export class RunManager {
       this.store.saveSearchSnapshot(ev.runId, this.algorithm!.snapshot());
       return true;
     });
-    if (!recorded) return;
+    if (!recorded) return false;
     this.opts.log.info(
       { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
       'evaluation recorded',
     );
     this.events.resultRecorded?.(this.store.getEvaluation(ev.id)!, result);
+    return true;
+  }
+
+  /**
+   * A worker was quarantined: its results leave the search's population (they no longer count for
+   * selection; the champion phase skips them through `verifier.counts`). Logged with how many.
+   */
+  private dropResultsOf(workerId: string, runId: string): void {
+    if (!this.algorithm || this.run?.id !== runId) return;
+    const dropped = this.algorithm.forget?.((id) => this.store.getEvaluation(id)?.workerId === workerId) ?? 0;
+    this.store.transaction(() => {
+      this.store.saveSearchSnapshot(runId, this.algorithm!.snapshot());
+      this.store.logEvent(runId, 'quarantined-results-dropped', { workerId, droppedFromPopulation: dropped });
+    });
+    this.opts.log.warn({ workerId, dropped }, 'results of a quarantined worker dropped from the search population');
+  }
+
+  /** True when this worker's results no longer count (it failed verification repeatedly). */
+  isQuarantined(workerId: string): boolean {
+    return this.verifier.isQuarantined(workerId);
   }
 
   /** Records a failed attempt and, unless it cannot succeed, queues the next attempt. */

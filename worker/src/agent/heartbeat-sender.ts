@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import { authHeader } from './auth-header.js';
 
 /**
@@ -21,6 +21,8 @@ export class HeartbeatSender {
     private readonly joinToken: string | null = null,
     /** Called when the coordinator answers that this worker id is revoked. */
     private readonly onRevoked: () => void = () => {},
+    /** Called with the coordinator's reply when it sends one (a quarantine). */
+    private readonly onReply: (reply: HeartbeatReply) => void = () => {},
   ) {}
 
   start(): void {
@@ -62,6 +64,12 @@ export class HeartbeatSender {
         return;
       }
       if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
+      if (res.status === 200) {
+        const reply = (await res.json()) as Partial<HeartbeatReply>;
+        if (typeof reply.quarantined === 'boolean' && typeof reply.reason === 'string') this.onReply({ quarantined: reply.quarantined, reason: reply.reason });
+      } else {
+        await res.body?.cancel();
+      }
       if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
       this.failures = 0;
     } catch (err) {

@@ -58,6 +58,8 @@ export class WorkerAgent {
   private idleTimer: NodeJS.Timeout | null = null;
   private stopping: Promise<void> | null = null;
   private readonly host = hostname();
+  /** Set once the coordinator says this worker is quarantined: it then takes no more jobs. */
+  private quarantined = false;
   private markStopped: () => void = () => {};
   /** Settles once the worker has stopped (after `stop()`, a stop time, or a fatal error). */
   readonly stopped: Promise<void> = new Promise((resolve) => (this.markStopped = resolve));
@@ -76,10 +78,18 @@ export class WorkerAgent {
       { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
       log,
     );
-    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log, options.joinToken, () => {
-      // Its results would be refused: give the current job back at once and leave.
-      void this.stop({ force: true });
-    });
+    this.heartbeat = new HeartbeatSender(
+      options.coordinatorUrl,
+      options.heartbeatMs,
+      () => this.heartbeatMessage(),
+      log,
+      options.joinToken,
+      () => {
+        // Its results would be refused: give the current job back at once and leave.
+        void this.stop({ force: true });
+      },
+      (reply) => this.onQuarantine(reply.reason),
+    );
   }
 
   /** The worker's lifecycle state. */
@@ -138,7 +148,7 @@ export class WorkerAgent {
       if (load > threshold && !this.worker.isPaused()) {
         this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is in use: taking no new jobs until it is idle again');
         void this.worker.pause(true);
-      } else if (load <= threshold && this.worker.isPaused()) {
+      } else if (load <= threshold && this.worker.isPaused() && !this.quarantined) {
         this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is idle again: taking jobs');
         this.worker.resume();
       }
@@ -146,6 +156,18 @@ export class WorkerAgent {
     this.idleTimer = setInterval(check, this.options.idleCheckMs);
     this.idleTimer.unref();
     check();
+  }
+
+  /**
+   * The coordinator quarantined this worker (its results failed verification): it keeps sending
+   * heartbeats, so it stays visible, but takes no more jobs; the current one finishes (its result
+   * will be refused and the job handed to another worker).
+   */
+  private onQuarantine(reason: string): void {
+    if (this.quarantined) return;
+    this.quarantined = true;
+    this.log.error({ reason }, 'the coordinator quarantined this worker; taking no more jobs (check this PC: memory, backend install, cache)');
+    void this.worker?.pause(true);
   }
 
   private heartbeatMessage(): WorkerHeartbeat {
