@@ -3,6 +3,7 @@ import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
+import { championTrust } from '../trust/champion-trust.js';
 import { describePreprocessing } from '../datasets/index.js';
 
 const labelCache = new Map<string, Int32Array>();
@@ -76,6 +77,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** How raw samples must be prepared before they go into the model (what the import fitted). */
     input: run.dataset.preparation ? describePreprocessing(run.dataset.preparation.preprocessing) : 'demo tiles: 16×16 grayscale, pixel values in [0, 1]',
     trainingCurve: champion.result.history,
+    /** Verification of the champion's search result, quarantined workers, and the run's CPU time and energy. */
+    trust: championTrust(store, run, champion),
     files: [...CHAMPION_FILES],
   };
 }
