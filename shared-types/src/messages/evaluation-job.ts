@@ -39,8 +39,8 @@ export const EvaluationJobSchema = Type.Object(
     dataset: DatasetManifestSchema,
     /**
      * Worker ids that must not run this job: a verification job names the worker(s) whose result
-     * it re-checks, and every job names the quarantined workers. A named worker hands the job back
-     * to the queue (delayed by a second or so) without training it. Absent: any worker.
+     * it re-checks and the quarantined workers. A named worker hands the job back to the queue
+     * without training it (and waits a few seconds before taking another). Absent: any worker.
      */
     excludeWorkers: Type.Optional(Type.Array(Type.String({ pattern: '^[A-Za-z0-9_.:-]{1,128}$' }), { maxItems: 1000 })),
     /** Set on a verification job: the id of the search evaluation whose result it re-runs (same genome, seed and budget). */

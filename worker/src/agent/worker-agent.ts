@@ -1,5 +1,5 @@
 import { hostname, loadavg, setPriority } from 'node:os';
-import { DelayedError, UnrecoverableError, Worker, type Job } from 'bullmq';
+import { UnrecoverableError, WaitingError, Worker, type Job } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import {
@@ -245,18 +245,20 @@ export class WorkerAgent {
   }
 
   /**
-   * Gives a job this worker must not run (a verification of its own result, or any job once it is
-   * quarantined) back to the queue untouched: BullMQ's documented way for a processor to put an
-   * active job off is `moveToDelayed` + `DelayedError`, which costs no attempt. The job waits
-   * 1 to 2 s (jittered, so two excluded workers do not pass it to and fro in step) before any
-   * worker may take it, and this worker pauses as long before it takes another job.
+   * Gives a job this worker must not run (a verification of its own result) back to the queue
+   * untouched: BullMQ's way for a processor to put an active job back is `moveToWait` +
+   * `WaitingError`, which costs no attempt. The job is at once waiting (with its priority) for any
+   * other worker, while this one pauses 2 to 3 s (jittered) before it takes a job again. The
+   * pause matters: a job put off with a delay instead came back just as its excluded, idle worker
+   * was ready again, which grabbed it first every time while the others were busy (measured: a
+   * verification then waited out its whole timeout).
    */
   private async handBack(job: Job, token: string | undefined): Promise<never> {
-    const delayMs = 1000 + Math.floor(Math.random() * 1000);
-    this.log.debug({ jobId: job.id, delayMs }, 'job excludes this worker; handed back to the queue');
-    await job.moveToDelayed(Date.now() + delayMs, token);
-    await new Promise((resolve) => setTimeout(resolve, delayMs));
-    throw new DelayedError();
+    const pauseMs = 2000 + Math.floor(Math.random() * 1000);
+    this.log.debug({ jobId: job.id, pauseMs }, 'job excludes this worker; handed back to the queue');
+    await job.moveToWait(token);
+    await new Promise((resolve) => setTimeout(resolve, pauseMs));
+    throw new WaitingError();
   }
 
   /**
