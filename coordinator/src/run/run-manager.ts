@@ -319,6 +319,7 @@ export class RunManager {
       await this.opts.queue.remove(ev.id).catch(() => undefined); // a job being trained cannot be removed; its result is ignored
       this.store.recordFailure(ev.id, 'run stopped', this.now());
     }
+    await this.verifier.cancel(runId);
   }
 
   /**

@@ -151,7 +151,15 @@ export class Verifier {
       else await this.o.queue.add(v.job);
       return;
     }
-    await this.closeAndDecide(v, { state: 'done', result: job.returnvalue as EvaluationResult });
+    const result = job.returnvalue as EvaluationResult;
+    const source = this.o.store.getEvaluation(v.sourceEvaluationId)!.result!;
+    if (result.samplesSeen !== source.samplesSeen) {
+      // A slow verifier cut short by its own time limit is no opinion at all, not a disagreement.
+      const why = `the verifier ${result.workerId} trained on ${result.samplesSeen} samples, not ${source.samplesSeen} (stopped by ${result.stoppedBy}); no opinion`;
+      await this.closeAndDecide(v, { state: 'failed', error: why });
+      return;
+    }
+    await this.closeAndDecide(v, { state: 'done', result });
   }
 
   private resultProblem(v: VerificationRecord, value: unknown): string | null {
@@ -227,6 +235,14 @@ export class Verifier {
       this.o.onQuarantine(w, v.runId);
     }
     if (decided.kind === 'ask-third-opinion') await this.ask(run, source.id, 2, v.purpose);
+  }
+
+  /** A stopped run: its open verifications leave the queue and end without a verdict. */
+  async cancel(runId: string): Promise<void> {
+    for (const v of this.trust.openVerifications(runId)) {
+      await this.o.queue.remove(v.id).catch(() => undefined); // one being trained cannot be removed; its result is ignored
+      this.trust.finishVerification(v.id, { state: 'failed', error: 'run stopped' }, this.o.now());
+    }
   }
 
   /** Puts every open verification of the run back in the queue (after Redis lost it). */
