@@ -41,7 +41,7 @@ export class ChampionPhase {
   async begin(run: RunRecord): Promise<void> {
     const candidates = this.chooseCandidates(run);
     if (candidates.length === 0) {
-      this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded, so there is no champion' });
+      this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded (or every successful one failed verification or came from a quarantined worker), so there is no champion' });
       this.o.log.error({ runId: run.id }, 'run ended without a single successful evaluation');
       return;
     }
