@@ -117,7 +117,11 @@ export class RunManager {
       queue: opts.queue,
       log: opts.log,
       now: this.now,
-      liveWorkers: () => this.store.listWorkers().filter((w) => this.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped').map((w) => w.heartbeat.workerId),
+      liveWorkers: () =>
+        this.store
+          .listWorkers()
+          .filter((w) => this.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped' && !this.isRevoked(w.heartbeat.workerId))
+          .map((w) => w.heartbeat.workerId),
       onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
     });
     this.champion = new ChampionPhase({
