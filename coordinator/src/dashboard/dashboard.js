@@ -101,7 +101,7 @@
     const v = s.verification;
     if (v) {
       const q = v.quarantinedWorkers.length ? ` · quarantined: ${v.quarantinedWorkers.join(', ')}` : '';
-      text($('trust-note'), `verification (${pct(v.spotCheckFraction)} spot-checked, champion candidates always): ${v.confirmed} confirmed · ${v.rejected} rejected · ${v.disputed} disputed · ${v.unverified} unverified · ${v.open} open${q}`);
+      text($('trust-note'), `verification (${pct(v.spotCheckFraction)} of results spot-checked): ${v.confirmed} confirmed · ${v.rejected} rejected · ${v.disputed} disputed · ${v.unverified} unverified · ${v.open} open${q}`);
     }
   }
 
