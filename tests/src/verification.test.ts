@@ -120,5 +120,12 @@ describe('verification, quarantine and CPU accounting', () => {
     const html = await file('report.html');
     expect(html).toContain('<h2>CPU time and energy</h2>');
     expect(html).toContain('honest-a');
+
+    // And Prometheus reads the same aggregates.
+    const metrics = await (await fetch(`${cluster.coordinator.url}/metrics`)).text();
+    const sample = (line: string) => Number(metrics.split('\n').find((l) => l.startsWith(line))!.slice(line.length + 1));
+    expect(sample(`netbreeder_cpu_seconds{run="${runId}",kind="search"}`)).toBeCloseTo(a.search.cpuSeconds, 6);
+    expect(sample(`netbreeder_verification_verdicts{run="${runId}",verdict="rejected"}`)).toBe(status.verification!.rejected);
+    expect(sample('netbreeder_workers_quarantined')).toBe(1);
   }, 60_000);
 });
