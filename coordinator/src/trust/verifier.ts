@@ -173,7 +173,7 @@ export class Verifier {
     return null;
   }
 
-  /** Gives up verifications that waited past the timeout (or a minute with no other live worker). */
+  /** Gives up verifications that waited past the timeout (or 10 s with no other live worker to run them). */
   async checkTimeouts(run: RunRecord): Promise<void> {
     const open = this.trust.openVerifications(run.id);
     if (!open.length) return;

@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { heartbeatReplyValidator, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import { authHeader } from './auth-header.js';
 
 /**
@@ -65,8 +65,10 @@ export class HeartbeatSender {
       }
       if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
       if (res.status === 200) {
-        const reply = (await res.json()) as Partial<HeartbeatReply>;
-        if (typeof reply.quarantined === 'boolean' && typeof reply.reason === 'string') this.onReply({ quarantined: reply.quarantined, reason: reply.reason });
+        const reply: unknown = await res.json();
+        const issues = heartbeatReplyValidator.issues(reply);
+        if (issues.length) this.log.warn({ issues: issues.slice(0, 3) }, 'the coordinator sent a heartbeat reply this worker does not understand; ignored');
+        else this.onReply(reply as HeartbeatReply);
       } else {
         await res.body?.cancel();
       }
