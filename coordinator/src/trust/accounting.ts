@@ -28,8 +28,13 @@ export function summarizeAccounting(rows: readonly CpuUsageRow[], defaultWatts =
   return { total: sumCpuUsage(rows, defaultWatts), search: of('search'), champion: of('champion'), verification: of('verification'), defaultWatts, energyNote: ENERGY_NOTE };
 }
 
-/** Each worker's figures in the run. */
+/** Each worker's figures in the run (one pass over the rows: /status calls it with every worker's rows). */
 export function accountingByWorker(rows: readonly CpuUsageRow[], defaultWatts = DEFAULT_WORKER_WATTS): Map<string, CpuFigures> {
-  const ids = [...new Set(rows.map((r) => r.workerId))];
-  return new Map(ids.map((id) => [id, sumCpuUsage(rows.filter((r) => r.workerId === id), defaultWatts)]));
+  const byWorker = new Map<string, CpuUsageRow[]>();
+  for (const r of rows) {
+    const own = byWorker.get(r.workerId);
+    if (own) own.push(r);
+    else byWorker.set(r.workerId, [r]);
+  }
+  return new Map([...byWorker].map(([id, own]) => [id, sumCpuUsage(own, defaultWatts)]));
 }

@@ -13,6 +13,7 @@ export function trustStatus(verifier: Verifier, run: RunRecord | null) {
   const rows = run ? t.cpuUsage(run.id) : [];
   const byWorker = accountingByWorker(rows);
   const settings = run ? verificationSettings(run.config) : null;
+  const records = new Map(t.allTrust().map((r) => [r.workerId, r])); // one query, not one per worker
   const accounting: AccountingStatus = summarizeAccounting(rows);
   const verification: VerificationStatus | undefined =
     run && settings
@@ -27,7 +28,7 @@ export function trustStatus(verifier: Verifier, run: RunRecord | null) {
   return {
     run: { accounting, ...(verification ? { verification } : {}) },
     worker: (hb: WorkerHeartbeat): Pick<WorkerStatus, 'trust' | 'cpu' | 'watts' | 'wattsAssumed'> => {
-      const record = t.trust(hb.workerId);
+      const record = records.get(hb.workerId) ?? { agreed: 0, failed: 0, quarantinedAt: null, quarantineReason: null };
       return {
         trust: { reliability: reliability(record), agreed: record.agreed, failed: record.failed, quarantined: record.quarantinedAt !== null, quarantineReason: record.quarantineReason },
         cpu: byWorker.get(hb.workerId) ?? sumCpuUsage([]),
