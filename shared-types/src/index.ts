@@ -13,6 +13,7 @@ export * from './messages/evaluation-result.js';
 export * from './messages/worker-heartbeat.js';
 export * from './messages/run-config.js';
 export * from './messages/status-response.js';
+export * from './messages/trust-status.js';
 export * from './messages/validators.js';
 export * from './dataset/labelled-samples.js';
 export * from './dataset/shard-codec.js';

@@ -1,7 +1,7 @@
 import { parseArgs } from 'node:util';
 import { pino } from 'pino';
 import { WorkerAgent } from './agent/worker-agent.js';
-import { resolveWorkerOptions, type WorkerOptions } from './agent/worker-options.js';
+import { assertTestModeAllowed, resolveWorkerOptions, type WorkerOptions } from './agent/worker-options.js';
 import { msUntilClockTime } from './agent/stop-time.js';
 import { parseSimulateSpec, type SimulationSettings } from './agent/simulated-training.js';
 import { SimulatedFleet } from './agent/simulated-fleet.js';
@@ -26,6 +26,8 @@ Options:
                       for example 0.3; checked every 15 s
   --lock-ms MS        job lock length; a vanished worker's job returns after it (default 30000)
   --stalled-check-ms MS  how often this worker looks for stalled jobs   (default 15000)
+  --watts W           watts one busy core of this PC draws, for the coordinator's energy
+                      estimate (default 15: an assumption, shown as such)
   -h, --help          this text
 
 Test and benchmark only (nothing is trained; results are synthetic and worthless for a real search):
@@ -37,6 +39,8 @@ Test and benchmark only (nothing is trained; results are synthetic and worthless
   --simulate-count N  with --simulate: run N simulated workers in this one process, each with its
                       own queue worker, Redis connection, id (ID-s0 … ID-sN-1) and heartbeats (default 1)
   --simulate-seed S   with --simulate: seed of the drawn times and drops (default simulate)
+  --test-only-inflate-accuracy D  a lying worker for the verification tests: trains for real but
+                      reports validation accuracy + D; refused unless NETBREEDER_TEST_MODE=1
 
 Stop: Ctrl-C (or SIGTERM) finishes the current job, then exits; a second Ctrl-C abandons it (the
 coordinator hands it to another worker).
@@ -65,6 +69,8 @@ const WORKER_ARGS = {
   'drop-rate': { type: 'string' },
   'simulate-count': { type: 'string' },
   'simulate-seed': { type: 'string' },
+  watts: { type: 'string' },
+  'test-only-inflate-accuracy': { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -109,7 +115,25 @@ export function parseWorkerArgs(argv: string[], env: NodeJS.ProcessEnv = process
     idleLoad: fraction('idle-load', values['idle-load']),
     lockDurationMs: int('lock-ms', values['lock-ms'], 1000, 3_600_000),
     stalledIntervalMs: int('stalled-check-ms', values['stalled-check-ms'], 500, 3_600_000),
+    watts: positive('watts', values.watts, 10_000),
+    testOnlyInflateAccuracy: inflation(values['test-only-inflate-accuracy'], env),
   });
+}
+
+function positive(name: string, v: string | undefined, max: number): number | undefined {
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isFinite(n) || n <= 0 || n > max) throw new Error(`--${name} must be a number above 0 and at most ${max}, got '${v}'`);
+  return n;
+}
+
+/** The lying worker's inflation (test only): refused outside tests. */
+function inflation(v: string | undefined, env: NodeJS.ProcessEnv): number | null {
+  if (v === undefined) return null;
+  assertTestModeAllowed('--test-only-inflate-accuracy', env);
+  const n = Number(v);
+  if (!Number.isFinite(n) || n <= 0 || n > 1) throw new Error(`--test-only-inflate-accuracy must be a number above 0 and at most 1, got '${v}'`);
+  return n;
 }
 
 function fraction(name: string, v: string | undefined): number | null {

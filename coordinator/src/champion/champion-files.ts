@@ -3,6 +3,7 @@ import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
+import { championTrust } from '../trust/champion-trust.js';
 import { describePreprocessing } from '../datasets/index.js';
 import { inheritanceSummary } from './inheritance-summary.js';
 
@@ -79,6 +80,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     trainingCurve: champion.result.history,
     /** How the search trainings started (fresh, resumed, continued, inherited), the champion's own included. */
     inheritance: inheritanceSummary(store, run, champion.sourceEvaluationId),
+    /** Verification of the champion's search result, quarantined workers, and the run's CPU time and energy. */
+    trust: championTrust(store, run, champion),
     files: [...CHAMPION_FILES],
   };
 }

@@ -1,6 +1,7 @@
 import type { NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
+import { championTrustMarkdown } from '../trust/champion-trust.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 
@@ -69,6 +70,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     ...c.lineage.map((l, i) => `${i + 1}. \`${l.parentHash.slice(0, 12)}\` → \`${l.childHash.slice(0, 12)}\`: ${l.operator} (${l.detail})`),
     '',
     ...inheritanceMarkdown(c.inheritance),
+    ...championTrustMarkdown(c.trust),
     '## Reproduce',
     '',
     `Search algorithm ${c.settings.config.search.algorithm}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,

@@ -29,11 +29,19 @@ export function statusTable(s: StatusResponse): string {
   if (s.run) lines.push(`run ${s.run.id} "${s.run.name}" · ${s.run.algorithm} · seed ${s.run.seed} · budget ${s.run.maxEvaluations} evaluations / ${s.run.maxMinutes} min`);
   if (s.best) lines.push(`best so far: ${pct(s.best.valAccuracy)} val · ${s.best.paramCount} params · ${s.best.summary}`);
   if (s.champion) lines.push(`champion: ${pct(s.champion.testAccuracy)} test · ${pct(s.champion.valAccuracy)} val · ${s.champion.paramCount} params · ${s.champion.summary}`);
+  if (s.accounting) {
+    const a = s.accounting.total;
+    lines.push(`CPU: ${a.cpuSeconds.toFixed(0)} s over ${a.evaluations} trainings · energy ${a.wattHours.toFixed(2)} Wh${a.assumedWattHours > 0 ? ` (${a.assumedWattHours.toFixed(2)} Wh at the assumed ${s.accounting.defaultWatts} W per core)` : ''}`);
+  }
+  if (s.verification) {
+    const v = s.verification;
+    lines.push(`verification: ${v.confirmed} confirmed · ${v.rejected} rejected · ${v.disputed} disputed · ${v.unverified} unverified · ${v.open} open${v.quarantinedWorkers.length ? ` · quarantined: ${v.quarantinedWorkers.join(', ')}` : ''}`);
+  }
   if (s.workers.length) {
     lines.push('', 'worker                          backend  state     done  samples/s  last seen');
     for (const w of s.workers) {
       lines.push(
-        `${w.workerId.padEnd(31).slice(0, 31)} ${(w.backend ?? '–').padEnd(8)} ${(w.alive ? w.state : 'gone').padEnd(9)} ${String(w.evaluationsDone).padStart(4)}  ${w.samplesPerSecond.toFixed(0).padStart(9)}  ${w.secondsSinceHeartbeat.toFixed(0)} s ago`,
+        `${w.workerId.padEnd(31).slice(0, 31)} ${(w.backend ?? '–').padEnd(8)} ${(w.trust?.quarantined ? 'quarantined' : w.alive ? w.state : 'gone').padEnd(9)} ${String(w.evaluationsDone).padStart(4)}  ${w.samplesPerSecond.toFixed(0).padStart(9)}  ${w.secondsSinceHeartbeat.toFixed(0)} s ago`,
       );
     }
   }

@@ -87,6 +87,22 @@
     text($('tile-champion'), s.champion ? pct(s.champion.testAccuracy) : '–');
     text($('tile-champion-note'), s.champion ? `validation ${pct(s.champion.valAccuracy)}` : run.state === 'training-champion' ? 'training now…' : 'after the search');
     showWorkers(s.workers);
+    showTrust(s);
+  }
+
+  /** CPU time and energy (marked when it rests on the default watts), verification verdicts and quarantined workers. */
+  function showTrust(s) {
+    const a = s.accounting;
+    if (a) {
+      text($('tile-cpu'), `${compact(a.total.cpuSeconds)} s`);
+      const assumed = a.total.assumedWattHours > 0 ? ` (${a.total.assumedWattHours >= a.total.wattHours ? 'all' : 'partly'} assumed: ${a.defaultWatts} W/core)` : '';
+      text($('tile-cpu-note'), `${a.total.wattHours.toFixed(2)} Wh${assumed} · ${a.search.cpuSecondsPerEvaluation.toFixed(1)} s per evaluation`);
+    }
+    const v = s.verification;
+    if (v) {
+      const q = v.quarantinedWorkers.length ? ` · quarantined: ${v.quarantinedWorkers.join(', ')}` : '';
+      text($('trust-note'), `verification (${pct(v.spotCheckFraction)} of results spot-checked): ${v.confirmed} confirmed · ${v.rejected} rejected · ${v.disputed} disputed · ${v.unverified} unverified · ${v.open} open${q}`);
+    }
   }
 
   function showWorkers(workers) {
@@ -96,8 +112,9 @@
       .sort((a, b) => Number(b.alive) - Number(a.alive) || a.workerId.localeCompare(b.workerId))
       .map((w) => {
         const tr = document.createElement('tr');
-        const label = w.alive ? w.state : 'lost';
-        tr.className = w.alive ? 'alive' : 'lost';
+        const quarantined = Boolean(w.trust && w.trust.quarantined);
+        const label = quarantined ? 'quarantined' : w.alive ? w.state : 'lost';
+        tr.className = quarantined ? 'quarantined' : w.alive ? 'alive' : 'lost';
         tr.dataset.workerId = w.workerId;
         tr.append(
           cell(w.workerId, 'mono'),
@@ -113,8 +130,14 @@
         const span = document.createElement('span');
         span.className = `state ${label}`;
         span.textContent = label;
+        if (quarantined) span.title = w.trust.quarantineReason || '';
         st.append(span);
-        tr.append(st);
+        tr.append(
+          st,
+          cell(w.trust ? w.trust.reliability.toFixed(2) : '–', 'num'),
+          cell(w.cpu ? compact(w.cpu.cpuSeconds) : '–', 'num'),
+          cell(w.cpu ? `${w.cpu.wattHours.toFixed(2)} Wh${w.wattsAssumed === false ? '' : ' (assumed)'}` : '–', 'num'),
+        );
         return tr;
       });
     if (!rows.length) return;

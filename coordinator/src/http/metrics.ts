@@ -4,6 +4,7 @@ import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { RunManager } from '../run/run-manager.js';
 import { runMinutes } from '../run/status-report.js';
 import type { RunRecord } from '../store/run-store.js';
+import { registerTrustMetrics } from '../trust/trust-metrics.js';
 
 /** What `/metrics` reads on each scrape. */
 export interface MetricsOptions {
@@ -164,6 +165,8 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   });
 
+  // CPU time, energy, verdicts and quarantined workers (listed in ../trust/trust-metrics.ts).
+  registerTrustMetrics(registry, manager, currentRun);
   return registry;
 }
 

@@ -1,7 +1,7 @@
 import { createReadStream, existsSync } from 'node:fs';
 import Fastify, { LogController, type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { Type } from '@sinclair/typebox';
-import { StatusResponseSchema, WorkerHeartbeatSchema, workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { StatusResponseSchema, WorkerHeartbeatSchema, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import { GenomeRejectedError, RunStateError, type RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
@@ -143,6 +143,10 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
       return send(reply, 'NB_WORKER_REVOKED', `worker ${hb.workerId} is revoked`);
     }
     manager.recordHeartbeat(hb);
+    if (manager.isQuarantined(hb.workerId)) {
+      const reply200: HeartbeatReply = { quarantined: true, reason: manager.verifier.trust.trust(hb.workerId).quarantineReason ?? 'its results failed verification' };
+      return reply.status(200).send(reply200);
+    }
     return reply.status(204).send();
   });
 

@@ -133,8 +133,8 @@ const jobOptions = (job: EvaluationJob) => ({
   attempts: 1,
   removeOnComplete: false,
   removeOnFail: false,
-  // Champion trainings go before search trainings.
-  priority: job.kind === 'champion' ? 1 : 10,
+  // Champion trainings go first, then verifications (the champion phase may wait on them), then the search.
+  priority: job.kind === 'champion' ? 1 : job.verifies ? 5 : 10,
 });
 
 /** The URL without its password, for logs. */

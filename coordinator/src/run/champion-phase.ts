@@ -22,6 +22,8 @@ export interface ChampionPhaseOptions {
   /** The run's held-out test split (only the coordinator has it). */
   testSplit: () => LabelledSamples;
   onFinished?: (run: RunRecord) => void;
+  /** Whether a search result may give a candidate (not from a quarantined worker, not failed verification). @default every result */
+  eligible?: (ev: EvaluationRecord) => boolean;
 }
 
 const championId = (runId: string, seq: number, attempt: number) => `${runId}-c${seq}-a${attempt}`;
@@ -39,7 +41,7 @@ export class ChampionPhase {
   async begin(run: RunRecord): Promise<void> {
     const candidates = this.chooseCandidates(run);
     if (candidates.length === 0) {
-      this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded, so there is no champion' });
+      this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded (or every successful one failed verification or came from a quarantined worker), so there is no champion' });
       this.o.log.error({ runId: run.id }, 'run ended without a single successful evaluation');
       return;
     }
@@ -51,13 +53,13 @@ export class ChampionPhase {
     await this.ensureJobs(this.o.store.getRun(run.id)!);
   }
 
-  /** The best distinct genomes by validation accuracy (then fewer parameters). */
-  private chooseCandidates(run: RunRecord): ChampionCandidate[] {
+  /** The best distinct genomes by validation accuracy (then fewer parameters), from eligible results only. */
+  chooseCandidates(run: RunRecord): ChampionCandidate[] {
     const k = run.config.champion.topK;
     const seen = new Set<string>();
     const out: ChampionCandidate[] = [];
     for (const e of this.o.store.topEvaluations(run.id, k * 10)) {
-      if (seen.has(e.genomeHash)) continue;
+      if (seen.has(e.genomeHash) || (this.o.eligible && !this.o.eligible(e))) continue;
       seen.add(e.genomeHash);
       out.push({ sourceEvaluationId: e.id, genomeHash: e.genomeHash, seq: e.seq, valAccuracy: e.valAccuracy! });
       if (out.length === k) break;

@@ -30,6 +30,7 @@ import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
 import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
+import { Verifier } from '../trust/verifier.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -115,6 +116,8 @@ export class RunManager {
   private readonly champion: ChampionPhase;
   /** Training checkpoints workers upload (files under `<dataDir>/checkpoints`, latest per evaluation sequence in the store). */
   readonly checkpoints: CheckpointFiles;
+  /** Replicated verification, worker trust and quarantine (../trust/verifier.ts). */
+  readonly verifier: Verifier;
 
   constructor(
     private readonly opts: RunManagerOptions,
@@ -126,6 +129,18 @@ export class RunManager {
     this.queueSlack = opts.queueSlack ?? 1;
     this.queueSlackPerWorker = opts.queueSlackPerWorker ?? 0.02;
     this.checkpoints = new CheckpointFiles(join(opts.dataDir, 'checkpoints'), opts.store, opts.log.child({ part: 'checkpoints' }));
+    this.verifier = new Verifier({
+      store: opts.store,
+      queue: opts.queue,
+      log: opts.log,
+      now: this.now,
+      liveWorkers: () =>
+        this.store
+          .listWorkers()
+          .filter((w) => this.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped' && !this.isRevoked(w.heartbeat.workerId))
+          .map((w) => w.heartbeat.workerId),
+      onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
+    });
     this.champion = new ChampionPhase({
       store: opts.store,
       queue: opts.queue,
@@ -134,6 +149,7 @@ export class RunManager {
       now: this.now,
       testSplit: () => this.testSplit!,
       onFinished: (run) => this.events.runFinished?.(run),
+      eligible: (ev) => this.verifier.counts(ev),
     });
   }
 
@@ -208,6 +224,7 @@ export class RunManager {
       if (!(await this.opts.queue.has(ev.id))) added++;
       await this.opts.queue.add(ev.job);
     }
+    await this.verifier.rebuildQueue(run.id);
     if (added > 0) {
       this.store.logEvent(run.id, 'queue-rebuilt', { reason, pending: pending.length, added });
       this.opts.log.warn({ reason, pending: pending.length, added }, 'queue rebuilt from the store');
@@ -254,17 +271,18 @@ export class RunManager {
    * save of the search algorithm's state; only then are the jobs added to and removed from Redis,
    * in bulk. A crash between the two is safe: on restart the store re-adds what it still owes, and
    * finished jobs still in Redis are recognised as already recorded.
-   * Champion trainings (few, and scored here on the test split) are handled one at a time after.
+   * Champion trainings (few, and scored here on the test split) and verification re-runs are
+   * handled one at a time after.
    */
   private async pass(): Promise<void> {
     if (!this.run) return;
     if ((await this.opts.queue.checkMarker(this.run.id)) === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
     const finished = await this.opts.queue.finished();
     const batch = emptyBatch();
-    const championJobs: FinishedJob[] = [];
+    const oneByOne: FinishedJob[] = [];
     this.store.transaction(() => {
       for (const job of finished) {
-        if (!this.reconcileSearchJob(job, batch)) championJobs.push(job);
+        if (!this.reconcileSearchJob(job, batch)) oneByOne.push(job);
       }
       const run = this.currentRun();
       if (run?.state === 'searching' && !this.searchBudgetSpent(run)) this.proposeUpToTarget(run, batch);
@@ -273,12 +291,18 @@ export class RunManager {
     await this.opts.queue.removeMany(batch.remove);
     await this.opts.queue.addMany(batch.add);
     for (const { evaluationId, result } of batch.recorded) this.events.resultRecorded?.(this.store.getEvaluation(evaluationId)!, result);
-    for (const job of championJobs) await this.reconcileChampionJob(job);
+    for (const job of oneByOne) {
+      if (this.verifier.owns(job.id)) await this.verifier.reconcile(job);
+      else await this.reconcileChampionJob(job);
+    }
     const run = this.currentRun();
     if (!run) return;
+    for (const { evaluationId } of batch.recorded) await this.verifier.afterSearchResult(run, evaluationId);
+    await this.verifier.checkTimeouts(run);
     if (run.state === 'searching' && this.searchBudgetSpent(run)) {
       const counts = this.store.counts(run.id, 'search');
-      if (counts.queued + counts.running === 0) await this.champion.begin(run);
+      // Champion candidates are verified on another worker first (and open spot checks settled).
+      if (counts.queued + counts.running === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run)))) await this.champion.begin(run);
     } else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
 
@@ -348,6 +372,7 @@ export class RunManager {
       await this.opts.queue.remove(ev.id).catch(() => undefined); // a job being trained cannot be removed; its result is ignored
       this.store.recordFailure(ev.id, 'run stopped', this.now());
     }
+    await this.verifier.cancel(runId);
   }
 
   /**
@@ -438,11 +463,13 @@ export class RunManager {
   /**
    * Handles one finished job inside the pass's transaction: a search result or failed attempt, a job
    * that names no evaluation, or one already recorded. Returns false, doing nothing, for a champion
-   * training still owed a result (that goes through {@link reconcileChampionJob}).
+   * training still owed a result (that goes through {@link reconcileChampionJob}) and for a
+   * verification re-run (the verifier's).
    */
   private reconcileSearchJob(job: FinishedJob, batch: QueueBatch): boolean {
     const ev = this.store.getEvaluation(job.id);
     if (ev?.kind === 'champion' && (ev.state === 'queued' || ev.state === 'running')) return false;
+    if (!ev && this.verifier.owns(job.id)) return false;
     if (!ev) {
       this.store.logEvent(null, 'rejected-result', { evaluationId: job.id, reason: 'unknown evaluation id' });
       this.opts.log.warn({ evaluationId: job.id }, 'finished job names no evaluation of this store; removed');
@@ -510,6 +537,7 @@ export class RunManager {
     const result = value as EvaluationResult;
     if (result.evaluationId !== ev.id) return `result names evaluation ${result.evaluationId}, not ${ev.id}`;
     if (this.isRevoked(result.workerId)) return `worker ${result.workerId} is revoked`;
+    if (this.verifier.isQuarantined(result.workerId)) return `worker ${result.workerId} is quarantined (its results failed verification); another worker will run it`;
     if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
     if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
     return null;
@@ -534,6 +562,25 @@ export class RunManager {
       { evaluationId: ev.id, valAccuracy: result.valAccuracy, params: result.paramCount, seconds: result.trainSeconds, worker: result.workerId },
       'evaluation recorded',
     );
+  }
+
+  /**
+   * A worker was quarantined: its results leave the search's population (they no longer count for
+   * selection; the champion phase skips them through `verifier.counts`). Logged with how many.
+   */
+  private dropResultsOf(workerId: string, runId: string): void {
+    if (!this.algorithm || this.run?.id !== runId) return;
+    const dropped = this.algorithm.forget?.((id) => this.store.getEvaluation(id)?.workerId === workerId) ?? 0;
+    this.store.transaction(() => {
+      this.store.saveSearchSnapshot(runId, this.algorithm!.snapshot());
+      this.store.logEvent(runId, 'quarantined-results-dropped', { workerId, droppedFromPopulation: dropped });
+    });
+    this.opts.log.warn({ workerId, dropped }, 'results of a quarantined worker dropped from the search population');
+  }
+
+  /** True when this worker's results no longer count (it failed verification repeatedly). */
+  isQuarantined(workerId: string): boolean {
+    return this.verifier.isQuarantined(workerId);
   }
 
   /**

@@ -1,5 +1,6 @@
 import type { StatusResponse } from '@netbreeder/shared-types';
 import type { RunManager } from './run-manager.js';
+import { trustStatus } from '../trust/trust-status.js';
 
 const iso = (ms: number) => new Date(ms).toISOString();
 
@@ -19,7 +20,11 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
   const start = run ? (run.searchStartedAt ?? run.createdAt) : now;
   const end = run?.finishedAt ?? now;
   const elapsedMinutes = run ? runMinutes(run, now) : 1;
-  const [best] = run ? store.topEvaluations(run.id, 1) : [];
+  // The best result that counts: not from a quarantined worker, not failed verification (the top
+  // row nearly always does; only then are more read).
+  const [top] = run ? store.topEvaluations(run.id, 1) : [];
+  const best = top && !manager.verifier.counts(top) ? store.topEvaluations(run!.id, 50).find((e) => manager.verifier.counts(e)) : top;
+  const trust = trustStatus(manager.verifier, run);
   const champion = run ? store.getChampion(run.id) : null;
   const championGenome = champion ? store.getGenome(champion.genomeHash) : null;
   return {
@@ -54,6 +59,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
       samplesPerSecond: hb.samplesPerSecond,
       lastHeartbeatAt: iso(lastSeenAt),
       secondsSinceHeartbeat: (now - lastSeenAt) / 1000,
+      ...trust.worker(hb),
     })),
     best: best
       ? {
@@ -80,5 +86,6 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
             summary: championGenome.summary,
           }
         : null,
+    ...trust.run,
   };
 }

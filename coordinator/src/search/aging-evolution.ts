@@ -101,6 +101,12 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
     if (this.population.length > this.settings.populationSize) this.population.shift(); // the oldest, not the worst
   }
 
+  forget(drop: (evaluationId: string) => boolean): number {
+    const before = this.population.length;
+    this.population = this.population.filter((m) => !drop(m.evaluationId));
+    return before - this.population.length;
+  }
+
   /** The living members, oldest first (copies). */
   members(): Observation<G>[] {
     return structuredClone(this.population);

@@ -101,6 +101,12 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
     if (this.population.length > populationSize) this.population.splice(this.worst(rankAndCrowding(objectives(this.population))), 1);
   }
 
+  forget(drop: (evaluationId: string) => boolean): number {
+    const before = this.population.length;
+    this.population = this.population.filter((m) => !drop(m.evaluationId));
+    return before - this.population.length;
+  }
+
   /** The living members, oldest first (copies). */
   members(): ParetoMember<G>[] {
     return structuredClone(this.population);

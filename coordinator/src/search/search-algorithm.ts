@@ -58,6 +58,13 @@ export interface SearchAlgorithm<G = Genome> {
   readonly name: string;
   propose(): Proposal<G>;
   observe(o: Observation<G>): void;
+  /**
+   * Removes from the population (or rungs) every member whose evaluation `drop` names, as if its
+   * result had never arrived: the results of a quarantined worker no longer count for selection.
+   * Returns how many members were removed. Algorithms that keep no members (random search) need
+   * not have it.
+   */
+  forget?(drop: (evaluationId: string) => boolean): number;
   /** JSON-serializable state, the random source's included; pass it back to the factory to resume. */
   snapshot(): SearchSnapshot<G>;
 }

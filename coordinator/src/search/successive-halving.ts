@@ -142,6 +142,17 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     this.observed++;
   }
 
+  forget(drop: (evaluationId: string) => boolean): number {
+    let removed = 0;
+    this.rungs = this.rungs.map((rung) => {
+      const kept = rung.filter((m) => !drop(m.evaluationId));
+      removed += rung.length - kept.length;
+      return kept;
+    });
+    if ('forget' in this.source) this.source.forget(drop);
+    return removed;
+  }
+
   /** Each rung's results in arrival order, lowest rung first (copies). */
   rungMembers(): AshaRungMember<G>[][] {
     return structuredClone(this.rungs);

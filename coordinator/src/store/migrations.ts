@@ -136,4 +136,93 @@ export const MIGRATIONS: readonly string[] = [
   CREATE INDEX checkpoints_by_sha ON checkpoints(sha256);
   CREATE INDEX checkpoints_by_genome ON checkpoints(run_id, genome_hash, final, epoch);
   `,
+  // 4: replicated verification and CPU accounting (coordinator/src/store/trust-store.ts).
+  // `verifications` holds the re-runs of results on other workers (jobs of their own, outside
+  // `evaluations`, so they never count as search evaluations); `result_verdicts` one final verdict
+  // per verified result; `worker_trust` each worker's record and quarantine. `cpu_usage` is an
+  // incremental aggregate per run, worker and kind, kept by triggers in the same transaction as
+  // the write that finishes an evaluation or verification: CPU-seconds from the result, and energy
+  // from the watts of the worker's last heartbeat (CPU-seconds whose worker sent no watts are kept
+  // apart, for the reader to apply the default assumption).
+  `
+  CREATE TABLE verifications (
+    id TEXT PRIMARY KEY,
+    run_id TEXT NOT NULL,
+    source_evaluation_id TEXT NOT NULL,
+    opinion INTEGER NOT NULL CHECK (opinion IN (1, 2)),
+    purpose TEXT NOT NULL CHECK (purpose IN ('spot-check', 'champion-candidate')),
+    job_json TEXT NOT NULL,
+    state TEXT NOT NULL CHECK (state IN ('queued', 'done', 'failed', 'timed-out')),
+    queued_at INTEGER NOT NULL,
+    finished_at INTEGER,
+    worker_id TEXT,
+    result_json TEXT,
+    error TEXT
+  );
+  CREATE INDEX verifications_by_source ON verifications(source_evaluation_id, opinion);
+  CREATE INDEX verifications_by_run_state ON verifications(run_id, state);
+  CREATE TABLE result_verdicts (
+    evaluation_id TEXT PRIMARY KEY,
+    run_id TEXT NOT NULL,
+    worker_id TEXT NOT NULL,
+    verdict TEXT NOT NULL CHECK (verdict IN ('confirmed', 'rejected', 'disputed', 'unverified')),
+    reason TEXT NOT NULL,
+    decided_at INTEGER NOT NULL
+  );
+  CREATE TABLE verdict_counts (
+    run_id TEXT NOT NULL,
+    verdict TEXT NOT NULL,
+    n INTEGER NOT NULL,
+    PRIMARY KEY (run_id, verdict)
+  ) WITHOUT ROWID;
+  CREATE TRIGGER verdict_counts_insert AFTER INSERT ON result_verdicts BEGIN
+    INSERT INTO verdict_counts (run_id, verdict, n) VALUES (NEW.run_id, NEW.verdict, 1)
+      ON CONFLICT (run_id, verdict) DO UPDATE SET n = n + 1;
+  END;
+  CREATE TABLE worker_trust (
+    worker_id TEXT PRIMARY KEY,
+    agreed INTEGER NOT NULL DEFAULT 0,
+    failed INTEGER NOT NULL DEFAULT 0,
+    quarantined_at INTEGER,
+    quarantine_reason TEXT
+  );
+  CREATE TABLE cpu_usage (
+    run_id TEXT NOT NULL,
+    worker_id TEXT NOT NULL,
+    kind TEXT NOT NULL,
+    evaluations INTEGER NOT NULL,
+    cpu_seconds REAL NOT NULL,
+    watt_hours REAL NOT NULL,
+    assumed_watt_hours REAL NOT NULL,
+    cpu_seconds_without_watts REAL NOT NULL,
+    PRIMARY KEY (run_id, worker_id, kind)
+  ) WITHOUT ROWID;
+  INSERT INTO cpu_usage (run_id, worker_id, kind, evaluations, cpu_seconds, watt_hours, assumed_watt_hours, cpu_seconds_without_watts)
+    SELECT run_id, worker_id, kind, COUNT(*), SUM(COALESCE(json_extract(result_json, '$.cpuSeconds'), 0)), 0, 0, SUM(COALESCE(json_extract(result_json, '$.cpuSeconds'), 0))
+    FROM evaluations WHERE state = 'done' AND worker_id IS NOT NULL GROUP BY run_id, worker_id, kind;
+  CREATE TRIGGER cpu_usage_evaluation_done AFTER UPDATE OF state ON evaluations
+    WHEN NEW.state = 'done' AND OLD.state IS NOT 'done' AND NEW.worker_id IS NOT NULL BEGIN
+    INSERT INTO cpu_usage (run_id, worker_id, kind, evaluations, cpu_seconds, watt_hours, assumed_watt_hours, cpu_seconds_without_watts)
+      SELECT NEW.run_id, NEW.worker_id, NEW.kind, 1, c.s, c.s * COALESCE(w.watts, 0) / 3600.0,
+             CASE WHEN w.assumed THEN c.s * w.watts / 3600.0 ELSE 0 END, CASE WHEN w.watts IS NULL THEN c.s ELSE 0 END
+      FROM (SELECT COALESCE(json_extract(NEW.result_json, '$.cpuSeconds'), 0) AS s) c
+      LEFT JOIN (SELECT json_extract(heartbeat_json, '$.watts') AS watts, json_extract(heartbeat_json, '$.wattsAssumed') AS assumed FROM workers WHERE id = NEW.worker_id) w ON 1
+      WHERE 1
+      ON CONFLICT (run_id, worker_id, kind) DO UPDATE SET evaluations = evaluations + 1, cpu_seconds = cpu_seconds + excluded.cpu_seconds,
+        watt_hours = watt_hours + excluded.watt_hours, assumed_watt_hours = assumed_watt_hours + excluded.assumed_watt_hours,
+        cpu_seconds_without_watts = cpu_seconds_without_watts + excluded.cpu_seconds_without_watts;
+  END;
+  CREATE TRIGGER cpu_usage_verification_done AFTER UPDATE OF state ON verifications
+    WHEN NEW.state = 'done' AND OLD.state IS NOT 'done' AND NEW.worker_id IS NOT NULL BEGIN
+    INSERT INTO cpu_usage (run_id, worker_id, kind, evaluations, cpu_seconds, watt_hours, assumed_watt_hours, cpu_seconds_without_watts)
+      SELECT NEW.run_id, NEW.worker_id, 'verification', 1, c.s, c.s * COALESCE(w.watts, 0) / 3600.0,
+             CASE WHEN w.assumed THEN c.s * w.watts / 3600.0 ELSE 0 END, CASE WHEN w.watts IS NULL THEN c.s ELSE 0 END
+      FROM (SELECT COALESCE(json_extract(NEW.result_json, '$.cpuSeconds'), 0) AS s) c
+      LEFT JOIN (SELECT json_extract(heartbeat_json, '$.watts') AS watts, json_extract(heartbeat_json, '$.wattsAssumed') AS assumed FROM workers WHERE id = NEW.worker_id) w ON 1
+      WHERE 1
+      ON CONFLICT (run_id, worker_id, kind) DO UPDATE SET evaluations = evaluations + 1, cpu_seconds = cpu_seconds + excluded.cpu_seconds,
+        watt_hours = watt_hours + excluded.watt_hours, assumed_watt_hours = assumed_watt_hours + excluded.assumed_watt_hours,
+        cpu_seconds_without_watts = cpu_seconds_without_watts + excluded.cpu_seconds_without_watts;
+  END;
+  `,
 ];

@@ -184,6 +184,11 @@ export class RunStore {
     return statement;
   }
 
+  /** The SQLite handle, for the store's companion tables (./trust-store.ts) only. */
+  get database(): Database.Database {
+    return this.db;
+  }
+
   /** Runs `fn` in one transaction: all of its writes land, or none. */
   transaction<T>(fn: () => T): T {
     return this.db.transaction(fn)();
@@ -510,8 +515,8 @@ export class RunStore {
     return this.transaction(() => {
       const held = this.latestCheckpoint(c.runId, c.seq);
       if (held && held.epoch > c.epoch) return { kept: false, replaced: null };
-      this.db
-        .prepare(
+      this
+        .sql(
           `INSERT OR REPLACE INTO checkpoints (run_id, seq, evaluation_id, genome_hash, sha256, epoch, final, bytes, path, created_at)
            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
         )
@@ -522,20 +527,20 @@ export class RunStore {
 
   /** The latest checkpoint of an evaluation sequence, or null. */
   latestCheckpoint(runId: string, seq: number): CheckpointRecord | null {
-    const r = this.db.prepare('SELECT * FROM checkpoints WHERE run_id = ? AND seq = ?').get(runId, seq) as Row | undefined;
+    const r = this.sql('SELECT * FROM checkpoints WHERE run_id = ? AND seq = ?').get(runId, seq) as Row | undefined;
     return r ? checkpointFromRow(r) : null;
   }
 
   /** A held checkpoint by its content hash, or null. */
   checkpointBySha(sha256: string): CheckpointRecord | null {
-    const r = this.db.prepare('SELECT * FROM checkpoints WHERE sha256 = ? LIMIT 1').get(sha256) as Row | undefined;
+    const r = this.sql('SELECT * FROM checkpoints WHERE sha256 = ? LIMIT 1').get(sha256) as Row | undefined;
     return r ? checkpointFromRow(r) : null;
   }
 
   /** The final checkpoint of the longest finished training of a genome in a run (a parent's weights), or null. */
   finalCheckpointOfGenome(runId: string, genomeHash: string): CheckpointRecord | null {
-    const r = this.db
-      .prepare('SELECT * FROM checkpoints WHERE run_id = ? AND genome_hash = ? AND final = 1 ORDER BY epoch DESC, seq DESC LIMIT 1')
+    const r = this
+      .sql('SELECT * FROM checkpoints WHERE run_id = ? AND genome_hash = ? AND final = 1 ORDER BY epoch DESC, seq DESC LIMIT 1')
       .get(runId, genomeHash) as Row | undefined;
     return r ? checkpointFromRow(r) : null;
   }
@@ -543,12 +548,12 @@ export class RunStore {
   /** Forgets the checkpoint of an evaluation sequence; returns what was removed. */
   deleteCheckpoint(runId: string, seq: number): CheckpointRecord | null {
     const held = this.latestCheckpoint(runId, seq);
-    if (held) this.db.prepare('DELETE FROM checkpoints WHERE run_id = ? AND seq = ?').run(runId, seq);
+    if (held) this.sql('DELETE FROM checkpoints WHERE run_id = ? AND seq = ?').run(runId, seq);
     return held;
   }
 
   /** How many checkpoint rows name this file (0: the file may be deleted). */
   checkpointFileUses(sha256: string): number {
-    return (this.db.prepare('SELECT COUNT(*) AS n FROM checkpoints WHERE sha256 = ?').get(sha256) as Row).n as number;
+    return (this.sql('SELECT COUNT(*) AS n FROM checkpoints WHERE sha256 = ?').get(sha256) as Row).n as number;
   }
 }

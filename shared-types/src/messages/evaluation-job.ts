@@ -73,6 +73,14 @@ export const EvaluationJobSchema = Type.Object(
     resume: Type.Optional(CheckpointRefSchema),
     /** Weights to start from (weight inheritance); ignored when a `resume` checkpoint is used. */
     inherit: Type.Optional(WeightSourceSchema),
+    /**
+     * Worker ids that must not run this job: a verification job names the worker(s) whose result
+     * it re-checks and the quarantined workers. A named worker hands the job back to the queue
+     * without training it (and waits a few seconds before taking another). Absent: any worker.
+     */
+    excludeWorkers: Type.Optional(Type.Array(Type.String({ pattern: '^[A-Za-z0-9_.:-]{1,128}$' }), { maxItems: 1000 })),
+    /** Set on a verification job: the id of the search evaluation whose result it re-runs (same genome, seed and budget). */
+    verifies: Type.Optional(Type.String({ pattern: '^[A-Za-z0-9_-]{1,80}$' })),
   },
   { additionalProperties: false },
 );

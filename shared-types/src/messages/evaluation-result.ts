@@ -60,6 +60,12 @@ export const EvaluationResultSchema = Type.Object(
     /** Why training stopped: all epochs done, or a budget limit reached. */
     stoppedBy: Type.Union([Type.Literal('epochs'), Type.Literal('seconds'), Type.Literal('samples')]),
     history: Type.Array(EpochRecordSchema, { maxItems: 1000 }),
+    /**
+     * CPU time (user + system, all threads) the training process spent on this evaluation, in
+     * seconds: measured with process.cpuUsage() in the training child, not wall time. Absent in
+     * results of workers older than accounting.
+     */
+    cpuSeconds: Type.Optional(Finite({ minimum: 0 })),
     model: Type.Optional(ModelArtifactsSchema),
     /** How the training started (fresh, resumed from a checkpoint, inherited weights); absent in results of workers before checkpoints. */
     start: Type.Optional(TrainingStartSchema),

@@ -230,6 +230,29 @@ export const RunConfigSchema = Type.Object(
       },
       { additionalProperties: false, default: {} },
     ),
+    /**
+     * Replicated verification (see coordinator/src/trust/): results re-run on another worker with
+     * the same genome, seed and budget, and compared within a tolerance that depends on the two
+     * backends. Hosts whose results keep failing it are quarantined.
+     */
+    verification: Type.Object(
+      {
+        /** Fraction of all search results re-run as a spot check, drawn with the run's seed. @default 0.05 */
+        spotCheckFraction: Type.Number({ minimum: 0, maximum: 1, default: 0.05 }),
+        /** Re-run each champion candidate's result on another worker before its final training. @default true */
+        championCandidates: Type.Boolean({ default: true }),
+        /**
+         * Seconds a verification may wait for another worker and train; after that its result counts
+         * as "unverified" (a run with one worker never hangs on it). @default 600
+         */
+        timeoutSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400, default: 600 }),
+        /** A worker is quarantined once this many of its results failed verification (and its reliability is below the next setting). @default 2 */
+        quarantineAfterFailures: Type.Integer({ minimum: 1, maximum: 1000, default: 2 }),
+        /** ... and its reliability score, (agreed + 1) / (agreed + failed + 1), is below this. @default 0.5 */
+        quarantineBelowReliability: Type.Number({ minimum: 0, maximum: 1, default: 0.5 }),
+      },
+      { additionalProperties: false, default: {} },
+    ),
     searchSpace: Type.Optional(SearchSpaceSchema),
   },
   { additionalProperties: false },

@@ -2,6 +2,7 @@ import { Type, type Static } from '@sinclair/typebox';
 import { GenomeSchema } from '../genome/genome-schema.js';
 import { BackendNameSchema } from './evaluation-result.js';
 import { WorkerStateSchema } from './worker-heartbeat.js';
+import { AccountingStatusSchema, CpuFiguresSchema, VerificationStatusSchema, WorkerTrustStatusSchema } from './trust-status.js';
 
 /** A run's lifecycle: searching (⇄ paused) → training-champion → finished, or failed / stopped. */
 export const RunStateSchema = Type.Union([Type.Literal('preparing'), Type.Literal('searching'), Type.Literal('paused'), Type.Literal('training-champion'), Type.Literal('finished'), Type.Literal('failed'), Type.Literal('stopped')]);
@@ -33,6 +34,13 @@ export const WorkerStatusSchema = Type.Object({
   samplesPerSecond: Type.Number(),
   lastHeartbeatAt: Type.String({ format: 'date-time' }),
   secondsSinceHeartbeat: Type.Number(),
+  /** Verification record and quarantine (see coordinator/src/trust/). */
+  trust: Type.Optional(WorkerTrustStatusSchema),
+  /** This worker's CPU time and energy in the run. */
+  cpu: Type.Optional(CpuFiguresSchema),
+  /** Watts per busy core the worker sent, and whether that is the default assumption. */
+  watts: Type.Optional(Type.Number()),
+  wattsAssumed: Type.Optional(Type.Boolean()),
 });
 export type WorkerStatus = Static<typeof WorkerStatusSchema>;
 
@@ -77,5 +85,8 @@ export const StatusResponseSchema = Type.Object({
   workers: Type.Array(WorkerStatusSchema),
   best: Nullable(ScoredGenomeSchema),
   champion: Nullable(ChampionSummarySchema),
+  /** CPU-seconds and energy of the run: in total, by kind of job (per worker in `workers`). */
+  accounting: Type.Optional(AccountingStatusSchema),
+  verification: Type.Optional(VerificationStatusSchema),
 });
 export type StatusResponse = Static<typeof StatusResponseSchema>;

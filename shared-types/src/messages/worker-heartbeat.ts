@@ -25,7 +25,28 @@ export const WorkerHeartbeatSchema = Type.Object(
     rssBytes: Type.Integer({ minimum: 0 }),
     memoryCapMb: Type.Integer({ minimum: 1 }),
     version: Type.String({ maxLength: 40 }),
+    /** Watts one busy core of this PC draws (the worker's `--watts`), for the energy estimate. */
+    watts: Type.Optional(Type.Number({ exclusiveMinimum: 0, maximum: 10_000 })),
+    /** True when `watts` is the default assumption, not a figure the PC's owner set. */
+    wattsAssumed: Type.Optional(Type.Boolean()),
   },
   { additionalProperties: false },
 );
 export type WorkerHeartbeat = Static<typeof WorkerHeartbeatSchema>;
+
+/**
+ * The coordinator's answer to a heartbeat when it has something to say (HTTP 200; otherwise 204,
+ * no body): the worker is quarantined, so it should take no more jobs (its results are refused).
+ */
+export const HeartbeatReplySchema = Type.Object({
+  quarantined: Type.Boolean(),
+  reason: Type.String({ maxLength: 2000 }),
+});
+export type HeartbeatReply = Static<typeof HeartbeatReplySchema>;
+
+/**
+ * Watts one busy core is assumed to draw when a worker's owner gives no `--watts`. An assumption
+ * (rule of thumb, not a measurement): a desktop CPU of 65 W rated power with 4 to 8 cores, plus a
+ * share of the rest of the PC, is about 15 W per fully busy core above idle.
+ */
+export const DEFAULT_WORKER_WATTS = 15;

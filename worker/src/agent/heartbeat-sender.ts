@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { workerHeartbeatValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { heartbeatReplyValidator, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import { authHeader } from './auth-header.js';
 
 /**
@@ -23,6 +23,8 @@ export class HeartbeatSender {
     private readonly joinToken: string | null = null,
     /** Called when the coordinator answers that this worker id is revoked. */
     private readonly onRevoked: () => void = () => {},
+    /** Called with the coordinator's reply when it sends one (a quarantine). */
+    private readonly onReply: (reply: HeartbeatReply) => void = () => {},
     /** State changes closer together than this are sent as one heartbeat (very short jobs). @default 1000 */
     private readonly minChangeGapMs = 1000,
   ) {}
@@ -88,6 +90,14 @@ export class HeartbeatSender {
         return;
       }
       if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
+      if (res.status === 200) {
+        const reply: unknown = await res.json();
+        const issues = heartbeatReplyValidator.issues(reply);
+        if (issues.length) this.log.warn({ issues: issues.slice(0, 3) }, 'the coordinator sent a heartbeat reply this worker does not understand; ignored');
+        else this.onReply(reply as HeartbeatReply);
+      } else {
+        await res.body?.cancel();
+      }
       if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
       this.failures = 0;
     } catch (err) {

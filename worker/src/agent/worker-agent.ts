@@ -1,5 +1,5 @@
 import { hostname, loadavg, setPriority } from 'node:os';
-import { UnrecoverableError, Worker, type Job } from 'bullmq';
+import { UnrecoverableError, WaitingError, Worker, type Job } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import {
@@ -20,7 +20,8 @@ import { CheckpointClient } from './checkpoint-client.js';
 import type { StartCheckpoint } from '../training/training-checkpoint.js';
 import { HeartbeatSender } from './heartbeat-sender.js';
 import { openRedis } from './redis-connection.js';
-import { coreCount, type WorkerOptions } from './worker-options.js';
+import { assertTestModeAllowed, coreCount, type WorkerOptions } from './worker-options.js';
+import { inflateOutcome } from './lying-worker.js';
 import { msUntilClockTime } from './stop-time.js';
 import type { Trainer } from './trainer.js';
 
@@ -60,6 +61,8 @@ export class WorkerAgent {
   private idleTimer: NodeJS.Timeout | null = null;
   private stopping: Promise<void> | null = null;
   private readonly host = hostname();
+  /** Set once the coordinator says this worker is quarantined: it then takes no more jobs. */
+  private quarantined = false;
   private markStopped: () => void = () => {};
   /** Settles once the worker has stopped (after `stop()`, a stop time, or a fatal error). */
   readonly stopped: Promise<void> = new Promise((resolve) => (this.markStopped = resolve));
@@ -69,6 +72,10 @@ export class WorkerAgent {
     private readonly log: Logger,
     parts: WorkerAgentParts = {},
   ) {
+    if (options.testOnlyInflateAccuracy !== null) {
+      assertTestModeAllowed('a worker that inflates its accuracies');
+      log.warn({ inflateBy: options.testOnlyInflateAccuracy }, 'TEST ONLY: this worker reports inflated validation accuracies');
+    }
     this.training = parts.trainer ?? new TrainingProcess({ memoryCapMb: options.memoryCapMb, log });
     this.cache = parts.cache ?? new DatasetCache(
       { dir: options.cacheDir, maxBytes: options.cacheMaxMb * 1024 * 1024, coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken },
@@ -78,10 +85,18 @@ export class WorkerAgent {
       { coordinatorUrl: options.coordinatorUrl, joinToken: options.joinToken, corruptUploads: process.env.NETBREEDER_TEST_CORRUPT_CHECKPOINT_UPLOADS === '1' },
       log,
     );
-    this.heartbeat = new HeartbeatSender(options.coordinatorUrl, options.heartbeatMs, () => this.heartbeatMessage(), log, options.joinToken, () => {
-      // Its results would be refused: give the current job back at once and leave.
-      void this.stop({ force: true });
-    });
+    this.heartbeat = new HeartbeatSender(
+      options.coordinatorUrl,
+      options.heartbeatMs,
+      () => this.heartbeatMessage(),
+      log,
+      options.joinToken,
+      () => {
+        // Its results would be refused: give the current job back at once and leave.
+        void this.stop({ force: true });
+      },
+      (reply) => this.onQuarantine(reply.reason),
+    );
   }
 
   /** The worker's lifecycle state. */
@@ -105,7 +120,7 @@ export class WorkerAgent {
       this.log.warn({ attempt, delayMs }, 'cannot reach Redis; retrying with backoff'),
     );
     this.connection.on('error', (err: Error) => this.log.debug({ err: err.message }, 'redis connection error'));
-    this.worker = new Worker(this.options.queueName, (job) => this.process(job), {
+    this.worker = new Worker(this.options.queueName, (job, token) => this.process(job, token), {
       connection: this.connection,
       prefix: this.options.prefix,
       concurrency: 1,
@@ -140,7 +155,7 @@ export class WorkerAgent {
       if (load > threshold && !this.worker.isPaused()) {
         this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is in use: taking no new jobs until it is idle again');
         void this.worker.pause(true);
-      } else if (load <= threshold && this.worker.isPaused()) {
+      } else if (load <= threshold && this.worker.isPaused() && !this.quarantined) {
         this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is idle again: taking jobs');
         this.worker.resume();
       }
@@ -148,6 +163,18 @@ export class WorkerAgent {
     this.idleTimer = setInterval(check, this.options.idleCheckMs);
     this.idleTimer.unref();
     check();
+  }
+
+  /**
+   * The coordinator quarantined this worker (its results failed verification): it keeps sending
+   * heartbeats, so it stays visible, but takes no more jobs; the current one finishes (its result
+   * will be refused and the job handed to another worker).
+   */
+  private onQuarantine(reason: string): void {
+    if (this.quarantined) return;
+    this.quarantined = true;
+    this.log.error({ reason }, 'the coordinator quarantined this worker; taking no more jobs (check this PC: memory, backend install, cache)');
+    void this.worker?.pause(true);
   }
 
   private heartbeatMessage(): WorkerHeartbeat {
@@ -167,11 +194,13 @@ export class WorkerAgent {
       rssBytes: process.memoryUsage.rss(),
       memoryCapMb: this.options.memoryCapMb,
       version: WORKER_VERSION,
+      watts: this.options.watts,
+      wattsAssumed: this.options.wattsAssumed,
     };
   }
 
   /** The BullMQ processor: validate, fetch data, train in the child, return the result. */
-  private async process(job: Job): Promise<EvaluationResult> {
+  private async process(job: Job, token?: string): Promise<EvaluationResult> {
     const issues = evaluationJobValidator.issues(job.data);
     if (issues.length) {
       const reason = issues.slice(0, 5).map((i) => `${i.path} ${i.message}`).join('; ');
@@ -180,6 +209,7 @@ export class WorkerAgent {
     }
     const payload = job.data as EvaluationJob;
     if (payload.evaluationId !== job.id) throw new UnrecoverableError(`${DO_NOT_RETRY_PREFIX}job id ${job.id} does not match evaluation id ${payload.evaluationId}`);
+    if (payload.excludeWorkers?.includes(this.options.workerId)) await this.handBack(job, token);
 
     this.state = 'training';
     this.current = payload.evaluationId;
@@ -222,7 +252,8 @@ export class WorkerAgent {
       await uploads; // the final checkpoint is stored before the result that may point to it
       if (outcome.start && outcome.start.kind !== 'fresh') log.info({ start: outcome.start.kind, fromEpoch: outcome.start.fromEpoch, copiedWeights: outcome.start.copiedWeights }, 'training continued from a checkpoint');
       else if (outcome.start?.note) log.warn({ note: outcome.start.note }, 'checkpoint not usable; trained from epoch 0');
-      const result: EvaluationResult = { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: payload.evaluationId, workerId: this.options.workerId, ...outcome };
+      const reported = this.options.testOnlyInflateAccuracy === null ? outcome : inflateOutcome(outcome, this.options.testOnlyInflateAccuracy);
+      const result: EvaluationResult = { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: payload.evaluationId, workerId: this.options.workerId, ...reported };
       evaluationResultValidator.parse(result);
       this.done++;
       this.lastSamplesPerSecond = result.samplesPerSecond;
@@ -254,6 +285,23 @@ export class WorkerAgent {
     if (!offer) return undefined;
     const got = await this.checkpoints.fetch(offer.ref);
     return { kind: offer.kind, bytes: got.bytes, sha256: offer.ref.sha256, epoch: offer.ref.epoch, fromEvaluationId: offer.ref.evaluationId, note: got.note };
+  }
+
+  /**
+   * Gives a job this worker must not run (a verification of its own result) back to the queue
+   * untouched: BullMQ's way for a processor to put an active job back is `moveToWait` +
+   * `WaitingError`, which costs no attempt. The job is at once waiting (with its priority) for any
+   * other worker, while this one pauses 2 to 3 s (jittered) before it takes a job again. The
+   * pause matters: a job put off with a delay instead came back just as its excluded, idle worker
+   * was ready again, which grabbed it first every time while the others were busy (measured: a
+   * verification then waited out its whole timeout).
+   */
+  private async handBack(job: Job, token: string | undefined): Promise<never> {
+    const pauseMs = 2000 + Math.floor(Math.random() * 1000);
+    this.log.debug({ jobId: job.id, pauseMs }, 'job excludes this worker; handed back to the queue');
+    await job.moveToWait(token);
+    await new Promise((resolve) => setTimeout(resolve, pauseMs));
+    throw new WaitingError();
   }
 
   /**

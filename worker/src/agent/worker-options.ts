@@ -1,6 +1,7 @@
 import { cpus, homedir, hostname, totalmem } from 'node:os';
 import { join } from 'node:path';
 import { randomBytes } from 'node:crypto';
+import { DEFAULT_WORKER_WATTS } from '@netbreeder/shared-types';
 
 /** How a worker joins a coordinator and how politely it uses the PC it runs on. */
 export interface WorkerOptions {
@@ -39,6 +40,27 @@ export interface WorkerOptions {
   idleLoad: number | null;
   /** How often the idle rule is checked, in milliseconds. @default 15000 */
   idleCheckMs: number;
+  /**
+   * Watts one busy core of this PC draws above idle, sent with heartbeats for the coordinator's
+   * energy estimate (CPU-seconds × watts). @default DEFAULT_WORKER_WATTS (15, an assumption)
+   */
+  watts: number;
+  /** True when `watts` was not given, so the energy estimate rests on the default assumption. Set by {@link resolveWorkerOptions}. */
+  wattsAssumed: boolean;
+  /**
+   * TEST ONLY: a lying worker, for the verification tests. Adds this to every validation accuracy
+   * it reports (and shrinks the loss to match). Refused unless the environment variable
+   * `NETBREEDER_TEST_MODE` is `1`. @default null (honest)
+   */
+  testOnlyInflateAccuracy: number | null;
+}
+
+/** The environment variable that must be `1` before test-only worker modes (a lying worker) are accepted. */
+export const TEST_MODE_ENV = 'NETBREEDER_TEST_MODE';
+
+/** Throws unless test-only modes are allowed in this environment. */
+export function assertTestModeAllowed(what: string, env: NodeJS.ProcessEnv = process.env): void {
+  if (env[TEST_MODE_ENV] !== '1') throw new Error(`${what} is a test-only mode (it reports false results); it is refused unless ${TEST_MODE_ENV}=1 is set, which only tests do`);
 }
 
 export function defaultCacheDir(): string {
@@ -66,7 +88,10 @@ export function resolveWorkerOptions(given: Partial<WorkerOptions>): WorkerOptio
     joinToken: null,
     idleLoad: null,
     idleCheckMs: 15_000,
+    watts: DEFAULT_WORKER_WATTS,
+    testOnlyInflateAccuracy: null,
     ...defined,
+    wattsAssumed: defined.watts === undefined,
   };
 }
 

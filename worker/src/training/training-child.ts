@@ -52,6 +52,8 @@ async function train(id: number, request: ChildTrainRequest): Promise<void> {
     throw new ShardMismatchError(`the shard holds samples of shape [${shard.inputShape.join(', ')}], the job expects [${request.data.inputShape.join(', ')}]; the dataset manifest and shard disagree`);
   }
   const champion = request.splits === 'train+val';
+  // CPU time of this process (every thread, user + system) over the training alone: real work, not wall time.
+  const cpuBefore = process.cpuUsage();
   const outcome = await trainGenome({
     genome: request.genome,
     data: request.data,
@@ -66,7 +68,8 @@ async function train(id: number, request: ChildTrainRequest): Promise<void> {
     checkpoints: request.checkpoints,
     onCheckpoint: (bytes, epoch, final) => send({ type: 'checkpoint', id, epoch, final, bytes }),
   });
-  await send({ type: 'done', id, outcome });
+  const cpu = process.cpuUsage(cpuBefore);
+  await send({ type: 'done', id, outcome: { ...outcome, cpuSeconds: (cpu.user + cpu.system) / 1e6 } });
 }
 
 let queue: Promise<void> = Promise.resolve();
