@@ -17,3 +17,4 @@ export * from './messages/validators.js';
 export * from './dataset/labelled-samples.js';
 export * from './dataset/shard-codec.js';
 export * from './messages/dashboard-responses.js';
+export * from './messages/search-decision.js';

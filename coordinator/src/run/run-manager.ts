@@ -27,6 +27,7 @@ import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../s
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
+import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -316,9 +317,13 @@ export class RunManager {
     if (!run || run.id !== this.run?.id) throw new Error(`run ${runId} is not the run this coordinator drives`);
     if (run.state !== 'searching' && run.state !== 'paused') throw new RunStateError(`run ${runId} is ${run.state}; genomes can be added while it searches`);
     const check = checkGenome(value, this.space, this.data!);
-    if (!check.ok) throw new GenomeRejectedError(check.issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message)));
+    if (!check.ok) {
+      const issues = check.issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message));
+      this.store.addSearchStep(rejectStep(run.id, 'genome', { evaluationId: null, genomeHash: null }, issues, this.now()));
+      throw new GenomeRejectedError(issues);
+    }
     const genome = canonicalGenome(check.genome);
-    await this.queueProposal(run.id, { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' }, check.analysis);
+    await this.queueProposal(run.id, { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' }, check.analysis, 'submit');
     return this.store.evaluations(run.id).at(-1)!;
   }
 
@@ -347,12 +352,26 @@ export class RunManager {
   private async proposeOne(runId: string): Promise<void> {
     const proposal = this.algorithm!.propose();
     const analysis = analyzeGenome(proposal.genome, this.data!);
-    if (!analysis.ok) throw new Error(`search proposed an invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
+    if (!analysis.ok) {
+      // A bug in the search, never expected: the refusal is recorded with the call, and nothing is queued.
+      const issues = analysis.issues.map((i) => i.message);
+      this.store.transaction(() => {
+        this.store.addSearchStep(proposalStep(runId, 'propose', null, proposal, this.now()));
+        this.store.addSearchStep(rejectStep(runId, 'genome', { evaluationId: null, genomeHash: proposal.genomeHash }, issues, this.now()));
+        this.store.saveSearchSnapshot(runId, this.algorithm!.snapshot());
+      });
+      this.opts.log.error({ runId, genomeHash: proposal.genomeHash, issues }, 'search proposed an invalid genome; refused and recorded');
+      return;
+    }
     await this.queueProposal(runId, proposal, analysis.analysis);
   }
 
-  /** Records a proposal (genome, evaluation, lineage, algorithm snapshot) in one transaction, then queues it. */
-  private async queueProposal(runId: string, proposal: Proposal, analysis: GenomeAnalysis): Promise<void> {
+  /**
+   * Records a proposal (genome, evaluation, its search step with the decisions, lineage, algorithm
+   * snapshot) in one transaction, then queues it. `step`: `submit` for a user's genome (the
+   * algorithm was not asked, so replay does not ask it either).
+   */
+  private async queueProposal(runId: string, proposal: Proposal, analysis: GenomeAnalysis, step: 'propose' | 'submit' = 'propose'): Promise<void> {
     const algorithm = this.algorithm!;
     const run = this.store.getRun(runId)!;
     const seq = run.proposals;
@@ -377,6 +396,7 @@ export class RunManager {
         summary: describeGenome(proposal.genome, this.data!.numClasses),
       });
       this.store.addEvaluation(job, seq, this.now(), true);
+      this.store.addSearchStep(proposalStep(runId, step, job.evaluationId, proposal, this.now()));
       for (const parent of proposal.parentHashes) {
         this.store.addLineage(runId, {
           evaluationId: job.evaluationId,
@@ -422,7 +442,10 @@ export class RunManager {
    * the queue for another worker. Past `maxAttempts` rejections the attempt counts as failed.
    */
   private async rejectResult(ev: EvaluationRecord, problem: string): Promise<void> {
-    this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
+    this.store.transaction(() => {
+      this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
+      if (ev.kind === 'search') this.store.addSearchStep(rejectStep(ev.runId, 'result', { evaluationId: ev.id, genomeHash: ev.genomeHash }, [problem], this.now()));
+    });
     this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected; the job goes back in the queue');
     await this.opts.queue.remove(ev.id);
     const run = this.store.getRun(ev.runId)!;
@@ -449,16 +472,9 @@ export class RunManager {
     const recorded = this.store.transaction(() => {
       const outcome = this.store.recordResult(ev.id, result, this.now());
       if (outcome !== 'recorded') return false;
-      this.algorithm!.observe({
-        evaluationId: ev.id,
-        genomeHash: ev.genomeHash,
-        genome: ev.job.genome,
-        fitness: result.valAccuracy!,
-        budgetEpochs: ev.job.budget.epochs,
-        params: result.paramCount,
-        flops: result.flops,
-        trainSeconds: result.trainSeconds,
-      });
+      const observation = observationFor(ev, result);
+      const decisions = this.algorithm!.observe(observation);
+      this.store.addSearchStep(observeStep(ev.runId, observation, decisions, this.now()));
       this.store.saveSearchSnapshot(ev.runId, this.algorithm!.snapshot());
       return true;
     });

@@ -1,4 +1,4 @@
-import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { createRandom, restoreRandom, SEARCH_DECISION_VERSION, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
@@ -49,12 +49,13 @@ export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
 
   propose(): Proposal<G> {
     this.proposed++;
-    return randomProposal(this.variation, this.rng, this.settings.randomMutations, `random sample ${this.proposed}`);
+    return randomProposal(this.variation, this.rng, this.settings.randomMutations, `random sample ${this.proposed}`, 'random-sample');
   }
 
-  observe(o: Observation<G>): void {
+  observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     this.observed++;
+    return [{ kind: 'observation-ignored', version: SEARCH_DECISION_VERSION, reason: 'random search counts results and learns nothing from them', evaluationId: o.evaluationId, genomeHash: o.genomeHash, why: 'counted-only' }];
   }
 
   snapshot(): RandomSearchSnapshot {

@@ -1,4 +1,4 @@
-import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchSpace } from '@netbreeder/shared-types';
+import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchDecision, type SearchSpace } from '@netbreeder/shared-types';
 import { AgingEvolution } from './aging-evolution.js';
 import { minimalGenome } from './minimal-genome.js';
 import type { Mutation, MutateOptions } from './mutations.js';
@@ -25,6 +25,12 @@ export interface Proposal<G = Genome> {
    * absent: the genome's own `training.epochs`.
    */
   budgetEpochs?: number;
+  /**
+   * Every choice that led to this proposal, in order, with its reason (tournament, mutation,
+   * promotion, …): what the coordinator stores with the proposal and replay compares. The
+   * algorithms here always fill it; a proposal made outside an algorithm (a user's genome) has none.
+   */
+  decisions?: SearchDecision[];
 }
 
 /** A finished evaluation the algorithm learns from. */
@@ -55,7 +61,8 @@ export interface Observation<G = Genome> {
 export interface SearchAlgorithm<G = Genome> {
   readonly name: string;
   propose(): Proposal<G>;
-  observe(o: Observation<G>): void;
+  /** Learns from a result; returns what it did with it (joined, removed whom, ignored why), for the record. */
+  observe(o: Observation<G>): SearchDecision[];
   /** JSON-serializable state, the random source's included; pass it back to the factory to resume. */
   snapshot(): SearchSnapshot<G>;
 }

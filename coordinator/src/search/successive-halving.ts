@@ -1,4 +1,4 @@
-import type { Genome } from '@netbreeder/shared-types';
+import { SEARCH_DECISION_VERSION, type Genome, type SearchDecision } from '@netbreeder/shared-types';
 import { AgingEvolution } from './aging-evolution.js';
 import { rungBudgets } from './hyperband-brackets.js';
 import { assertObservation } from './observation.js';
@@ -7,7 +7,7 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { shortHash } from './proposals.js';
+import { decisionMember, shortHash } from './proposals.js';
 
 /** Where new configurations come from: independent random genomes, or children of aging evolution. */
 export type AshaVariant = 'asha' | 'asha-evolution';
@@ -98,9 +98,11 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
   propose(): Proposal<G> {
     this.proposed++;
     const { eta } = this.settings;
+    const scanned: Extract<SearchDecision, { kind: 'no-promotion' }>['rungs'] = [];
     for (let k = this.budgets.length - 2; k >= 0; k--) {
       const rung = this.rungs[k]!;
       const quota = Math.floor(rung.length / eta);
+      scanned.push({ rung: k, epochs: this.budgets[k]!, size: rung.length, quota, promoted: rung.filter((m) => m.promoted).length });
       if (!quota) continue;
       const order = rung.map((_, i) => i).sort((a, b) => rung[b]!.fitness - rung[a]!.fitness || a - b);
       for (let place = 0; place < quota; place++) {
@@ -108,37 +110,75 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
         if (m.promoted) continue;
         m.promoted = true;
         this.promotions++;
+        const reason =
+          `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
+          `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
+          `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`;
         return {
           genome: structuredClone(m.genome),
           genomeHash: m.genomeHash,
           parentHashes: [],
           mutation: null,
           budgetEpochs: this.budgets[k + 1]!,
-          reason:
-            `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
-            `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
-            `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`,
+          reason,
+          decisions: [
+            {
+              kind: 'promotion',
+              version: SEARCH_DECISION_VERSION,
+              reason,
+              fromRung: k,
+              toRung: k + 1,
+              fromEpochs: this.budgets[k]!,
+              toEpochs: this.budgets[k + 1]!,
+              rank: place + 1,
+              rungSize: rung.length,
+              quota,
+              member: decisionMember(m),
+            },
+          ],
         };
       }
     }
     const fresh = this.source.propose();
-    return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}` };
+    const none: SearchDecision = {
+      kind: 'no-promotion',
+      version: SEARCH_DECISION_VERSION,
+      reason: `no rung below the top has a result in its top floor(n/${eta}) that is not promoted yet; a new configuration starts at rung 0 (${this.budgets[0]} epochs)`,
+      rungs: scanned,
+    };
+    return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}`, decisions: [none, ...(fresh.decisions ?? [])] };
   }
 
-  observe(o: Observation<G>): void {
+  observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     const k = o.budgetEpochs === undefined ? -1 : this.budgets.indexOf(o.budgetEpochs);
+    const ignored = (why: 'off-rung' | 'duplicate', reason: string): SearchDecision[] => [
+      { kind: 'observation-ignored', version: SEARCH_DECISION_VERSION, reason, evaluationId: o.evaluationId, genomeHash: o.genomeHash, why },
+    ];
     if (k < 0) {
       // Trained for no rung's budget (a genome a user submitted with its own epochs): comparable with
       // no rung, so it is counted and otherwise left out.
       this.offRung++;
-      return;
+      return ignored('off-rung', `trained for ${o.budgetEpochs ?? 'its own'} epochs, no rung's budget (${this.budgets.join(', ')}); comparable with no rung`);
     }
-    if (k === 0) this.source.observe(o); // evolution learns from equal-budget results only
+    // Evolution learns from equal-budget results only.
+    const fromSource = k === 0 ? this.source.observe(o) : [];
     const rung = this.rungs[k]!;
-    if (rung.some((m) => m.genomeHash === o.genomeHash)) return;
-    rung.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false });
+    if (rung.some((m) => m.genomeHash === o.genomeHash)) return [...fromSource, ...ignored('duplicate', `rung ${k} already holds genome ${shortHash(o.genomeHash)}`)];
+    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false };
+    rung.push(member);
     this.observed++;
+    return [
+      ...fromSource,
+      {
+        kind: 'member-added',
+        version: SEARCH_DECISION_VERSION,
+        reason: `${shortHash(o.genomeHash)} from evaluation ${o.evaluationId} (fitness ${o.fitness.toFixed(4)}) enters rung ${k} (${this.budgets[k]} epochs)`,
+        member: decisionMember(member),
+        rung: k,
+        size: rung.length,
+      },
+    ];
   }
 
   /** Each rung's results in arrival order, lowest rung first (copies). */

@@ -1,5 +1,5 @@
 import Database from 'better-sqlite3';
-import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, WorkerHeartbeat } from '@netbreeder/shared-types';
+import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, SearchDecision, SearchStep, WorkerHeartbeat } from '@netbreeder/shared-types';
 import { MIGRATIONS } from './migrations.js';
 import type { DatasetPreparation } from '../datasets/index.js';
 
@@ -76,6 +76,20 @@ export interface ChampionRecord {
   testPredictions: number[];
   result: EvaluationResult;
   createdAt: number;
+}
+
+/** One retrained member of a run's averaging ensemble. */
+export interface EnsembleMemberRecord {
+  runId: string;
+  /** 0-based place in the ensemble (the order the members were chosen). */
+  position: number;
+  /** Its final training (a champion-kind evaluation). */
+  evaluationId: string;
+  /** The search evaluation that earned it its place. */
+  sourceEvaluationId: string;
+  genomeHash: string;
+  /** Its own score on the held-out test split. */
+  testAccuracy: number;
 }
 
 /** Outcome of offering a result to the store: only `recorded` changed anything. */
@@ -451,5 +465,66 @@ export class RunStore {
       ? this.db.prepare('SELECT COUNT(*) AS n FROM events WHERE kind = ?').get(kind)
       : this.db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id IS ? AND kind = ?').get(runId, kind)) as Row;
     return row.n as number;
+  }
+
+  // ---- search decisions and ensembles (migration 3) ------------------------------------------
+
+  /** Appends one step of a run's search (a propose or observe call with its decisions, a submission, a refusal); returns its number. */
+  addSearchStep(step: Omit<SearchStep, 'step'>): number {
+    const next = (this.db.prepare('SELECT COALESCE(MAX(step) + 1, 0) AS n FROM search_steps WHERE run_id = ?').get(step.runId) as Row).n as number;
+    this.db
+      .prepare(
+        `INSERT INTO search_steps (run_id, step, kind, evaluation_id, genome_hash, parent_hashes_json, budget_epochs, reason, decisions_json, at)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(step.runId, next, step.kind, step.evaluationId, step.genomeHash, JSON.stringify(step.parentHashes), step.budgetEpochs, step.reason, JSON.stringify(step.decisions), step.at);
+    return next;
+  }
+
+  /** A run's search steps in the order they were made; with `evaluationIds`, only the steps naming one of them. */
+  searchSteps(runId: string, evaluationIds?: readonly string[]): SearchStep[] {
+    const rows = (evaluationIds
+      ? this.db.prepare(`SELECT * FROM search_steps WHERE run_id = ? AND evaluation_id IN (SELECT value FROM json_each(?)) ORDER BY step`).all(runId, JSON.stringify(evaluationIds))
+      : this.db.prepare('SELECT * FROM search_steps WHERE run_id = ? ORDER BY step').all(runId)) as Row[];
+    return rows.map((r) => ({
+      runId,
+      step: r.step as number,
+      kind: r.kind as SearchStep['kind'],
+      evaluationId: (r.evaluation_id as string | null) ?? null,
+      genomeHash: (r.genome_hash as string | null) ?? null,
+      parentHashes: JSON.parse(r.parent_hashes_json as string) as string[],
+      budgetEpochs: (r.budget_epochs as number | null) ?? null,
+      reason: r.reason as string,
+      decisions: JSON.parse(r.decisions_json as string) as SearchDecision[],
+      at: r.at as number,
+    }));
+  }
+
+  /** The stored text of each step's decisions, exactly as written (replay compares against it). */
+  searchStepDecisionsJson(runId: string): string[] {
+    return (this.db.prepare('SELECT decisions_json FROM search_steps WHERE run_id = ? ORDER BY step').all(runId) as Row[]).map((r) => r.decisions_json as string);
+  }
+
+  /** Stores one retrained ensemble member with its model (replacing one at the same position). */
+  saveEnsembleMember(m: EnsembleMemberRecord, artifactsJson: string): void {
+    this.db
+      .prepare(
+        `INSERT OR REPLACE INTO ensemble_members (run_id, position, evaluation_id, source_evaluation_id, genome_hash, test_accuracy, artifacts_json)
+         VALUES (?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(m.runId, m.position, m.evaluationId, m.sourceEvaluationId, m.genomeHash, m.testAccuracy, artifactsJson);
+  }
+
+  /** A run's retrained ensemble members by position, with their models' JSON. */
+  ensembleMembers(runId: string): Array<EnsembleMemberRecord & { artifactsJson: string }> {
+    return (this.db.prepare('SELECT * FROM ensemble_members WHERE run_id = ? ORDER BY position').all(runId) as Row[]).map((r) => ({
+      runId,
+      position: r.position as number,
+      evaluationId: r.evaluation_id as string,
+      sourceEvaluationId: r.source_evaluation_id as string,
+      genomeHash: r.genome_hash as string,
+      testAccuracy: r.test_accuracy as number,
+      artifactsJson: r.artifacts_json as string,
+    }));
   }
 }

@@ -1,0 +1,35 @@
+import { defaultSearchSpace } from '@netbreeder/shared-types';
+import { replaySearch, type RecordedCall, type ReplayReport } from '../search/index.js';
+import type { RunStore } from '../store/run-store.js';
+import { observationFor } from './search-record.js';
+
+/**
+ * Replays a stored run's search (see {@link replaySearch}): the algorithm is made again from the
+ * run's configuration and seed and given the stored results in the recorded order. Reads the store
+ * only; throws when there is no such run.
+ */
+export function replayRun(store: RunStore, runId: string): ReplayReport & { runId: string; algorithm: string; steps: number } {
+  const run = store.getRun(runId);
+  if (!run) throw new Error(`no run ${runId} in this store; 'netbreeder runs' lists them`);
+  const steps = store.searchSteps(runId);
+  const decisionsJson = store.searchStepDecisionsJson(runId);
+  const calls: RecordedCall[] = steps.map((s, i): RecordedCall => {
+    if (s.kind === 'propose') return { step: s.step, kind: 'propose', genomeHash: s.genomeHash!, parentHashes: s.parentHashes, budgetEpochs: s.budgetEpochs, decisionsJson: decisionsJson[i]! };
+    if (s.kind === 'observe') {
+      const ev = store.getEvaluation(s.evaluationId!);
+      if (!ev?.result) throw new Error(`step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
+      return { step: s.step, kind: 'observe', observation: observationFor(ev, ev.result), decisionsJson: decisionsJson[i]! };
+    }
+    return { step: s.step, kind: 'skip' };
+  });
+  const { algorithm, ...settings } = run.config.search;
+  const m = run.dataset.manifest;
+  const report = replaySearch({
+    algorithm,
+    settings,
+    context: { space: run.config.searchSpace ?? defaultSearchSpace(), data: { inputShape: m.inputShape, numClasses: m.numClasses }, seed: run.seed },
+    calls,
+    storedSnapshot: run.searchSnapshot ?? undefined,
+  });
+  return { runId, algorithm, steps: steps.length, ...report };
+}
