@@ -18,3 +18,4 @@ export * from './dataset/labelled-samples.js';
 export * from './dataset/shard-codec.js';
 export * from './messages/dashboard-responses.js';
 export * from './messages/search-decision.js';
+export * from './messages/champion-choice.js';

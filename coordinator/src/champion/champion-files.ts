@@ -4,6 +4,9 @@ import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
 import { describePreprocessing } from '../datasets/index.js';
+import { describeChoice, recordedChoice } from '../run/champion-choice.js';
+import { ensembleFiles, ensembleScore } from './ensemble-files.js';
+import { howItWasFound } from './explain-lineage.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -67,9 +70,27 @@ export function championSummary(store: RunStore, run: RunRecord) {
       data: 'train + validation',
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
+    /** How the champion was chosen: a user's pick, the run's rule, or the best; `sentence` says it in words. */
+    choice: (() => {
+      const choice = recordedChoice(store, run.id);
+      return { ...choice, sentence: describeChoice(choice) };
+    })(),
+    /** The decisions that produced each genome of the champion's line, in plain words (from the run's decision log). */
+    howFound: howItWasFound(store, run.id, champion.genomeHash),
+    /** The averaging ensemble, when the run asked for one: its test score beside the champion's, its members and files. */
+    ensemble: (() => {
+      const score = ensembleScore(store, run.id);
+      if (!score) return null;
+      return {
+        testAccuracy: score.testAccuracy,
+        championTestAccuracy: champion.testAccuracy,
+        members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
+        files: [...(ensembleFiles(store, run)?.keys() ?? [])],
+      };
+    })(),
     /** Every genome that got the final training, with its validation (search) and test scores. */
     candidates: store.events(run.id, 'champion-candidate-scored').map((e) => {
-      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string };
+      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string; champion?: boolean; ensemblePosition?: number };
       return { ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' };
     }),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },

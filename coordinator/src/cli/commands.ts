@@ -8,6 +8,8 @@ import { readRunConfigFile } from '../config/run-config.js';
 import { runDemo, defaultDemoWorkers } from './demo.js';
 import { statusTable } from './format.js';
 import { downloadChampion } from './export-command.js';
+import { replayCommand } from './replay-command.js';
+import { pickCommand } from './pick-command.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
@@ -18,6 +20,8 @@ Commands:
   status        show a coordinator's status
   export        download a run's champion (genome, TensorFlow.js model, report)
   runs          list the runs a coordinator holds
+  replay        re-run a stored run's search and check it decides exactly as recorded
+  pick          choose a run's champion yourself (a genome of its front; admin token)
   pause, resume, stop, finish
                 control a coordinator's run (needs the admin token)
 
@@ -270,6 +274,8 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   demo: demoCommand,
   status: statusCommand,
   export: exportCommand,
+  replay: (argv) => replayCommand(argv),
+  pick: (argv) => pickCommand(argv),
 };
 
 export async function main(argv: string[]): Promise<number> {

@@ -12,6 +12,8 @@ export const HTTP_ERRORS = {
   NB_WORKER_REVOKED: { status: 403, fix: 'this worker id was revoked by an admin; ask them, or stop this worker' },
   NB_RUN_STATE: { status: 409, fix: "check the run's state in GET /status; the action does not apply to it" },
   NB_GENOME_REJECTED: { status: 400, fix: "change the genome as the issues say; it must obey the run's search space" },
+  NB_NOT_A_RESULT: { status: 400, fix: 'pick a genome with a finished search result in this run (GET /runs/:id/front lists them)' },
+  NB_NO_ENSEMBLE: { status: 404, fix: 'set champion.ensemble in the run file; the ensemble is scored when the run finishes' },
   NB_INTERNAL: { status: 500, fix: "see the coordinator's log" },
 } as const;
 

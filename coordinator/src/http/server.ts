@@ -10,6 +10,7 @@ import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import { registerDashboardRoutes } from './dashboard-routes.js';
+import { registerChampionChoiceRoutes } from './champion-choice-routes.js';
 
 export interface HttpServerOptions {
   manager: RunManager;
@@ -146,6 +147,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
   });
 
   registerDashboardRoutes(app, { manager, queue: opts.queue });
+  registerChampionChoiceRoutes(app, { manager });
 
   await app.ready();
   return app;

@@ -18,6 +18,7 @@ export function observationFor(ev: EvaluationRecord, result: EvaluationResult): 
     budgetEpochs: ev.job.budget.epochs,
     params: result.paramCount,
     flops: result.flops,
+    ...(result.latencyMsPerSample === undefined ? {} : { latency: result.latencyMsPerSample }),
     trainSeconds: result.trainSeconds,
   };
 }

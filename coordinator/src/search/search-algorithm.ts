@@ -47,6 +47,8 @@ export interface Observation<G = Genome> {
   /** Size and cost of the genome, for multi-objective algorithms (from `analyzeGenome`). */
   params?: number;
   flops?: number;
+  /** Milliseconds one sample takes alone on the worker's CPU (measured after training), for the `latency` objective. */
+  latency?: number;
   /** Seconds the training took on its worker. */
   trainSeconds?: number;
 }

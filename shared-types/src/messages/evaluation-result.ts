@@ -59,6 +59,8 @@ export const EvaluationResultSchema = Type.Object(
     /** Why training stopped: all epochs done, or a budget limit reached. */
     stoppedBy: Type.Union([Type.Literal('epochs'), Type.Literal('seconds'), Type.Literal('samples')]),
     history: Type.Array(EpochRecordSchema, { maxItems: 1000 }),
+    /** Median ms to classify one sample alone on the worker's CPU after training (absent from workers older than this field). */
+    latencyMsPerSample: Type.Optional(Finite({ minimum: 0 })),
     model: Type.Optional(ModelArtifactsSchema),
   },
   { additionalProperties: false },
