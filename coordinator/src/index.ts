@@ -14,3 +14,8 @@ export { createLogger } from './logger.js';
 export { spawnWorker, tsxNodeArgs, workerCliPath } from './cli/spawn-worker.js';
 export { downloadChampion } from './cli/export-command.js';
 export { COORDINATOR_OPTIONS, COMMANDS, main } from './cli/commands.js';
+export { replayRun } from './run/replay-run.js';
+export { replayCommand } from './cli/replay-command.js';
+export { pickCommand } from './cli/pick-command.js';
+export { ensembleFiles } from './champion/ensemble-files.js';
+export { averagePredictions, accuracyOf } from './champion/ensemble-average.js';

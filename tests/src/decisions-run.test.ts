@@ -1,0 +1,164 @@
+import { readFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { Writable } from 'node:stream';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import * as tf from '@tensorflow/tfjs';
+import { decodeShard, frontResponseValidator, searchStepValidator, type FrontResponse } from '@netbreeder/shared-types';
+import { accuracyOf, averagePredictions, downloadChampion, parseRunConfig, pickCommand, replayCommand, replayRun, type RunRecord } from '@netbreeder/coordinator';
+import { initBackend } from '@netbreeder/worker';
+import { TestCluster, waitFor } from './support/harness.js';
+import { smallRunConfig } from './support/small-run.js';
+
+/**
+ * A real multi-objective run (pareto-evolution, accuracy against parameters) with two worker
+ * processes: its decision log replays exactly from the store, the front route answers from the
+ * store, the user picks the champion from the front while the run is paused, and an averaging
+ * ensemble of two is retrained, exported and scored on the test split.
+ */
+const EVALUATIONS = 10;
+
+/** Collects what a command writes. */
+const sink = () => {
+  const chunks: string[] = [];
+  const stream = new Writable({ write: (chunk, _enc, done) => (chunks.push(String(chunk)), done()) });
+  return { stream, text: () => chunks.join('') };
+};
+
+describe('a multi-objective run: decisions, replay, front, pick, ensemble', () => {
+  let cluster: TestCluster;
+  let run: RunRecord;
+  let front: FrontResponse;
+  let picked: string;
+  const bearer = () => ({ authorization: `Bearer ${cluster.coordinator.secrets.adminToken}` });
+  const admin = () => ({ ...bearer(), 'content-type': 'application/json' });
+
+  beforeAll(async () => {
+    cluster = await TestCluster.start('decisions');
+    cluster.spawnWorker('d1');
+    cluster.spawnWorker('d2');
+    await cluster.waitForReadyWorkers(2);
+    const base = smallRunConfig('decisions', EVALUATIONS, 11);
+    const config = parseRunConfig({
+      ...base,
+      search: { algorithm: 'pareto-evolution', populationSize: 4, sampleSize: 2, objective: 'params' },
+      champion: { epochs: 5, maxSeconds: 60, topK: 1, ensemble: { size: 2, diversityPenalty: 0.05 } },
+    });
+    run = await cluster.coordinator.startRun(config);
+  });
+
+  afterAll(async () => {
+    await cluster?.stop();
+  });
+
+  it('serves the accuracy-against-parameters front from the store while the run is paused', async () => {
+    const store = cluster.coordinator.store;
+    await waitFor('four results', () => store.counts(run.id).done >= 4, 180_000, 250);
+    const url = cluster.coordinator.url;
+    expect((await fetch(`${url}/runs/${run.id}/pause`, { method: 'POST', headers: bearer() })).status).toBe(200);
+    front = frontResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/front`)).json());
+    const done = store.evaluations(run.id).filter((e) => e.kind === 'search' && e.state === 'done');
+    expect(front).toMatchObject({ runId: run.id, objective: 'params', multiObjective: true, runObjective: 'params' });
+    expect(front.points.map((p) => p.evaluationId).sort()).toEqual(done.map((e) => e.id).sort());
+    // The front is exactly the non-dominated points: none of its points is beaten on both by any point,
+    // and every point off it is.
+    const beats = (a: (typeof front.points)[0], b: (typeof front.points)[0]) => a.valAccuracy >= b.valAccuracy && a.cost <= b.cost && (a.valAccuracy > b.valAccuracy || a.cost < b.cost);
+    for (const p of front.points) expect(front.points.some((q) => beats(q, p))).toBe(!p.onFront);
+    expect(front.front.length).toBe(front.points.filter((p) => p.onFront).length);
+    // the cost is the genome's parameter count in the store
+    for (const p of front.points) expect(p.cost).toBe(store.getGenome(p.genomeHash)!.params);
+    const flops = frontResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/front?objective=flops`)).json());
+    expect(flops.objective).toBe('flops');
+    expect((await fetch(`${url}/runs/${run.id}/front?objective=weight`)).status).toBe(400);
+  });
+
+  it('takes a pick from the front and refuses picks that are not finished results of the run', async () => {
+    const url = cluster.coordinator.url;
+    const pickUrl = `${url}/runs/${run.id}/champion/pick`;
+    // the cheapest genome of the front: unlikely to be the most accurate, so the pick shows
+    picked = front.points.find((p) => p.evaluationId === front.front[0])!.genomeHash;
+    const refused = async (body: unknown, headers: Record<string, string> = admin()) => {
+      const res = await fetch(pickUrl, { method: 'POST', headers, body: JSON.stringify(body) });
+      return { status: res.status, code: ((await res.json()) as { error: { code: string } }).error.code };
+    };
+    expect(await refused({ genomeHash: 'f'.repeat(64) })).toEqual({ status: 400, code: 'NB_NOT_A_RESULT' });
+    expect(await refused({ genomeHash: 'not a hash' })).toEqual({ status: 400, code: 'NB_BAD_REQUEST' });
+    expect(await refused({ genomeHash: picked }, { 'content-type': 'application/json' })).toEqual({ status: 401, code: 'NB_UNAUTHORIZED' });
+    expect(cluster.coordinator.store.events(run.id, 'champion-picked')).toEqual([]); // a refused pick changes nothing
+
+    const out = sink();
+    const code = await pickCommand([run.id, picked, '--coordinator', url, '--admin-token', cluster.coordinator.secrets.adminToken], out.stream);
+    expect(code).toBe(0);
+    expect(out.text()).toContain(picked.slice(0, 12));
+    expect(cluster.coordinator.store.events(run.id, 'champion-picked')).toHaveLength(1);
+    expect((await fetch(`${url}/runs/${run.id}/resume`, { method: 'POST', headers: bearer() })).status).toBe(200);
+  });
+
+  it('finishes with the picked champion and an averaging ensemble scored on the test split', async () => {
+    const store = cluster.coordinator.store;
+    await waitFor('the run to finish', () => ['finished', 'failed'].includes(store.getRun(run.id)!.state), 240_000, 250).catch((err: Error) => {
+      throw new Error(`${err.message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);
+    });
+    expect(store.getRun(run.id)!.state, store.getRun(run.id)!.failure ?? '').toBe('finished');
+    expect(store.getChampion(run.id)!.genomeHash).toBe(picked);
+    // a pick is the champion alone: no other genome competed for it
+    const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { genomeHash: string; champion: boolean });
+    expect(scored.filter((s) => s.champion).map((s) => s.genomeHash)).toEqual([picked]);
+
+    const out = join(cluster.dataDir, 'exported');
+    await downloadChampion(cluster.coordinator.url, run.id, out, cluster.coordinator.secrets.adminToken);
+    const report = await readFile(join(out, 'report.md'), 'utf8');
+    expect(report).toContain('Picked by the user');
+    expect(report).toContain('## How it was found');
+    expect(report).toContain('## Averaging ensemble');
+    const html = await readFile(join(out, 'report.html'), 'utf8');
+    expect(html).toContain('Picked by the user');
+
+    const manifest = JSON.parse(await readFile(join(out, 'ensemble', 'ensemble.json'), 'utf8')) as {
+      members: Array<{ model: string; genomeHash: string; testAccuracy: number }>;
+      test: { accuracy: number };
+    };
+    expect(manifest.members).toHaveLength(2);
+    expect(new Set(manifest.members.map((m) => m.genomeHash)).size).toBe(2);
+    // Averaging the exported members' outputs here gives the test score the coordinator reported.
+    await initBackend();
+    const test = decodeShard(await readFile(run.dataset.testPath)).train;
+    const x = tf.tensor(test.features, [test.count, ...run.dataset.manifest.inputShape]);
+    const probabilities: Float32Array[] = [];
+    for (const m of manifest.members) {
+      const modelJson = JSON.parse(await readFile(join(out, 'ensemble', m.model), 'utf8'));
+      const weights = await readFile(join(out, 'ensemble', modelJson.weightsManifest[0].paths[0]));
+      const model = await tf.loadLayersModel({
+        load: async () => ({ modelTopology: modelJson.modelTopology, weightSpecs: modelJson.weightsManifest[0].weights, weightData: weights.buffer.slice(weights.byteOffset, weights.byteOffset + weights.byteLength) }),
+      });
+      const p = model.predict(x) as tf.Tensor;
+      probabilities.push(p.dataSync() as Float32Array);
+      // each member's own score, recomputed from its exported model
+      expect(accuracyOf(Array.from(p.argMax(-1).dataSync()), test.labels)).toBeCloseTo(m.testAccuracy, 10);
+      p.dispose();
+      model.dispose();
+    }
+    x.dispose();
+    const { predictions } = averagePredictions(probabilities, run.dataset.manifest.numClasses);
+    expect(accuracyOf(predictions, test.labels)).toBeCloseTo(manifest.test.accuracy, 10);
+  });
+
+  it('recorded every search decision with its reason, and replays exactly from the store', async () => {
+    const store = cluster.coordinator.store;
+    const steps = store.searchSteps(run.id);
+    for (const s of steps) expect(searchStepValidator.issues(s)).toEqual([]);
+    const search = store.evaluations(run.id).filter((e) => e.kind === 'search');
+    // one propose step per proposal, one observe step per recorded result
+    expect(steps.filter((s) => s.kind === 'propose').map((s) => s.evaluationId).sort()).toEqual(search.filter((e) => e.attempt === 1).map((e) => e.id).sort());
+    expect(steps.filter((s) => s.kind === 'observe').map((s) => s.evaluationId).sort()).toEqual(search.filter((e) => e.state === 'done').map((e) => e.id).sort());
+    const kinds = new Set(steps.flatMap((s) => s.decisions.map((d) => d.kind)));
+    for (const k of ['random-genome', 'parent-selected', 'mutation', 'member-added', 'member-removed'] as const) expect(kinds.has(k), k).toBe(true);
+
+    const report = replayRun(store, run.id);
+    expect(report.disagreement).toBeNull();
+    expect(report).toMatchObject({ agree: true, proposals: EVALUATIONS, observations: search.filter((e) => e.state === 'done').length });
+
+    const out = sink();
+    expect(await replayCommand([run.id, '--data-dir', cluster.dataDir], out.stream)).toBe(0);
+    expect(out.text()).toMatch(/^agree: run /);
+  });
+});
