@@ -1,11 +1,13 @@
-import { readFile } from 'node:fs/promises';
-import { join } from 'node:path';
+import { mkdir, readFile } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { Writable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as tf from '@tensorflow/tfjs';
 import { decodeShard, frontResponseValidator, searchStepValidator, type FrontResponse } from '@netbreeder/shared-types';
 import { accuracyOf, averagePredictions, downloadChampion, parseRunConfig, pickCommand, replayCommand, replayRun, type RunRecord } from '@netbreeder/coordinator';
 import { initBackend } from '@netbreeder/worker';
+import { chromium } from 'playwright-core';
 import { TestCluster, waitFor } from './support/harness.js';
 import { smallRunConfig } from './support/small-run.js';
 
@@ -13,9 +15,11 @@ import { smallRunConfig } from './support/small-run.js';
  * A real multi-objective run (pareto-evolution, accuracy against parameters) with two worker
  * processes: its decision log replays exactly from the store, the front route answers from the
  * store, the user picks the champion from the front while the run is paused, and an averaging
- * ensemble of two is retrained, exported and scored on the test split.
+ * ensemble of two is retrained, exported and scored on the test split. Screenshot:
+ * test-artifacts/dashboard-front.png.
  */
 const EVALUATIONS = 10;
+const ARTIFACTS = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'test-artifacts');
 
 /** Collects what a command writes. */
 const sink = () => {
@@ -140,6 +144,39 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     x.dispose();
     const { predictions } = averagePredictions(probabilities, run.dataset.manifest.numClasses);
     expect(accuracyOf(predictions, test.labels)).toBeCloseTo(manifest.test.accuracy, 10);
+  });
+
+  it('the dashboard highlights the front in headless chromium', async () => {
+    const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'] });
+    try {
+      const page = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+      const errors: string[] = [];
+      page.on('pageerror', (e) => errors.push(e.message));
+      await page.goto(`${cluster.coordinator.url}/?every=1`);
+      const finalFront = frontResponseValidator.parse(await (await fetch(`${cluster.coordinator.url}/runs/${run.id}/front`)).json());
+      /** Points of the scatter's front dataset, and how many of them Chart.js placed inside the plot. */
+      const drawnFront = () =>
+        page.evaluate(() => {
+          type Chart = { data: { datasets: Array<{ data: Array<{ genomeHash: string }> }> }; chartArea: { left: number; right: number; top: number; bottom: number }; getDatasetMeta(i: number): { data: Array<{ x: number; y: number }> } };
+          const chart = (globalThis as unknown as { netbreederDashboard: { charts: { scatter: Chart } } }).netbreederDashboard.charts.scatter;
+          const a = chart.chartArea;
+          const inside = chart.getDatasetMeta(2).data.filter((el) => el.x >= a.left - 1 && el.x <= a.right + 1 && el.y >= a.top - 1 && el.y <= a.bottom + 1).length;
+          return { hashes: chart.data.datasets[2]!.data.map((p) => p.genomeHash), inside };
+        });
+      const shown = await waitFor('the front to be drawn', async () => {
+        const d = await drawnFront();
+        return d.hashes.length === finalFront.front.length ? d : null;
+      }, 30_000);
+      const expected = finalFront.front.map((id) => finalFront.points.find((p) => p.evaluationId === id)!.genomeHash);
+      expect(shown.hashes).toEqual(expected);
+      expect(shown.inside).toBe(expected.length);
+      expect(await page.textContent('#front-hint')).toContain(`${finalFront.front.length} of ${finalFront.points.length}`);
+      expect(errors).toEqual([]);
+      await mkdir(ARTIFACTS, { recursive: true });
+      await page.screenshot({ path: join(ARTIFACTS, 'dashboard-front.png'), fullPage: true });
+    } finally {
+      await browser.close();
+    }
   });
 
   it('recorded every search decision with its reason, and replays exactly from the store', async () => {

@@ -87,7 +87,7 @@
           { label: 'evaluations', data: [], pointRadius: 3.5, pointBackgroundColor: alpha(C.glaze, 0.55), pointBorderColor: C.glaze, pointBorderWidth: 1 },
           { label: 'leader', data: [], pointRadius: 7, pointStyle: 'rectRot', pointBackgroundColor: C.clay, pointBorderColor: C.ink, pointBorderWidth: 1 },
           // Multi-objective runs: the non-dominated results (no other is as accurate for less cost), joined in cost order.
-          { label: 'front', data: [], showLine: true, stepped: 'after', borderColor: C.ochre, borderWidth: 2, pointRadius: 5, pointStyle: 'triangle', pointBackgroundColor: C.ochre, pointBorderColor: C.ink, pointBorderWidth: 1 },
+          { label: 'front', data: [], showLine: true, stepped: 'before', borderColor: C.ochre, borderWidth: 2, pointRadius: 5, pointStyle: 'triangle', pointBackgroundColor: C.ochre, pointBorderColor: C.ink, pointBorderWidth: 1 },
         ],
       },
       options: {
