@@ -88,6 +88,12 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     expect(await refused({ genomeHash: 'not a hash' })).toEqual({ status: 400, code: 'NB_BAD_REQUEST' });
     expect(await refused({ genomeHash: picked }, { 'content-type': 'application/json' })).toEqual({ status: 401, code: 'NB_UNAUTHORIZED' });
     expect(cluster.coordinator.store.events(run.id, 'champion-picked')).toEqual([]); // a refused pick changes nothing
+    // A genome that breaks the search space is refused, and the refusal is in the decision log.
+    const bad = await fetch(`${url}/runs/${run.id}/genomes`, { method: 'POST', headers: admin(), body: JSON.stringify({ genome: { schemaVersion: 1, nodes: [], output: 'nowhere', training: { optimizer: 'adam', learningRate: 0.01, batchSize: 32, weightDecay: 0, epochs: 3 } } }) });
+    expect(bad.status).toBe(400);
+    const refusal = cluster.coordinator.store.searchSteps(run.id).filter((s) => s.kind === 'reject');
+    expect(refusal).toHaveLength(1);
+    expect(refusal[0]!.decisions[0]).toMatchObject({ kind: 'rejected', subject: 'genome', evaluationId: null });
 
     const out = sink();
     const code = await pickCommand([run.id, picked, '--coordinator', url, '--admin-token', cluster.coordinator.secrets.adminToken], out.stream);
@@ -192,7 +198,7 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
 
     const report = replayRun(store, run.id);
     expect(report.disagreement).toBeNull();
-    expect(report).toMatchObject({ agree: true, proposals: EVALUATIONS, observations: search.filter((e) => e.state === 'done').length });
+    expect(report).toMatchObject({ agree: true, proposals: EVALUATIONS, observations: search.filter((e) => e.state === 'done').length, skipped: 1 });
 
     const out = sink();
     expect(await replayCommand([run.id, '--data-dir', cluster.dataDir], out.stream)).toBe(0);
