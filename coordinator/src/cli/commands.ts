@@ -84,7 +84,9 @@ const EXPORT_HELP = `netbreeder export: download a run's champion into a folder.
 
 Usage: netbreeder export --run ID --out DIR [--coordinator URL] [--admin-token T]
 
-Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md.
+Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md,
+report.html; and, when the run file asked for an averaging ensemble (champion.ensemble), its
+members and ensemble.json into DIR/ensemble/.
 
 Example:
   netbreeder export --coordinator http://build-server:${DEFAULT_PORT} --run r1abc --out ./champion
