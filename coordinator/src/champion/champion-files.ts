@@ -5,7 +5,7 @@ import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
 import { describePreprocessing } from '../datasets/index.js';
 import { describeChoice, recordedChoice } from '../run/champion-choice.js';
-import { ensembleFiles, ensembleScore } from './ensemble-files.js';
+import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 
 const labelCache = new Map<string, Int32Array>();
@@ -85,7 +85,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
         testAccuracy: score.testAccuracy,
         championTestAccuracy: champion.testAccuracy,
         members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
-        files: [...(ensembleFiles(store, run)?.keys() ?? [])],
+        files: ensembleFileNames(score.members.map((m) => m.position)),
       };
     })(),
     /** Every genome that got the final training, with its validation (search) and test scores. */

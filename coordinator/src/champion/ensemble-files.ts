@@ -9,8 +9,12 @@ export interface EnsembleScore {
   testAccuracy: number;
   backend: string;
   averaging: string;
-  members: Array<{ position: number; genomeHash: string; evaluationId: string; testAccuracy: number }>;
+  /** `similarity`: the largest architecture similarity to a member chosen before it (0 for the first; null in older records). */
+  members: Array<{ position: number; genomeHash: string; evaluationId: string; testAccuracy: number; similarity?: number | null }>;
 }
+
+/** The names of the ensemble's files for members at these positions. */
+export const ensembleFileNames = (positions: readonly number[]): string[] => ['ensemble.json', ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
 
 /** The run's scored ensemble, or null when it has none. */
 export function ensembleScore(store: RunStore, runId: string): EnsembleScore | null {
@@ -57,6 +61,7 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
         flops: g?.flops ?? null,
         validationAccuracy: source?.valAccuracy ?? null,
         testAccuracy: mem.testAccuracy,
+        similarityToEarlierMembers: score.members.find((x) => x.position === mem.position)?.similarity ?? null,
         genome: g?.genome ?? null,
       };
     }),

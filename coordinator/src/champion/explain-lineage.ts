@@ -47,7 +47,7 @@ const telling = (s: SearchStep) => s.decisions.filter((d) => d.kind !== 'no-prom
 export function howItWasFound(store: RunStore, runId: string, genomeHash: string): Array<{ genomeHash: string; evaluationId: string | null; lines: string[] }> {
   const chain = store.lineageChain(runId, genomeHash);
   const line = [chain.length ? chain[0]!.parentHash : genomeHash, ...chain.map((l) => l.childHash)];
-  const steps = store.searchSteps(runId).filter((s) => s.kind === 'propose' || s.kind === 'submit');
+  const steps = store.searchSteps(runId, line).filter((s) => s.kind === 'propose' || s.kind === 'submit');
   return line.map((hash, i) => {
     // Its first proposal is how it came to be (the lineage names it for every child).
     const own = steps.filter((s) => s.genomeHash === hash);

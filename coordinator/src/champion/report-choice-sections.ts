@@ -46,16 +46,16 @@ export function ensembleLines(c: ChampionSummaryDocument): string[] {
   return [
     '## Averaging ensemble',
     '',
-    `${e.members.length} accurate, mutually different genomes, each trained again like a champion candidate; their softmax outputs are averaged (files in \`ensemble/\`, with \`ensemble.json\` saying how).`,
+    `${e.members.length} genomes chosen for accuracy and for differing from each other (the most accurate first, then each time the best validation accuracy minus a penalty for architecture similarity to a member already chosen), each trained again like a champion candidate; their softmax outputs are averaged (files in \`ensemble/\`, with \`ensemble.json\` saying how).`,
     '',
     '| | held-out test accuracy |',
     '|---|---|',
     `| ensemble of ${e.members.length} | ${pct(e.testAccuracy)} |`,
     `| single champion | ${pct(e.championTestAccuracy)} |`,
     '',
-    '| member | genome | test alone |',
-    '|---|---|---|',
-    ...e.members.map((m) => `| ${m.position + 1} | \`${m.genomeHash.slice(0, 12)}\` ${m.summary} | ${pct(m.testAccuracy)} |`),
+    '| member | genome | similarity to earlier members | test alone |',
+    '|---|---|---|---|',
+    ...e.members.map((m) => `| ${m.position + 1} | \`${m.genomeHash.slice(0, 12)}\` ${m.summary} | ${m.similarity == null ? 'n/a' : m.similarity.toFixed(2)} | ${pct(m.testAccuracy)} |`),
     '',
   ];
 }

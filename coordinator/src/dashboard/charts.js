@@ -134,13 +134,16 @@
       front = answer;
       const toPoint = (p) => ({ x: p.cost, y: p.valAccuracy, cost: p.cost, genomeHash: p.genomeHash });
       scatter.data.datasets[2].data = answer ? answer.points.filter((p) => p.onFront && p.cost > 0).sort((a, b) => a.cost - b.cost).map(toPoint) : [];
-      // Latency is known to the front route only, so its points come from there.
-      if (answer && sizeKey === 'latency') scatter.data.datasets[0].data = answer.points.filter((p) => p.cost > 0).map(toPoint);
+      // Latency is known to the front route only, so its points come from there (and no leader mark).
+      if (sizeKey === 'latency') {
+        scatter.data.datasets[0].data = answer ? answer.points.filter((p) => p.cost > 0).map(toPoint) : [];
+        scatter.data.datasets[1].data = [];
+      }
       scatter.update('none');
     }
     /** Rebuilds the scatter's points from every evaluation; `leaderHash` is drawn larger. */
     function setEvaluations(points, leaderHash) {
-      if (sizeKey === 'latency') return setFront(front);
+      if (sizeKey === 'latency') return setFront(front && front.objective === 'latency' ? front : null);
       const done = points.filter((p) => p.state === 'done' && p.valAccuracy != null && p[sizeKey] > 0);
       const toPoint = (p) => ({ x: p[sizeKey], y: p.valAccuracy, params: p.params, flops: p.flops, workerId: p.workerId });
       scatter.data.datasets[0].data = done.map(toPoint);

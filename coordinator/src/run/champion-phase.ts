@@ -18,6 +18,8 @@ export interface ChampionCandidate {
   champion?: boolean;
   /** Its 0-based place in the run's averaging ensemble, when it is a member. */
   ensemblePosition?: number;
+  /** Ensemble members: the largest architecture similarity to a member chosen before it (0 for the first). */
+  ensembleSimilarity?: number;
 }
 
 export interface ChampionPhaseOptions {
@@ -98,7 +100,7 @@ export class ChampionPhase {
         ensemble.size,
         ensemble.diversityPenalty,
       );
-      if (members.length >= 2) members.forEach((m, i) => add(pool.find((e) => e.id === m.id)!, { ensemblePosition: i }));
+      if (members.length >= 2) members.forEach((m, i) => add(pool.find((e) => e.id === m.id)!, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
     }
     return { candidates: out, choice };
   }
@@ -187,7 +189,13 @@ export class ChampionPhase {
       testAccuracy: score.accuracy,
       backend: score.backend,
       averaging: 'mean of the members\' softmax probabilities',
-      members: members.map((m) => ({ position: m.position, genomeHash: m.genomeHash, evaluationId: m.evaluationId, testAccuracy: m.testAccuracy })),
+      members: members.map((m) => ({
+        position: m.position,
+        genomeHash: m.genomeHash,
+        evaluationId: m.evaluationId,
+        testAccuracy: m.testAccuracy,
+        similarity: this.candidates(run.id).find((c) => c.genomeHash === m.genomeHash)?.ensembleSimilarity ?? null,
+      })),
     });
     this.o.log.info({ runId: run.id, members: members.length, testAccuracy: score.accuracy }, 'ensemble scored on the held-out test split');
   }

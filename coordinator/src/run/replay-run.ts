@@ -12,6 +12,9 @@ export function replayRun(store: RunStore, runId: string): ReplayReport & { runI
   const run = store.getRun(runId);
   if (!run) throw new Error(`no run ${runId} in this store; 'netbreeder runs' lists them`);
   const steps = store.searchSteps(runId);
+  if (steps.length === 0 && run.proposals > 0) {
+    throw new Error(`run ${runId} has no decision log: it was recorded by a coordinator older than the log (store migration 3), so it cannot be replayed`);
+  }
   const decisionsJson = store.searchStepDecisionsJson(runId);
   const calls: RecordedCall[] = steps.map((s, i): RecordedCall => {
     if (s.kind === 'propose') return { step: s.step, kind: 'propose', genomeHash: s.genomeHash!, parentHashes: s.parentHashes, budgetEpochs: s.budgetEpochs, decisionsJson: decisionsJson[i]! };

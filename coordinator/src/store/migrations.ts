@@ -134,7 +134,7 @@ export const MIGRATIONS: readonly string[] = [
     at INTEGER NOT NULL,
     PRIMARY KEY (run_id, step)
   ) WITHOUT ROWID;
-  CREATE INDEX search_steps_by_evaluation ON search_steps(run_id, evaluation_id);
+  CREATE INDEX search_steps_by_genome ON search_steps(run_id, genome_hash);
   CREATE TABLE ensemble_members (
     run_id TEXT NOT NULL REFERENCES runs(id),
     position INTEGER NOT NULL,

@@ -481,10 +481,10 @@ export class RunStore {
     return next;
   }
 
-  /** A run's search steps in the order they were made; with `evaluationIds`, only the steps naming one of them. */
-  searchSteps(runId: string, evaluationIds?: readonly string[]): SearchStep[] {
-    const rows = (evaluationIds
-      ? this.db.prepare(`SELECT * FROM search_steps WHERE run_id = ? AND evaluation_id IN (SELECT value FROM json_each(?)) ORDER BY step`).all(runId, JSON.stringify(evaluationIds))
+  /** A run's search steps in the order they were made; with `genomeHashes`, only the steps about one of those genomes. */
+  searchSteps(runId: string, genomeHashes?: readonly string[]): SearchStep[] {
+    const rows = (genomeHashes
+      ? this.db.prepare(`SELECT * FROM search_steps WHERE run_id = ? AND genome_hash IN (SELECT value FROM json_each(?)) ORDER BY step`).all(runId, JSON.stringify(genomeHashes))
       : this.db.prepare('SELECT * FROM search_steps WHERE run_id = ? ORDER BY step').all(runId)) as Row[];
     return rows.map((r) => ({
       runId,
