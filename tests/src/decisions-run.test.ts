@@ -72,6 +72,11 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     for (const p of front.points) expect(p.cost).toBe(store.getGenome(p.genomeHash)!.params);
     const flops = frontResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/front?objective=flops`)).json());
     expect(flops.objective).toBe('flops');
+    // Real workers measure each trained genome's single-sample latency; the latency front uses it.
+    const latency = frontResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/front?objective=latency`)).json());
+    expect(latency.withoutCost).toBe(0);
+    for (const p of latency.points) expect(p.cost).toBe(store.getEvaluation(p.evaluationId)!.result!.latencyMsPerSample);
+    expect(latency.points.every((p) => p.cost > 0)).toBe(true);
     expect((await fetch(`${url}/runs/${run.id}/front?objective=weight`)).status).toBe(400);
   });
 
