@@ -21,7 +21,7 @@ export function explainDecision(d: SearchDecision): string {
     case 'mutation-impossible':
       return `The chosen parent ${short(d.parentHash)} had no valid change (${d.message}).`;
     case 'promotion':
-      return `It was promoted from rung ${d.fromRung} (${d.fromEpochs} epochs) to rung ${d.toRung} (${d.toEpochs} epochs): ${pct(d.member.fitness)} placed it ${d.rank} of ${d.rungSize}, inside the top ${d.quota}.`;
+      return `It was promoted from rung ${d.fromRung} (${d.fromEpochs} epochs) to rung ${d.toRung} (${d.toEpochs} epochs): ${pct(d.member.fitness)} placed it ${d.rank} of ${d.rungSize}, inside the top ${d.quota} (at least ${pct(d.threshold)}).`;
     case 'no-promotion':
       return 'No result was due for promotion, so a new genome started at the lowest rung.';
     case 'member-added':

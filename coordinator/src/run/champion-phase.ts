@@ -105,7 +105,6 @@ export class ChampionPhase {
     return { candidates: out, choice };
   }
 
-
   candidates(runId: string): ChampionCandidate[] {
     const ev = this.o.store.events(runId, 'champion-candidates').at(-1);
     return ev ? (ev.detail as { candidates: ChampionCandidate[] }).candidates : [];

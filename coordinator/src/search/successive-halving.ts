@@ -102,9 +102,10 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     for (let k = this.budgets.length - 2; k >= 0; k--) {
       const rung = this.rungs[k]!;
       const quota = Math.floor(rung.length / eta);
-      scanned.push({ rung: k, epochs: this.budgets[k]!, size: rung.length, quota, promoted: rung.filter((m) => m.promoted).length });
-      if (!quota) continue;
       const order = rung.map((_, i) => i).sort((a, b) => rung[b]!.fitness - rung[a]!.fitness || a - b);
+      const threshold = quota ? rung[order[quota - 1]!]!.fitness : null;
+      scanned.push({ rung: k, epochs: this.budgets[k]!, size: rung.length, quota, promoted: rung.filter((m) => m.promoted).length, threshold });
+      if (!quota) continue;
       for (let place = 0; place < quota; place++) {
         const m = rung[order[place]!]!;
         if (m.promoted) continue;
@@ -133,6 +134,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
               rank: place + 1,
               rungSize: rung.length,
               quota,
+              threshold: threshold!,
               member: decisionMember(m),
             },
           ],

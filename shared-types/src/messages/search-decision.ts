@@ -85,6 +85,8 @@ export const PromotionDecisionSchema = Type.Object(
     rungSize: Count,
     /** floor(rungSize / eta): how many of the rung may move up. */
     quota: Count,
+    /** The fitness of the last place inside the quota: a result of the rung moves up only at or above it. */
+    threshold: Type.Number(),
     member: DecisionMemberSchema,
   },
   { additionalProperties: false },
@@ -95,7 +97,8 @@ export const NoPromotionDecisionSchema = Type.Object(
   {
     kind: Type.Literal('no-promotion'),
     ...base,
-    rungs: Type.Array(Type.Object({ rung: Count, epochs: Count, size: Count, quota: Count, promoted: Count }, { additionalProperties: false })),
+    /** Each rung below the top, top first: its results, its quota, how many already moved up, and the fitness of the last place inside the quota (null: a quota of 0). */
+    rungs: Type.Array(Type.Object({ rung: Count, epochs: Count, size: Count, quota: Count, promoted: Count, threshold: Nullable(Type.Number()) }, { additionalProperties: false })),
   },
   { additionalProperties: false },
 );
