@@ -99,7 +99,7 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
       drawn: drawn.map((k) => decisionMember(this.population[k]!)),
       winner: decisionMember(parent),
     };
-    return childProposal(this.variation, this.rng, parent, choice, selection, (why, before) => this.initialMember(why, 'fallback', before));
+    return childProposal(this.variation, this.rng, parent, selection, (why, before) => this.initialMember(why, 'fallback', before));
   }
 
   observe(o: Observation<G>): SearchDecision[] {

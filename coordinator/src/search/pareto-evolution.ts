@@ -96,7 +96,7 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
       drawn: drawn.map(member),
       winner: member(winner),
     };
-    return childProposal(this.variation, this.rng, parent, choice, selection, (why, before) => this.initialMember(why, 'fallback', before));
+    return childProposal(this.variation, this.rng, parent, selection, (why, before) => this.initialMember(why, 'fallback', before));
   }
 
   observe(o: Observation<G>): SearchDecision[] {

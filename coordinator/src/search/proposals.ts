@@ -33,7 +33,7 @@ export function randomProposal<G>(variation: Variation<G>, rng: Random, maxMutat
 }
 
 /**
- * A mutated child of `parent`, its reason saying how the parent was `chosen` (the `selection`
+ * A mutated child of `parent`, its reason starting with how the parent was chosen (the `selection`
  * decision, recorded first); when the parent has no valid mutation, `fallback` gives the proposal
  * instead, with the reason why and the decisions that led to it.
  */
@@ -41,10 +41,10 @@ export function childProposal<G>(
   variation: Variation<G>,
   rng: Random,
   parent: { genome: G; genomeHash: string },
-  chosen: string,
   selection: SearchDecision,
   fallback: (why: string, before: SearchDecision[]) => Proposal<G>,
 ): Proposal<G> {
+  const chosen = selection.reason;
   let child: ReturnType<Variation<G>['mutate']>;
   try {
     child = variation.mutate(parent.genome, rng);
