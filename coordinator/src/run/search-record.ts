@@ -23,8 +23,6 @@ export function observationFor(ev: EvaluationRecord, result: EvaluationResult): 
   };
 }
 
-const joinReasons = (decisions: readonly SearchDecision[]) => decisions.map((d) => d.reason).join('; ');
-
 /** A `propose` call (`evaluationId` null when the proposal was refused and never queued) or a user's `submit`ted genome. */
 export function proposalStep(runId: string, kind: 'propose' | 'submit', evaluationId: string | null, proposal: Proposal, at: number): NewSearchStep {
   return {
@@ -40,9 +38,9 @@ export function proposalStep(runId: string, kind: 'propose' | 'submit', evaluati
   };
 }
 
-/** An `observe` call with what the algorithm did with the result. */
+/** An `observe` call with what the algorithm did with the result (the reasons are in its decisions). */
 export function observeStep(runId: string, o: Observation, decisions: SearchDecision[], at: number): NewSearchStep {
-  return { runId, kind: 'observe', evaluationId: o.evaluationId, genomeHash: o.genomeHash, parentHashes: [], budgetEpochs: o.budgetEpochs ?? null, reason: joinReasons(decisions), decisions, at };
+  return { runId, kind: 'observe', evaluationId: o.evaluationId, genomeHash: o.genomeHash, parentHashes: [], budgetEpochs: o.budgetEpochs ?? null, reason: '', decisions, at };
 }
 
 /** The coordinator refused a genome or a result (the algorithm was not asked). */

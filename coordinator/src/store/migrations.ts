@@ -133,7 +133,7 @@ export const MIGRATIONS: readonly string[] = [
     decisions_json TEXT NOT NULL,
     at INTEGER NOT NULL,
     PRIMARY KEY (run_id, step)
-  ) WITHOUT ROWID;
+  );
   CREATE INDEX search_steps_by_genome ON search_steps(run_id, genome_hash);
   CREATE TABLE ensemble_members (
     run_id TEXT NOT NULL REFERENCES runs(id),

@@ -181,7 +181,7 @@ export const SearchStepSchema = Type.Object(
     /** Proposals: the parents and the training budget asked for (null: the genome's own epochs). */
     parentHashes: Type.Array(Hash),
     budgetEpochs: Nullable(Count),
-    /** The algorithm's one-line reason (proposals), else the decisions' reasons joined. */
+    /** The algorithm's one-line reason for a proposal; a refusal's reason; empty for an observation (its decisions say it). */
     reason: Type.String(),
     decisions: Type.Array(SearchDecisionSchema),
     at: Type.Integer(),
