@@ -157,6 +157,26 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     expect(accuracyOf(predictions, test.labels)).toBeCloseTo(manifest.test.accuracy, 10);
   });
 
+  it('after the run finished, a new pick is trained as the new champion and exported again', async () => {
+    const store = cluster.coordinator.store;
+    const url = cluster.coordinator.url;
+    const finalFront = frontResponseValidator.parse(await (await fetch(`${url}/runs/${run.id}/front`)).json());
+    // another genome: the front's most accurate if it differs from the first pick, else the best off the front
+    const other = [...finalFront.front].reverse().map((id) => finalFront.points.find((p) => p.evaluationId === id)!).find((p) => p.genomeHash !== picked)
+      ?? finalFront.points.filter((p) => p.genomeHash !== picked).sort((a, b) => b.valAccuracy - a.valAccuracy)[0]!;
+    const res = await fetch(`${url}/runs/${run.id}/champion/pick`, { method: 'POST', headers: admin(), body: JSON.stringify({ genomeHash: other.genomeHash }) });
+    expect(res.status).toBe(200);
+    expect(((await res.json()) as { retraining: boolean }).retraining).toBe(true);
+    await waitFor('the run to finish again', () => store.getRun(run.id)!.state === 'finished' && store.getChampion(run.id)!.genomeHash === other.genomeHash, 120_000, 250);
+    const summary = (await (await fetch(`${url}/runs/${run.id}/champion`)).json()) as { genomeHash: string; candidates: Array<{ genomeHash: string }>; choice: { by: string; genomeHash: string } };
+    expect(summary.choice).toMatchObject({ by: 'pick', genomeHash: other.genomeHash });
+    expect(summary.candidates.map((c) => c.genomeHash)).toEqual([other.genomeHash]); // this round only
+    const out = join(cluster.dataDir, 'exported-again');
+    await downloadChampion(url, run.id, out, cluster.coordinator.secrets.adminToken);
+    expect(JSON.parse(await readFile(join(out, 'champion.json'), 'utf8')).genomeHash).toBe(other.genomeHash);
+    expect(await readFile(join(out, 'report.md'), 'utf8')).toContain(`Picked by the user: genome \`${other.genomeHash.slice(0, 12)}\``);
+  });
+
   it('the dashboard highlights the front in headless chromium', async () => {
     const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'] });
     try {

@@ -4,7 +4,7 @@ import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
 import { describePreprocessing } from '../datasets/index.js';
-import { describeChoice, recordedChoice } from '../run/champion-choice.js';
+import { championRound, describeChoice, recordedChoice } from '../run/champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 
@@ -89,10 +89,12 @@ export function championSummary(store: RunStore, run: RunRecord) {
       };
     })(),
     /** Every genome that got the final training, with its validation (search) and test scores. */
-    candidates: store.events(run.id, 'champion-candidate-scored').map((e) => {
-      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string; champion?: boolean; ensemblePosition?: number };
-      return { ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' };
-    }),
+    candidates: store
+      .events(run.id, 'champion-candidate-scored')
+      .map((e) => e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string; champion?: boolean; ensemblePosition?: number; round?: number })
+      // Only the latest round (a pick after the run finished starts a new one).
+      .filter((d) => (d.round ?? 0) === championRound(store, run.id))
+      .map((d) => ({ ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' })),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
     /** How raw samples must be prepared before they go into the model (what the import fitted). */
     input: run.dataset.preparation ? describePreprocessing(run.dataset.preparation.preprocessing) : 'demo tiles: 16×16 grayscale, pixel values in [0, 1]',

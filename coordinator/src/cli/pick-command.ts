@@ -7,10 +7,11 @@ export const PICK_HELP = `netbreeder pick: choose a run's champion yourself, suc
 Usage: netbreeder pick RUN_ID GENOME_HASH [--coordinator URL] [--admin-token T]
 
 The genome must have a finished search result in the run (GET /runs/RUN_ID/front lists the
-front; the dashboard shows it). Allowed while the run searches or is paused: when the search
-ends, that genome alone gets the final training and becomes the champion, and the report says it
-was picked. A later pick replaces an earlier one. Needs the admin token (--admin-token or
-NETBREEDER_ADMIN_TOKEN).
+front; the dashboard shows it). While the run searches or is paused: when the search ends, that
+genome alone gets the final training and becomes the champion. Once the run has finished: it is
+trained now, replaces the champion and is exported again (ask the coordinator that ran the run).
+The report says it was picked. A later pick replaces an earlier one. Needs the admin token
+(--admin-token or NETBREEDER_ADMIN_TOKEN).
 
 Example:
   NETBREEDER_ADMIN_TOKEN=… netbreeder pick r1abc 3f2a…(64 hex digits) --coordinator http://build-server:${DEFAULT_PORT}
@@ -35,6 +36,7 @@ export async function pickCommand(argv: string[], out: NodeJS.WritableStream = p
   const body = (await res.json()) as { error?: { code: string; message: string; fix: string } };
   if (!res.ok) throw new Error(`pick refused (${res.status} ${body.error?.code}): ${body.error?.message}; ${body.error?.fix}`);
   const picked = championPickResponseValidator.parse(body);
-  out.write(`run ${picked.runId}: champion will be ${picked.genomeHash.slice(0, 12)} (evaluation ${picked.evaluationId}, validation ${(picked.valAccuracy * 100).toFixed(2)}%)\n`);
+  const when = picked.retraining ? 'is being trained again and will replace the champion' : 'will be the champion when the search ends';
+  out.write(`run ${picked.runId}: ${picked.genomeHash.slice(0, 12)} (evaluation ${picked.evaluationId}, validation ${(picked.valAccuracy * 100).toFixed(2)}%) ${when}\n`);
   return 0;
 }

@@ -74,8 +74,9 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
       const run = runOr404((req.params as { id: string }).id);
       const { genomeHash } = req.body as { genomeHash: string };
       try {
-        const picked = pickChampion(store, run.id, genomeHash, Date.now());
-        return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy };
+        const picked = pickChampion(store, run.id, genomeHash, Date.now(), opts.manager.currentRun()?.id ?? null);
+        if (picked.retraining) void opts.manager.tick(); // queue its final training now, not at the next pass
+        return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, retraining: picked.retraining };
       } catch (err) {
         if (err instanceof ChampionPickError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
         throw err;

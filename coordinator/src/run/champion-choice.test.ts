@@ -95,12 +95,29 @@ describe('choosing the champion candidates', () => {
     expect(candidates).toEqual([expect.objectContaining({ genomeHash: hashOf(3), champion: true })]);
   });
 
-  it('refuses a pick of no finished result, or once the search is over; a refusal records nothing', () => {
+  it('refuses a pick of no finished result, during the champion training, or after the end on a coordinator not driving the run; a refusal records nothing', () => {
     const { store } = storeWith();
     expect(() => pickChampion(store, 'r1', 'f'.repeat(64), 3000)).toThrow(ChampionPickError);
     store.setRunState('r1', 'training-champion');
-    expect(() => pickChampion(store, 'r1', hashOf(0), 3000)).toThrow(/pick the champion while it searches or is paused/);
+    expect(() => pickChampion(store, 'r1', hashOf(0), 3000)).toThrow(/pick the champion while it searches or is paused, or once it has finished/);
+    store.setRunState('r1', 'finished');
+    expect(() => pickChampion(store, 'r1', hashOf(0), 3000, null)).toThrow(/no longer drives it/);
     expect(store.events('r1', 'champion-picked')).toEqual([]);
+    expect(store.getRun('r1')!.state).toBe('finished');
+  });
+
+  it('a pick after the run finished starts a new champion round with the picked genome alone, under a key of its own', async () => {
+    const { store, phase, queued } = storeWith();
+    await phase.begin(store.getRun('r1')!);
+    store.setRunState('r1', 'finished');
+    const picked = pickChampion(store, 'r1', hashOf(2), 6000, 'r1');
+    expect(picked).toMatchObject({ retraining: true, evaluationId: 'r1-s2-a1' });
+    expect(store.getRun('r1')!.state).toBe('training-champion');
+    expect(phase.candidates('r1')).toEqual([{ sourceEvaluationId: 'r1-s2-a1', genomeHash: hashOf(2), seq: 4, valAccuracy: 0.8, champion: true }]);
+    await phase.ensureJobs(store.getRun('r1')!);
+    // 4 proposals: the round's key is 4, past every proposal and the first round's keys (0 and 1)
+    expect(queued.map((j) => j.evaluationId)).toEqual(['r1-c0-a1', 'r1-c1-a1', 'r1-c4-a1']);
+    expect(queued.at(-1)).toMatchObject({ kind: 'champion', genomeHash: hashOf(2), seed: 2 });
   });
 
   it('adds the ensemble members, accurate and different, beside the champion candidates', async () => {

@@ -63,16 +63,23 @@ export function championChoice(store: RunStore, run: RunRecord): ChampionChoice 
 }
 
 /**
- * Records the user's pick of `genomeHash` as the champion of `runId`: allowed while the run
- * searches or is paused (the champion phase then trains that genome alone as the champion), and
- * only for a genome with a finished search result in the run (its best one is taken). Throws
- * {@link ChampionPickError}; a refused pick changes nothing.
+ * Records the user's pick of `genomeHash` as the champion of `runId`, for a genome with a finished
+ * search result in the run (its best one is taken). While the run searches or is paused, the
+ * champion phase will train that genome alone as the champion. Once the run has finished, a new
+ * champion round starts at once: the run goes back to `training-champion`, the picked genome gets
+ * its final training, replaces the champion and is exported (the ensemble stays as it was); this
+ * needs the coordinator that drives the run (`drivenRunId`), since it queues the training.
+ * Throws {@link ChampionPickError}; a refused pick changes nothing.
  */
-export function pickChampion(store: RunStore, runId: string, genomeHash: string, now: number): Extract<ChampionChoice, { by: 'pick' }> {
+export function pickChampion(store: RunStore, runId: string, genomeHash: string, now: number, drivenRunId: string | null = null): PickOutcome {
   const run = store.getRun(runId);
   if (!run) throw new ChampionPickError('not-a-result', `no run ${runId}`);
-  if (run.state !== 'searching' && run.state !== 'paused') {
-    throw new ChampionPickError('state', `run ${runId} is ${run.state}; pick the champion while it searches or is paused (pause it, pick, then finish or resume it)`);
+  const retrain = run.state === 'finished';
+  if (run.state !== 'searching' && run.state !== 'paused' && !retrain) {
+    throw new ChampionPickError('state', `run ${runId} is ${run.state}; pick the champion while it searches or is paused, or once it has finished`);
+  }
+  if (retrain && drivenRunId !== runId) {
+    throw new ChampionPickError('state', `run ${runId} has finished and this coordinator no longer drives it (it was restarted since, or drives another run); a pick after the end needs the coordinator that ran it`);
   }
   const best = store
     .evaluations(runId)
@@ -80,6 +87,21 @@ export function pickChampion(store: RunStore, runId: string, genomeHash: string,
     .sort((a, b) => b.valAccuracy! - a.valAccuracy! || a.seq - b.seq)[0];
   if (!best) throw new ChampionPickError('not-a-result', `genome ${genomeHash} has no finished search result in run ${runId}; pick one from GET /runs/${runId}/front`);
   const choice = { by: 'pick' as const, genomeHash, evaluationId: best.id, valAccuracy: best.valAccuracy! };
-  store.logEvent(runId, 'champion-picked', { genomeHash, evaluationId: best.id, valAccuracy: best.valAccuracy! }, now);
-  return choice;
+  store.transaction(() => {
+    store.logEvent(runId, 'champion-picked', { genomeHash, evaluationId: best.id, valAccuracy: best.valAccuracy! }, now);
+    if (!retrain) return;
+    // A new round of the champion phase with the picked genome alone. Its key (`seq`) is past every
+    // proposal and every earlier round, so its final training gets evaluation ids of its own.
+    const round = store.events(runId, 'champion-candidates').length;
+    const candidate = { sourceEvaluationId: best.id, genomeHash, seq: run.proposals + round - 1, valAccuracy: best.valAccuracy!, champion: true };
+    store.setRunState(runId, 'training-champion', { now });
+    store.logEvent(runId, 'champion-candidates', { candidates: [candidate], choice, round }, now);
+  });
+  return { ...choice, retraining: retrain };
 }
+
+/** An accepted pick; `retraining` when the run had finished and the picked genome is being trained as the new champion. */
+export type PickOutcome = Extract<ChampionChoice, { by: 'pick' }> & { retraining: boolean };
+
+/** The champion round `runId` is in: 0 for the first, one more for each pick after the run finished. */
+export const championRound = (store: RunStore, runId: string): number => Math.max(0, store.events(runId, 'champion-candidates').length - 1);

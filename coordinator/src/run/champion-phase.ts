@@ -6,12 +6,13 @@ import { scoreChampion } from '../champion/score-champion.js';
 import { exportChampion } from '../champion/export-champion.js';
 import { scoreEnsemble } from '../champion/score-ensemble.js';
 import { selectEnsemble } from '../champion/ensemble-selection.js';
-import { championChoice, describeRule, meetsRule, type ChampionChoice } from './champion-choice.js';
+import { championChoice, championRound, describeRule, meetsRule, recordedChoice, type ChampionChoice } from './champion-choice.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 export interface ChampionCandidate {
   sourceEvaluationId: string;
   genomeHash: string;
+  /** Key of its final training's evaluation ids: the source's proposal number (past every proposal for a pick after the run finished). */
   seq: number;
   valAccuracy: number;
   /** Whether it competes to be the champion (absent in runs recorded before ensembles: it does). */
@@ -138,7 +139,9 @@ export class ChampionPhase {
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit());
     const current = this.o.store.getChampion(ev.runId);
-    const better = candidate.champion !== false && (!current || score.accuracy > current.testAccuracy);
+    // A pick is the champion whatever it scores (it competes with no one, not even an earlier round's champion).
+    const picked = recordedChoice(this.o.store, ev.runId).by === 'pick';
+    const better = candidate.champion !== false && (picked || !current || score.accuracy > current.testAccuracy);
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
       const scored = {
@@ -154,6 +157,7 @@ export class ChampionPhase {
         backend: score.backend,
         latencyMsPerSample: score.latencyMsPerSample,
         champion: candidate.champion !== false,
+        round: championRound(this.o.store, ev.runId),
         ...(candidate.ensemblePosition === undefined ? {} : { ensemblePosition: candidate.ensemblePosition }),
       });
       if (candidate.ensemblePosition !== undefined) {

@@ -9,7 +9,14 @@ export type ChampionPickRequest = Static<typeof ChampionPickRequestSchema>;
 
 /** The accepted pick: the genome and its best search result. */
 export const ChampionPickResponseSchema = Type.Object(
-  { runId: Type.String(), genomeHash: GenomeHash, evaluationId: Type.String(), valAccuracy: Type.Number({ minimum: 0, maximum: 1 }) },
+  {
+    runId: Type.String(),
+    genomeHash: GenomeHash,
+    evaluationId: Type.String(),
+    valAccuracy: Type.Number({ minimum: 0, maximum: 1 }),
+    /** True when the run had finished: the picked genome is being trained now and replaces the champion when done. */
+    retraining: Type.Boolean(),
+  },
   { additionalProperties: false },
 );
 export type ChampionPickResponse = Static<typeof ChampionPickResponseSchema>;
