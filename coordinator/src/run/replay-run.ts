@@ -9,21 +9,25 @@ import { observationFor } from './search-record.js';
  * only; throws when there is no such run.
  */
 export function replayRun(store: RunStore, runId: string): ReplayReport & { runId: string; algorithm: string; steps: number } {
-  const run = store.getRun(runId);
-  if (!run) throw new Error(`no run ${runId} in this store; 'netbreeder runs' lists them`);
-  const steps = store.searchSteps(runId);
-  if (steps.length === 0 && run.proposals > 0) {
-    throw new Error(`run ${runId} has no decision log: it was recorded by a coordinator older than the log (store migration 3), so it cannot be replayed`);
-  }
-  const decisionsJson = store.searchStepDecisionsJson(runId);
-  const calls: RecordedCall[] = steps.map((s, i): RecordedCall => {
-    if (s.kind === 'propose') return { step: s.step, kind: 'propose', genomeHash: s.genomeHash!, parentHashes: s.parentHashes, budgetEpochs: s.budgetEpochs, decisionsJson: decisionsJson[i]! };
-    if (s.kind === 'observe') {
-      const ev = store.getEvaluation(s.evaluationId!);
-      if (!ev?.result) throw new Error(`step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
-      return { step: s.step, kind: 'observe', observation: observationFor(ev, ev.result), decisionsJson: decisionsJson[i]! };
+  // One read transaction: a consistent view even while a coordinator is writing the run.
+  const { run, calls } = store.transaction(() => {
+    const run = store.getRun(runId);
+    if (!run) throw new Error(`no run ${runId} in this store; 'netbreeder runs' lists them`);
+    const steps = store.searchSteps(runId);
+    if (steps.length === 0 && run.proposals > 0) {
+      throw new Error(`run ${runId} has no decision log: it was recorded by a coordinator older than the log (store migration 3), so it cannot be replayed`);
     }
-    return { step: s.step, kind: 'skip' };
+    // Stored decisions went through JSON.stringify, so stringifying what was parsed gives back the stored text.
+    const calls = steps.map((s): RecordedCall => {
+      if (s.kind === 'propose') return { step: s.step, kind: 'propose', genomeHash: s.genomeHash!, parentHashes: s.parentHashes, budgetEpochs: s.budgetEpochs, decisionsJson: JSON.stringify(s.decisions) };
+      if (s.kind === 'observe') {
+        const ev = store.getEvaluation(s.evaluationId!);
+        if (!ev?.result) throw new Error(`step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
+        return { step: s.step, kind: 'observe', observation: observationFor(ev, ev.result), decisionsJson: JSON.stringify(s.decisions) };
+      }
+      return { step: s.step, kind: 'skip' };
+    });
+    return { run, calls };
   });
   const { algorithm, ...settings } = run.config.search;
   const m = run.dataset.manifest;
@@ -34,5 +38,5 @@ export function replayRun(store: RunStore, runId: string): ReplayReport & { runI
     calls,
     storedSnapshot: run.searchSnapshot ?? undefined,
   });
-  return { runId, algorithm, steps: steps.length, ...report };
+  return { runId, algorithm, steps: calls.length, ...report };
 }

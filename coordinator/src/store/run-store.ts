@@ -500,11 +500,6 @@ export class RunStore {
     }));
   }
 
-  /** The stored text of each step's decisions, exactly as written (replay compares against it). */
-  searchStepDecisionsJson(runId: string): string[] {
-    return (this.db.prepare('SELECT decisions_json FROM search_steps WHERE run_id = ? ORDER BY step').all(runId) as Row[]).map((r) => r.decisions_json as string);
-  }
-
   /** Stores one retrained ensemble member with its model (replacing one at the same position). */
   saveEnsembleMember(m: EnsembleMemberRecord, artifactsJson: string): void {
     this.db
