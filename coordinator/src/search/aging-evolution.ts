@@ -5,7 +5,8 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AgingEvolutionSnapshot } from './snapshot.js';
 import { tournamentSelect } from './tournament.js';
 import type { Variation } from './variation.js';
-import { childProposal, decisionMember, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { childProposal, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface AgingEvolutionOptions<G> {
   /** P, S and the initial members' mutation count, already resolved (see `resolveSearchSettings`). */
@@ -106,7 +107,7 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
     assertObservation(o, this.variation);
     // A result delivered twice is counted once while its member lives (the store dedupes by id too).
     if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
-      return [{ kind: 'observation-ignored', version: SEARCH_DECISION_VERSION, reason: `evaluation ${o.evaluationId} is already a member`, evaluationId: o.evaluationId, genomeHash: o.genomeHash, why: 'duplicate' }];
+      return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];
     }
     const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness };
     this.population.push(member);

@@ -5,7 +5,8 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { childProposal, decisionMember, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { childProposal, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface ParetoEvolutionOptions<G> {
   /** P, S, the initial members' mutation count and the size objective, already resolved. */
@@ -107,7 +108,7 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
       throw new TypeError(`observation ${o.evaluationId}: pareto-evolution minimises ${objective} and needs it as a finite number ≥ 0, got ${String(cost)}`);
     }
     if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
-      return [{ kind: 'observation-ignored', version: SEARCH_DECISION_VERSION, reason: `evaluation ${o.evaluationId} is already a member`, evaluationId: o.evaluationId, genomeHash: o.genomeHash, why: 'duplicate' }];
+      return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];
     }
     const joined = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, cost };
     this.population.push(joined);

@@ -67,15 +67,3 @@ export function childProposal<G>(
     ],
   };
 }
-
-/** A member as a decision names it; a crowding distance of Infinity (a boundary member) becomes null, since JSON has no Infinity. */
-export function decisionMember(m: { evaluationId: string; genomeHash: string; fitness: number }, extra: { cost?: number; front?: number; crowding?: number } = {}) {
-  return {
-    evaluationId: m.evaluationId,
-    genomeHash: m.genomeHash,
-    fitness: m.fitness,
-    ...(extra.cost === undefined ? {} : { cost: extra.cost }),
-    ...(extra.front === undefined ? {} : { front: extra.front }),
-    ...(extra.crowding === undefined ? {} : { crowding: Number.isFinite(extra.crowding) ? extra.crowding : null }),
-  };
-}

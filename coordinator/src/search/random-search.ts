@@ -1,10 +1,11 @@
-import { createRandom, restoreRandom, SEARCH_DECISION_VERSION, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
+import { createRandom, restoreRandom, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type RandomSearchSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { randomProposal } from './proposals.js';
+import { ignoredObservation } from './decisions.js';
 
 export interface RandomSearchOptions<G> {
   /** The most random mutations per sample, already resolved (see `resolveSearchSettings`). */
@@ -55,7 +56,7 @@ export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
   observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     this.observed++;
-    return [{ kind: 'observation-ignored', version: SEARCH_DECISION_VERSION, reason: 'random search counts results and learns nothing from them', evaluationId: o.evaluationId, genomeHash: o.genomeHash, why: 'counted-only' }];
+    return [ignoredObservation(o, 'counted-only', 'random search counts results and learns nothing from them')];
   }
 
   snapshot(): RandomSearchSnapshot {

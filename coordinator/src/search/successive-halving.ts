@@ -7,7 +7,8 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { decisionMember, shortHash } from './proposals.js';
+import { shortHash } from './proposals.js';
+import { decisionMember, ignoredObservation } from './decisions.js';
 
 /** Where new configurations come from: independent random genomes, or children of aging evolution. */
 export type AshaVariant = 'asha' | 'asha-evolution';
@@ -154,19 +155,16 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
   observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     const k = o.budgetEpochs === undefined ? -1 : this.budgets.indexOf(o.budgetEpochs);
-    const ignored = (why: 'off-rung' | 'duplicate', reason: string): SearchDecision[] => [
-      { kind: 'observation-ignored', version: SEARCH_DECISION_VERSION, reason, evaluationId: o.evaluationId, genomeHash: o.genomeHash, why },
-    ];
     if (k < 0) {
       // Trained for no rung's budget (a genome a user submitted with its own epochs): comparable with
       // no rung, so it is counted and otherwise left out.
       this.offRung++;
-      return ignored('off-rung', `trained for ${o.budgetEpochs ?? 'its own'} epochs, no rung's budget (${this.budgets.join(', ')}); comparable with no rung`);
+      return [ignoredObservation(o, 'off-rung', `trained for ${o.budgetEpochs ?? 'its own'} epochs, no rung's budget (${this.budgets.join(', ')}); comparable with no rung`)];
     }
     // Evolution learns from equal-budget results only.
     const fromSource = k === 0 ? this.source.observe(o) : [];
     const rung = this.rungs[k]!;
-    if (rung.some((m) => m.genomeHash === o.genomeHash)) return [...fromSource, ...ignored('duplicate', `rung ${k} already holds genome ${shortHash(o.genomeHash)}`)];
+    if (rung.some((m) => m.genomeHash === o.genomeHash)) return [...fromSource, ignoredObservation(o, 'duplicate', `rung ${k} already holds genome ${shortHash(o.genomeHash)}`)];
     const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false };
     rung.push(member);
     this.observed++;
