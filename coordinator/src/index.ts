@@ -12,7 +12,7 @@ export { exportChampion } from './champion/export-champion.js';
 export { createHttpServer } from './http/server.js';
 export { createLogger } from './logger.js';
 export { spawnWorker, tsxNodeArgs, workerCliPath } from './cli/spawn-worker.js';
-export { downloadChampion } from './cli/export-command.js';
+export { downloadChampion, requestEnsembleAndWait } from './cli/export-command.js';
 export { COORDINATOR_OPTIONS, COMMANDS, main } from './cli/commands.js';
 export { replayRun } from './run/replay-run.js';
 export { replayCommand } from './cli/replay-command.js';

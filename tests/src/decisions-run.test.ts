@@ -5,7 +5,7 @@ import { Writable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as tf from '@tensorflow/tfjs';
 import { decodeShard, frontResponseValidator, searchStepValidator, type FrontResponse } from '@netbreeder/shared-types';
-import { accuracyOf, averagePredictions, downloadChampion, parseRunConfig, pickCommand, replayCommand, replayRun, type RunRecord } from '@netbreeder/coordinator';
+import { accuracyOf, averagePredictions, downloadChampion, parseRunConfig, pickCommand, replayCommand, replayRun, requestEnsembleAndWait, type RunRecord } from '@netbreeder/coordinator';
 import { initBackend } from '@netbreeder/worker';
 import { chromium } from 'playwright-core';
 import { TestCluster, waitFor } from './support/harness.js';
@@ -35,6 +35,40 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
   let picked: string;
   const bearer = () => ({ authorization: `Bearer ${cluster.coordinator.secrets.adminToken}` });
   const admin = () => ({ ...bearer(), 'content-type': 'application/json' });
+
+  /**
+   * Reads an exported ensemble, checks each member's own test score and the averaged score
+   * against the exported models (recomputed here), and returns its manifest.
+   */
+  async function rescoredEnsemble(out: string) {
+    const manifest = JSON.parse(await readFile(join(out, 'ensemble', 'ensemble.json'), 'utf8')) as {
+      members: Array<{ model: string; genomeHash: string; testAccuracy: number }>;
+      test: { accuracy: number };
+    };
+    expect(new Set(manifest.members.map((m) => m.genomeHash)).size).toBe(manifest.members.length);
+    // Averaging the exported members' outputs here gives the test score the coordinator reported.
+    await initBackend();
+    const test = decodeShard(await readFile(run.dataset.testPath)).train;
+    const x = tf.tensor(test.features, [test.count, ...run.dataset.manifest.inputShape]);
+    const probabilities: Float32Array[] = [];
+    for (const m of manifest.members) {
+      const modelJson = JSON.parse(await readFile(join(out, 'ensemble', m.model), 'utf8'));
+      const weights = await readFile(join(out, 'ensemble', modelJson.weightsManifest[0].paths[0]));
+      const model = await tf.loadLayersModel({
+        load: async () => ({ modelTopology: modelJson.modelTopology, weightSpecs: modelJson.weightsManifest[0].weights, weightData: weights.buffer.slice(weights.byteOffset, weights.byteOffset + weights.byteLength) }),
+      });
+      const p = model.predict(x) as tf.Tensor;
+      probabilities.push(p.dataSync() as Float32Array);
+      // each member's own score, recomputed from its exported model
+      expect(accuracyOf(Array.from(p.argMax(-1).dataSync()), test.labels)).toBeCloseTo(m.testAccuracy, 10);
+      p.dispose();
+      model.dispose();
+    }
+    x.dispose();
+    const { predictions } = averagePredictions(probabilities, run.dataset.manifest.numClasses);
+    expect(accuracyOf(predictions, test.labels)).toBeCloseTo(manifest.test.accuracy, 10);
+    return manifest;
+  }
 
   beforeAll(async () => {
     cluster = await TestCluster.start('decisions');
@@ -128,33 +162,8 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     const html = await readFile(join(out, 'report.html'), 'utf8');
     expect(html).toContain('Picked by the user');
 
-    const manifest = JSON.parse(await readFile(join(out, 'ensemble', 'ensemble.json'), 'utf8')) as {
-      members: Array<{ model: string; genomeHash: string; testAccuracy: number }>;
-      test: { accuracy: number };
-    };
+    const manifest = await rescoredEnsemble(out);
     expect(manifest.members).toHaveLength(2);
-    expect(new Set(manifest.members.map((m) => m.genomeHash)).size).toBe(2);
-    // Averaging the exported members' outputs here gives the test score the coordinator reported.
-    await initBackend();
-    const test = decodeShard(await readFile(run.dataset.testPath)).train;
-    const x = tf.tensor(test.features, [test.count, ...run.dataset.manifest.inputShape]);
-    const probabilities: Float32Array[] = [];
-    for (const m of manifest.members) {
-      const modelJson = JSON.parse(await readFile(join(out, 'ensemble', m.model), 'utf8'));
-      const weights = await readFile(join(out, 'ensemble', modelJson.weightsManifest[0].paths[0]));
-      const model = await tf.loadLayersModel({
-        load: async () => ({ modelTopology: modelJson.modelTopology, weightSpecs: modelJson.weightsManifest[0].weights, weightData: weights.buffer.slice(weights.byteOffset, weights.byteOffset + weights.byteLength) }),
-      });
-      const p = model.predict(x) as tf.Tensor;
-      probabilities.push(p.dataSync() as Float32Array);
-      // each member's own score, recomputed from its exported model
-      expect(accuracyOf(Array.from(p.argMax(-1).dataSync()), test.labels)).toBeCloseTo(m.testAccuracy, 10);
-      p.dispose();
-      model.dispose();
-    }
-    x.dispose();
-    const { predictions } = averagePredictions(probabilities, run.dataset.manifest.numClasses);
-    expect(accuracyOf(predictions, test.labels)).toBeCloseTo(manifest.test.accuracy, 10);
   });
 
   it('after the run finished, a new pick is trained as the new champion and exported again', async () => {
@@ -175,6 +184,24 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     await downloadChampion(url, run.id, out, cluster.coordinator.secrets.adminToken);
     expect(JSON.parse(await readFile(join(out, 'champion.json'), 'utf8')).genomeHash).toBe(other.genomeHash);
     expect(await readFile(join(out, 'report.md'), 'utf8')).toContain(`Picked by the user: genome \`${other.genomeHash.slice(0, 12)}\``);
+  });
+
+  it('exports a new ensemble of three asked of the finished run, the champion unchanged', async () => {
+    const store = cluster.coordinator.store;
+    const champion = store.getChampion(run.id)!.genomeHash;
+    const url = cluster.coordinator.url;
+    const answer = await requestEnsembleAndWait(url, run.id, { size: 3, diversityPenalty: 0.1 }, cluster.coordinator.secrets.adminToken, undefined, 250);
+    expect(answer.round).toBe(2); // 0: the run's end, 1: the pick after it
+    expect(answer.members).toHaveLength(3);
+    expect(store.getChampion(run.id)!.genomeHash).toBe(champion);
+    const out = join(cluster.dataDir, 'exported-ensemble');
+    await downloadChampion(url, run.id, out, cluster.coordinator.secrets.adminToken);
+    const manifest = await rescoredEnsemble(out);
+    expect(manifest.members.map((m) => m.genomeHash)).toEqual(answer.members.map((m) => m.genomeHash));
+    // refused while it is not finished, and for a run that does not exist
+    const nope = await fetch(`${url}/runs/nope/ensemble`, { method: 'POST', headers: admin(), body: JSON.stringify({ size: 2 }) });
+    expect(nope.status, await nope.text()).toBe(404);
+    expect((await fetch(`${url}/runs/${run.id}/ensemble`, { method: 'POST', headers: admin(), body: JSON.stringify({ size: 1 }) })).status).toBe(400);
   });
 
   it('the dashboard highlights the front in headless chromium', async () => {

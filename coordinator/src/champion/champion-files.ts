@@ -4,7 +4,7 @@ import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
 import { describePreprocessing } from '../datasets/index.js';
-import { championRound, describeChoice, recordedChoice } from '../run/champion-choice.js';
+import { describeChoice, recordedChoice } from '../run/champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 
@@ -42,6 +42,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { evaluationId: string; latencyMsPerSample?: number; backend?: string });
   const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
+  const championsRound = (scored.find((d) => d.evaluationId === champion.evaluationId) as { round?: number } | undefined)?.round ?? 0;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   return {
     runId: run.id,
@@ -82,6 +83,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
       const score = ensembleScore(store, run.id);
       if (!score) return null;
       return {
+        round: score.round ?? 0,
         testAccuracy: score.testAccuracy,
         championTestAccuracy: champion.testAccuracy,
         members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
@@ -92,8 +94,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     candidates: store
       .events(run.id, 'champion-candidate-scored')
       .map((e) => e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string; champion?: boolean; ensemblePosition?: number; round?: number })
-      // Only the latest round (a pick after the run finished starts a new one).
-      .filter((d) => (d.round ?? 0) === championRound(store, run.id))
+      // Only the round that made the champion (a pick after the run finished starts a new one).
+      .filter((d) => (d.round ?? 0) === championsRound)
       .map((d) => ({ ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' })),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
     /** How raw samples must be prepared before they go into the model (what the import fitted). */

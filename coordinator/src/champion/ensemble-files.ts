@@ -7,6 +7,10 @@ export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|member-[0-9]{1,2}\\.(mod
 /** What the `ensemble-scored` event holds. */
 export interface EnsembleScore {
   testAccuracy: number;
+  /** The champion round that trained it (0: the run's own end), and the selection settings used (absent in older records: the run file's). */
+  round?: number;
+  size?: number;
+  diversityPenalty?: number;
   backend: string;
   averaging: string;
   /** `similarity`: the largest architecture similarity to a member chosen before it (0 for the first; null in older records). */
@@ -43,8 +47,8 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
     inputShape: m.inputShape,
     classNames: m.classNames,
     selection: {
-      size: run.config.champion.ensemble?.size ?? members.length,
-      diversityPenalty: run.config.champion.ensemble?.diversityPenalty ?? null,
+      size: score.size ?? run.config.champion.ensemble?.size ?? members.length,
+      diversityPenalty: score.diversityPenalty ?? run.config.champion.ensemble?.diversityPenalty ?? null,
       rule: 'greedy: the most accurate genome first, then each time the highest validation accuracy minus diversityPenalty times its largest architecture similarity (multiset Jaccard of layer kinds and sizes) to a member already chosen',
     },
     test: { accuracy: score.testAccuracy, samples: champion?.testPredictions.length ?? null, backend: score.backend },

@@ -1,5 +1,6 @@
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
+import { ensembleRequestResponseValidator, type EnsembleRequestResponse } from '@netbreeder/shared-types';
 
 /** Downloads a run's champion export from a coordinator into `outDir` (its averaging ensemble, if any, into `outDir/ensemble/`); returns the files written. */
 export async function downloadChampion(
@@ -38,4 +39,36 @@ export async function downloadChampion(
     written.push(resolve(outDir, 'ensemble', name));
   }
   return written;
+}
+
+/**
+ * Asks a coordinator for a new averaging ensemble of `size` members for a finished run
+ * (`POST /runs/:id/ensemble`) and waits until it is trained and scored (the run is `finished`
+ * again and its champion summary shows the ensemble of that round). Throws when refused or when
+ * the run fails.
+ */
+export async function requestEnsembleAndWait(
+  coordinatorUrl: string,
+  runId: string,
+  settings: { size: number; diversityPenalty?: number },
+  adminToken: string | null,
+  onAccepted?: (answer: EnsembleRequestResponse) => void,
+  pollMs = 2000,
+): Promise<EnsembleRequestResponse> {
+  const auth: Record<string, string> = adminToken ? { authorization: `Bearer ${adminToken}` } : {};
+  const res = await fetch(new URL(`/runs/${encodeURIComponent(runId)}/ensemble`, coordinatorUrl), { method: 'POST', headers: { ...auth, 'content-type': 'application/json' }, body: JSON.stringify(settings) });
+  const body = (await res.json()) as { error?: { code: string; message: string; fix: string } };
+  if (res.status !== 202) throw new Error(`ensemble refused (${res.status} ${body.error?.code}): ${body.error?.message}; ${body.error?.fix}`);
+  const answer = ensembleRequestResponseValidator.parse(body);
+  onAccepted?.(answer);
+  for (;;) {
+    await new Promise((r) => setTimeout(r, pollMs));
+    const runs = (await (await fetch(new URL('/runs', coordinatorUrl), { headers: auth })).json()) as Array<{ id: string; state: string }>;
+    const state = runs.find((r) => r.id === runId)?.state;
+    if (state === 'failed' || state === 'stopped') throw new Error(`run ${runId} ended ${state} while its ensemble trained; see the coordinator's events`);
+    if (state !== 'finished') continue;
+    const summary = (await (await fetch(new URL(`/runs/${encodeURIComponent(runId)}/champion`, coordinatorUrl), { headers: auth })).json()) as { ensemble?: { round: number } | null };
+    if (summary.ensemble?.round === answer.round) return answer;
+    throw new Error(`run ${runId} finished its ensemble round ${answer.round} without scoring an ensemble (fewer than two members trained); see the coordinator's events`);
+  }
 }

@@ -1,15 +1,21 @@
 import type { FastifyInstance } from 'fastify';
 import { Type } from '@sinclair/typebox';
+import { Value } from '@sinclair/typebox/value';
 import {
   ChampionPickRequestSchema,
   ChampionPickResponseSchema,
+  EnsembleRequestResponseSchema,
+  EnsembleRequestSchema,
+  EnsembleSettingsSchema,
   FrontResponseSchema,
+  type EnsembleRequestResponse,
+  type EnsembleSettings,
   type ChampionPickResponse,
   type FrontResponse,
 } from '@netbreeder/shared-types';
 import { paretoFront, type Observation, type SizeObjective } from '../search/index.js';
 import type { RunManager } from '../run/run-manager.js';
-import { ChampionPickError, pickChampion } from '../run/champion-choice.js';
+import { ChampionPickError, pickChampion, requestEnsemble } from '../run/champion-choice.js';
 import { ensembleFiles, ENSEMBLE_FILE_PATTERN } from '../champion/ensemble-files.js';
 import { HttpError } from './error-codes.js';
 
@@ -18,8 +24,9 @@ const RunId = Type.String({ pattern: '^[A-Za-z0-9_-]{1,64}$' });
 /**
  * Routes for choosing what a run hands over: its accuracy-against-cost front (`GET /runs/:id/front`,
  * status access, for the dashboard), the user's pick of the champion (`POST /runs/:id/champion/pick`,
- * admin) and the averaging ensemble's files (`GET /runs/:id/ensemble/files/:name`, admin, like the
- * champion's).
+ * admin; after the run finished the pick is trained and replaces the champion), a new averaging
+ * ensemble for a finished run (`POST /runs/:id/ensemble`, admin) and the ensemble's files
+ * (`GET /runs/:id/ensemble/files/:name`, admin, like the champion's).
  */
 export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manager: RunManager }): void {
   const store = opts.manager.store;
@@ -77,6 +84,24 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
         const picked = pickChampion(store, run.id, genomeHash, Date.now(), opts.manager.currentRun()?.id ?? null);
         if (picked.retraining) void opts.manager.tick(); // queue its final training now, not at the next pass
         return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, retraining: picked.retraining };
+      } catch (err) {
+        if (err instanceof ChampionPickError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
+        throw err;
+      }
+    },
+  );
+
+  app.post(
+    '/runs/:id/ensemble',
+    { config: { access: 'admin' }, schema: { params: Type.Object({ id: RunId }), body: EnsembleRequestSchema, response: { 202: EnsembleRequestResponseSchema } } },
+    async (req, reply) => {
+      const run = runOr404((req.params as { id: string }).id);
+      const settings = Value.Default(EnsembleSettingsSchema, structuredClone(req.body)) as EnsembleSettings;
+      try {
+        const asked = requestEnsemble(store, run.id, settings, Date.now(), opts.manager.currentRun()?.id ?? null);
+        void opts.manager.tick(); // queue the members' trainings now
+        const answer: EnsembleRequestResponse = { runId: run.id, ...asked };
+        return reply.status(202).send(answer);
       } catch (err) {
         if (err instanceof ChampionPickError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
         throw err;

@@ -15,7 +15,7 @@ import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import { RunStore } from '../store/run-store.js';
 import { howItWasFound } from '../champion/explain-lineage.js';
 import { ChampionPhase, type ChampionCandidate } from './champion-phase.js';
-import { ChampionPickError, meetsRule, pickChampion } from './champion-choice.js';
+import { ChampionPickError, meetsRule, pickChampion, requestEnsemble } from './champion-choice.js';
 
 /** The champion phase's choice of candidates on a real (in-memory) store; the queue only records what it is given. */
 const manifest = { sha256: 'a'.repeat(64), bytes: 100, inputShape: [4], numClasses: 3, classNames: ['a', 'b', 'c'], trainCount: 10, valCount: 5 };
@@ -128,6 +128,23 @@ describe('choosing the champion candidates', () => {
       expect.objectContaining({ genomeHash: hashOf(0), champion: true, ensemblePosition: 0 }),
       expect.objectContaining({ genomeHash: hashOf(2), champion: false, ensemblePosition: 1 }),
     ]);
+  });
+});
+
+describe('a new ensemble asked of a finished run', () => {
+  it('is refused before the run finished and on a coordinator not driving it; then trains members only, under keys of their own', async () => {
+    const { store, phase, queued } = storeWith();
+    const settings = { size: 2, diversityPenalty: 0.2 };
+    expect(() => requestEnsemble(store, 'r1', settings, 6000, 'r1')).toThrow(/can be asked of a finished run/);
+    await phase.begin(store.getRun('r1')!);
+    store.setRunState('r1', 'finished');
+    expect(() => requestEnsemble(store, 'r1', settings, 6000, null)).toThrow(/no longer drives run r1/);
+    const asked = requestEnsemble(store, 'r1', settings, 6000, 'r1');
+    // as in the run-file case above: 0, then 2 (0.8 - 0.2 * 0) over 1 (0.88 - 0.2 * 0.5)
+    expect(asked).toMatchObject({ round: 1, members: [{ genomeHash: hashOf(0), similarity: 0 }, { genomeHash: hashOf(2), similarity: 0 }] });
+    expect(phase.candidates('r1').map((c) => [c.seq, c.champion, c.ensemblePosition])).toEqual([[4, false, 0], [5, false, 1]]);
+    await phase.ensureJobs(store.getRun('r1')!);
+    expect(queued.slice(-2).map((j) => j.evaluationId)).toEqual(['r1-c4-a1', 'r1-c5-a1']);
   });
 });
 

@@ -1,5 +1,6 @@
-import type { ChampionRule } from '@netbreeder/shared-types';
+import type { ChampionRule, EnsembleSettings } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
+import { selectEnsemble, type EnsemblePick } from '../champion/ensemble-selection.js';
 
 /**
  * How a run's champion is chosen: a genome the user `pick`ed, the best under the run file's
@@ -90,10 +91,9 @@ export function pickChampion(store: RunStore, runId: string, genomeHash: string,
   store.transaction(() => {
     store.logEvent(runId, 'champion-picked', { genomeHash, evaluationId: best.id, valAccuracy: best.valAccuracy! }, now);
     if (!retrain) return;
-    // A new round of the champion phase with the picked genome alone. Its key (`seq`) is past every
-    // proposal and every earlier round, so its final training gets evaluation ids of its own.
+    // A new round of the champion phase with the picked genome alone, under a key of its own.
     const round = store.events(runId, 'champion-candidates').length;
-    const candidate = { sourceEvaluationId: best.id, genomeHash, seq: run.proposals + round - 1, valAccuracy: best.valAccuracy!, champion: true };
+    const candidate = { sourceEvaluationId: best.id, genomeHash, seq: nextChampionSeq(store, run), valAccuracy: best.valAccuracy!, champion: true };
     store.setRunState(runId, 'training-champion', { now });
     store.logEvent(runId, 'champion-candidates', { candidates: [candidate], choice, round }, now);
   });
@@ -105,3 +105,77 @@ export type PickOutcome = Extract<ChampionChoice, { by: 'pick' }> & { retraining
 
 /** The champion round `runId` is in: 0 for the first, one more for each pick after the run finished. */
 export const championRound = (store: RunStore, runId: string): number => Math.max(0, store.events(runId, 'champion-candidates').length - 1);
+
+/**
+ * The key (`seq`) of a final training in a later champion round: past every proposal and every
+ * earlier final training, so its evaluation ids are its own.
+ */
+export function nextChampionSeq(store: RunStore, run: RunRecord): number {
+  const used = store.evaluations(run.id).filter((e) => e.kind === 'champion').map((e) => e.seq + 1);
+  return Math.max(run.proposals, ...used);
+}
+
+/** A search result the champion phase may choose from. */
+export type PoolEntry = ReturnType<RunStore['topEvaluations']>[number];
+
+/**
+ * The distinct genomes the champion (and the ensemble) may come from, best validation accuracy
+ * first (then fewer parameters): under the run's rule if it has one, and at most `want` of them.
+ * `ruleUnmet`: the rule left nothing, so the pool is the best overall.
+ */
+export function candidatePool(store: RunStore, run: RunRecord, want: number): { pool: PoolEntry[]; ruleUnmet: boolean } {
+  const rule = run.config.champion.rule;
+  const distinct = (rows: PoolEntry[]) => {
+    const seen = new Set<string>();
+    return rows.filter((e) => !seen.has(e.genomeHash) && seen.add(e.genomeHash)).slice(0, want);
+  };
+  // A rule may leave out most results, so it reads further down the ranking.
+  const ranked = store.topEvaluations(run.id, rule ? 100_000 : want * 10);
+  if (!rule) return { pool: distinct(ranked), ruleUnmet: false };
+  const pool = distinct(ranked.filter((e) => meetsRule(rule, { params: e.params, flops: e.flops, latencyMs: e.result?.latencyMsPerSample ?? null })));
+  return pool.length ? { pool, ruleUnmet: false } : { pool: distinct(ranked), ruleUnmet: true };
+}
+
+/** The ensemble's members from a pool by the greedy accuracy-and-diversity rule, with the pool entry of each. */
+export function ensembleFromPool(pool: readonly PoolEntry[], settings: EnsembleSettings): Array<EnsemblePick & { entry: PoolEntry }> {
+  const picks = selectEnsemble(
+    pool.map((e) => ({ id: e.id, genomeHash: e.genomeHash, genome: e.genome, accuracy: e.valAccuracy! })),
+    settings.size,
+    settings.diversityPenalty,
+  );
+  return picks.map((p) => ({ ...p, entry: pool.find((e) => e.id === p.id)! }));
+}
+
+/** Pool size the phase reads for an ensemble of `size`: ten candidates per member. */
+export const ensemblePoolSize = (size: number): number => size * 10;
+
+/**
+ * Starts a champion round that trains a new averaging ensemble for a finished run (the champion
+ * stays): the members are chosen from the run's results as at the end of a run, trained again,
+ * scored together on the test split and exported. Needs the coordinator driving the run.
+ */
+export function requestEnsemble(store: RunStore, runId: string, settings: EnsembleSettings, now: number, drivenRunId: string | null): { round: number; members: Array<{ genomeHash: string; valAccuracy: number; similarity: number }> } {
+  const run = store.getRun(runId);
+  if (!run) throw new ChampionPickError('not-a-result', `no run ${runId}`);
+  if (run.state !== 'finished') throw new ChampionPickError('state', `run ${runId} is ${run.state}; an ensemble can be asked of a finished run (or set champion.ensemble in the run file)`);
+  if (drivenRunId !== runId) throw new ChampionPickError('state', `this coordinator no longer drives run ${runId} (it was restarted since, or drives another run); ask the coordinator that ran it`);
+  const members = ensembleFromPool(candidatePool(store, run, ensemblePoolSize(settings.size)).pool, settings);
+  if (members.length < 2) throw new ChampionPickError('not-a-result', `run ${runId} has ${members.length} distinct finished genome(s); an ensemble needs two`);
+  const base = nextChampionSeq(store, run);
+  const round = store.events(runId, 'champion-candidates').length;
+  const candidates = members.map((m, i) => ({
+    sourceEvaluationId: m.id,
+    genomeHash: m.genomeHash,
+    seq: base + i,
+    valAccuracy: m.accuracy,
+    champion: false,
+    ensemblePosition: i,
+    ensembleSimilarity: m.similarity,
+  }));
+  store.transaction(() => {
+    store.clearEnsembleMembers(runId);
+    store.setRunState(runId, 'training-champion', { now });
+    store.logEvent(runId, 'champion-candidates', { candidates, choice: recordedChoice(store, runId), round, ensemble: settings }, now);
+  });
+  return { round, members: members.map((m) => ({ genomeHash: m.genomeHash, valAccuracy: m.accuracy, similarity: m.similarity })) };
+}

@@ -5,8 +5,8 @@ import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.j
 import { scoreChampion } from '../champion/score-champion.js';
 import { exportChampion } from '../champion/export-champion.js';
 import { scoreEnsemble } from '../champion/score-ensemble.js';
-import { selectEnsemble } from '../champion/ensemble-selection.js';
-import { championChoice, championRound, describeRule, meetsRule, recordedChoice, type ChampionChoice } from './champion-choice.js';
+import type { EnsembleSettings } from '@netbreeder/shared-types';
+import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, recordedChoice, type ChampionChoice } from './champion-choice.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 export interface ChampionCandidate {
@@ -48,6 +48,7 @@ export class ChampionPhase {
   /** Chooses the candidates and queues their final trainings. */
   async begin(run: RunRecord): Promise<void> {
     const { candidates, choice } = this.chooseCandidates(run);
+    const ensemble = run.config.champion.ensemble;
     if (candidates.length === 0) {
       this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded, so there is no champion' });
       this.o.log.error({ runId: run.id }, 'run ended without a single successful evaluation');
@@ -55,7 +56,7 @@ export class ChampionPhase {
     }
     this.o.store.transaction(() => {
       this.o.store.setRunState(run.id, 'training-champion');
-      this.o.store.logEvent(run.id, 'champion-candidates', { candidates, choice });
+      this.o.store.logEvent(run.id, 'champion-candidates', { candidates, choice, round: 0, ...(ensemble ? { ensemble } : {}) });
     });
     this.o.log.info({ runId: run.id, candidates: candidates.length, best: candidates[0]!.valAccuracy }, 'search done; training the best genomes on train + validation');
     await this.ensureJobs(this.o.store.getRun(run.id)!);
@@ -71,22 +72,12 @@ export class ChampionPhase {
   private chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice } {
     const { topK, rule, ensemble } = run.config.champion;
     let choice = championChoice(this.o.store, run);
-    const want = Math.max(topK, ensemble ? ensemble.size * 10 : 0);
-    const distinct = (rows: ReturnType<RunStore['topEvaluations']>) => {
-      const seen = new Set<string>();
-      return rows.filter((e) => !seen.has(e.genomeHash) && seen.add(e.genomeHash)).slice(0, want);
-    };
-    // A rule may leave out most results, so it reads further down the ranking.
-    const ranked = this.o.store.topEvaluations(run.id, rule ? 100_000 : want * 10);
-    let pool = distinct(rule ? ranked.filter((e) => meetsRule(rule, { params: e.params, flops: e.flops, latencyMs: e.result?.latencyMsPerSample ?? null })) : ranked);
-    if (rule && pool.length === 0) {
-      pool = distinct(ranked);
-      if (choice.by === 'rule') choice = { by: 'best', note: `no result met the rule (${describeRule(rule)}), so the best overall` };
-    }
+    const { pool, ruleUnmet } = candidatePool(this.o.store, run, Math.max(topK, ensemble ? ensemblePoolSize(ensemble.size) : 0));
+    if (rule && ruleUnmet && choice.by === 'rule') choice = { by: 'best', note: `no result met the rule (${describeRule(rule)}), so the best overall` };
     const out: ChampionCandidate[] = [];
     const add = (e: { id: string; genomeHash: string; seq: number; valAccuracy: number | null }, extra: Partial<ChampionCandidate>) => {
       const known = out.find((c) => c.genomeHash === e.genomeHash);
-      if (known) Object.assign(known, extra, { champion: known.champion || extra.champion });
+      if (known) Object.assign(known, extra, { champion: Boolean(known.champion || extra.champion) });
       else out.push({ sourceEvaluationId: e.id, genomeHash: e.genomeHash, seq: e.seq, valAccuracy: e.valAccuracy!, champion: false, ...extra });
     };
     if (choice.by === 'pick') {
@@ -96,12 +87,8 @@ export class ChampionPhase {
       for (const e of pool.slice(0, topK)) add(e, { champion: true });
     }
     if (ensemble) {
-      const members = selectEnsemble(
-        pool.map((e) => ({ id: e.id, genomeHash: e.genomeHash, genome: e.genome, accuracy: e.valAccuracy! })),
-        ensemble.size,
-        ensemble.diversityPenalty,
-      );
-      if (members.length >= 2) members.forEach((m, i) => add(pool.find((e) => e.id === m.id)!, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
+      const members = ensembleFromPool(pool, ensemble);
+      if (members.length >= 2) members.forEach((m, i) => add(m.entry, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
     }
     return { candidates: out, choice };
   }
@@ -179,9 +166,15 @@ export class ChampionPhase {
     await this.finishIfComplete(ev.runId);
   }
 
-  /** Scores the run's ensemble on the test split once (an `ensemble-scored` event), when it asked for one and at least two members trained. */
+  /**
+   * Scores the ensemble of the current round on the test split once (an `ensemble-scored` event),
+   * when the round has one (the run file's, or one asked of a finished run) and at least two of its
+   * members trained.
+   */
   private async scoreEnsembleOnce(run: RunRecord): Promise<void> {
-    if (!run.config.champion.ensemble || this.o.store.events(run.id, 'ensemble-scored').length) return;
+    const round = championRound(this.o.store, run.id);
+    const settings = (this.o.store.events(run.id, 'champion-candidates').at(-1)?.detail as { ensemble?: EnsembleSettings } | undefined)?.ensemble;
+    if (!settings || this.o.store.events(run.id, 'ensemble-scored').some((e) => ((e.detail as { round?: number }).round ?? 0) === round)) return;
     const members = this.o.store.ensembleMembers(run.id);
     if (members.length < 2) {
       this.o.store.logEvent(run.id, 'ensemble-skipped', { reason: `only ${members.length} member(s) finished their final training; an ensemble needs two` });
@@ -192,6 +185,9 @@ export class ChampionPhase {
       testAccuracy: score.accuracy,
       backend: score.backend,
       averaging: 'mean of the members\' softmax probabilities',
+      round,
+      size: settings.size,
+      diversityPenalty: settings.diversityPenalty,
       members: members.map((m) => ({
         position: m.position,
         genomeHash: m.genomeHash,

@@ -510,6 +510,11 @@ export class RunStore {
       .run(m.runId, m.position, m.evaluationId, m.sourceEvaluationId, m.genomeHash, m.testAccuracy, artifactsJson);
   }
 
+  /** Forgets a run's ensemble members (before a new ensemble is trained). */
+  clearEnsembleMembers(runId: string): void {
+    this.db.prepare('DELETE FROM ensemble_members WHERE run_id = ?').run(runId);
+  }
+
   /** A run's retrained ensemble members by position, with their models' JSON. */
   ensembleMembers(runId: string): Array<EnsembleMemberRecord & { artifactsJson: string }> {
     return (this.db.prepare('SELECT * FROM ensemble_members WHERE run_id = ? ORDER BY position').all(runId) as Row[]).map((r) => ({

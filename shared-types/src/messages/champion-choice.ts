@@ -1,5 +1,6 @@
 import { Type, type Static } from '@sinclair/typebox';
 import { createValidator } from '../validation.js';
+import { EnsembleSettingsSchema } from './run-config.js';
 
 const GenomeHash = Type.String({ pattern: '^[0-9a-f]{64}$' });
 
@@ -58,6 +59,27 @@ export const FrontResponseSchema = Type.Object(
 );
 export type FrontResponse = Static<typeof FrontResponseSchema>;
 
+/** POST /runs/:id/ensemble: a new averaging ensemble for a finished run, with the settings of the run file's `champion.ensemble` (the penalty may be left out for its default). */
+export const EnsembleRequestSchema = Type.Object(
+  { size: EnsembleSettingsSchema.properties.size, diversityPenalty: Type.Optional(EnsembleSettingsSchema.properties.diversityPenalty) },
+  { additionalProperties: false },
+);
+
+/** POST /runs/:id/ensemble answers: the chosen members, now training. */
+export const EnsembleRequestResponseSchema = Type.Object(
+  {
+    runId: Type.String(),
+    /** The champion round training them; GET /runs/:id/champion shows `ensemble.round` equal to it once scored. */
+    round: Type.Integer({ minimum: 1 }),
+    members: Type.Array(
+      Type.Object({ genomeHash: GenomeHash, valAccuracy: Type.Number(), similarity: Type.Number({ minimum: 0, maximum: 1 }) }, { additionalProperties: false }),
+    ),
+  },
+  { additionalProperties: false },
+);
+export type EnsembleRequestResponse = Static<typeof EnsembleRequestResponseSchema>;
+
+export const ensembleRequestResponseValidator = createValidator('ensemble request response', EnsembleRequestResponseSchema);
 export const championPickRequestValidator = createValidator('champion pick', ChampionPickRequestSchema);
 export const championPickResponseValidator = createValidator('champion pick response', ChampionPickResponseSchema);
 export const frontResponseValidator = createValidator('front response', FrontResponseSchema);
