@@ -15,7 +15,7 @@ import {
 } from '@netbreeder/shared-types';
 import { paretoFront, type Observation, type SizeObjective } from '../search/index.js';
 import type { RunManager } from '../run/run-manager.js';
-import { ChampionPickError, pickChampion, requestEnsemble } from '../run/champion-choice.js';
+import { ChampionChoiceError, pickChampion, requestEnsemble } from '../run/champion-choice.js';
 import { ensembleFiles, ENSEMBLE_FILE_PATTERN } from '../champion/ensemble-files.js';
 import { HttpError } from './error-codes.js';
 
@@ -85,7 +85,7 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
         if (picked.retraining) void opts.manager.tick(); // queue its final training now, not at the next pass
         return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, retraining: picked.retraining };
       } catch (err) {
-        if (err instanceof ChampionPickError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
+        if (err instanceof ChampionChoiceError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
         throw err;
       }
     },
@@ -103,7 +103,7 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
         const answer: EnsembleRequestResponse = { runId: run.id, ...asked };
         return reply.status(202).send(answer);
       } catch (err) {
-        if (err instanceof ChampionPickError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
+        if (err instanceof ChampionChoiceError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
         throw err;
       }
     },

@@ -15,7 +15,7 @@ import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import { RunStore } from '../store/run-store.js';
 import { howItWasFound } from '../champion/explain-lineage.js';
 import { ChampionPhase, type ChampionCandidate } from './champion-phase.js';
-import { ChampionPickError, meetsRule, pickChampion, requestEnsemble } from './champion-choice.js';
+import { ChampionChoiceError, meetsRule, pickChampion, requestEnsemble } from './champion-choice.js';
 
 /** The champion phase's choice of candidates on a real (in-memory) store; the queue only records what it is given. */
 const manifest = { sha256: 'a'.repeat(64), bytes: 100, inputShape: [4], numClasses: 3, classNames: ['a', 'b', 'c'], trainCount: 10, valCount: 5 };
@@ -97,7 +97,7 @@ describe('choosing the champion candidates', () => {
 
   it('refuses a pick of no finished result, during the champion training, or after the end on a coordinator not driving the run; a refusal records nothing', () => {
     const { store } = storeWith();
-    expect(() => pickChampion(store, 'r1', 'f'.repeat(64), 3000)).toThrow(ChampionPickError);
+    expect(() => pickChampion(store, 'r1', 'f'.repeat(64), 3000)).toThrow(ChampionChoiceError);
     store.setRunState('r1', 'training-champion');
     expect(() => pickChampion(store, 'r1', hashOf(0), 3000)).toThrow(/pick the champion while it searches or is paused, or once it has finished/);
     store.setRunState('r1', 'finished');

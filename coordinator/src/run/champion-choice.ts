@@ -12,9 +12,9 @@ export type ChampionChoice =
   | { by: 'rule'; rule: ChampionRule }
   | { by: 'best'; note?: string };
 
-/** Why a pick was refused: the run's state does not allow it, or the genome is no finished search result of the run. */
-export class ChampionPickError extends Error {
-  override name = 'ChampionPickError';
+/** Why a pick or an ensemble request was refused: the run's state does not allow it, or the run has no such finished search result. */
+export class ChampionChoiceError extends Error {
+  override name = 'ChampionChoiceError';
   constructor(
     readonly reason: 'state' | 'not-a-result',
     message: string,
@@ -70,23 +70,23 @@ export function championChoice(store: RunStore, run: RunRecord): ChampionChoice 
  * champion round starts at once: the run goes back to `training-champion`, the picked genome gets
  * its final training, replaces the champion and is exported (the ensemble stays as it was); this
  * needs the coordinator that drives the run (`drivenRunId`), since it queues the training.
- * Throws {@link ChampionPickError}; a refused pick changes nothing.
+ * Throws {@link ChampionChoiceError}; a refused pick changes nothing.
  */
 export function pickChampion(store: RunStore, runId: string, genomeHash: string, now: number, drivenRunId: string | null = null): PickOutcome {
   const run = store.getRun(runId);
-  if (!run) throw new ChampionPickError('not-a-result', `no run ${runId}`);
+  if (!run) throw new ChampionChoiceError('not-a-result', `no run ${runId}`);
   const retrain = run.state === 'finished';
   if (run.state !== 'searching' && run.state !== 'paused' && !retrain) {
-    throw new ChampionPickError('state', `run ${runId} is ${run.state}; pick the champion while it searches or is paused, or once it has finished`);
+    throw new ChampionChoiceError('state', `run ${runId} is ${run.state}; pick the champion while it searches or is paused, or once it has finished`);
   }
   if (retrain && drivenRunId !== runId) {
-    throw new ChampionPickError('state', `run ${runId} has finished and this coordinator no longer drives it (it was restarted since, or drives another run); a pick after the end needs the coordinator that ran it`);
+    throw new ChampionChoiceError('state', `run ${runId} has finished and this coordinator no longer drives it (it was restarted since, or drives another run); a pick after the end needs the coordinator that ran it`);
   }
   const best = store
     .evaluations(runId)
     .filter((e) => e.kind === 'search' && e.state === 'done' && e.genomeHash === genomeHash && e.valAccuracy !== null)
     .sort((a, b) => b.valAccuracy! - a.valAccuracy! || a.seq - b.seq)[0];
-  if (!best) throw new ChampionPickError('not-a-result', `genome ${genomeHash} has no finished search result in run ${runId}; pick one from GET /runs/${runId}/front`);
+  if (!best) throw new ChampionChoiceError('not-a-result', `genome ${genomeHash} has no finished search result in run ${runId}; pick one from GET /runs/${runId}/front`);
   const choice = { by: 'pick' as const, genomeHash, evaluationId: best.id, valAccuracy: best.valAccuracy! };
   store.transaction(() => {
     store.logEvent(runId, 'champion-picked', { genomeHash, evaluationId: best.id, valAccuracy: best.valAccuracy! }, now);
@@ -156,11 +156,11 @@ export const ensemblePoolSize = (size: number): number => size * 10;
  */
 export function requestEnsemble(store: RunStore, runId: string, settings: EnsembleSettings, now: number, drivenRunId: string | null): { round: number; members: Array<{ genomeHash: string; valAccuracy: number; similarity: number }> } {
   const run = store.getRun(runId);
-  if (!run) throw new ChampionPickError('not-a-result', `no run ${runId}`);
-  if (run.state !== 'finished') throw new ChampionPickError('state', `run ${runId} is ${run.state}; an ensemble can be asked of a finished run (or set champion.ensemble in the run file)`);
-  if (drivenRunId !== runId) throw new ChampionPickError('state', `this coordinator no longer drives run ${runId} (it was restarted since, or drives another run); ask the coordinator that ran it`);
+  if (!run) throw new ChampionChoiceError('not-a-result', `no run ${runId}`);
+  if (run.state !== 'finished') throw new ChampionChoiceError('state', `run ${runId} is ${run.state}; an ensemble can be asked of a finished run (or set champion.ensemble in the run file)`);
+  if (drivenRunId !== runId) throw new ChampionChoiceError('state', `this coordinator no longer drives run ${runId} (it was restarted since, or drives another run); ask the coordinator that ran it`);
   const members = ensembleFromPool(candidatePool(store, run, ensemblePoolSize(settings.size)).pool, settings);
-  if (members.length < 2) throw new ChampionPickError('not-a-result', `run ${runId} has ${members.length} distinct finished genome(s); an ensemble needs two`);
+  if (members.length < 2) throw new ChampionChoiceError('not-a-result', `run ${runId} has ${members.length} distinct finished genome(s); an ensemble needs two`);
   const base = nextChampionSeq(store, run);
   const round = store.events(runId, 'champion-candidates').length;
   const candidates = members.map((m, i) => ({
