@@ -464,6 +464,9 @@ export class RunManager {
     if (result.evaluationId !== ev.id) return `result names evaluation ${result.evaluationId}, not ${ev.id}`;
     if (this.isRevoked(result.workerId)) return `worker ${result.workerId} is revoked`;
     if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
+    if (ev.kind === 'search' && result.latencyMsPerSample === undefined && this.run?.config.search.algorithm === 'pareto-evolution' && this.run.config.search.objective === 'latency') {
+      return 'this run weighs accuracy against measured latency, and the result has none (a worker older than latency measurement: update it)';
+    }
     if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
     return null;
   }
