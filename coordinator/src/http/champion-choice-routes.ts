@@ -36,6 +36,9 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
     return run;
   };
 
+  // The dashboard asks every few seconds; the answer only changes when a result is recorded.
+  const fronts = new Map<string, { done: number; answer: FrontResponse }>();
+
   app.get(
     '/runs/:id/front',
     {
@@ -49,6 +52,9 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
       const run = runOr404((req.params as { id: string }).id);
       const runObjective: SizeObjective = run.config.search.objective ?? 'params';
       const objective = (req.query as { objective?: SizeObjective }).objective ?? runObjective;
+      const done = store.counts(run.id).done;
+      const cached = fronts.get(`${run.id}:${objective}`);
+      if (cached?.done === done) return cached.answer;
       const rows = store.finishedSearchEvaluationsSince(run.id, 0, 100_000).filter((e) => e.state === 'done' && e.valAccuracy !== null);
       const observations: Observation[] = rows.map((e) => ({
         evaluationId: e.id,
@@ -62,7 +68,7 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
       const front = paretoFront(observations, objective);
       const onFront = new Set(front.map((o) => o.evaluationId));
       const withCost = observations.filter((o) => typeof o[objective] === 'number');
-      return {
+      const answer: FrontResponse = {
         runId: run.id,
         objective,
         multiObjective: run.config.search.algorithm === 'pareto-evolution',
@@ -71,6 +77,8 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
         front: front.map((o) => o.evaluationId),
         withoutCost: observations.length - withCost.length,
       };
+      fronts.set(`${run.id}:${objective}`, { done, answer });
+      return answer;
     },
   );
 
