@@ -19,3 +19,4 @@ export { replayCommand } from './cli/replay-command.js';
 export { pickCommand } from './cli/pick-command.js';
 export { ensembleFiles } from './champion/ensemble-files.js';
 export { averagePredictions, accuracyOf } from './champion/ensemble-average.js';
+export { howItWasFound, explainDecision } from './champion/explain-lineage.js';

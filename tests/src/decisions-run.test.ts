@@ -5,7 +5,7 @@ import { Writable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as tf from '@tensorflow/tfjs';
 import { decodeShard, frontResponseValidator, searchStepValidator, type FrontResponse } from '@netbreeder/shared-types';
-import { accuracyOf, averagePredictions, downloadChampion, parseRunConfig, pickCommand, replayCommand, replayRun, requestEnsembleAndWait, type RunRecord } from '@netbreeder/coordinator';
+import { accuracyOf, averagePredictions, downloadChampion, howItWasFound, parseRunConfig, pickCommand, replayCommand, replayRun, requestEnsembleAndWait, type RunRecord } from '@netbreeder/coordinator';
 import { initBackend } from '@netbreeder/worker';
 import { chromium } from 'playwright-core';
 import { TestCluster, waitFor } from './support/harness.js';
@@ -247,6 +247,12 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     expect(steps.filter((s) => s.kind === 'observe').map((s) => s.evaluationId).sort()).toEqual(search.filter((e) => e.state === 'done').map((e) => e.id).sort());
     const kinds = new Set(steps.flatMap((s) => s.decisions.map((d) => d.kind)));
     for (const k of ['random-genome', 'parent-selected', 'mutation', 'member-added', 'member-removed'] as const) expect(kinds.has(k), k).toBe(true);
+
+    // A child's line in plain words, from the recorded tournament and mutation.
+    const child = steps.find((s) => s.kind === 'propose' && s.parentHashes.length === 1)!;
+    const told = howItWasFound(store, run.id, child.genomeHash!);
+    expect(told.at(-1)!.lines.join(' ')).toMatch(/^Its parent was chosen by drawing 2 of the \d+ living members at random .*; the best of them by front, then by how little crowded it was, `[0-9a-f]{12}` \(\d+\.\d%\), won\. The child was made by [a-z-]+: /);
+    expect(told[0]!.lines[0]).toMatch(/^As one of the first members of the population, it began as the minimal network/);
 
     const report = replayRun(store, run.id);
     expect(report.disagreement).toBeNull();
