@@ -21,3 +21,5 @@ export * from './messages/dashboard-responses.js';
 export * from './checkpoint/checkpoint-header.js';
 export * from './checkpoint/checkpoint-ref.js';
 export * from './checkpoint/checkpoint-codec.js';
+export * from './messages/search-decision.js';
+export * from './messages/champion-choice.js';

@@ -1,5 +1,5 @@
 import { afterAll, describe, expect, it } from 'vitest';
-import { parseRunConfig } from '@netbreeder/coordinator';
+import { parseRunConfig, replayRun } from '@netbreeder/coordinator';
 import { defaultSearchSpace } from '@netbreeder/shared-types';
 import { TestCluster, waitFor } from './support/harness.js';
 
@@ -40,5 +40,10 @@ describe('a run with asha-evolution', () => {
     const promoted = search.filter((e) => e.job.budget.epochs > 1);
     for (const p of promoted) expect(search.some((e) => e.genomeHash === p.genomeHash && e.job.budget.epochs < p.job.budget.epochs)).toBe(true);
     expect(new Set(search.filter((e) => e.state === 'done').map((e) => e.seq)).size).toBe(16);
+    // Every promotion and non-promotion was recorded and the search replays exactly from the store.
+    const decisions = store.searchSteps(run.id).flatMap((s) => s.decisions);
+    expect(decisions.filter((d) => d.kind === 'promotion')).toHaveLength(promoted.length);
+    expect(decisions.some((d) => d.kind === 'no-promotion')).toBe(true);
+    expect(replayRun(store, run.id)).toMatchObject({ agree: true, disagreement: null });
   }, 240_000);
 });

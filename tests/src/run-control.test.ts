@@ -1,5 +1,5 @@
 import { afterAll, describe, expect, it } from 'vitest';
-import { readRunConfigFile, type RunRecord } from '@netbreeder/coordinator';
+import { readRunConfigFile, replayRun, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
 import { spawnCli } from './support/processes.js';
 import { writeFaultRunFile } from './support/fault-run.js';
@@ -72,5 +72,10 @@ describe('run control', () => {
     const refused = await cli('pause', '--run', run.id);
     expect(refused.code).toBe(1);
     expect(refused.out).toMatch(/cannot pause run .* while it is finished/);
+    // The submitted genome was recorded as a step the algorithm was not asked about; the pause changed
+    // no decision: the search replays exactly from the store.
+    const steps = cluster.coordinator.store.searchSteps(run.id);
+    expect(steps.filter((s) => s.kind === 'submit')).toHaveLength(1);
+    expect(replayRun(cluster.coordinator.store, run.id)).toMatchObject({ agree: true, skipped: 1, disagreement: null });
   }, 180_000);
 });

@@ -6,6 +6,9 @@ import { championReportHtml } from './champion-report-html.js';
 import { championTrust } from '../trust/champion-trust.js';
 import { describePreprocessing } from '../datasets/index.js';
 import { inheritanceSummary } from './inheritance-summary.js';
+import { describeChoice, recordedChoice } from '../run/champion-choice.js';
+import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
+import { howItWasFound } from './explain-lineage.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -41,6 +44,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { evaluationId: string; latencyMsPerSample?: number; backend?: string });
   const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
+  const championsRound = (scored.find((d) => d.evaluationId === champion.evaluationId) as { round?: number } | undefined)?.round ?? 0;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   return {
     runId: run.id,
@@ -69,11 +73,32 @@ export function championSummary(store: RunStore, run: RunRecord) {
       data: 'train + validation',
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
+    /** How the champion was chosen: a user's pick, the run's rule, or the best; `sentence` says it in words. */
+    choice: (() => {
+      const choice = recordedChoice(store, run.id);
+      return { ...choice, sentence: describeChoice(choice) };
+    })(),
+    /** The decisions that produced each genome of the champion's line, in plain words (from the run's decision log). */
+    howFound: howItWasFound(store, run.id, champion.genomeHash),
+    /** The averaging ensemble, when the run asked for one: its test score beside the champion's, its members and files. */
+    ensemble: (() => {
+      const score = ensembleScore(store, run.id);
+      if (!score) return null;
+      return {
+        round: score.round ?? 0,
+        testAccuracy: score.testAccuracy,
+        championTestAccuracy: champion.testAccuracy,
+        members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
+        files: ensembleFileNames(score.members.map((m) => m.position)),
+      };
+    })(),
     /** Every genome that got the final training, with its validation (search) and test scores. */
-    candidates: store.events(run.id, 'champion-candidate-scored').map((e) => {
-      const d = e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string };
-      return { ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' };
-    }),
+    candidates: store
+      .events(run.id, 'champion-candidate-scored')
+      .map((e) => e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string; champion?: boolean; ensemblePosition?: number; round?: number })
+      // Only the round that made the champion (a pick after the run finished starts a new one).
+      .filter((d) => (d.round ?? 0) === championsRound)
+      .map((d) => ({ ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' })),
     settings: { seed: run.seed, config: run.config, dataset: run.dataset.manifest },
     /** How raw samples must be prepared before they go into the model (what the import fitted). */
     input: run.dataset.preparation ? describePreprocessing(run.dataset.preparation.preprocessing) : 'demo tiles: 16×16 grayscale, pixel values in [0, 1]',

@@ -2,6 +2,7 @@ import { INPUT_ID, topologicalOrder, type NodeAnalysis } from '@netbreeder/share
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { describeStart } from './inheritance-summary.js';
 import { championTrustHtml } from '../trust/champion-trust.js';
+import { choiceParagraph, choiceTable, ensembleLines, foundLines, sectionHtml } from './report-choice-sections.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
@@ -130,11 +131,10 @@ ${confusion}
 <h2>Final training</h2>
 ${curveSvg(c)}
 <h2>How it was chosen</h2>
-<p>${c.candidates.length > 1 ? `The ${c.candidates.length} best distinct genomes of the search were trained again on train + validation and scored on the test split; this one scored best. Because the test split chose among ${c.candidates.length}, its score is slightly optimistic.` : 'The best genome of the search was trained again on train + validation and scored once on the test split.'}</p>
-<table><tr><th>genome</th><th>validation (search)</th><th>test</th></tr>
-${c.candidates.map((k) => `<tr><td>${k.genomeHash === c.genomeHash ? '<b>champion</b> ' : ''}<code>${k.genomeHash.slice(0, 12)}</code> ${esc(k.summary)}</td><td>${pct(k.valAccuracy)}</td><td>${pct(k.testAccuracy)}</td></tr>`).join('\n')}</table>
+${sectionHtml([choiceParagraph(c), ...choiceTable(c)])}
 <h2>How it was found</h2>
-${c.lineage.length === 0 ? '<p>An initial member of the population (no mutation led to it).</p>' : `<ol>${c.lineage.map((l) => `<li><code>${l.parentHash.slice(0, 12)}</code> → <code>${l.childHash.slice(0, 12)}</code>: ${esc(l.operator)} (${esc(l.detail)})</li>`).join('')}</ol>`}
+${sectionHtml(foundLines(c))}
+${sectionHtml(ensembleLines(c))}
 <h2>Checkpoints and weight inheritance</h2>
 <p>Weight inheritance ${c.inheritance.weightInheritance ? 'on' : 'off'}. Finished search trainings: ${Object.entries(c.inheritance.byKind).filter(([, n]) => n > 0).map(([k, n]) => `${n} ${esc(k)}`).join(', ')}; ${c.inheritance.epochsReused} epoch(s) not trained again. The champion's search evaluation: ${esc(describeStart(c.inheritance.champion))}.</p>
 <h2>Feeding the model</h2>

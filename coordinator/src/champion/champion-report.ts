@@ -2,6 +2,7 @@ import type { NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
 import { championTrustMarkdown } from '../trust/champion-trust.js';
+import { choiceParagraph, choiceTable, ensembleLines, foundLines } from './report-choice-sections.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 
@@ -53,24 +54,17 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     '## How it was chosen',
     '',
-    c.candidates.length > 1
-      ? `The ${c.candidates.length} best distinct genomes of the search were each trained again on train + validation and scored on the held-out test split; the best of them by test accuracy is this champion. Because the test split chose among ${c.candidates.length}, its test score is slightly optimistic; the others' scores are below.`
-      : 'The best genome of the search was trained again on train + validation and scored once on the held-out test split.',
+    choiceParagraph(c),
     '',
-    '| genome | validation (search) | test |',
-    '|---|---|---|',
-    ...c.candidates.map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${pct(k.testAccuracy)} |`),
+    ...choiceTable(c),
     '',
     '## How it was found',
     '',
-    c.lineage.length === 0
-      ? 'It is an initial member of the population (no mutation led to it).'
-      : `${c.lineage.length} mutation(s) from an initial member:`,
-    '',
-    ...c.lineage.map((l, i) => `${i + 1}. \`${l.parentHash.slice(0, 12)}\` → \`${l.childHash.slice(0, 12)}\`: ${l.operator} (${l.detail})`),
+    ...foundLines(c),
     '',
     ...inheritanceMarkdown(c.inheritance),
     ...championTrustMarkdown(c.trust),
+    ...ensembleLines(c),
     '## Reproduce',
     '',
     `Search algorithm ${c.settings.config.search.algorithm}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,

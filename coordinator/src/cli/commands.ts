@@ -7,7 +7,9 @@ import type { RunRecord } from '../store/run-store.js';
 import { readRunConfigFile } from '../config/run-config.js';
 import { runDemo, defaultDemoWorkers } from './demo.js';
 import { statusTable } from './format.js';
-import { downloadChampion } from './export-command.js';
+import { downloadChampion, requestEnsembleAndWait } from './export-command.js';
+import { replayCommand } from './replay-command.js';
+import { pickCommand } from './pick-command.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
@@ -18,6 +20,8 @@ Commands:
   status        show a coordinator's status
   export        download a run's champion (genome, TensorFlow.js model, report)
   runs          list the runs a coordinator holds
+  replay        re-run a stored run's search and check it decides exactly as recorded
+  pick          choose a run's champion yourself (a genome of its front; admin token)
   pause, resume, stop, finish
                 control a coordinator's run (needs the admin token)
 
@@ -78,9 +82,15 @@ Examples:
 
 const EXPORT_HELP = `netbreeder export: download a run's champion into a folder.
 
-Usage: netbreeder export --run ID --out DIR [--coordinator URL] [--admin-token T]
+Usage: netbreeder export --run ID --out DIR [--ensemble K [--diversity-penalty P]] [--coordinator URL] [--admin-token T]
 
-Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md.
+Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md,
+report.html; and, when the run file asked for an averaging ensemble (champion.ensemble), its
+members and ensemble.json into DIR/ensemble/. --ensemble K asks the coordinator that ran the
+finished run for a new averaging ensemble of K accurate, mutually different genomes (the most
+accurate first, then each time the best validation accuracy minus P, default 0.05, times its
+largest architecture similarity to a member already chosen), waits while they are trained again
+and scored on the test split, then exports everything.
 
 Example:
   netbreeder export --coordinator http://build-server:${DEFAULT_PORT} --run r1abc --out ./champion
@@ -185,11 +195,26 @@ async function statusCommand(argv: string[]): Promise<number> {
 async function exportCommand(argv: string[]): Promise<number> {
   const { values } = parseArgs({
     args: argv,
-    options: { coordinator: { type: 'string' }, run: { type: 'string' }, out: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } },
+    options: {
+      coordinator: { type: 'string' },
+      run: { type: 'string' },
+      out: { type: 'string' },
+      ensemble: { type: 'string' },
+      'diversity-penalty': { type: 'string' },
+      'admin-token': { type: 'string' },
+      help: { type: 'boolean', short: 'h' },
+    },
   });
   if (values.help) return void process.stdout.write(EXPORT_HELP), 0;
   if (!values.run || !values.out) throw new Error('export needs --run ID and --out DIR (see netbreeder export --help)');
   const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN ?? null;
+  const size = numberOption('ensemble', values.ensemble, 2, 10);
+  const diversityPenalty = numberOption('diversity-penalty', values['diversity-penalty'], 0, 1, false);
+  if (size !== undefined) {
+    await requestEnsembleAndWait(values.coordinator ?? coordinatorDefault(), values.run, { size, ...(diversityPenalty === undefined ? {} : { diversityPenalty }) }, token, (a) =>
+      process.stdout.write(`training an ensemble of ${a.members.length}: ${a.members.map((m) => `${m.genomeHash.slice(0, 12)} (${(m.valAccuracy * 100).toFixed(1)}%, similarity ${m.similarity.toFixed(2)})`).join(', ')}\n`),
+    );
+  } else if (diversityPenalty !== undefined) throw new Error('--diversity-penalty goes with --ensemble K');
   const files = await downloadChampion(values.coordinator ?? coordinatorDefault(), values.run, values.out, token, (name, bytes) =>
     process.stdout.write(`  ${name} (${bytes.toLocaleString('en-US')} bytes)\n`),
   );
@@ -270,6 +295,8 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   demo: demoCommand,
   status: statusCommand,
   export: exportCommand,
+  replay: (argv) => replayCommand(argv),
+  pick: (argv) => pickCommand(argv),
 };
 
 export async function main(argv: string[]): Promise<number> {

@@ -86,6 +86,8 @@
         datasets: [
           { label: 'evaluations', data: [], pointRadius: 3.5, pointBackgroundColor: alpha(C.glaze, 0.55), pointBorderColor: C.glaze, pointBorderWidth: 1 },
           { label: 'leader', data: [], pointRadius: 7, pointStyle: 'rectRot', pointBackgroundColor: C.clay, pointBorderColor: C.ink, pointBorderWidth: 1 },
+          // Multi-objective runs: the non-dominated results (no other is as accurate for less cost), joined in cost order.
+          { label: 'front', data: [], showLine: true, stepped: 'before', borderColor: C.ochre, borderWidth: 2, pointRadius: 5, pointStyle: 'triangle', pointBackgroundColor: C.ochre, pointBorderColor: C.ink, pointBorderWidth: 1 },
         ],
       },
       options: {
@@ -99,6 +101,7 @@
             callbacks: {
               label: (c) => {
                 const p = c.raw;
+                if (p.cost !== undefined) return `${c.dataset.label === 'front' ? 'front: ' : ''}${pct(p.y)} · ${sizeKey === 'latency' ? `${p.cost.toFixed(2)} ms` : compact(p.cost)} · ${p.genomeHash.slice(0, 10)}`;
                 return `${pct(p.y)} · ${compact(p.params)} params · ${compact(p.flops)} FLOPs${p.workerId ? ` · ${p.workerId}` : ''}`;
               },
             },
@@ -125,8 +128,22 @@
       },
     });
 
+    let front = null;
+    /** The answer of /runs/:id/front for the current size key (null: not a multi-objective run): its front is drawn over the points. */
+    function setFront(answer) {
+      front = answer;
+      const toPoint = (p) => ({ x: p.cost, y: p.valAccuracy, cost: p.cost, genomeHash: p.genomeHash });
+      scatter.data.datasets[2].data = answer ? answer.points.filter((p) => p.onFront && p.cost > 0).sort((a, b) => a.cost - b.cost).map(toPoint) : [];
+      // Latency is known to the front route only, so its points come from there (and no leader mark).
+      if (sizeKey === 'latency') {
+        scatter.data.datasets[0].data = answer ? answer.points.filter((p) => p.cost > 0).map(toPoint) : [];
+        scatter.data.datasets[1].data = [];
+      }
+      scatter.update('none');
+    }
     /** Rebuilds the scatter's points from every evaluation; `leaderHash` is drawn larger. */
     function setEvaluations(points, leaderHash) {
+      if (sizeKey === 'latency') return setFront(front && front.objective === 'latency' ? front : null);
       const done = points.filter((p) => p.state === 'done' && p.valAccuracy != null && p[sizeKey] > 0);
       const toPoint = (p) => ({ x: p[sizeKey], y: p.valAccuracy, params: p.params, flops: p.flops, workerId: p.workerId });
       scatter.data.datasets[0].data = done.map(toPoint);
@@ -135,7 +152,7 @@
     }
     function setSizeKey(key, points, leaderHash) {
       sizeKey = key;
-      scatter.options.scales.x.title.text = `${key === 'params' ? 'parameters' : 'FLOPs per sample'} (log scale)`;
+      scatter.options.scales.x.title.text = `${{ params: 'parameters', flops: 'FLOPs per sample', latency: 'ms per sample alone on a worker' }[key]} (log scale)`;
       setEvaluations(points, leaderHash);
     }
     /** Running best over time and over evaluations, from evaluations sorted by finish time. */
@@ -179,7 +196,7 @@
     window.addEventListener('beforeprint', () => all.forEach((c) => c.resize()));
     window.addEventListener('afterprint', () => all.forEach((c) => c.resize()));
 
-    return { bestTime, bestCount, scatter, throughput, setEvaluations, setSizeKey, setBest, setThroughput, pct, compact };
+    return { bestTime, bestCount, scatter, throughput, setEvaluations, setSizeKey, setFront, setBest, setThroughput, pct, compact };
   }
 
   window.NbCharts = { create };

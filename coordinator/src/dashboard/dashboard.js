@@ -18,6 +18,7 @@
     pickedHash: null,
     lineageKey: null,
     sizeKey: 'params',
+    front: null, // the last /runs/:id/front answer of a multi-objective run
     lastOk: 0,
     polls: 0,
   };
@@ -244,19 +245,38 @@
     const failed = points.filter((p) => p.state === 'failed').length;
     text($('scatter-caption'), `${points.length - failed} scored evaluations${failed ? ` (${failed} failed, not drawn)` : ''} · validation accuracy against size, log scale`);
     showTop(top);
+    await refreshFront(run);
     await refreshLineage(false);
+  }
+
+  /** Multi-objective runs: the accuracy-against-cost front for the size shown, highlighted on the scatter. */
+  async function refreshFront(run) {
+    if (run.algorithm !== 'pareto-evolution') {
+      state.front = null;
+      return;
+    }
+    const answer = await getJson(`/runs/${run.id}/front?objective=${state.sizeKey}`);
+    state.front = answer;
+    $('size-latency').hidden = answer.runObjective !== 'latency';
+    charts.setFront(answer);
+    const hint = $('front-hint');
+    hint.hidden = false;
+    const cost = { params: 'parameters', flops: 'FLOPs', latency: 'latency' }[answer.objective];
+    text(hint, `front (triangles): ${answer.front.length} of ${answer.points.length} results that no other beats on both accuracy and ${cost}${answer.objective === answer.runObjective ? ', the trade-off this run searches' : ''}; pick one as champion with netbreeder pick RUN GENOME`);
   }
 
   function setSize(key) {
     state.sizeKey = key;
-    for (const [id, k] of [['size-params', 'params'], ['size-flops', 'flops']]) {
+    for (const [id, k] of [['size-params', 'params'], ['size-flops', 'flops'], ['size-latency', 'latency']]) {
       $(id).classList.toggle('on', k === key);
       $(id).setAttribute('aria-pressed', String(k === key));
     }
     charts.setSizeKey(key, sortedPoints(), state.leaderHash);
+    if (state.front && state.runId) refreshFront({ id: state.runId, algorithm: 'pareto-evolution' }).catch(() => undefined);
   }
   $('size-params').addEventListener('click', () => setSize('params'));
   $('size-flops').addEventListener('click', () => setSize('flops'));
+  $('size-latency').addEventListener('click', () => setSize('latency'));
 
   async function loop() {
     try {

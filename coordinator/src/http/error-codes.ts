@@ -17,6 +17,8 @@ export const HTTP_ERRORS = {
   NB_CHECKPOINT_TOO_LARGE: { status: 413, fix: "the checkpoint is above the run's evaluation.checkpointMaxMb; raise it in the run file or use smaller genomes" },
   NB_CHECKPOINT_REFUSED: { status: 409, fix: 'the checkpoint names no evaluation this coordinator is waiting for (unknown, finished, or another genome); nothing was stored' },
   NB_UNKNOWN_CHECKPOINT: { status: 404, fix: 'no checkpoint with that hash (or for that evaluation) is held; train from epoch 0' },
+  NB_NOT_A_RESULT: { status: 400, fix: 'pick a genome with a finished search result in this run (GET /runs/:id/front lists them)' },
+  NB_NO_ENSEMBLE: { status: 404, fix: 'set champion.ensemble in the run file; the ensemble is scored when the run finishes' },
   NB_INTERNAL: { status: 500, fix: "see the coordinator's log" },
 } as const;
 

@@ -11,6 +11,7 @@ import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import { registerDashboardRoutes } from './dashboard-routes.js';
 import { registerCheckpointRoutes } from './checkpoint-routes.js';
+import { registerChampionChoiceRoutes } from './champion-choice-routes.js';
 
 export interface HttpServerOptions {
   manager: RunManager;
@@ -152,6 +153,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
 
   registerDashboardRoutes(app, { manager, queue: opts.queue });
   registerCheckpointRoutes(app, { manager, reject, send });
+  registerChampionChoiceRoutes(app, { manager });
 
   await app.ready();
   return app;

@@ -4,13 +4,23 @@ import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { scoreChampion } from '../champion/score-champion.js';
 import { exportChampion } from '../champion/export-champion.js';
+import { scoreEnsemble } from '../champion/score-ensemble.js';
+import type { EnsembleSettings } from '@netbreeder/shared-types';
+import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, recordedChoice, type ChampionChoice } from './champion-choice.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 export interface ChampionCandidate {
   sourceEvaluationId: string;
   genomeHash: string;
+  /** Key of its final training's evaluation ids: the source's proposal number (past every proposal for a pick after the run finished). */
   seq: number;
   valAccuracy: number;
+  /** Whether it competes to be the champion (absent in runs recorded before ensembles: it does). */
+  champion?: boolean;
+  /** Its 0-based place in the run's averaging ensemble, when it is a member. */
+  ensemblePosition?: number;
+  /** Ensemble members: the largest architecture similarity to a member chosen before it (0 for the first). */
+  ensembleSimilarity?: number;
 }
 
 export interface ChampionPhaseOptions {
@@ -39,7 +49,8 @@ export class ChampionPhase {
 
   /** Chooses the candidates and queues their final trainings. */
   async begin(run: RunRecord): Promise<void> {
-    const candidates = this.chooseCandidates(run);
+    const { candidates, choice } = this.chooseCandidates(run);
+    const ensemble = run.config.champion.ensemble;
     if (candidates.length === 0) {
       this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded (or every successful one failed verification or came from a quarantined worker), so there is no champion' });
       this.o.log.error({ runId: run.id }, 'run ended without a single successful evaluation');
@@ -47,24 +58,42 @@ export class ChampionPhase {
     }
     this.o.store.transaction(() => {
       this.o.store.setRunState(run.id, 'training-champion');
-      this.o.store.logEvent(run.id, 'champion-candidates', { candidates });
+      this.o.store.logEvent(run.id, 'champion-candidates', { candidates, choice, round: 0, ...(ensemble ? { ensemble } : {}) });
     });
     this.o.log.info({ runId: run.id, candidates: candidates.length, best: candidates[0]!.valAccuracy }, 'search done; training the best genomes on train + validation');
     await this.ensureJobs(this.o.store.getRun(run.id)!);
   }
 
-  /** The best distinct genomes by validation accuracy (then fewer parameters), from eligible results only. */
-  chooseCandidates(run: RunRecord): ChampionCandidate[] {
-    const k = run.config.champion.topK;
-    const seen = new Set<string>();
+  /**
+   * The genomes that get the final training, and how the champion is chosen among them: a picked
+   * genome alone; else the best `topK` distinct genomes by validation accuracy (then fewer
+   * parameters) among the results that meet the run's rule, if it has one (none meeting it: the
+   * best overall, and the choice says so). The ensemble's members, if the run asks for one, are
+   * chosen from the same results and trained alongside. Only eligible results compete (see
+   * `eligible`: not from a quarantined worker, not rejected by verification).
+   */
+  chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice } {
+    const { topK, rule, ensemble } = run.config.champion;
+    let choice = championChoice(this.o.store, run);
+    const { pool, ruleUnmet } = candidatePool(this.o.store, run, Math.max(topK, ensemble ? ensemblePoolSize(ensemble.size) : 0), this.o.eligible);
+    if (rule && ruleUnmet && choice.by === 'rule') choice = { by: 'best', note: `no result met the rule (${describeRule(rule)}), so the best overall` };
     const out: ChampionCandidate[] = [];
-    for (const e of this.o.store.topEvaluations(run.id, k * 10)) {
-      if (seen.has(e.genomeHash) || (this.o.eligible && !this.o.eligible(e))) continue;
-      seen.add(e.genomeHash);
-      out.push({ sourceEvaluationId: e.id, genomeHash: e.genomeHash, seq: e.seq, valAccuracy: e.valAccuracy! });
-      if (out.length === k) break;
+    const add = (e: { id: string; genomeHash: string; seq: number; valAccuracy: number | null }, extra: Partial<ChampionCandidate>) => {
+      const known = out.find((c) => c.genomeHash === e.genomeHash);
+      if (known) Object.assign(known, extra, { champion: Boolean(known.champion || extra.champion) });
+      else out.push({ sourceEvaluationId: e.id, genomeHash: e.genomeHash, seq: e.seq, valAccuracy: e.valAccuracy!, champion: false, ...extra });
+    };
+    if (choice.by === 'pick') {
+      const picked = this.o.store.getEvaluation(choice.evaluationId)!;
+      add({ ...picked, valAccuracy: choice.valAccuracy }, { champion: true });
+    } else {
+      for (const e of pool.slice(0, topK)) add(e, { champion: true });
     }
-    return out;
+    if (ensemble) {
+      const members = ensembleFromPool(pool, ensemble);
+      if (members.length >= 2) members.forEach((m, i) => add(m.entry, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
+    }
+    return { candidates: out, choice };
   }
 
   candidates(runId: string): ChampionCandidate[] {
@@ -100,7 +129,9 @@ export class ChampionPhase {
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit());
     const current = this.o.store.getChampion(ev.runId);
-    const better = !current || score.accuracy > current.testAccuracy;
+    // A pick is the champion whatever it scores (it competes with no one, not even an earlier round's champion).
+    const picked = recordedChoice(this.o.store, ev.runId).by === 'pick';
+    const better = candidate.champion !== false && (picked || !current || score.accuracy > current.testAccuracy);
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
       const scored = {
@@ -111,7 +142,20 @@ export class ChampionPhase {
         testAccuracy: score.accuracy,
         testLoss: score.loss,
       };
-      this.o.store.logEvent(ev.runId, 'champion-candidate-scored', { ...scored, backend: score.backend, latencyMsPerSample: score.latencyMsPerSample });
+      this.o.store.logEvent(ev.runId, 'champion-candidate-scored', {
+        ...scored,
+        backend: score.backend,
+        latencyMsPerSample: score.latencyMsPerSample,
+        champion: candidate.champion !== false,
+        round: championRound(this.o.store, ev.runId),
+        ...(candidate.ensemblePosition === undefined ? {} : { ensemblePosition: candidate.ensemblePosition }),
+      });
+      if (candidate.ensemblePosition !== undefined) {
+        this.o.store.saveEnsembleMember(
+          { runId: ev.runId, position: candidate.ensemblePosition, evaluationId: ev.id, sourceEvaluationId: candidate.sourceEvaluationId, genomeHash: ev.genomeHash, testAccuracy: score.accuracy },
+          JSON.stringify(result.model),
+        );
+      }
       if (better) {
         this.o.store.saveChampion(
           { runId: ev.runId, ...scored, testPredictions: Array.from(score.predictions), result: { ...result, model: undefined }, createdAt: this.o.now() },
@@ -123,6 +167,39 @@ export class ChampionPhase {
     if (!recorded) return;
     this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, best: better }, 'champion candidate scored on the held-out test split');
     await this.finishIfComplete(ev.runId);
+  }
+
+  /**
+   * Scores the ensemble of the current round on the test split once (an `ensemble-scored` event),
+   * when the round has one (the run file's, or one asked of a finished run) and at least two of its
+   * members trained.
+   */
+  private async scoreEnsembleOnce(run: RunRecord): Promise<void> {
+    const round = championRound(this.o.store, run.id);
+    const settings = (this.o.store.events(run.id, 'champion-candidates').at(-1)?.detail as { ensemble?: EnsembleSettings } | undefined)?.ensemble;
+    if (!settings || this.o.store.events(run.id, 'ensemble-scored').some((e) => ((e.detail as { round?: number }).round ?? 0) === round)) return;
+    const members = this.o.store.ensembleMembers(run.id);
+    if (members.length < 2) {
+      this.o.store.logEvent(run.id, 'ensemble-skipped', { reason: `only ${members.length} member(s) finished their final training; an ensemble needs two` });
+      return;
+    }
+    const score = await scoreEnsemble(members.map((m) => JSON.parse(m.artifactsJson)), this.o.testSplit(), run.dataset.manifest.numClasses);
+    this.o.store.logEvent(run.id, 'ensemble-scored', {
+      testAccuracy: score.accuracy,
+      backend: score.backend,
+      averaging: 'mean of the members\' softmax probabilities',
+      round,
+      size: settings.size,
+      diversityPenalty: settings.diversityPenalty,
+      members: members.map((m) => ({
+        position: m.position,
+        genomeHash: m.genomeHash,
+        evaluationId: m.evaluationId,
+        testAccuracy: m.testAccuracy,
+        similarity: this.candidates(run.id).find((c) => c.genomeHash === m.genomeHash)?.ensembleSimilarity ?? null,
+      })),
+    });
+    this.o.log.info({ runId: run.id, members: members.length, testAccuracy: score.accuracy }, 'ensemble scored on the held-out test split');
   }
 
   /** After a candidate's attempt was given up: the phase may be complete without it. */
@@ -145,6 +222,7 @@ export class ChampionPhase {
       this.o.store.setRunState(runId, 'failed', { now: this.o.now(), failure: 'every champion training failed; see the events' });
       return;
     }
+    await this.scoreEnsembleOnce(run);
     this.o.store.setRunState(runId, 'finished', { now: this.o.now() });
     const finished = this.o.store.getRun(runId)!;
     const dir = await exportChampion(this.o.store, finished, `${this.o.dataDir}/runs/${runId}/champion`);

@@ -31,6 +31,7 @@ import { ChampionPhase } from './champion-phase.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
 import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 import { Verifier } from '../trust/verifier.js';
+import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -302,7 +303,7 @@ export class RunManager {
     if (run.state === 'searching' && this.searchBudgetSpent(run)) {
       const counts = this.store.counts(run.id, 'search');
       // Champion candidates are verified on another worker first (and open spot checks settled).
-      if (counts.queued + counts.running === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run)))) await this.champion.begin(run);
+      if (counts.queued + counts.running === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run).candidates))) await this.champion.begin(run);
     } else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
 
@@ -384,10 +385,14 @@ export class RunManager {
     if (!run || run.id !== this.run?.id) throw new Error(`run ${runId} is not the run this coordinator drives`);
     if (run.state !== 'searching' && run.state !== 'paused') throw new RunStateError(`run ${runId} is ${run.state}; genomes can be added while it searches`);
     const check = checkGenome(value, this.space, this.data!);
-    if (!check.ok) throw new GenomeRejectedError(check.issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message)));
+    if (!check.ok) {
+      const issues = check.issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message));
+      this.store.addSearchStep(rejectStep(run.id, 'genome', { evaluationId: null, genomeHash: null }, issues, this.now()));
+      throw new GenomeRejectedError(issues);
+    }
     const genome = canonicalGenome(check.genome);
     const proposal: Proposal = { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' };
-    const job = this.store.transaction(() => this.recordProposal(this.store.getRun(run.id)!, proposal, check.analysis));
+    const job = this.store.transaction(() => this.recordProposal(this.store.getRun(run.id)!, proposal, check.analysis, 'submit'));
     await this.opts.queue.add(job);
     return this.store.getEvaluation(job.evaluationId)!;
   }
@@ -408,19 +413,28 @@ export class RunManager {
     let current = run;
     for (let n = counts.queued + counts.running; n < target && current.proposals < run.config.budget.maxEvaluations; n++) {
       const proposal = this.algorithm!.propose();
-      const analysis = analyzeGenome(proposal.genome, this.data!);
-      if (!analysis.ok) throw new Error(`search proposed an invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
-      batch.add.push(this.recordProposal(current, proposal, analysis.analysis));
       batch.searchChanged = true;
+      const analysis = analyzeGenome(proposal.genome, this.data!);
+      if (!analysis.ok) {
+        // A bug in the search, never expected: the refusal is recorded with the call, and nothing is queued.
+        const issues = analysis.issues.map((i) => i.message);
+        this.store.addSearchStep(proposalStep(run.id, 'propose', null, proposal, this.now()));
+        this.store.addSearchStep(rejectStep(run.id, 'genome', { evaluationId: null, genomeHash: proposal.genomeHash }, issues, this.now()));
+        this.opts.log.error({ runId: run.id, genomeHash: proposal.genomeHash, issues }, 'search proposed an invalid genome; refused and recorded');
+        continue;
+      }
+      batch.add.push(this.recordProposal(current, proposal, analysis.analysis));
       current = { ...current, proposals: current.proposals + 1 };
     }
   }
 
   /**
-   * Records a proposal (genome, evaluation, lineage) as evaluation number `run.proposals` of the run
-   * and returns its job; the caller is inside a transaction, saves the algorithm's state and queues the job.
+   * Records a proposal (genome, evaluation, its search step with the decisions, lineage) as
+   * evaluation number `run.proposals` of the run and returns its job; the caller is inside a
+   * transaction, saves the algorithm's state and queues the job. `step`: `submit` for a user's
+   * genome (the algorithm was not asked, so replay does not ask it either).
    */
-  private recordProposal(run: RunRecord, proposal: Proposal, analysis: GenomeAnalysis): EvaluationJob {
+  private recordProposal(run: RunRecord, proposal: Proposal, analysis: GenomeAnalysis, step: 'propose' | 'submit' = 'propose'): EvaluationJob {
     const seq = run.proposals;
     const job: EvaluationJob = {
       schemaVersion: EVALUATION_JOB_VERSION,
@@ -446,6 +460,7 @@ export class RunManager {
       summary: describeGenome(proposal.genome, this.data!.numClasses),
     });
     this.store.addEvaluation(job, seq, this.now(), true);
+    this.store.addSearchStep(proposalStep(run.id, step, job.evaluationId, proposal, this.now()));
     for (const parent of proposal.parentHashes) {
       this.store.addLineage(run.id, {
         evaluationId: job.evaluationId,
@@ -521,6 +536,7 @@ export class RunManager {
    */
   private rejectResult(ev: EvaluationRecord, problem: string, batch: QueueBatch): void {
     this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
+    if (ev.kind === 'search') this.store.addSearchStep(rejectStep(ev.runId, 'result', { evaluationId: ev.id, genomeHash: ev.genomeHash }, [problem], this.now()));
     this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected; the job goes back in the queue');
     batch.remove.push(ev.id);
     if (this.store.countEventsNaming(ev.runId, 'rejected-result', ev.id) >= this.configOf(ev.runId).evaluation.maxAttempts) {
@@ -539,22 +555,18 @@ export class RunManager {
     if (this.isRevoked(result.workerId)) return `worker ${result.workerId} is revoked`;
     if (this.verifier.isQuarantined(result.workerId)) return `worker ${result.workerId} is quarantined (its results failed verification); another worker will run it`;
     if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
+    if (ev.kind === 'search' && result.latencyMsPerSample === undefined && this.run?.config.search.algorithm === 'pareto-evolution' && this.run.config.search.objective === 'latency') {
+      return 'this run weighs accuracy against measured latency, and the result has none (a worker older than latency measurement: update it)';
+    }
     if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
     return null;
   }
 
   private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult, batch: QueueBatch): void {
     if (this.store.recordResult(ev.id, result, this.now()) !== 'recorded') return;
-    this.algorithm!.observe({
-      evaluationId: ev.id,
-      genomeHash: ev.genomeHash,
-      genome: ev.job.genome,
-      fitness: result.valAccuracy!,
-      budgetEpochs: ev.job.budget.epochs,
-      params: result.paramCount,
-      flops: result.flops,
-      trainSeconds: result.trainSeconds,
-    });
+    const observation = observationFor(ev, result);
+    const decisions = this.algorithm!.observe(observation);
+    this.store.addSearchStep(observeStep(ev.runId, observation, decisions, this.now()));
     batch.searchChanged = true;
     batch.recorded.push({ evaluationId: ev.id, result });
     this.dropCheckpointUnlessInherited(ev);

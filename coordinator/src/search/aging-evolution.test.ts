@@ -157,3 +157,26 @@ describe('AgingEvolution on another encoding (the Variation seam)', () => {
     expect(best).toBeGreaterThan(initialBest);
   });
 });
+
+describe('aging evolution records its decisions', () => {
+  it('the tournament draw as replayed from the rng state, the winner, the mutation; then the oldest ageing out', () => {
+    const alg = evolution(3, 2, 4);
+    const ps = [alg.propose(), alg.propose(), alg.propose()];
+    expect(ps.map((p) => p.decisions![0]!.kind)).toEqual(['random-genome', 'random-genome', 'random-genome']);
+    const fitness = [0.3, 0.8, 0.5];
+    const added = ps.map((p, i) => alg.observe(observed(p, fitness[i])));
+    expect(added.map((d) => d.map((x) => x.kind))).toEqual([['member-added'], ['member-added'], ['member-added']]);
+    const rng = restoreRandom(alg.snapshot().rng);
+    const { winner, drawn } = tournamentSelect(fitness, 2, rng);
+    const child = alg.propose();
+    const [selection, mutation] = child.decisions!;
+    expect(selection).toMatchObject({ kind: 'parent-selected', method: 'tournament', populationSize: 3, sampleSize: 2 });
+    expect(selection!.kind === 'parent-selected' && selection!.drawn.map((m) => m.fitness)).toEqual(drawn.map((k) => fitness[k]));
+    expect(selection!.kind === 'parent-selected' && selection!.winner.genomeHash).toBe(ps[winner]!.genomeHash);
+    expect(mutation).toMatchObject({ kind: 'mutation', parentHash: ps[winner]!.genomeHash, childHash: child.genomeHash, operator: child.mutation!.operator });
+    // a fourth member: the oldest (the first observed, fitness 0.3) leaves
+    const out = alg.observe(observed(child, 0.1));
+    expect(out.map((d) => d.kind)).toEqual(['member-added', 'member-removed']);
+    expect(out[1]).toMatchObject({ rule: 'oldest', member: { genomeHash: ps[0]!.genomeHash, fitness: 0.3 } });
+  });
+});

@@ -1,11 +1,12 @@
-import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { createRandom, restoreRandom, SEARCH_DECISION_VERSION, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AgingEvolutionSnapshot } from './snapshot.js';
 import { tournamentSelect } from './tournament.js';
 import type { Variation } from './variation.js';
-import { childProposal, randomProposal, shortHash } from './proposals.js';
+import { childProposal, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface AgingEvolutionOptions<G> {
   /** P, S and the initial members' mutation count, already resolved (see `resolveSearchSettings`). */
@@ -76,8 +77,8 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
   propose(): Proposal<G> {
     const { populationSize: P, sampleSize: S } = this.settings;
     this.proposed++;
-    if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`);
-    if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`);
+    if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`, 'initial');
+    if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`, 'extra-initial');
 
     const { winner, drawn } = tournamentSelect(
       this.population.map((m) => m.fitness),
@@ -89,16 +90,48 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
       `tournament of ${S} draws with replacement from ${this.population.length} members ` +
       `(${new Set(drawn).size} distinct); the fittest drawn, ${shortHash(parent.genomeHash)} from evaluation ${parent.evaluationId} ` +
       `(fitness ${parent.fitness.toFixed(4)}), is the parent`;
-    return childProposal(this.variation, this.rng, parent, choice, (why) => this.initialMember(why));
+    const selection: SearchDecision = {
+      kind: 'parent-selected',
+      version: SEARCH_DECISION_VERSION,
+      reason: choice,
+      method: 'tournament',
+      populationSize: this.population.length,
+      sampleSize: S,
+      drawn: drawn.map((k) => decisionMember(this.population[k]!)),
+      winner: decisionMember(parent),
+    };
+    return childProposal(this.variation, this.rng, parent, selection, (why, before) => this.initialMember(why, 'fallback', before));
   }
 
-  observe(o: Observation<G>): void {
+  observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     // A result delivered twice is counted once while its member lives (the store dedupes by id too).
-    if (this.population.some((m) => m.evaluationId === o.evaluationId)) return;
-    this.population.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness });
+    if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
+      return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];
+    }
+    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness };
+    this.population.push(member);
     this.observed++;
-    if (this.population.length > this.settings.populationSize) this.population.shift(); // the oldest, not the worst
+    const decisions: SearchDecision[] = [
+      {
+        kind: 'member-added',
+        version: SEARCH_DECISION_VERSION,
+        reason: `${shortHash(o.genomeHash)} from evaluation ${o.evaluationId} (fitness ${o.fitness.toFixed(4)}) joins the population as its youngest member`,
+        member: decisionMember(member),
+        size: this.population.length,
+      },
+    ];
+    if (this.population.length > this.settings.populationSize) {
+      const oldest = this.population.shift()!; // the oldest, not the worst
+      decisions.push({
+        kind: 'member-removed',
+        version: SEARCH_DECISION_VERSION,
+        reason: `the population holds more than ${this.settings.populationSize}: its oldest member, ${shortHash(oldest.genomeHash)} from evaluation ${oldest.evaluationId} (fitness ${oldest.fitness.toFixed(4)}), ages out whatever its fitness`,
+        rule: 'oldest',
+        member: decisionMember(oldest),
+      });
+    }
+    return decisions;
   }
 
   forget(drop: (evaluationId: string) => boolean): number {
@@ -126,9 +159,9 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
     };
   }
 
-  private initialMember(why: string): Proposal<G> {
+  private initialMember(why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
     this.initialProposed++;
-    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why);
+    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why, role, before);
   }
 
 }

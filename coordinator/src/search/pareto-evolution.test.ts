@@ -74,6 +74,14 @@ describe('ParetoEvolution', () => {
     expect(alg.members()[0]!.cost).toBe(777);
   });
 
+  it('uses the measured latency when asked', () => {
+    const alg = pareto(3, 2, 'latency');
+    const p = alg.propose();
+    alg.observe({ ...result(p, 0.5, 10, 777), latency: 1.25 });
+    expect(alg.members()[0]!.cost).toBe(1.25);
+    expect(() => alg.observe(result(alg.propose(), 0.5, 10, 777))).toThrow(/minimises latency/);
+  });
+
   it('needs the objective on every result, and counts a repeated result once', () => {
     const alg = pareto(3, 2);
     const p = alg.propose();

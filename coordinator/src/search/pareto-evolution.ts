@@ -1,11 +1,12 @@
-import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { createRandom, restoreRandom, SEARCH_DECISION_VERSION, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
 import { crowdedCompare, rankAndCrowding, type RankAndCrowding } from './nsga2.js';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { childProposal, randomProposal, shortHash } from './proposals.js';
+import { childProposal, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface ParetoEvolutionOptions<G> {
   /** P, S, the initial members' mutation count and the size objective, already resolved. */
@@ -69,8 +70,8 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
   propose(): Proposal<G> {
     const { populationSize: P, sampleSize: S, objective } = this.settings;
     this.proposed++;
-    if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`);
-    if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`);
+    if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`, 'initial');
+    if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`, 'extra-initial');
 
     const rc = rankAndCrowding(objectives(this.population));
     const drawn: number[] = [];
@@ -85,20 +86,57 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
       `crowded tournament of ${S} draws with replacement from ${this.population.length} members (${new Set(drawn).size} distinct); ` +
       `the best drawn, ${shortHash(parent.genomeHash)} from evaluation ${parent.evaluationId} (fitness ${parent.fitness.toFixed(4)}, ` +
       `${objective} ${parent.cost}, front ${rc.rank[winner]}, crowding ${rc.distance[winner]!.toFixed(3)}), is the parent`;
-    return childProposal(this.variation, this.rng, parent, choice, (why) => this.initialMember(why));
+    const member = (k: number) => decisionMember(this.population[k]!, { cost: this.population[k]!.cost, front: rc.rank[k]!, crowding: rc.distance[k]! });
+    const selection: SearchDecision = {
+      kind: 'parent-selected',
+      version: SEARCH_DECISION_VERSION,
+      reason: choice,
+      method: 'crowded-tournament',
+      populationSize: this.population.length,
+      sampleSize: S,
+      drawn: drawn.map(member),
+      winner: member(winner),
+    };
+    return childProposal(this.variation, this.rng, parent, selection, (why, before) => this.initialMember(why, 'fallback', before));
   }
 
-  observe(o: Observation<G>): void {
+  observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     const { objective, populationSize } = this.settings;
     const cost = o[objective];
     if (typeof cost !== 'number' || !Number.isFinite(cost) || cost < 0) {
       throw new TypeError(`observation ${o.evaluationId}: pareto-evolution minimises ${objective} and needs it as a finite number ≥ 0, got ${String(cost)}`);
     }
-    if (this.population.some((m) => m.evaluationId === o.evaluationId)) return;
-    this.population.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, cost });
+    if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
+      return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];
+    }
+    const joined = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, cost };
+    this.population.push(joined);
     this.observed++;
-    if (this.population.length > populationSize) this.population.splice(this.worst(rankAndCrowding(objectives(this.population))), 1);
+    const decisions: SearchDecision[] = [
+      {
+        kind: 'member-added',
+        version: SEARCH_DECISION_VERSION,
+        reason: `${shortHash(o.genomeHash)} from evaluation ${o.evaluationId} (fitness ${o.fitness.toFixed(4)}, ${objective} ${cost}) joins the population`,
+        member: decisionMember(joined, { cost }),
+        size: this.population.length,
+      },
+    ];
+    if (this.population.length > populationSize) {
+      const rc = rankAndCrowding(objectives(this.population));
+      const w = this.worst(rc);
+      const [gone] = this.population.splice(w, 1);
+      decisions.push({
+        kind: 'member-removed',
+        version: SEARCH_DECISION_VERSION,
+        reason:
+          `the population holds more than ${populationSize}: ${shortHash(gone!.genomeHash)} from evaluation ${gone!.evaluationId} (fitness ${gone!.fitness.toFixed(4)}, ${objective} ${gone!.cost}) ` +
+          `ranks last by crowded comparison (front ${rc.rank[w]}, crowding ${rc.distance[w]!.toFixed(3)}) and leaves`,
+        rule: 'crowded-worst',
+        member: decisionMember(gone!, { cost: gone!.cost, front: rc.rank[w]!, crowding: rc.distance[w]! }),
+      });
+    }
+    return decisions;
   }
 
   forget(drop: (evaluationId: string) => boolean): number {
@@ -133,9 +171,9 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
     return worst;
   }
 
-  private initialMember(why: string): Proposal<G> {
+  private initialMember(why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
     this.initialProposed++;
-    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why);
+    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why, role, before);
   }
 
 }

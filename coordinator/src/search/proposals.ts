@@ -1,4 +1,4 @@
-import type { Random } from '@netbreeder/shared-types';
+import { SEARCH_DECISION_VERSION, type Random, type SearchDecision } from '@netbreeder/shared-types';
 import { MutationError } from './mutations.js';
 import type { Proposal } from './search-algorithm.js';
 import { describeMutations, randomGenome, type Variation } from './variation.js';
@@ -6,45 +6,64 @@ import { describeMutations, randomGenome, type Variation } from './variation.js'
 /** The first 12 hex digits of a genome hash, for reasons and logs. */
 export const shortHash = (hash: string): string => hash.slice(0, 12);
 
+/** Why a parentless genome was proposed (see the `random-genome` decision). */
+export type RandomRole = Extract<SearchDecision, { kind: 'random-genome' }>['role'];
+
 /**
  * A parentless proposal: the minimal genome with 0 to `maxMutations` random mutations. The random
- * draws are the same, in the same order, whichever algorithm asks.
+ * draws are the same, in the same order, whichever algorithm asks. Its decisions: `before` (what
+ * led here), then the `random-genome` decision.
  */
-export function randomProposal<G>(variation: Variation<G>, rng: Random, maxMutations: number, why: string): Proposal<G> {
+export function randomProposal<G>(variation: Variation<G>, rng: Random, maxMutations: number, why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
   const { genome, mutations, requested } = randomGenome(variation, rng, rng.int(0, maxMutations));
   const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
+  const reason = `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`;
+  const hash = variation.hash(genome);
   return {
     genome,
-    genomeHash: variation.hash(genome),
+    genomeHash: hash,
     parentHashes: [],
     mutation: null,
-    reason: `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`,
+    reason,
+    decisions: [
+      ...before,
+      { kind: 'random-genome', version: SEARCH_DECISION_VERSION, reason, role, genomeHash: hash, requested, mutations: mutations.map((m) => ({ operator: m.operator, detail: m.detail })) },
+    ],
   };
 }
 
 /**
- * A mutated child of `parent`, its reason saying how the parent was `chosen`; when the parent has
- * no valid mutation, `fallback` gives the proposal instead (with the reason why).
+ * A mutated child of `parent`, its reason starting with how the parent was chosen (the `selection`
+ * decision, recorded first); when the parent has no valid mutation, `fallback` gives the proposal
+ * instead, with the reason why and the decisions that led to it.
  */
 export function childProposal<G>(
   variation: Variation<G>,
   rng: Random,
   parent: { genome: G; genomeHash: string },
-  chosen: string,
-  fallback: (why: string) => Proposal<G>,
+  selection: SearchDecision,
+  fallback: (why: string, before: SearchDecision[]) => Proposal<G>,
 ): Proposal<G> {
+  const chosen = selection.reason;
   let child: ReturnType<Variation<G>['mutate']>;
   try {
     child = variation.mutate(parent.genome, rng);
   } catch (err) {
     if (!(err instanceof MutationError)) throw err;
-    return fallback(`${chosen}, but it has no valid mutation (${err.message}); a fresh member instead`);
+    const why = `${chosen}, but it has no valid mutation (${err.message}); a fresh member instead`;
+    return fallback(why, [selection, { kind: 'mutation-impossible', version: SEARCH_DECISION_VERSION, reason: why, parentHash: parent.genomeHash, message: err.message }]);
   }
+  const hash = child.genomeHash ?? variation.hash(child.genome);
+  const reason = `${chosen}; ${child.mutation.operator}: ${child.mutation.detail}`;
   return {
     genome: child.genome,
-    genomeHash: child.genomeHash ?? variation.hash(child.genome),
+    genomeHash: hash,
     parentHashes: [parent.genomeHash],
     mutation: child.mutation,
-    reason: `${chosen}; ${child.mutation.operator}: ${child.mutation.detail}`,
+    reason,
+    decisions: [
+      selection,
+      { kind: 'mutation', version: SEARCH_DECISION_VERSION, reason: `${child.mutation.operator}: ${child.mutation.detail}`, parentHash: parent.genomeHash, childHash: hash, operator: child.mutation.operator, detail: child.mutation.detail },
+    ],
   };
 }

@@ -1,10 +1,11 @@
-import { createRandom, restoreRandom, type Genome, type Random } from '@netbreeder/shared-types';
+import { createRandom, restoreRandom, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type RandomSearchSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { randomProposal } from './proposals.js';
+import { ignoredObservation } from './decisions.js';
 
 export interface RandomSearchOptions<G> {
   /** The most random mutations per sample, already resolved (see `resolveSearchSettings`). */
@@ -49,12 +50,13 @@ export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
 
   propose(): Proposal<G> {
     this.proposed++;
-    return randomProposal(this.variation, this.rng, this.settings.randomMutations, `random sample ${this.proposed}`);
+    return randomProposal(this.variation, this.rng, this.settings.randomMutations, `random sample ${this.proposed}`, 'random-sample');
   }
 
-  observe(o: Observation<G>): void {
+  observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     this.observed++;
+    return [ignoredObservation(o, 'counted-only', 'random search counts results and learns nothing from them')];
   }
 
   snapshot(): RandomSearchSnapshot {

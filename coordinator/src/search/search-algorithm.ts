@@ -1,4 +1,4 @@
-import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchSpace } from '@netbreeder/shared-types';
+import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchDecision, type SearchSpace } from '@netbreeder/shared-types';
 import { AgingEvolution } from './aging-evolution.js';
 import { minimalGenome } from './minimal-genome.js';
 import type { Mutation, MutateOptions } from './mutations.js';
@@ -27,6 +27,12 @@ export interface Proposal<G = Genome> {
   budgetEpochs?: number;
   /** For a promotion: the evaluation of the lower rung it was promoted from (weight inheritance continues its checkpoint). */
   promotedFrom?: string;
+  /**
+   * Every choice that led to this proposal, in order, with its reason (tournament, mutation,
+   * promotion, …): what the coordinator stores with the proposal and replay compares. The
+   * algorithms here always fill it; a proposal made outside an algorithm (a user's genome) has none.
+   */
+  decisions?: SearchDecision[];
 }
 
 /** A finished evaluation the algorithm learns from. */
@@ -43,6 +49,8 @@ export interface Observation<G = Genome> {
   /** Size and cost of the genome, for multi-objective algorithms (from `analyzeGenome`). */
   params?: number;
   flops?: number;
+  /** Milliseconds one sample takes alone on the worker's CPU (measured after training), for the `latency` objective. */
+  latency?: number;
   /** Seconds the training took on its worker. */
   trainSeconds?: number;
 }
@@ -57,7 +65,8 @@ export interface Observation<G = Genome> {
 export interface SearchAlgorithm<G = Genome> {
   readonly name: string;
   propose(): Proposal<G>;
-  observe(o: Observation<G>): void;
+  /** Learns from a result; returns what it did with it (joined, removed whom, ignored why), for the record. */
+  observe(o: Observation<G>): SearchDecision[];
   /**
    * Removes from the population (or rungs) every member whose evaluation `drop` names, as if its
    * result had never arrived: the results of a quarantined worker no longer count for selection.

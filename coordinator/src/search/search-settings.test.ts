@@ -22,6 +22,6 @@ describe('resolveSearchSettings', () => {
     expect(() => resolveSearchSettings({ ...base, eta: 1 })).toThrow(/eta must be a whole number ≥ 2, got 1/);
     expect(() => resolveSearchSettings({ ...base, minEpochs: 0 })).toThrow(/minEpochs must be a whole number ≥ 1/);
     expect(() => resolveSearchSettings({ ...base, minEpochs: 4, maxEpochs: 3 })).toThrow(/maxEpochs \(3\) must be at least minEpochs \(4\)/);
-    expect(() => resolveSearchSettings({ ...base, objective: 'latency' as never })).toThrow(/objective must be one of params, flops, got latency/);
+    expect(() => resolveSearchSettings({ ...base, objective: 'weight' as never })).toThrow(/objective must be one of params, flops, latency, got weight/);
   });
 });

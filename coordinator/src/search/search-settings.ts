@@ -28,9 +28,9 @@ export interface SearchSettings {
   objective?: SizeObjective;
 }
 
-/** A size or cost to minimise against accuracy: the genome's parameter count or its FLOPs per sample. */
-export type SizeObjective = 'params' | 'flops';
-export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops'];
+/** A size or cost to minimise against accuracy: the genome's parameter count, its FLOPs per sample, or its measured CPU latency per sample (ms). */
+export type SizeObjective = 'params' | 'flops' | 'latency';
+export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops', 'latency'];
 
 export type ResolvedSearchSettings = Required<SearchSettings>;
 

@@ -241,3 +241,29 @@ describe('genomes of another encoding', () => {
     expect(alg.rungMembers()[1]!.length).toBeGreaterThan(0);
   });
 });
+
+describe('successive halving records why it promotes or does not', () => {
+  it('names the rank, the quota and the threshold of a promotion, then each rung it scanned when none is due (hand-computed, eta 3)', () => {
+    const alg = asha('asha', 3, 1, 9);
+    const ps = batchRungZero(alg, [0.2, 0.9, 0.5]);
+    const promotion = alg.propose();
+    expect(promotion.genomeHash).toBe(ps[1]!.genomeHash);
+    // rung 0 holds 3 results: quota floor(3/3) = 1, so only the best (0.9) may move up
+    expect(promotion.decisions).toEqual([
+      expect.objectContaining({ kind: 'promotion', fromRung: 0, toRung: 1, fromEpochs: 1, toEpochs: 3, rank: 1, rungSize: 3, quota: 1, threshold: 0.9, member: expect.objectContaining({ fitness: 0.9 }) }),
+    ]);
+    const fresh = alg.propose();
+    expect(fresh.budgetEpochs).toBe(1);
+    expect(fresh.decisions![0]).toMatchObject({
+      kind: 'no-promotion',
+      rungs: [
+        { rung: 1, epochs: 3, size: 0, quota: 0, promoted: 0, threshold: null },
+        { rung: 0, epochs: 1, size: 3, quota: 1, promoted: 1, threshold: 0.9 },
+      ],
+    });
+    expect(fresh.decisions![1]).toMatchObject({ kind: 'random-genome', role: 'random-sample' });
+    // its result enters rung 1; one off every rung is counted and left out
+    expect(alg.observe(result(promotion, 0.95))).toEqual([expect.objectContaining({ kind: 'member-added', rung: 1, size: 1 })]);
+    expect(alg.observe(result(fresh, 0.4, 7))).toEqual([expect.objectContaining({ kind: 'observation-ignored', why: 'off-rung' })]);
+  });
+});

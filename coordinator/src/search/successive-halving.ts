@@ -1,4 +1,4 @@
-import type { Genome } from '@netbreeder/shared-types';
+import { SEARCH_DECISION_VERSION, type Genome, type SearchDecision } from '@netbreeder/shared-types';
 import { AgingEvolution } from './aging-evolution.js';
 import { rungBudgets } from './hyperband-brackets.js';
 import { assertObservation } from './observation.js';
@@ -8,6 +8,7 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { shortHash } from './proposals.js';
+import { decisionMember, ignoredObservation } from './decisions.js';
 
 /** Where new configurations come from: independent random genomes, or children of aging evolution. */
 export type AshaVariant = 'asha' | 'asha-evolution';
@@ -98,16 +99,23 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
   propose(): Proposal<G> {
     this.proposed++;
     const { eta } = this.settings;
+    const scanned: Extract<SearchDecision, { kind: 'no-promotion' }>['rungs'] = [];
     for (let k = this.budgets.length - 2; k >= 0; k--) {
       const rung = this.rungs[k]!;
       const quota = Math.floor(rung.length / eta);
-      if (!quota) continue;
       const order = rung.map((_, i) => i).sort((a, b) => rung[b]!.fitness - rung[a]!.fitness || a - b);
+      const threshold = quota ? rung[order[quota - 1]!]!.fitness : null;
+      scanned.push({ rung: k, epochs: this.budgets[k]!, size: rung.length, quota, promoted: rung.filter((m) => m.promoted).length, threshold });
+      if (!quota) continue;
       for (let place = 0; place < quota; place++) {
         const m = rung[order[place]!]!;
         if (m.promoted) continue;
         m.promoted = true;
         this.promotions++;
+        const reason =
+          `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
+          `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
+          `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`;
         return {
           genome: structuredClone(m.genome),
           genomeHash: m.genomeHash,
@@ -115,31 +123,63 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
           mutation: null,
           budgetEpochs: this.budgets[k + 1]!,
           promotedFrom: m.evaluationId,
-          reason:
-            `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
-            `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
-            `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`,
+          reason,
+          decisions: [
+            {
+              kind: 'promotion',
+              version: SEARCH_DECISION_VERSION,
+              reason,
+              fromRung: k,
+              toRung: k + 1,
+              fromEpochs: this.budgets[k]!,
+              toEpochs: this.budgets[k + 1]!,
+              rank: place + 1,
+              rungSize: rung.length,
+              quota,
+              threshold: threshold!,
+              member: decisionMember(m),
+            },
+          ],
         };
       }
     }
     const fresh = this.source.propose();
-    return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}` };
+    const none: SearchDecision = {
+      kind: 'no-promotion',
+      version: SEARCH_DECISION_VERSION,
+      reason: `no rung below the top has a result in its top floor(n/${eta}) that is not promoted yet; a new configuration starts at rung 0 (${this.budgets[0]} epochs)`,
+      rungs: scanned,
+    };
+    return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}`, decisions: [none, ...(fresh.decisions ?? [])] };
   }
 
-  observe(o: Observation<G>): void {
+  observe(o: Observation<G>): SearchDecision[] {
     assertObservation(o, this.variation);
     const k = o.budgetEpochs === undefined ? -1 : this.budgets.indexOf(o.budgetEpochs);
     if (k < 0) {
       // Trained for no rung's budget (a genome a user submitted with its own epochs): comparable with
       // no rung, so it is counted and otherwise left out.
       this.offRung++;
-      return;
+      return [ignoredObservation(o, 'off-rung', `trained for ${o.budgetEpochs ?? 'its own'} epochs, no rung's budget (${this.budgets.join(', ')}); comparable with no rung`)];
     }
-    if (k === 0) this.source.observe(o); // evolution learns from equal-budget results only
+    // Evolution learns from equal-budget results only.
+    const fromSource = k === 0 ? this.source.observe(o) : [];
     const rung = this.rungs[k]!;
-    if (rung.some((m) => m.genomeHash === o.genomeHash)) return;
-    rung.push({ evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false });
+    if (rung.some((m) => m.genomeHash === o.genomeHash)) return [...fromSource, ignoredObservation(o, 'duplicate', `rung ${k} already holds genome ${shortHash(o.genomeHash)}`)];
+    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false };
+    rung.push(member);
     this.observed++;
+    return [
+      ...fromSource,
+      {
+        kind: 'member-added',
+        version: SEARCH_DECISION_VERSION,
+        reason: `${shortHash(o.genomeHash)} from evaluation ${o.evaluationId} (fitness ${o.fitness.toFixed(4)}) enters rung ${k} (${this.budgets[k]} epochs)`,
+        member: decisionMember(member),
+        rung: k,
+        size: rung.length,
+      },
+    ];
   }
 
   forget(drop: (evaluationId: string) => boolean): number {

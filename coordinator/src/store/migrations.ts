@@ -225,4 +225,33 @@ export const MIGRATIONS: readonly string[] = [
         cpu_seconds_without_watts = cpu_seconds_without_watts + excluded.cpu_seconds_without_watts;
   END;
   `,
+  // 5: every search decision with its reason, one row per call of the algorithm (or refusal by
+  // the coordinator), in the order they were made, so a run replays from the store and its report
+  // explains the champion's line; and the retrained members of an averaging ensemble.
+  `
+  CREATE TABLE search_steps (
+    run_id TEXT NOT NULL REFERENCES runs(id),
+    step INTEGER NOT NULL,
+    kind TEXT NOT NULL CHECK (kind IN ('propose', 'observe', 'submit', 'reject')),
+    evaluation_id TEXT,
+    genome_hash TEXT,
+    parent_hashes_json TEXT NOT NULL,
+    budget_epochs INTEGER,
+    reason TEXT NOT NULL,
+    decisions_json TEXT NOT NULL,
+    at INTEGER NOT NULL,
+    PRIMARY KEY (run_id, step)
+  );
+  CREATE INDEX search_steps_by_genome ON search_steps(run_id, genome_hash);
+  CREATE TABLE ensemble_members (
+    run_id TEXT NOT NULL REFERENCES runs(id),
+    position INTEGER NOT NULL,
+    evaluation_id TEXT NOT NULL,
+    source_evaluation_id TEXT NOT NULL,
+    genome_hash TEXT NOT NULL,
+    test_accuracy REAL NOT NULL,
+    artifacts_json TEXT NOT NULL,
+    PRIMARY KEY (run_id, position)
+  );
+  `,
 ];

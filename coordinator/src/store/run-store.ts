@@ -1,5 +1,5 @@
 import Database from 'better-sqlite3';
-import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, WorkerHeartbeat } from '@netbreeder/shared-types';
+import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, SearchDecision, SearchStep, WorkerHeartbeat } from '@netbreeder/shared-types';
 import { MIGRATIONS } from './migrations.js';
 import type { DatasetPreparation } from '../datasets/index.js';
 
@@ -104,6 +104,20 @@ const checkpointFromRow = (r: Row): CheckpointRecord => ({
   path: r.path as string,
   createdAt: r.created_at as number,
 });
+
+/** One retrained member of a run's averaging ensemble. */
+export interface EnsembleMemberRecord {
+  runId: string;
+  /** 0-based place in the ensemble (the order the members were chosen). */
+  position: number;
+  /** Its final training (a champion-kind evaluation). */
+  evaluationId: string;
+  /** The search evaluation that earned it its place. */
+  sourceEvaluationId: string;
+  genomeHash: string;
+  /** Its own score on the held-out test split. */
+  testAccuracy: number;
+}
 
 /** Outcome of offering a result to the store: only `recorded` changed anything. */
 export type RecordOutcome = 'recorded' | 'duplicate' | 'unknown-evaluation';
@@ -555,5 +569,66 @@ export class RunStore {
   /** How many checkpoint rows name this file (0: the file may be deleted). */
   checkpointFileUses(sha256: string): number {
     return (this.sql('SELECT COUNT(*) AS n FROM checkpoints WHERE sha256 = ?').get(sha256) as Row).n as number;
+  }
+
+  // ---- search decisions and ensembles (migration 5) ------------------------------------------
+
+  /** Appends one step of a run's search (a propose or observe call with its decisions, a submission, a refusal); returns its number. */
+  addSearchStep(step: Omit<SearchStep, 'step'>): number {
+    const next = (this.sql('SELECT COALESCE(MAX(step) + 1, 0) AS n FROM search_steps WHERE run_id = ?').get(step.runId) as Row).n as number;
+    this
+      .sql(
+        `INSERT INTO search_steps (run_id, step, kind, evaluation_id, genome_hash, parent_hashes_json, budget_epochs, reason, decisions_json, at)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(step.runId, next, step.kind, step.evaluationId, step.genomeHash, JSON.stringify(step.parentHashes), step.budgetEpochs, step.reason, JSON.stringify(step.decisions), step.at);
+    return next;
+  }
+
+  /** A run's search steps in the order they were made; with `genomeHashes`, only the steps about one of those genomes. */
+  searchSteps(runId: string, genomeHashes?: readonly string[]): SearchStep[] {
+    const rows = (genomeHashes
+      ? this.sql(`SELECT * FROM search_steps WHERE run_id = ? AND genome_hash IN (SELECT value FROM json_each(?)) ORDER BY step`).all(runId, JSON.stringify(genomeHashes))
+      : this.sql('SELECT * FROM search_steps WHERE run_id = ? ORDER BY step').all(runId)) as Row[];
+    return rows.map((r) => ({
+      runId,
+      step: r.step as number,
+      kind: r.kind as SearchStep['kind'],
+      evaluationId: (r.evaluation_id as string | null) ?? null,
+      genomeHash: (r.genome_hash as string | null) ?? null,
+      parentHashes: JSON.parse(r.parent_hashes_json as string) as string[],
+      budgetEpochs: (r.budget_epochs as number | null) ?? null,
+      reason: r.reason as string,
+      decisions: JSON.parse(r.decisions_json as string) as SearchDecision[],
+      at: r.at as number,
+    }));
+  }
+
+  /** Stores one retrained ensemble member with its model (replacing one at the same position). */
+  saveEnsembleMember(m: EnsembleMemberRecord, artifactsJson: string): void {
+    this
+      .sql(
+        `INSERT OR REPLACE INTO ensemble_members (run_id, position, evaluation_id, source_evaluation_id, genome_hash, test_accuracy, artifacts_json)
+         VALUES (?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(m.runId, m.position, m.evaluationId, m.sourceEvaluationId, m.genomeHash, m.testAccuracy, artifactsJson);
+  }
+
+  /** Forgets a run's ensemble members (before a new ensemble is trained). */
+  clearEnsembleMembers(runId: string): void {
+    this.sql('DELETE FROM ensemble_members WHERE run_id = ?').run(runId);
+  }
+
+  /** A run's retrained ensemble members by position, with their models' JSON. */
+  ensembleMembers(runId: string): Array<EnsembleMemberRecord & { artifactsJson: string }> {
+    return (this.sql('SELECT * FROM ensemble_members WHERE run_id = ? ORDER BY position').all(runId) as Row[]).map((r) => ({
+      runId,
+      position: r.position as number,
+      evaluationId: r.evaluation_id as string,
+      sourceEvaluationId: r.source_evaluation_id as string,
+      genomeHash: r.genome_hash as string,
+      testAccuracy: r.test_accuracy as number,
+      artifactsJson: r.artifacts_json as string,
+    }));
   }
 }

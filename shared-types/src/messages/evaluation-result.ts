@@ -66,6 +66,8 @@ export const EvaluationResultSchema = Type.Object(
      * results of workers older than accounting.
      */
     cpuSeconds: Type.Optional(Finite({ minimum: 0 })),
+    /** Median ms to classify one sample alone on the worker's CPU after training (absent from workers older than this field). */
+    latencyMsPerSample: Type.Optional(Finite({ minimum: 0 })),
     model: Type.Optional(ModelArtifactsSchema),
     /** How the training started (fresh, resumed from a checkpoint, inherited weights); absent in results of workers before checkpoints. */
     start: Type.Optional(TrainingStartSchema),

@@ -140,6 +140,33 @@ export const SearchAlgorithmNameSchema = Type.Union([
 ]);
 export type SearchAlgorithmName = Static<typeof SearchAlgorithmNameSchema>;
 
+/** The champion must be the best validation accuracy under these limits (each optional). */
+export const ChampionRuleSchema = Type.Object(
+  {
+    maxParams: Type.Optional(Type.Integer({ minimum: 1 })),
+    maxFlops: Type.Optional(Type.Integer({ minimum: 1 })),
+    maxLatencyMs: Type.Optional(Type.Number({ exclusiveMinimum: 0 })),
+  },
+  { additionalProperties: false, minProperties: 1 },
+);
+export type ChampionRule = Static<typeof ChampionRuleSchema>;
+
+/**
+ * An averaging ensemble chosen greedily: the most accurate genome first, then each time the one
+ * with the highest validation accuracy minus `diversityPenalty` times its largest architecture
+ * similarity (0 to 1) to a member already chosen.
+ */
+export const EnsembleSettingsSchema = Type.Object(
+  {
+    /** Members, each retrained like a champion candidate. */
+    size: Type.Integer({ minimum: 2, maximum: 10 }),
+    /** Accuracy given up per unit of similarity to the nearest chosen member. @default 0.05 */
+    diversityPenalty: Type.Number({ minimum: 0, maximum: 1, default: 0.05 }),
+  },
+  { additionalProperties: false },
+);
+export type EnsembleSettings = Static<typeof EnsembleSettingsSchema>;
+
 /** A run file: what to search, on what data, for how long. Every field has a default. */
 export const RunConfigSchema = Type.Object(
   {
@@ -180,8 +207,12 @@ export const RunConfigSchema = Type.Object(
          * below it. Must be at least minEpochs. @default 9
          */
         maxEpochs: Type.Integer({ minimum: 1, maximum: 1000, default: 9 }),
-        /** What `pareto-evolution` minimises against validation accuracy: parameter count or FLOPs per sample. @default "params" */
-        objective: Type.Union([Type.Literal('params'), Type.Literal('flops')], { default: 'params' }),
+        /**
+         * What `pareto-evolution` minimises against validation accuracy: parameter count, FLOPs per
+         * sample, or `latency`, the milliseconds one sample takes alone on the worker's CPU as the
+         * worker measured it after training (noisier: it depends on the PC). @default "params"
+         */
+        objective: Type.Union([Type.Literal('params'), Type.Literal('flops'), Type.Literal('latency')], { default: 'params' }),
         /**
          * Weight inheritance: a candidate promoted by `asha`/`asha-evolution` continues from its own
          * checkpoint of the lower rung, and a child of evolution starts from its parent's final
@@ -227,6 +258,14 @@ export const RunConfigSchema = Type.Object(
          * on the held-out test split is exported (the report lists every candidate's scores).
          */
         topK: Type.Integer({ minimum: 1, maximum: 20, default: 3 }),
+        /**
+         * Limits the champion must meet: only search results under every limit given compete (the
+         * best `topK` of them by validation accuracy get the final training). `maxLatencyMs` is the
+         * worker-measured milliseconds per sample alone. A pick (`netbreeder pick`) overrides it.
+         */
+        rule: Type.Optional(ChampionRuleSchema),
+        /** Also export an averaging ensemble of accurate, diverse genomes (see `ensemble.size`). */
+        ensemble: Type.Optional(EnsembleSettingsSchema),
       },
       { additionalProperties: false, default: {} },
     ),

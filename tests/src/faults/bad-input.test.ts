@@ -91,6 +91,13 @@ describe('bad input is refused with a clear reason and changes nothing', () => {
     expect(storeState(cluster.coordinator.store, run.id)).toBe(before);
   });
 
+  it('has each refused result in the decision log, with its reason', () => {
+    const refused = cluster.coordinator.store.searchSteps(run.id).filter((s) => s.kind === 'reject').map((s) => s.decisions[0]!);
+    expect(refused).toHaveLength(rejections());
+    for (const d of refused) expect(d).toMatchObject({ kind: 'rejected', subject: 'result', version: 1 });
+    expect(refused.map((d) => (d.kind === 'rejected' ? d.issues.join(' ') : '')).join('\n')).toContain('names evaluation');
+  });
+
   it('records a good result once, and ignores the same result delivered again', async () => {
     const id = await deliver(goodResult);
     await waitFor('the good result', () => cluster.coordinator.store.counts(run.id).done === 1, 20_000, 100);

@@ -2,7 +2,7 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { RunStore, spawnWorker } from '@netbreeder/coordinator';
+import { RunStore, replayRun, spawnWorker } from '@netbreeder/coordinator';
 import { REDIS_URL, uniquePrefix, waitFor } from '../support/harness.js';
 import { freePort, signalTree, startCoordinatorProcess, type Managed } from '../support/processes.js';
 import { FAULT_LOCK_MS, FAULT_STALLED_CHECK_MS, faultWorkerArgs, writeFaultRunFile } from '../support/fault-run.js';
@@ -56,6 +56,8 @@ describe('a coordinator killed mid-run', () => {
       expect(done).toHaveLength(16);
       expect(s.getRun(before.run.id)!.proposals).toBe(16);
       expect(done.length).toBeGreaterThanOrEqual(before.counts.done);
+      // Killed mid-run, it still decided exactly as the log says: the search replays from the store.
+      expect(replayRun(s, before.run.id)).toMatchObject({ agree: true, disagreement: null, proposals: 16 });
     });
   }, 300_000);
 });

@@ -5,6 +5,7 @@ export { buildModel, HEAD_DENSE_NAME, HEAD_FLATTEN_NAME } from './build-model.js
 export { SeededDropout, type SeededDropoutArgs } from './seeded-dropout.js';
 export { trainGenome, DIVERGED_LOSS, type TrainRequest, type TrainOutcome } from './train-genome.js';
 export { evaluateModel, crossEntropy, type ModelEvaluation } from './evaluate-model.js';
+export { singleSampleLatencyMs } from './measure-latency.js';
 export { modelToMessage, artifactsFromMessage, loadModelFromMessage } from './model-artifacts.js';
 export { estimateTrainingBytes, type TrainingMemoryEstimate } from './memory-estimate.js';
 export { shuffleInPlace, identityOrder } from './batches.js';

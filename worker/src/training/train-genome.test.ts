@@ -48,6 +48,7 @@ describe('trainGenome', () => {
     expect(outcome.history[2]!.trainLoss).toBeLessThan(outcome.history[0]!.trainLoss);
     expect(outcome.backend).toBe('wasm');
     expect(outcome.peakRssBytes).toBeGreaterThan(0);
+    expect(outcome.latencyMsPerSample).toBeGreaterThan(0); // one sample alone, measured after training
     const full = { schemaVersion: 1, evaluationId: 'e1', workerId: 'w1', ...outcome };
     expect(resultValidator.issues(full)).toEqual([]);
   });

@@ -18,6 +18,7 @@ import { BatchAssembler, checkSamples, identityOrder, shuffleInPlace } from './b
 import { buildModel } from './build-model.js';
 import { GenomeTooLargeError, InvalidGenomeError } from './errors.js';
 import { crossEntropy, evaluateModel } from './evaluate-model.js';
+import { singleSampleLatencyMs } from './measure-latency.js';
 import { estimateTrainingBytes } from './memory-estimate.js';
 import { modelToMessage } from './model-artifacts.js';
 import { applyStart, captureCheckpoint, type StartCheckpoint } from './training-checkpoint.js';
@@ -236,6 +237,8 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
       outcome.valAccuracy = scored.accuracy;
       outcome.valLoss = finiteLoss(scored.loss);
     }
+    // Measured after the training time was taken, so it does not count towards it.
+    outcome.latencyMsPerSample = singleSampleLatencyMs(model, val ?? train);
     if (request.exportModel) outcome.model = await modelToMessage(model);
     return outcome;
   } finally {

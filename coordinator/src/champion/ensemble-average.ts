@@ -1,0 +1,29 @@
+/**
+ * The ensemble's prediction: the mean of its members' softmax probabilities, then the most probable
+ * class (the first among equals). Pure. `probabilities[m]` holds member m's [samples × classes]
+ * probabilities, row by row.
+ */
+export function averagePredictions(probabilities: readonly Float32Array[], numClasses: number): { mean: Float32Array; predictions: Int32Array } {
+  if (!probabilities.length) throw new RangeError('an ensemble needs at least one member');
+  const length = probabilities[0]!.length;
+  if (length % numClasses !== 0) throw new RangeError(`${length} probabilities do not split into rows of ${numClasses} classes`);
+  probabilities.forEach((p, m) => {
+    if (p.length !== length) throw new RangeError(`member ${m} gives ${p.length} probabilities, member 0 gives ${length}; score every member on the same samples`);
+  });
+  const mean = new Float32Array(length);
+  for (const p of probabilities) for (let i = 0; i < length; i++) mean[i]! += p[i]! / probabilities.length;
+  const predictions = new Int32Array(length / numClasses);
+  for (let s = 0; s < predictions.length; s++) {
+    let best = 0;
+    for (let c = 1; c < numClasses; c++) if (mean[s * numClasses + c]! > mean[s * numClasses + best]!) best = c;
+    predictions[s] = best;
+  }
+  return { mean, predictions };
+}
+
+/** Fraction of `predictions` equal to `labels`. */
+export const accuracyOf = (predictions: ArrayLike<number>, labels: ArrayLike<number>): number => {
+  let correct = 0;
+  for (let i = 0; i < predictions.length; i++) if (predictions[i] === labels[i]) correct++;
+  return predictions.length ? correct / predictions.length : 0;
+};

@@ -1,0 +1,81 @@
+import type { ModelArtifactsMessage } from '@netbreeder/shared-types';
+import type { RunRecord, RunStore } from '../store/run-store.js';
+
+/** Names the ensemble's files may have: its manifest and each member's model and weights. */
+export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|member-[0-9]{1,2}\\.(model\\.json|weights\\.bin))$';
+
+/** What the `ensemble-scored` event holds. */
+export interface EnsembleScore {
+  testAccuracy: number;
+  /** The champion round that trained it (0: the run's own end), and the selection settings used (absent in older records: the run file's). */
+  round?: number;
+  size?: number;
+  diversityPenalty?: number;
+  backend: string;
+  averaging: string;
+  /** `similarity`: the largest architecture similarity to a member chosen before it (0 for the first; null in older records). */
+  members: Array<{ position: number; genomeHash: string; evaluationId: string; testAccuracy: number; similarity?: number | null }>;
+}
+
+/** The names of the ensemble's files for members at these positions. */
+export const ensembleFileNames = (positions: readonly number[]): string[] => ['ensemble.json', ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
+
+/** The run's scored ensemble, or null when it has none. */
+export function ensembleScore(store: RunStore, runId: string): EnsembleScore | null {
+  const ev = store.events(runId, 'ensemble-scored').at(-1);
+  return ev ? (ev.detail as EnsembleScore) : null;
+}
+
+/**
+ * The files of a run's averaging ensemble: `ensemble.json` (how to average, the members and their
+ * scores, the ensemble's test score beside the champion's) and per member `member-N.model.json` +
+ * `member-N.weights.bin` (TensorFlow.js layers format). Null when the run has no scored ensemble.
+ */
+export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buffer> | null {
+  const score = ensembleScore(store, run.id);
+  if (!score) return null;
+  const champion = store.getChampion(run.id);
+  const members = store.ensembleMembers(run.id);
+  const m = run.dataset.manifest;
+  const json = (v: unknown) => Buffer.from(`${JSON.stringify(v, null, 2)}\n`);
+  const files = new Map<string, Buffer>();
+  const manifest = {
+    kind: 'netbreeder averaging ensemble',
+    version: 1,
+    runId: run.id,
+    how: 'Feed every member the same input, prepared as for the champion (see its champion.json); average the members\' softmax outputs class by class; the predicted class is the one with the highest mean.',
+    inputShape: m.inputShape,
+    classNames: m.classNames,
+    selection: {
+      size: score.size ?? run.config.champion.ensemble?.size ?? members.length,
+      diversityPenalty: score.diversityPenalty ?? run.config.champion.ensemble?.diversityPenalty ?? null,
+      rule: 'greedy: the most accurate genome first, then each time the highest validation accuracy minus diversityPenalty times its largest architecture similarity (multiset Jaccard of layer kinds and sizes) to a member already chosen',
+    },
+    test: { accuracy: score.testAccuracy, samples: champion?.testPredictions.length ?? null, backend: score.backend },
+    champion: champion ? { genomeHash: champion.genomeHash, testAccuracy: champion.testAccuracy } : null,
+    members: members.map((mem) => {
+      const g = store.getGenome(mem.genomeHash);
+      const source = store.getEvaluation(mem.sourceEvaluationId);
+      return {
+        position: mem.position,
+        model: `member-${mem.position + 1}.model.json`,
+        genomeHash: mem.genomeHash,
+        summary: g?.summary ?? '',
+        params: g?.params ?? null,
+        flops: g?.flops ?? null,
+        validationAccuracy: source?.valAccuracy ?? null,
+        testAccuracy: mem.testAccuracy,
+        similarityToEarlierMembers: score.members.find((x) => x.position === mem.position)?.similarity ?? null,
+        genome: g?.genome ?? null,
+      };
+    }),
+  };
+  files.set('ensemble.json', json(manifest));
+  for (const mem of members) {
+    const artifacts = JSON.parse(mem.artifactsJson) as ModelArtifactsMessage;
+    const name = `member-${mem.position + 1}`;
+    files.set(`${name}.model.json`, json({ format: 'layers-model', generatedBy: 'netbreeder', convertedBy: null, modelTopology: artifacts.modelTopology, weightsManifest: [{ paths: [`${name}.weights.bin`], weights: artifacts.weightSpecs }] }));
+    files.set(`${name}.weights.bin`, Buffer.from(artifacts.weightDataBase64, 'base64'));
+  }
+  return files;
+}

@@ -1,0 +1,42 @@
+import { parseArgs } from 'node:util';
+import { championPickResponseValidator } from '@netbreeder/shared-types';
+import { DEFAULT_PORT } from '../coordinator.js';
+
+export const PICK_HELP = `netbreeder pick: choose a run's champion yourself, such as a genome of its accuracy-against-size front.
+
+Usage: netbreeder pick RUN_ID GENOME_HASH [--coordinator URL] [--admin-token T]
+
+The genome must have a finished search result in the run (GET /runs/RUN_ID/front lists the
+front; the dashboard shows it). While the run searches or is paused: when the search ends, that
+genome alone gets the final training and becomes the champion. Once the run has finished: it is
+trained now, replaces the champion and is exported again (ask the coordinator that ran the run).
+The report says it was picked. A later pick replaces an earlier one. Needs the admin token
+(--admin-token or NETBREEDER_ADMIN_TOKEN).
+
+Example:
+  NETBREEDER_ADMIN_TOKEN=… netbreeder pick r1abc 3f2a…(64 hex digits) --coordinator http://build-server:${DEFAULT_PORT}
+`;
+
+export async function pickCommand(argv: string[], out: NodeJS.WritableStream = process.stdout): Promise<number> {
+  const { values, positionals } = parseArgs({
+    args: argv,
+    allowPositionals: true,
+    options: { coordinator: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } },
+  });
+  if (values.help) return void out.write(PICK_HELP), 0;
+  const [runId, genomeHash] = positionals;
+  if (!runId || !genomeHash || positionals.length > 2) throw new Error('pick needs a run id and a genome hash: netbreeder pick RUN_ID GENOME_HASH');
+  const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN;
+  const base = values.coordinator ?? process.env.NETBREEDER_COORDINATOR_URL ?? `http://127.0.0.1:${DEFAULT_PORT}`;
+  const res = await fetch(new URL(`/runs/${encodeURIComponent(runId)}/champion/pick`, base), {
+    method: 'POST',
+    headers: { 'content-type': 'application/json', ...(token ? { authorization: `Bearer ${token}` } : {}) },
+    body: JSON.stringify({ genomeHash }),
+  });
+  const body = (await res.json()) as { error?: { code: string; message: string; fix: string } };
+  if (!res.ok) throw new Error(`pick refused (${res.status} ${body.error?.code}): ${body.error?.message}; ${body.error?.fix}`);
+  const picked = championPickResponseValidator.parse(body);
+  const when = picked.retraining ? 'is being trained again and will replace the champion' : 'will be the champion when the search ends';
+  out.write(`run ${picked.runId}: ${picked.genomeHash.slice(0, 12)} (evaluation ${picked.evaluationId}, validation ${(picked.valAccuracy * 100).toFixed(2)}%) ${when}\n`);
+  return 0;
+}

@@ -1,0 +1,42 @@
+import { defaultSearchSpace } from '@netbreeder/shared-types';
+import { replaySearch, type RecordedCall, type ReplayReport } from '../search/index.js';
+import type { RunStore } from '../store/run-store.js';
+import { observationFor } from './search-record.js';
+
+/**
+ * Replays a stored run's search (see {@link replaySearch}): the algorithm is made again from the
+ * run's configuration and seed and given the stored results in the recorded order. Reads the store
+ * only; throws when there is no such run.
+ */
+export function replayRun(store: RunStore, runId: string): ReplayReport & { runId: string; algorithm: string; steps: number } {
+  // One read transaction: a consistent view even while a coordinator is writing the run.
+  const { run, calls, storedSnapshot } = store.transaction(() => {
+    const run = store.getRun(runId);
+    if (!run) throw new Error(`no run ${runId} in this store; 'netbreeder runs' lists them`);
+    const steps = store.searchSteps(runId);
+    if (steps.length === 0 && run.proposals > 0) {
+      throw new Error(`run ${runId} has no decision log: it was recorded by a coordinator older than the log (store migration 5), so it cannot be replayed`);
+    }
+    // Stored decisions went through JSON.stringify, so stringifying what was parsed gives back the stored text.
+    const calls = steps.map((s): RecordedCall => {
+      if (s.kind === 'propose') return { step: s.step, kind: 'propose', genomeHash: s.genomeHash!, parentHashes: s.parentHashes, budgetEpochs: s.budgetEpochs, decisionsJson: JSON.stringify(s.decisions) };
+      if (s.kind === 'observe') {
+        const ev = store.getEvaluation(s.evaluationId!);
+        if (!ev?.result) throw new Error(`step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
+        return { step: s.step, kind: 'observe', observation: observationFor(ev, ev.result), decisionsJson: JSON.stringify(s.decisions) };
+      }
+      return { step: s.step, kind: 'skip' };
+    });
+    return { run, calls, storedSnapshot: store.searchSnapshot(runId) };
+  });
+  const { algorithm, ...settings } = run.config.search;
+  const m = run.dataset.manifest;
+  const report = replaySearch({
+    algorithm,
+    settings,
+    context: { space: run.config.searchSpace ?? defaultSearchSpace(), data: { inputShape: m.inputShape, numClasses: m.numClasses }, seed: run.seed },
+    calls,
+    storedSnapshot: storedSnapshot ?? undefined,
+  });
+  return { runId, algorithm, steps: calls.length, ...report };
+}
