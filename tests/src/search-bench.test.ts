@@ -84,5 +84,5 @@ describe('bench:search --quick (real MNIST digits, real coordinator and workers)
     }
     const [a, b] = result.runs;
     expect(Math.abs(a!.spent - b!.spent)).toBeLessThan(Math.max(a!.largestEvaluation, b!.largestEvaluation));
-  }, 120_000);
+  }, 240_000); // about 45 s on a lightly loaded 2-core machine; generous because the machine is shared
 });
