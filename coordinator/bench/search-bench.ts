@@ -5,9 +5,9 @@
  * SQLite store, BullMQ queue on the local Redis) and real worker processes training with
  * TensorFlow.js. Every run gets the same budget of training samples seen; the bench tells the
  * coordinator to finish the run (finish control, giving up what is still queued or training) as
- * soon as the recorded spend reaches it. The
- * run's own champion phase then retrains its single best genome (topK 1, so the test split picks
- * nothing) on train + validation and scores it on the held-out test split.
+ * soon as the recorded spend reaches it. The run's own champion phase then retrains its single
+ * best genome (topK 1, so the test split picks nothing) on train + validation and scores it on the
+ * held-out test split.
  *
  * Prints one line per finished run to stderr, then a table, then one JSON line with every figure.
  *
@@ -25,6 +25,7 @@ import { createLogger } from '../src/logger.js';
 import { parseRunConfig } from '../src/config/run-config.js';
 import { spawnWorker } from '../src/cli/spawn-worker.js';
 import type { EvaluationRecord } from '../src/store/run-store.js';
+import { DISCARDED_AT_FINISH } from '../src/run/run-manager.js';
 import { budgetCurve, countedWithin, spread, type FractionPoint, type SpentEvaluation, type Spread } from './search-bench-budget.js';
 import { classSplitSizes } from '../src/datasets/split.js';
 import { writeMnistSubset, type MnistSubset } from './search-bench-data.js';
@@ -38,8 +39,6 @@ const LECUN_1998 = [
   { model: 'LeNet-1', testErrorPct: 1.7 },
 ] as const;
 const SPLIT = { validation: 0.2, test: 0.3, seed: 1998 } as const;
-/** The failure the run manager records for an evaluation a finish with `discardInFlight` gave up. */
-const DISCARD_REASON = 'run finished before this result arrived';
 
 const { values: args } = parseArgs({
   options: {
@@ -134,7 +133,7 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 /** The run being driven and its recorded search results, fed by the coordinator's events. */
 class RunWatch {
   runId: string | null = null;
-  results: Array<SpentEvaluation & { stoppedBy: EvaluationResult['stoppedBy']; params: number }> = [];
+  results: Array<SpentEvaluation & { stoppedBy: EvaluationResult['stoppedBy'] }> = [];
   finishRequested = false;
   afterFinish = 0;
   coordinator: Coordinator | null = null;
@@ -145,7 +144,7 @@ class RunWatch {
       this.afterFinish++;
       return;
     }
-    this.results.push({ evaluationId: ev.id, samples: result.samplesSeen, valAccuracy: result.valAccuracy!, stoppedBy: result.stoppedBy, params: result.paramCount });
+    this.results.push({ evaluationId: ev.id, samples: result.samplesSeen, valAccuracy: result.valAccuracy!, stoppedBy: result.stoppedBy });
     const spent = this.results.reduce((s, r) => s + r.samples, 0);
     if (spent >= settings.budget) {
       this.finishRequested = true;
@@ -180,7 +179,7 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, dataset: Mnist
   const counted = countedWithin(watch.results, settings.budget);
   const champion = store.getChampion(run.id);
   const failed = store.evaluations(run.id).filter((e) => e.kind === 'search' && e.state === 'failed');
-  const discarded = failed.filter((e) => e.error === DISCARD_REASON).length;
+  const discarded = failed.filter((e) => e.error === DISCARDED_AT_FINISH).length;
   return {
     method,
     seed,

@@ -73,6 +73,9 @@ export class GenomeRejectedError extends Error {
 /** Derives each search evaluation's training seed from the run's seed and the proposal's position. */
 export const evaluationSeed = (runSeed: number, seq: number): number => createRandom(`${runSeed}:search:${seq}`).uint32();
 
+/** The failure recorded for an evaluation that a finish with `discardInFlight` gave up. */
+export const DISCARDED_AT_FINISH = 'run finished before this result arrived';
+
 const evaluationId = (runId: string, seq: number, attempt: number, kind: 'search' | 'champion' = 'search') =>
   `${runId}-${kind === 'search' ? 's' : 'c'}${seq}-a${attempt}`;
 
@@ -299,7 +302,7 @@ export class RunManager {
     });
     this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);
     if (action === 'stop') await this.cancelPending(runId, 'run stopped');
-    if (action === 'finish' && opts.discardInFlight) await this.cancelPending(runId, 'run finished before this result arrived');
+    if (action === 'finish' && opts.discardInFlight) await this.cancelPending(runId, DISCARDED_AT_FINISH);
     if (action !== 'pause') await this.tick();
     return this.store.getRun(runId)!;
   }
