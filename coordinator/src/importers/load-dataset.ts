@@ -31,10 +31,10 @@ export interface LoadDatasetOptions {
 
 /**
  * Reads a run's dataset source (demo tiles, a CSV table, an image folder or IDX files), splits it
- * three ways stratified by class with the run's seed, and only then fits and applies the encoding
- * on the training split. Refuses a training shard above `maxDatasetMb` before decoding anything
- * large. Logs the class counts per split and the warnings (tiny classes, imbalance, duplicates
- * across splits, constant columns) and returns them. Throws a {@link DatasetError} naming the
+ * three ways stratified by class with `split.seed` (the run's seed when absent), and only then
+ * fits and applies the encoding on the training split. Refuses a training shard above
+ * `maxDatasetMb` before decoding anything large. Logs the class counts per split and the warnings
+ * (tiny classes, imbalance, duplicates across splits, constant columns) and returns them. Throws a {@link DatasetError} naming the
  * file, line or field on bad input; it writes nothing, so a failed import leaves no trace.
  */
 export async function loadDataset(settings: DatasetRunSettings, options: LoadDatasetOptions = {}): Promise<LoadedDataset> {
@@ -71,7 +71,8 @@ interface Imported {
 }
 
 async function importSource(source: DatasetSource, settings: DatasetRunSettings): Promise<Imported> {
-  const { split: fractions, seed, maxDatasetMb } = settings;
+  const { split: fractions, maxDatasetMb } = settings;
+  const seed = fractions.seed ?? settings.seed;
   switch (source.kind) {
     case 'demo-tiles': {
       const dataset = prepareDataset(source, fractions, seed);

@@ -85,6 +85,9 @@ export class GenomeRejectedError extends Error {
 /** Derives each search evaluation's training seed from the run's seed and the proposal's position. */
 export const evaluationSeed = (runSeed: number, seq: number): number => createRandom(`${runSeed}:search:${seq}`).uint32();
 
+/** The failure recorded for an evaluation that a finish with `discardInFlight` gave up. */
+export const DISCARDED_AT_FINISH = 'run finished before this result arrived';
+
 const evaluationId = (runId: string, seq: number, attempt: number, kind: 'search' | 'champion' = 'search') =>
   `${runId}-${kind === 'search' ? 's' : 'c'}${seq}-a${attempt}`;
 
@@ -344,8 +347,12 @@ export class RunManager {
   /**
    * Pauses, resumes or stops the current run. A paused run queues nothing new (jobs already queued
    * still train and are recorded); a stopped run ends without a champion.
+   *
+   * `discardInFlight` (finish only): the search evaluations still queued or training are given up
+   * at once and their results ignored, so the champion is chosen from what is recorded at the
+   * moment of the call (a hard budget, as `npm run bench:search` needs).
    */
-  async control(runId: string, action: RunControl): Promise<RunRecord> {
+  async control(runId: string, action: RunControl, opts: { discardInFlight?: boolean } = {}): Promise<RunRecord> {
     const run = this.store.getRun(runId);
     if (!run) throw new Error(`no run ${runId}`);
     const allowed: Record<RunControl, RunRecord['state'][]> = {
@@ -358,22 +365,29 @@ export class RunManager {
     const next = action === 'pause' ? 'paused' : action === 'stop' ? 'stopped' : 'searching';
     this.store.transaction(() => {
       this.store.setRunState(runId, next, { now: this.now() });
-      this.store.logEvent(runId, action === 'finish' ? 'run-finish-requested' : `run-${next}`, { from: run.state, action });
+      this.store.logEvent(runId, action === 'finish' ? 'run-finish-requested' : `run-${next}`, { from: run.state, action, ...(opts.discardInFlight ? { discardInFlight: true } : {}) });
     });
     if (action === 'finish' && runId === this.run?.id) this.finishRequested = true;
     this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);
-    if (action === 'stop') await this.cancelPending(runId);
+    if (action === 'stop') {
+      await this.cancelPending(runId, 'run stopped');
+      await this.verifier.cancel(runId);
+    }
+    if (action === 'finish' && opts.discardInFlight) await this.cancelPending(runId, DISCARDED_AT_FINISH);
     if (action !== 'pause') await this.tick();
     return this.store.getRun(runId)!;
   }
 
-  /** Takes a stopped run's owed evaluations out of the queue; a result that still arrives is ignored. */
-  private async cancelPending(runId: string): Promise<void> {
-    for (const ev of this.store.pendingEvaluations(runId)) {
-      await this.opts.queue.remove(ev.id).catch(() => undefined); // a job being trained cannot be removed; its result is ignored
-      this.store.recordFailure(ev.id, 'run stopped', this.now());
-    }
-    await this.verifier.cancel(runId);
+  /**
+   * Gives up a run's owed evaluations and takes them out of the queue; a result that still arrives
+   * is ignored. All are marked failed before the first await, so no result slips in between.
+   */
+  private async cancelPending(runId: string, reason: string): Promise<void> {
+    const pending = this.store.pendingEvaluations(runId);
+    this.store.transaction(() => {
+      for (const ev of pending) this.store.recordFailure(ev.id, reason, this.now());
+    });
+    for (const ev of pending) await this.opts.queue.remove(ev.id).catch(() => undefined); // a job being trained cannot be removed; its result is ignored
   }
 
   /**

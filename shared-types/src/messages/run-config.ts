@@ -185,6 +185,11 @@ export const RunConfigSchema = Type.Object(
       {
         validation: Type.Number({ minimum: 0.05, maximum: 0.5, default: 0.15 }),
         test: Type.Number({ minimum: 0.05, maximum: 0.5, default: 0.15 }),
+        /**
+         * Seeds the split alone, so runs with different search seeds can share one fixed split
+         * (a comparison of methods over seeds). When absent, the run's `seed` seeds the split too.
+         */
+        seed: Type.Optional(Type.Integer({ minimum: 0, maximum: 4294967295 })),
       },
       { additionalProperties: false, default: {} },
     ),

@@ -1,0 +1,105 @@
+import { spawn } from 'node:child_process';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { tsxNodeArgs } from '@netbreeder/coordinator';
+import { budgetCurve, countedWithin, spread } from '../../coordinator/bench/search-bench-budget.js';
+
+const root = join(import.meta.dirname, '..', '..');
+
+describe('the budget rule of bench:search', () => {
+  const evals = [
+    { evaluationId: 'a', samples: 100, valAccuracy: 0.5 },
+    { evaluationId: 'b', samples: 300, valAccuracy: 0.4 },
+    { evaluationId: 'c', samples: 100, valAccuracy: 0.9 },
+  ];
+
+  it('counts every evaluation that started below the limit, so the overshoot is at most one evaluation', () => {
+    expect(countedWithin(evals, 100).map((e) => e.evaluationId)).toEqual(['a']);
+    expect(countedWithin(evals, 101).map((e) => e.evaluationId)).toEqual(['a', 'b']);
+    expect(countedWithin(evals, 400).map((e) => e.evaluationId)).toEqual(['a', 'b']);
+    expect(countedWithin(evals, 10_000)).toHaveLength(3);
+  });
+
+  it('gives the best validation accuracy and the spend at each fraction', () => {
+    expect(budgetCurve(evals, 500, [0.2, 0.5, 1])).toEqual([
+      { fraction: 0.2, bestValAccuracy: 0.5, spent: 100, evaluations: 1 },
+      { fraction: 0.5, bestValAccuracy: 0.5, spent: 400, evaluations: 2 },
+      { fraction: 1, bestValAccuracy: 0.9, spent: 500, evaluations: 3 },
+    ]);
+  });
+
+  it('spreads with the sample standard deviation', () => {
+    // 2, 4, 4, 4, 5, 5, 7, 9: mean 5, sample variance 32/7 (worked by hand).
+    const s = spread([2, 4, 4, 4, 5, 5, 7, 9]);
+    expect(s.mean).toBe(5);
+    expect(s.std).toBeCloseTo(Math.sqrt(32 / 7), 12);
+    expect([s.min, s.max, s.n]).toEqual([2, 9, 8]);
+  });
+});
+
+/** Runs `npm run bench:search -- --quick` as its own process and returns its last stdout line and its stderr. */
+function runQuickBench(): Promise<{ code: number | null; json: string; stderr: string }> {
+  return new Promise((resolve) => {
+    const child = spawn(process.execPath, [...tsxNodeArgs(), join(root, 'coordinator/bench/search-bench.ts'), '--quick'], { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
+    let out = '';
+    let err = '';
+    child.stdout.on('data', (c: Buffer) => (out += c.toString()));
+    child.stderr.on('data', (c: Buffer) => (err += c.toString()));
+    child.once('exit', (code) => resolve({ code, json: out.trim().split('\n').at(-1) ?? '', stderr: err }));
+  });
+}
+
+describe('bench:search --quick (real MNIST digits, real coordinator and workers)', () => {
+  it('prints one JSON line whose methods each spent the same budget within one evaluation', async () => {
+    const { code, json, stderr } = await runQuickBench();
+    expect(code, stderr).toBe(0);
+    const result = JSON.parse(json) as {
+      bench: string;
+      data: { train: number; val: number; test: number };
+      budget: { unit: string; perRun: number; fractions: number[] };
+      methods: Array<{ method: string; bestValAccuracy: Array<{ fraction: number; mean: number; std: number; min: number; max: number }>; championTestError: { mean: number } | null }>;
+      runs: Array<{
+        method: string;
+        state: string;
+        spent: number;
+        evaluations: number;
+        largestEvaluation: number;
+        recordedAfterBudget: number;
+        discardedAtFinish: number;
+        curve: Array<{ bestValAccuracy: number; spent: number }>;
+        championTestError: number | null;
+        championWithinBudget: boolean | null;
+      }>;
+    };
+    expect(result.bench).toBe('search');
+    expect(result.data).toMatchObject({ train: 500, val: 200, test: 300 });
+    expect(result.budget.unit).toBe('training samples seen');
+    expect(result.budget.fractions).toEqual([0.1, 0.25, 0.5, 0.75, 1]);
+    expect(result.methods.map((m) => m.method)).toEqual(['random', 'asha']);
+    const budget = result.budget.perRun;
+    for (const m of result.methods) {
+      expect(m.bestValAccuracy.map((p) => p.fraction)).toEqual(result.budget.fractions);
+      for (const p of m.bestValAccuracy) expect(p.min <= p.mean && p.mean <= p.max && p.std >= 0).toBe(true);
+      expect(m.championTestError).not.toBeNull();
+    }
+    expect(result.runs).toHaveLength(2);
+    for (const r of result.runs) {
+      expect(r.state).toBe('finished');
+      // Reached the budget, and passed it by less than one evaluation (the one that crossed it).
+      expect(r.spent).toBeGreaterThanOrEqual(budget);
+      expect(r.spent - budget).toBeLessThan(r.largestEvaluation);
+      // The finish gives up what was in flight, so nothing past the budget is recorded or retrained.
+      // The run manager keeps at least two evaluations queued or training (one per worker at
+      // least), so one was still pending when the budget was reached.
+      expect(r.discardedAtFinish).toBeGreaterThanOrEqual(1);
+      expect(r.recordedAfterBudget).toBe(0);
+      expect(r.championWithinBudget).toBe(true);
+      const best = r.curve.map((p) => p.bestValAccuracy);
+      expect(best).toEqual([...best].sort((a, b) => a - b)); // best-so-far never falls
+      expect(r.curve.at(-1)!.spent).toBe(r.spent);
+      expect(r.championTestError! > 0 && r.championTestError! < 1).toBe(true);
+    }
+    const [a, b] = result.runs;
+    expect(Math.abs(a!.spent - b!.spent)).toBeLessThan(Math.max(a!.largestEvaluation, b!.largestEvaluation));
+  }, 240_000); // 20 to 50 s on this 2-core machine; generous because the machine is shared
+});
