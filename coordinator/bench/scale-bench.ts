@@ -201,10 +201,11 @@ function prefill(dataDir: string, runId: string, from: number, total: number): n
        worker_id, backend, val_accuracy, val_loss, train_seconds, samples_per_second, result_json)
      VALUES (?, ?, 'search', ?, 1, ?, 0, '{}', 'done', ?, ?, ?, 'prefill', 'cpu', ?, 2.0, 10, 0, NULL)`,
   );
-  const past = Date.now() - 7 * 24 * 3600 * 1000; // a week ago, one result a second
+  // One result a second, the newest a minute before now (so none counts in the last minute's rate).
+  const newest = Date.now() - 60_000;
   db.transaction(() => {
     for (let i = from; i < total; i++) {
-      const at = past + i * 1000;
+      const at = newest - (total - i) * 1000;
       insert.run(`${runId}-prefill${i}`, runId, -1 - i, genome, at - 10_000, at - 10_000, at, ((i * 7919) % 1000) / 10_000);
     }
   })();
