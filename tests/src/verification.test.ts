@@ -1,7 +1,7 @@
 import { cpus } from 'node:os';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { RunConfig, StatusResponse } from '@netbreeder/shared-types';
-import { TrustStore } from '@netbreeder/coordinator';
+import { TrustStore, replayRun } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
 import { smallRunConfig } from './support/small-run.js';
 
@@ -44,6 +44,13 @@ describe('verification, quarantine and CPU accounting', () => {
     const quarantined = store.events(run.id, 'worker-quarantined').map((e) => e.detail as { workerId: string; reason: string });
     expect(quarantined.map((q) => q.workerId)).toEqual(['liar']);
     expect(quarantined[0]!.reason).toMatch(/verified results failed/);
+    // The quarantine is in the decision log (its results taken out of the search), so the run still replays exactly.
+    const forgets = store.searchSteps(run.id).filter((st) => st.kind === 'forget');
+    expect(forgets.length).toBe(1);
+    expect(forgets[0]!.decisions[0]).toMatchObject({ kind: 'results-forgotten' });
+    const replay = replayRun(store, run.id);
+    expect(replay.disagreement).toBeNull();
+    expect(replay.agree).toBe(true);
 
     // Every verification decision is logged with its reason; the liar is the one blamed.
     const decisions = store.events(run.id, 'verification-decision').map((e) => e.detail as { verdict: string; reason: string; blame?: string[]; workerId: string });

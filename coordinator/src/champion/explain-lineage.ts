@@ -32,6 +32,8 @@ export function explainDecision(d: SearchDecision): string {
       return `Its result was not used (${d.why}).`;
     case 'rejected':
       return `The coordinator refused a ${d.subject}: ${d.issues.join('; ')}.`;
+    case 'results-forgotten':
+      return `${d.evaluationIds.length} result(s) were taken out of the search: ${d.reason}.`;
   }
 }
 

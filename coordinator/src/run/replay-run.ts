@@ -25,6 +25,10 @@ export function replayRun(store: RunStore, runId: string): ReplayReport & { runI
         if (!ev?.result) throw new Error(`step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
         return { step: s.step, kind: 'observe', observation: observationFor(ev, ev.result), decisionsJson: JSON.stringify(s.decisions) };
       }
+      if (s.kind === 'forget') {
+        const gone = s.decisions.find((d) => d.kind === 'results-forgotten');
+        return { step: s.step, kind: 'forget', evaluationIds: gone?.kind === 'results-forgotten' ? gone.evaluationIds : [], reason: s.reason, decisionsJson: JSON.stringify(s.decisions) };
+      }
       return { step: s.step, kind: 'skip' };
     });
     return { run, calls, storedSnapshot: store.searchSnapshot(runId) };

@@ -24,7 +24,7 @@ import {
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
-import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../search/index.js';
+import { createSearchAlgorithm, forgetResults, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
@@ -596,8 +596,11 @@ export class RunManager {
    */
   private dropResultsOf(workerId: string, runId: string): void {
     if (!this.algorithm || this.run?.id !== runId) return;
-    const dropped = this.algorithm.forget?.((id) => this.store.getEvaluation(id)?.workerId === workerId) ?? 0;
+    const reason = `worker ${workerId} was quarantined (its results failed verification): its results no longer count`;
+    const decision = forgetResults(this.algorithm, (id) => this.store.getEvaluation(id)?.workerId === workerId, reason);
+    const dropped = decision.kind === 'results-forgotten' ? decision.evaluationIds.length : 0;
     this.store.transaction(() => {
+      this.store.addSearchStep({ runId, kind: 'forget', evaluationId: null, genomeHash: null, parentHashes: [], budgetEpochs: null, reason, decisions: [decision], at: this.now() });
       this.store.saveSearchSnapshot(runId, this.algorithm!.snapshot());
       this.store.logEvent(runId, 'quarantined-results-dropped', { workerId, droppedFromPopulation: dropped });
     });

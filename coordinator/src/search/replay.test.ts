@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { defaultSearchSpace, searchDecisionValidator, type SearchAlgorithmName, type SearchDecision } from '@netbreeder/shared-types';
 import { createSearchAlgorithm, type SearchAlgorithm } from './search-algorithm.js';
-import { replaySearch, type RecordedCall } from './replay.js';
+import { forgetResults, replaySearch, type RecordedCall } from './replay.js';
 import { Driver, IMAGE } from './test-fixtures.js';
 
 const space = defaultSearchSpace();
@@ -89,5 +89,30 @@ describe('replay finds where a record was changed', () => {
     const withSkips: RecordedCall[] = [...calls.slice(0, 10), { step: -1, kind: 'skip' }, ...calls.slice(10), { step: -2, kind: 'skip' }];
     const report = replaySearch({ algorithm: 'asha-evolution', settings, context: { space, data: IMAGE, seed: 3 }, calls: withSkips, storedSnapshot: snapshot });
     expect(report).toMatchObject({ agree: true, skipped: 2 });
+  });
+
+  it('a quarantine (forget) replays exactly, and a changed list of forgotten results disagrees', () => {
+    for (const name of ['aging-evolution', 'asha-evolution', 'pareto-evolution'] as const) {
+      const calls: RecordedCall[] = [];
+      const alg = createSearchAlgorithm(name, settings, { space, data: IMAGE, seed: 8 });
+      const driver = new Driver(`forget-${name}`);
+      const recorder = recording(alg, calls);
+      driver.run(recorder, 60);
+      // Results whose evaluation number is odd came from the quarantined worker.
+      const reason = 'worker w-odd was quarantined';
+      const decision = forgetResults(alg, (id) => Number(id.split('-')[1]) % 2 === 1, reason);
+      expect(decision.kind === 'results-forgotten' && decision.evaluationIds.length).toBeGreaterThan(0);
+      const ids = decision.kind === 'results-forgotten' ? decision.evaluationIds : [];
+      calls.push({ step: calls.length, kind: 'forget', evaluationIds: ids, reason, decisionsJson: JSON.stringify([decision]) });
+      driver.run(recorder, 60);
+      const snapshot = JSON.parse(JSON.stringify(alg.snapshot())) as unknown;
+      const report = replaySearch({ algorithm: name, settings, context: { space, data: IMAGE, seed: 8 }, calls, storedSnapshot: snapshot });
+      expect(report.disagreement).toBeNull();
+
+      // A forget that names one result fewer leaves the replayed population different.
+      const at = calls.findIndex((c) => c.kind === 'forget');
+      const shorter = calls.map((c) => (c.kind === 'forget' ? { ...c, evaluationIds: ids.slice(1) } : c));
+      expect(replaySearch({ algorithm: name, settings, context: { space, data: IMAGE, seed: 8 }, calls: shorter }).disagreement).toMatchObject({ step: at, what: 'decisions' });
+    }
   });
 });

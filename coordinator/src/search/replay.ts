@@ -1,4 +1,4 @@
-import type { SearchAlgorithmName, SearchDecision } from '@netbreeder/shared-types';
+import { SEARCH_DECISION_VERSION, type SearchAlgorithmName, type SearchDecision } from '@netbreeder/shared-types';
 import { createSearchAlgorithm, type Observation, type SearchAlgorithm, type SearchContext } from './search-algorithm.js';
 import type { SearchSettings } from './search-settings.js';
 
@@ -6,6 +6,7 @@ import type { SearchSettings } from './search-settings.js';
 export type RecordedCall =
   | { step: number; kind: 'propose'; genomeHash: string; parentHashes: string[]; budgetEpochs: number | null; decisionsJson: string }
   | { step: number; kind: 'observe'; observation: Observation; decisionsJson: string }
+  | { step: number; kind: 'forget'; evaluationIds: string[]; reason: string; decisionsJson: string }
   | { step: number; kind: 'skip' };
 
 export interface ReplayInput {
@@ -16,6 +17,21 @@ export interface ReplayInput {
   calls: readonly RecordedCall[];
   /** The algorithm's snapshot as last stored; replay's own must equal it. Absent: not compared. */
   storedSnapshot?: unknown;
+}
+
+/**
+ * Takes the members `drop` names out of the algorithm (`forget`) and returns the decision that
+ * records it: the evaluation ids it let go, in order. The coordinator and replay both go through
+ * here, so a quarantine replays exactly.
+ */
+export function forgetResults(alg: SearchAlgorithm, drop: (evaluationId: string) => boolean, reason: string): SearchDecision {
+  const gone = new Set<string>();
+  alg.forget?.((id) => {
+    const out = drop(id);
+    if (out) gone.add(id);
+    return out;
+  });
+  return { kind: 'results-forgotten', version: SEARCH_DECISION_VERSION, reason, evaluationIds: [...gone] };
 }
 
 /** Where replay first went another way than the record. */
@@ -75,6 +91,9 @@ export function replaySearch(input: ReplayInput): ReplayReport {
         if ((p.budgetEpochs ?? null) !== call.budgetEpochs) return differ(call.step, 'budget', call.budgetEpochs, p.budgetEpochs ?? null);
         decisions = p.decisions ?? [];
         report.proposals++;
+      } else if (call.kind === 'forget') {
+        const named = new Set(call.evaluationIds);
+        decisions = [forgetResults(alg, (id) => named.has(id), call.reason)];
       } else {
         decisions = alg.observe(call.observation);
         report.observations++;

@@ -232,7 +232,7 @@ export const MIGRATIONS: readonly string[] = [
   CREATE TABLE search_steps (
     run_id TEXT NOT NULL REFERENCES runs(id),
     step INTEGER NOT NULL,
-    kind TEXT NOT NULL CHECK (kind IN ('propose', 'observe', 'submit', 'reject')),
+    kind TEXT NOT NULL CHECK (kind IN ('propose', 'observe', 'submit', 'reject', 'forget')),
     evaluation_id TEXT,
     genome_hash TEXT,
     parent_hashes_json TEXT NOT NULL,

@@ -148,6 +148,15 @@ export const RejectedDecisionSchema = Type.Object(
   { additionalProperties: false },
 );
 
+/**
+ * Results taken out of the search as if they had never arrived: those of a worker quarantined by
+ * verification (their evaluation ids, in the order the algorithm let them go).
+ */
+export const ResultsForgottenDecisionSchema = Type.Object(
+  { kind: Type.Literal('results-forgotten'), ...base, evaluationIds: Type.Array(Type.String({ minLength: 1 }), { maxItems: 1_000_000 }) },
+  { additionalProperties: false },
+);
+
 export const SearchDecisionSchema = Type.Union([
   RandomGenomeDecisionSchema,
   ParentSelectedDecisionSchema,
@@ -159,6 +168,7 @@ export const SearchDecisionSchema = Type.Union([
   MemberRemovedDecisionSchema,
   ObservationIgnoredDecisionSchema,
   RejectedDecisionSchema,
+  ResultsForgottenDecisionSchema,
 ]);
 export type SearchDecision = Static<typeof SearchDecisionSchema>;
 export type SearchDecisionKind = SearchDecision['kind'];
@@ -166,14 +176,15 @@ export type SearchDecisionKind = SearchDecision['kind'];
 /**
  * One recorded step of a run's search, in the order the coordinator made them: a `propose` or
  * `observe` call of the algorithm with the decisions it returned, a genome the user `submit`ted
- * (the algorithm was not asked), or a `reject`ion by the coordinator (no algorithm call).
+ * (the algorithm was not asked), a `reject`ion by the coordinator (no algorithm call), or a
+ * `forget` call that took a quarantined worker's results out of the search.
  */
 export const SearchStepSchema = Type.Object(
   {
     runId: Type.String(),
     /** 0, 1, 2, … within the run. */
     step: Count,
-    kind: Type.Union([Type.Literal('propose'), Type.Literal('observe'), Type.Literal('submit'), Type.Literal('reject')]),
+    kind: Type.Union([Type.Literal('propose'), Type.Literal('observe'), Type.Literal('submit'), Type.Literal('reject'), Type.Literal('forget')]),
     /** The evaluation proposed (propose, submit), observed (observe) or refused (reject); null for a refused proposal that was never queued. */
     evaluationId: Nullable(Type.String()),
     /** The genome proposed or observed. */
