@@ -1,33 +1,17 @@
 import { describe, expect, it } from 'vitest';
-import { EVALUATION_JOB_VERSION, EVALUATION_RESULT_VERSION, defaultSearchSpace, genomeHash, type EvaluationJob, type EvaluationResult, type Genome, type WorkerHeartbeat } from '@netbreeder/shared-types';
-import { parseRunConfig } from '../config/run-config.js';
-import { RunStore } from './run-store.js';
+import type { EvaluationResult, WorkerHeartbeat } from '@netbreeder/shared-types';
 import { TrustStore } from './trust-store.js';
+import { searchJob as job, searchResult, storeWithRun } from './test-fixtures.js';
 
-const genome: Genome = {
-  schemaVersion: 1,
-  nodes: [{ id: 'd1', kind: 'dense', inputs: ['input'], units: 8, activation: 'relu' }],
-  output: 'd1',
-  training: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 1 },
-};
-const manifest = { sha256: 'a'.repeat(64), bytes: 100, inputShape: [4], numClasses: 3, classNames: ['a', 'b', 'c'], trainCount: 10, valCount: 5 };
-const hash = genomeHash(genome);
-const job = (evaluationId: string): EvaluationJob => ({
-  schemaVersion: EVALUATION_JOB_VERSION, kind: 'search', evaluationId, runId: 'r1', attempt: 1, genome, genomeHash: hash, seed: 3, budget: { epochs: 1, maxSeconds: 10 }, dataset: manifest,
-});
-const result = (evaluationId: string, workerId: string, cpuSeconds?: number): EvaluationResult => ({
-  schemaVersion: EVALUATION_RESULT_VERSION, evaluationId, workerId, backend: 'wasm', valAccuracy: 0.5, valLoss: 1, trainLoss: 1, trainAccuracy: 0.5,
-  paramCount: 67, flops: 100, epochsRun: 1, samplesSeen: 10, trainSeconds: 1, samplesPerSecond: 10, peakRssBytes: 1, stoppedBy: 'epochs', history: [], ...(cpuSeconds === undefined ? {} : { cpuSeconds }),
-});
+const result = (evaluationId: string, workerId: string, cpuSeconds?: number): EvaluationResult =>
+  searchResult(evaluationId, workerId, cpuSeconds === undefined ? {} : { cpuSeconds });
 const heartbeat = (workerId: string, watts?: { watts: number; wattsAssumed: boolean }): WorkerHeartbeat => ({
   schemaVersion: 1, workerId, host: 'pc', pid: 1, cores: 2, backend: 'wasm', backendReason: '', state: 'idle', currentEvaluationId: null, evaluationsDone: 0, evaluationsFailed: 0,
   samplesPerSecond: 0, rssBytes: 1, memoryCapMb: 100, version: 't', ...watts,
 });
 
 function stores() {
-  const store = new RunStore(':memory:');
-  store.createRun({ id: 'r1', name: 'test', config: parseRunConfig({ dataset: { kind: 'demo-tiles' }, searchSpace: defaultSearchSpace() }), seed: 1, dataset: { manifest, shardPath: '/x', testPath: '/x' }, now: 1000 });
-  store.putGenome({ hash, genome, params: 67, flops: 100, summary: 'dense 8' });
+  const store = storeWithRun();
   return { store, trust: new TrustStore(store) };
 }
 

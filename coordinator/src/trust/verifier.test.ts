@@ -1,30 +1,16 @@
 import { describe, expect, it } from 'vitest';
-import { EVALUATION_JOB_VERSION, EVALUATION_RESULT_VERSION, defaultSearchSpace, genomeHash, type EvaluationJob, type EvaluationResult, type Genome } from '@netbreeder/shared-types';
-import { parseRunConfig } from '../config/run-config.js';
+import type { EvaluationJob, EvaluationResult } from '@netbreeder/shared-types';
 import { createLogger } from '../logger.js';
 import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js';
-import { RunStore } from '../store/run-store.js';
+import { searchJob, searchResult, storeWithRun } from '../store/test-fixtures.js';
 import { Verifier } from './verifier.js';
 
-const genome: Genome = {
-  schemaVersion: 1,
-  nodes: [{ id: 'd1', kind: 'dense', inputs: ['input'], units: 8, activation: 'relu' }],
-  output: 'd1',
-  training: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 2 },
-};
-const manifest = { sha256: 'a'.repeat(64), bytes: 100, inputShape: [4], numClasses: 3, classNames: ['a', 'b', 'c'], trainCount: 10, valCount: 5 };
-const hash = genomeHash(genome);
-const result = (evaluationId: string, workerId: string, valAccuracy: number): EvaluationResult => ({
-  schemaVersion: EVALUATION_RESULT_VERSION, evaluationId, workerId, backend: 'wasm', valAccuracy, valLoss: 1 - valAccuracy, trainLoss: 1, trainAccuracy: 0.5,
-  paramCount: 67, flops: 100, epochsRun: 2, samplesSeen: 20, trainSeconds: 1, samplesPerSecond: 20, peakRssBytes: 1, stoppedBy: 'epochs', history: [], cpuSeconds: 1,
-});
+const result = (evaluationId: string, workerId: string, valAccuracy: number): EvaluationResult =>
+  searchResult(evaluationId, workerId, { valAccuracy, valLoss: 1 - valAccuracy, epochsRun: 2, samplesSeen: 20, samplesPerSecond: 20, cpuSeconds: 1 });
 
 /** A verifier over an in-memory store and a queue that only records what is added and removed. */
 function setup(live: string[]) {
-  const store = new RunStore(':memory:');
-  const config = parseRunConfig({ dataset: { kind: 'demo-tiles' }, searchSpace: defaultSearchSpace(), verification: { spotCheckFraction: 1, timeoutSeconds: 100 } });
-  store.createRun({ id: 'r1', name: 't', config, seed: 1, dataset: { manifest, shardPath: '/x', testPath: '/x' }, now: 0 });
-  store.putGenome({ hash, genome, params: 67, flops: 100, summary: 'dense 8' });
+  const store = storeWithRun({ verification: { spotCheckFraction: 1, timeoutSeconds: 100 } }, 0);
   const queued = new Map<string, EvaluationJob>();
   const queue = { add: async (j: EvaluationJob) => void queued.set(j.evaluationId, j), remove: async (id: string) => void queued.delete(id) } as unknown as EvaluationQueue;
   let now = 1000;
@@ -34,7 +20,7 @@ function setup(live: string[]) {
   /** A recorded search result of `workerId`, spot-checked. */
   const searchResult = async (seq: number, workerId: string, valAccuracy: number) => {
     const id = `r1-s${seq}-a1`;
-    const job: EvaluationJob = { schemaVersion: EVALUATION_JOB_VERSION, kind: 'search', evaluationId: id, runId: 'r1', attempt: 1, genome, genomeHash: hash, seed: seq, budget: { epochs: 2, maxSeconds: 10 }, dataset: manifest };
+    const job = searchJob(id, { seed: seq, budget: { epochs: 2, maxSeconds: 10 } });
     store.addEvaluation(job, seq, now, true);
     store.recordResult(id, result(id, workerId, valAccuracy), now);
     await verifier.afterSearchResult(run(), id);
