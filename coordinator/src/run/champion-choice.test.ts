@@ -1,24 +1,14 @@
 import { describe, expect, it } from 'vitest';
-import {
-  EVALUATION_JOB_VERSION,
-  EVALUATION_RESULT_VERSION,
-  SEARCH_DECISION_VERSION,
-  defaultSearchSpace,
-  genomeHash,
-  type EvaluationJob,
-  type Genome,
-  type RunConfig,
-} from '@netbreeder/shared-types';
-import { parseRunConfig } from '../config/run-config.js';
+import { SEARCH_DECISION_VERSION, genomeHash, type EvaluationJob, type Genome } from '@netbreeder/shared-types';
 import { createLogger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
-import { RunStore } from '../store/run-store.js';
+import type { RunStore } from '../store/run-store.js';
+import { searchJob, searchResult, storeWithRun } from '../store/test-fixtures.js';
 import { howItWasFound } from '../champion/explain-lineage.js';
 import { ChampionPhase, type ChampionCandidate } from './champion-phase.js';
 import { ChampionChoiceError, meetsRule, pickChampion, requestEnsemble } from './champion-choice.js';
 
 /** The champion phase's choice of candidates on a real (in-memory) store; the queue only records what it is given. */
-const manifest = { sha256: 'a'.repeat(64), bytes: 100, inputShape: [4], numClasses: 3, classNames: ['a', 'b', 'c'], trainCount: 10, valCount: 5 };
 const net = (units: number[], optimizer: Genome['training']['optimizer'] = 'adam'): Genome => {
   const nodes = units.map((u, i) => ({ id: `d${i}`, kind: 'dense' as const, inputs: [i ? `d${i - 1}` : 'input'], units: u, activation: 'relu' as const }));
   return { schemaVersion: 1, nodes, output: nodes.at(-1)!.id, training: { optimizer, learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 1 } };
@@ -32,19 +22,17 @@ const RESULTS: Array<[Genome, number, number, number | null]> = [
 ];
 
 function storeWith(champion: Record<string, unknown> = {}) {
-  const store = new RunStore(':memory:');
-  const config: RunConfig = parseRunConfig({ dataset: { kind: 'demo-tiles' }, searchSpace: defaultSearchSpace(), champion: { topK: 2, ...champion } });
-  store.createRun({ id: 'r1', name: 'test', config, seed: 1, dataset: { manifest, shardPath: '/nowhere', testPath: '/nowhere' }, now: 1000 });
+  const store = storeWithRun({ champion: { topK: 2, ...champion } });
   RESULTS.forEach(([genome, acc, params, latency], seq) => {
     const hash = genomeHash(genome);
     store.putGenome({ hash, genome, params, flops: params * 2, summary: `net ${seq}` });
-    const job: EvaluationJob = { schemaVersion: EVALUATION_JOB_VERSION, kind: 'search', evaluationId: `r1-s${seq}-a1`, runId: 'r1', attempt: 1, genome, genomeHash: hash, seed: seq, budget: { epochs: 1, maxSeconds: 10 }, dataset: manifest };
+    const job = searchJob(`r1-s${seq}-a1`, { genome, genomeHash: hash, seed: seq });
     store.addEvaluation(job, seq, 1000, true);
-    store.recordResult(job.evaluationId, {
-      schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: job.evaluationId, workerId: 'w1', backend: 'wasm', valAccuracy: acc, valLoss: 1, trainLoss: 1, trainAccuracy: acc,
-      paramCount: params, flops: params * 2, epochsRun: 1, samplesSeen: 10, trainSeconds: 1, samplesPerSecond: 10, peakRssBytes: 1, stoppedBy: 'epochs', history: [],
-      ...(latency === null ? {} : { latencyMsPerSample: latency }),
-    }, 2000 + seq);
+    store.recordResult(
+      job.evaluationId,
+      searchResult(job.evaluationId, 'w1', { valAccuracy: acc, trainAccuracy: acc, paramCount: params, flops: params * 2, ...(latency === null ? {} : { latencyMsPerSample: latency }) }),
+      2000 + seq,
+    );
   });
   const queued: EvaluationJob[] = [];
   const queue = { add: async (job: EvaluationJob) => void queued.push(job) } as unknown as EvaluationQueue;
