@@ -20,7 +20,13 @@ function setup(live: string[]) {
   /** A recorded search result of `workerId`, spot-checked. */
   const searchResult = async (seq: number, workerId: string, valAccuracy: number) => {
     const id = `r1-s${seq}-a1`;
-    const job = searchJob(id, { seed: seq, budget: { epochs: 2, maxSeconds: 10 } });
+    // As a real search job: it uploads checkpoints, and this attempt resumed from one.
+    const job = searchJob(id, {
+      seed: seq,
+      budget: { epochs: 2, maxSeconds: 10 },
+      checkpoints: { everyEpochs: 1, final: false, maxBytes: 2 ** 20 },
+      resume: { sha256: 'b'.repeat(64), bytes: 100, epoch: 1, evaluationId: id },
+    });
     store.addEvaluation(job, seq, now, true);
     store.recordResult(id, result(id, workerId, valAccuracy), now);
     await verifier.afterSearchResult(run(), id);
@@ -37,6 +43,9 @@ describe('Verifier', () => {
     const e1 = await t.searchResult(0, 'liar', 0.95);
     const v1 = t.queued.get(`${e1}-v1`)!;
     expect(v1).toMatchObject({ verifies: e1, excludeWorkers: ['liar'], seed: 0, budget: { epochs: 2, maxSeconds: 20 } });
+    // It trains from epoch 0 and uploads nothing (no later attempt would resume it).
+    expect(v1.checkpoints).toBeUndefined();
+    expect(v1.resume).toBeUndefined();
     await t.finish(v1.evaluationId, 'a', 0.7);
     const v2 = t.queued.get(`${e1}-v2`)!;
     expect(v2.excludeWorkers).toEqual(['liar', 'a']);

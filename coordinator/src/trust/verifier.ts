@@ -103,8 +103,12 @@ export class Verifier {
     const r = source.result;
     const earlier = this.trust.verificationsOf(evaluationId).map((v) => v.workerId).filter((w): w is string => w !== null);
     const excludeWorkers = [...new Set([r.workerId, ...earlier, ...this.trust.quarantinedWorkers()])];
+    // A re-run uploads no checkpoints (no later attempt resumes it) and starts from epoch 0: a
+    // resumed training ends bit-identical to an uninterrupted one. Inherited weights stay, since
+    // the result being checked started from them.
+    const { checkpoints: _uploads, resume: _resume, ...sourceJob } = source.job;
     const job: EvaluationJob = {
-      ...source.job,
+      ...sourceJob,
       evaluationId: `${evaluationId}-v${opinion}`,
       verifies: evaluationId,
       excludeWorkers,
