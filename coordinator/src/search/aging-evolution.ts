@@ -1,11 +1,12 @@
-import { createRandom, restoreRandom, SEARCH_DECISION_VERSION, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
+import { SEARCH_DECISION_VERSION, type Genome, type SearchDecision } from '@netbreeder/shared-types';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
-import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AgingEvolutionSnapshot } from './snapshot.js';
+import { SEARCH_SNAPSHOT_VERSION, type AgingEvolutionSnapshot } from './snapshot.js';
+import { PopulationSearch } from './population-search.js';
 import { tournamentSelect } from './tournament.js';
 import type { Variation } from './variation.js';
-import { childProposal, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { childProposal, shortHash } from './proposals.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface AgingEvolutionOptions<G> {
@@ -18,7 +19,6 @@ export interface AgingEvolutionOptions<G> {
   /** A snapshot from {@link AgingEvolution.snapshot} (already checked with `parseSearchSnapshot`). */
   snapshot?: AgingEvolutionSnapshot<G>;
 }
-
 
 /**
  * Regularized (aging) evolution (Real, Aggarwal, Huang, Le, AAAI 2019, Algorithm 1), asynchronous:
@@ -37,41 +37,11 @@ export interface AgingEvolutionOptions<G> {
  * Every random draw comes from one seeded source, and observations draw nothing, so the same seed
  * and the same interleaving of propose and observe calls give the same proposals.
  */
-export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
+export class AgingEvolution<G = Genome> extends PopulationSearch<G, Observation<G>, AgingEvolutionOptions<G>['settings']> implements SearchAlgorithm<G> {
   readonly name = 'aging-evolution';
-  private readonly settings: AgingEvolutionOptions<G>['settings'];
-  private readonly variation: Variation<G>;
-  private readonly seed: number;
-  private readonly rng: Random;
-  private population: Observation<G>[];
-  private proposed: number;
-  private initialProposed: number;
-  private observed: number;
 
   constructor(options: AgingEvolutionOptions<G>) {
-    this.settings = { ...options.settings };
-    this.variation = options.variation;
-    const s = options.snapshot;
-    if (s) {
-      for (const k of ['populationSize', 'sampleSize', 'initialMutations'] as const) {
-        if (s.settings[k] !== this.settings[k]) {
-          throw new SearchSnapshotError(`the snapshot was taken with ${k} ${s.settings[k]}, not ${this.settings[k]}; resume with the run's original settings`);
-        }
-      }
-      this.seed = s.seed;
-      this.rng = restoreRandom(s.rng);
-      this.population = structuredClone(s.population);
-      this.proposed = s.proposed;
-      this.initialProposed = s.initialProposed;
-      this.observed = s.observed;
-    } else {
-      this.seed = options.seed;
-      this.rng = createRandom(options.seed);
-      this.population = [];
-      this.proposed = 0;
-      this.initialProposed = 0;
-      this.observed = 0;
-    }
+    super(options, ['populationSize', 'sampleSize', 'initialMutations']);
   }
 
   propose(): Proposal<G> {
@@ -134,34 +104,7 @@ export class AgingEvolution<G = Genome> implements SearchAlgorithm<G> {
     return decisions;
   }
 
-  forget(drop: (evaluationId: string) => boolean): number {
-    const before = this.population.length;
-    this.population = this.population.filter((m) => !drop(m.evaluationId));
-    return before - this.population.length;
-  }
-
-  /** The living members, oldest first (copies). */
-  members(): Observation<G>[] {
-    return structuredClone(this.population);
-  }
-
   snapshot(): AgingEvolutionSnapshot<G> {
-    return {
-      version: SEARCH_SNAPSHOT_VERSION,
-      algorithm: 'aging-evolution',
-      seed: this.seed,
-      rng: this.rng.state(),
-      proposed: this.proposed,
-      observed: this.observed,
-      settings: { ...this.settings },
-      initialProposed: this.initialProposed,
-      population: structuredClone(this.population),
-    };
+    return { version: SEARCH_SNAPSHOT_VERSION, algorithm: 'aging-evolution', ...this.state() };
   }
-
-  private initialMember(why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
-    this.initialProposed++;
-    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why, role, before);
-  }
-
 }

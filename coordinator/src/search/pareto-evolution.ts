@@ -1,11 +1,12 @@
-import { createRandom, restoreRandom, SEARCH_DECISION_VERSION, type Genome, type Random, type SearchDecision } from '@netbreeder/shared-types';
+import { SEARCH_DECISION_VERSION, type Genome, type SearchDecision } from '@netbreeder/shared-types';
 import { crowdedCompare, rankAndCrowding, type RankAndCrowding } from './nsga2.js';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
-import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
+import { SEARCH_SNAPSHOT_VERSION, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
+import { PopulationSearch } from './population-search.js';
 import type { Variation } from './variation.js';
-import { childProposal, randomProposal, shortHash, type RandomRole } from './proposals.js';
+import { childProposal, shortHash } from './proposals.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface ParetoEvolutionOptions<G> {
@@ -37,34 +38,11 @@ const objectives = (members: readonly ParetoMember<unknown>[]) => members.map((m
  *
  * Observations must carry the objective (`params` or `flops`); observing draws no randomness.
  */
-export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
+export class ParetoEvolution<G = Genome> extends PopulationSearch<G, ParetoMember<G>, ParetoEvolutionOptions<G>['settings']> implements SearchAlgorithm<G> {
   readonly name = 'pareto-evolution';
-  private readonly settings: ParetoEvolutionOptions<G>['settings'];
-  private readonly variation: Variation<G>;
-  private readonly seed: number;
-  private readonly rng: Random;
-  private population: ParetoMember<G>[];
-  private proposed: number;
-  private initialProposed: number;
-  private observed: number;
 
   constructor(options: ParetoEvolutionOptions<G>) {
-    this.settings = { ...options.settings };
-    this.variation = options.variation;
-    const s = options.snapshot;
-    if (s) {
-      for (const k of ['populationSize', 'sampleSize', 'initialMutations', 'objective'] as const) {
-        if (s.settings[k] !== this.settings[k]) {
-          throw new SearchSnapshotError(`the snapshot was taken with ${k} ${s.settings[k]}, not ${this.settings[k]}; resume with the run's original settings`);
-        }
-      }
-    }
-    this.seed = s ? s.seed : options.seed;
-    this.rng = s ? restoreRandom(s.rng) : createRandom(options.seed);
-    this.population = s ? structuredClone(s.population) : [];
-    this.proposed = s ? s.proposed : 0;
-    this.initialProposed = s ? s.initialProposed : 0;
-    this.observed = s ? s.observed : 0;
+    super(options, ['populationSize', 'sampleSize', 'initialMutations', 'objective']);
   }
 
   propose(): Proposal<G> {
@@ -139,29 +117,8 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
     return decisions;
   }
 
-  forget(drop: (evaluationId: string) => boolean): number {
-    const before = this.population.length;
-    this.population = this.population.filter((m) => !drop(m.evaluationId));
-    return before - this.population.length;
-  }
-
-  /** The living members, oldest first (copies). */
-  members(): ParetoMember<G>[] {
-    return structuredClone(this.population);
-  }
-
   snapshot(): ParetoEvolutionSnapshot<G> {
-    return {
-      version: SEARCH_SNAPSHOT_VERSION,
-      algorithm: 'pareto-evolution',
-      seed: this.seed,
-      rng: this.rng.state(),
-      proposed: this.proposed,
-      observed: this.observed,
-      settings: { ...this.settings },
-      initialProposed: this.initialProposed,
-      population: structuredClone(this.population),
-    };
+    return { version: SEARCH_SNAPSHOT_VERSION, algorithm: 'pareto-evolution', ...this.state() };
   }
 
   /** The member the crowded comparison ranks last; the oldest among equals. */
@@ -170,10 +127,4 @@ export class ParetoEvolution<G = Genome> implements SearchAlgorithm<G> {
     for (let i = 1; i < this.population.length; i++) if (crowdedCompare(i, worst, rc) > 0) worst = i;
     return worst;
   }
-
-  private initialMember(why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
-    this.initialProposed++;
-    return randomProposal(this.variation, this.rng, this.settings.initialMutations, why, role, before);
-  }
-
 }
