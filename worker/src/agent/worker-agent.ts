@@ -217,7 +217,8 @@ export class WorkerAgent {
     const log = this.log.child({ evaluationId: payload.evaluationId, kind: payload.kind, attempt: payload.attempt });
     try {
       const shardPath = await this.cache.ensure(payload.dataset);
-      const start = payload.kind === 'search' ? await this.startCheckpoint(payload) : undefined;
+      // BullMQ counts each move to active: above 1, another worker had this job before (it stalled or was handed back).
+      const start = payload.kind === 'search' ? await this.startCheckpoint(payload, job.attemptsStarted > 1) : undefined;
       log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs, offered: start ? `${start.kind} ${start.sha256.slice(0, 12)} at epoch ${start.epoch}` : null }, 'training');
       const policy = payload.kind === 'search' ? payload.checkpoints : undefined;
       let uploads = Promise.resolve();
@@ -277,9 +278,12 @@ export class WorkerAgent {
    * evaluation (asked of the coordinator, which also knows checkpoints uploaded after the job was
    * queued, or given in the reissued job), else the weights the job inherits. Downloaded and
    * verified here; one that fails comes with a note, and the training starts from epoch 0.
+   * The coordinator is asked only when an earlier run of this job or attempt may have uploaded
+   * one (`takenOver`, or a later attempt), so a job's first start costs no request.
    */
-  private async startCheckpoint(job: EvaluationJob): Promise<StartCheckpoint | undefined> {
-    const known = job.checkpoints ? await this.checkpoints.latest(job.evaluationId) : null;
+  private async startCheckpoint(job: EvaluationJob, takenOver: boolean): Promise<StartCheckpoint | undefined> {
+    const mayHaveOne = takenOver || job.attempt > 1;
+    const known = job.checkpoints && mayHaveOne ? await this.checkpoints.latest(job.evaluationId) : null;
     const resume = [known, job.resume].filter((r) => r != null).sort((a, b) => b.epoch - a.epoch)[0];
     const offer = resume ? { kind: 'resumed' as const, ref: resume } : job.inherit ? { kind: job.inherit.kind, ref: job.inherit.checkpoint } : null;
     if (!offer) return undefined;
