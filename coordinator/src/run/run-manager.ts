@@ -138,11 +138,7 @@ export class RunManager {
       queue: opts.queue,
       log: opts.log,
       now: this.now,
-      liveWorkers: () =>
-        this.store
-          .listWorkers()
-          .filter((w) => this.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped' && !this.isRevoked(w.heartbeat.workerId))
-          .map((w) => w.heartbeat.workerId),
+      liveWorkers: () => this.store.liveWorkerIds(this.now() - this.workerTimeoutMs).filter((id) => !this.isRevoked(id)),
       onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
     });
     this.champion = new ChampionPhase({

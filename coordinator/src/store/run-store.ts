@@ -142,6 +142,9 @@ const evaluationFromRow = (r: Row): EvaluationRecord => ({
   error: (r.error as string | null) ?? null,
 });
 
+/** A worker seen since the bound parameter whose last heartbeat did not say it stopped. */
+const LIVE_WORKER = "last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'";
+
 /** Every column of `runs` but the search snapshot, which only a resuming coordinator reads. */
 const RUN_COLUMNS = 'id, name, config_json, state, seed, dataset_json, proposals, created_at, search_started_at, finished_at, failure';
 
@@ -398,9 +401,12 @@ export class RunStore {
 
   /** Workers heard from since `since` (ms epoch) that have not said they stopped; no JSON parsed. */
   countLiveWorkers(since: number): number {
-    return (this
-      .sql("SELECT COUNT(*) AS n FROM workers WHERE last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'")
-      .get(since) as Row).n as number;
+    return (this.sql(`SELECT COUNT(*) AS n FROM workers WHERE ${LIVE_WORKER}`).get(since) as Row).n as number;
+  }
+
+  /** The ids of the workers `countLiveWorkers` counts (read without decoding their heartbeats). */
+  liveWorkerIds(since: number): string[] {
+    return (this.sql(`SELECT id FROM workers WHERE ${LIVE_WORKER} ORDER BY id`).all(since) as Row[]).map((r) => r.id as string);
   }
 
   listWorkers(): Array<{ heartbeat: WorkerHeartbeat; firstSeenAt: number; lastSeenAt: number }> {
