@@ -5,6 +5,7 @@ import type { RunManager } from '../run/run-manager.js';
 import { runMinutes } from '../run/status-report.js';
 import type { RunRecord } from '../store/run-store.js';
 import { registerTrustMetrics } from '../trust/trust-metrics.js';
+import { runGauge } from './run-gauge.js';
 
 /** What `/metrics` reads on each scrape. */
 export interface MetricsOptions {
@@ -41,49 +42,27 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
   const registers = [registry];
   const currentRun = (): RunRecord | null => manager.currentRun() ?? store.listRuns()[0] ?? null;
 
-  new Gauge({
-    name: 'netbreeder_run_info',
-    help: 'The run being watched (value 1), with its name and state.',
-    labelNames: ['run', 'name', 'state'],
-    registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      if (run) this.set({ run: run.id, name: run.name, state: run.state }, 1);
-    },
+  runGauge(registers, currentRun, { name: 'netbreeder_run_info', help: 'The run being watched (value 1), with its name and state.', labelNames: ['run', 'name', 'state'] }, (g, run) =>
+    g.set({ run: run.id, name: run.name, state: run.state }, 1),
+  );
+
+  runGauge(registers, currentRun, { name: 'netbreeder_evaluations', help: 'Evaluations of the run in the store, by kind and state.', labelNames: ['run', 'kind', 'state'] }, (g, run) => {
+    for (const kind of ['search', 'champion'] as const) {
+      const counts = store.counts(run.id, kind);
+      for (const state of EVALUATION_STATES) g.set({ run: run.id, kind, state }, counts[state]);
+    }
   });
 
-  new Gauge({
-    name: 'netbreeder_evaluations',
-    help: "Evaluations of the run in the store, by kind and state.",
-    labelNames: ['run', 'kind', 'state'],
+  runGauge(
     registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      if (!run) return;
-      for (const kind of ['search', 'champion'] as const) {
-        const counts = store.counts(run.id, kind);
-        for (const state of EVALUATION_STATES) this.set({ run: run.id, kind, state }, counts[state]);
-      }
-    },
-  });
-
-  new Gauge({
-    name: 'netbreeder_throughput_evaluations_per_minute',
-    help: 'Done search evaluations per minute, over the last minute or since the search started.',
-    labelNames: ['run', 'window'],
-    registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      if (!run) return;
+    currentRun,
+    { name: 'netbreeder_throughput_evaluations_per_minute', help: 'Done search evaluations per minute, over the last minute or since the search started.', labelNames: ['run', 'window'] },
+    (g, run) => {
       const now = Date.now();
-      const minutes = runMinutes(run, now);
-      this.set({ run: run.id, window: 'last_minute' }, store.doneSince(run.id, now - 60_000));
-      this.set({ run: run.id, window: 'since_start' }, store.counts(run.id, 'search').done / minutes);
+      g.set({ run: run.id, window: 'last_minute' }, store.doneSince(run.id, now - 60_000));
+      g.set({ run: run.id, window: 'since_start' }, store.counts(run.id, 'search').done / runMinutes(run, now));
     },
-  });
+  );
 
   const aliveWorkers = () => store.listWorkers().filter((w) => manager.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
 
@@ -128,18 +107,15 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   });
 
-  new Gauge({
-    name: 'netbreeder_best_validation_accuracy',
-    help: "Best validation accuracy of the run's search so far.",
-    labelNames: ['run'],
+  runGauge(
     registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      const best = run ? store.topEvaluations(run.id, 1)[0] : undefined;
-      if (run && best?.valAccuracy != null) this.set({ run: run.id }, best.valAccuracy);
+    currentRun,
+    { name: 'netbreeder_best_validation_accuracy', help: "Best validation accuracy of the run's search so far, among the results that count (as /status).", labelNames: ['run'] },
+    (g, run) => {
+      const best = manager.verifier.bestResult(run.id);
+      if (best?.valAccuracy != null) g.set({ run: run.id }, best.valAccuracy);
     },
-  });
+  );
 
   new Counter({
     name: 'netbreeder_reissues_total',

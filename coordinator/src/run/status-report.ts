@@ -20,10 +20,8 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
   const start = run ? (run.searchStartedAt ?? run.createdAt) : now;
   const end = run?.finishedAt ?? now;
   const elapsedMinutes = run ? runMinutes(run, now) : 1;
-  // The best result that counts: not from a quarantined worker, not failed verification (the top
-  // row nearly always does; only then are more read).
-  const [top] = run ? store.topEvaluations(run.id, 1) : [];
-  const best = top && !manager.verifier.counts(top) ? store.topEvaluations(run!.id, 50).find((e) => manager.verifier.counts(e)) : top;
+  // The best result that counts: not from a quarantined worker, not failed verification.
+  const best = run ? manager.verifier.bestResult(run.id) : undefined;
   const trust = trustStatus(manager.verifier, run);
   const champion = run ? store.getChampion(run.id) : null;
   const championGenome = champion ? store.getGenome(champion.genomeHash) : null;

@@ -1,6 +1,7 @@
 import { Gauge, type Registry } from 'prom-client';
 import type { RunManager } from '../run/run-manager.js';
 import type { RunRecord } from '../store/run-store.js';
+import { runGauge } from '../http/run-gauge.js';
 import { summarizeAccounting } from './accounting.js';
 
 /**
@@ -17,46 +18,33 @@ export function registerTrustMetrics(registry: Registry, manager: RunManager, cu
   const registers = [registry];
   const trust = manager.verifier.trust;
   const kinds = ['search', 'verification', 'champion'] as const;
-  new Gauge({
-    name: 'netbreeder_cpu_seconds',
-    help: "CPU-seconds (user + system) of the run's training processes, by kind of job.",
-    labelNames: ['run', 'kind'],
+  runGauge(
     registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      if (!run) return;
+    currentRun,
+    { name: 'netbreeder_cpu_seconds', help: "CPU-seconds (user + system) of the run's training processes, by kind of job.", labelNames: ['run', 'kind'] },
+    (g, run) => {
       const a = summarizeAccounting(trust.cpuUsage(run.id));
-      for (const kind of kinds) this.set({ run: run.id, kind }, a[kind].cpuSeconds);
+      for (const kind of kinds) g.set({ run: run.id, kind }, a[kind].cpuSeconds);
     },
-  });
-  new Gauge({
-    name: 'netbreeder_energy_watt_hours',
-    help: "Estimated energy of the run's trainings (CPU-seconds x watts per busy core); basis 'assumed' is the part at the default watts, an assumption.",
-    labelNames: ['run', 'kind', 'basis'],
+  );
+  runGauge(
     registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      if (!run) return;
+    currentRun,
+    {
+      name: 'netbreeder_energy_watt_hours',
+      help: "Estimated energy of the run's trainings (CPU-seconds x watts per busy core); basis 'assumed' is the part at the default watts, an assumption.",
+      labelNames: ['run', 'kind', 'basis'],
+    },
+    (g, run) => {
       const a = summarizeAccounting(trust.cpuUsage(run.id));
       for (const kind of kinds) {
-        this.set({ run: run.id, kind, basis: 'set' }, a[kind].wattHours - a[kind].assumedWattHours);
-        this.set({ run: run.id, kind, basis: 'assumed' }, a[kind].assumedWattHours);
+        g.set({ run: run.id, kind, basis: 'set' }, a[kind].wattHours - a[kind].assumedWattHours);
+        g.set({ run: run.id, kind, basis: 'assumed' }, a[kind].assumedWattHours);
       }
     },
-  });
-  new Gauge({
-    name: 'netbreeder_verification_verdicts',
-    help: "The run's verified results by verdict.",
-    labelNames: ['run', 'verdict'],
-    registers,
-    collect() {
-      this.reset();
-      const run = currentRun();
-      if (!run) return;
-      for (const [verdict, n] of Object.entries(trust.verdictCounts(run.id))) this.set({ run: run.id, verdict }, n);
-    },
+  );
+  runGauge(registers, currentRun, { name: 'netbreeder_verification_verdicts', help: "The run's verified results by verdict.", labelNames: ['run', 'verdict'] }, (g, run) => {
+    for (const [verdict, n] of Object.entries(trust.verdictCounts(run.id))) g.set({ run: run.id, verdict }, n);
   });
   new Gauge({
     name: 'netbreeder_workers_quarantined',

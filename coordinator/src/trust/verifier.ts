@@ -72,6 +72,15 @@ export class Verifier {
     return verdict !== 'rejected' && verdict !== 'disputed';
   }
 
+  /**
+   * The run's best search result that counts (see {@link counts}), for `/status` and `/metrics`:
+   * the top row nearly always does; only when it does not are more read.
+   */
+  bestResult(runId: string): ReturnType<RunStore['topEvaluations']>[number] | undefined {
+    const [top] = this.o.store.topEvaluations(runId, 1);
+    return top && !this.counts(top) ? this.o.store.topEvaluations(runId, 50).find((e) => this.counts(e)) : top;
+  }
+
   /** After a search result was recorded: a seeded draw decides whether it is spot-checked. */
   async afterSearchResult(run: RunRecord, evaluationId: string): Promise<void> {
     const s = verificationSettings(run.config);
