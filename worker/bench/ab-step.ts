@@ -5,15 +5,12 @@
  *
  *   npx tsx worker/bench/ab-step.ts ref-cnn
  */
-import * as tf from '@tensorflow/tfjs';
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';
-import { buildModel } from '../src/training/build-model.js';
-import { crossEntropy } from '../src/training/evaluate-model.js';
 import { filterGradOptions } from '../src/training/kernels/conv-filter-gradient.js';
 import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
 import { chainGenome, refCnn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
-import { syntheticSamples } from '../src/training/synthetic-samples.js';
+import { fixedBatchStep } from './fixed-batch-step.js';
 
 const which = process.argv[2] ?? 'ref-cnn';
 const table: Record<string, [Genome, DataShape]> = {
@@ -44,12 +41,7 @@ const only = process.argv.slice(3);
 const chosen = only.length ? variants.filter((v, i) => i === 0 || only.some((o) => v.name.includes(o))) : variants;
 
 const batch = 64;
-const samples = syntheticSamples(data, batch, 1);
-const model = buildModel(genome, data, 1);
-const optimizer = tf.train.adam(0.001);
-const x = tf.tensor(samples.features, [batch, ...data.inputShape]);
-const y = tf.oneHot(tf.tensor1d(samples.labels, 'int32'), data.numClasses);
-const step = () => tf.dispose(optimizer.minimize(() => crossEntropy(model.apply(x, { training: true }) as tf.Tensor, y), true) ?? []);
+const step = fixedBatchStep(genome, data, batch);
 const times = new Map<string, number[]>(chosen.map((v) => [v.name, []]));
 for (let round = 0; round < 8; round++) {
   for (const v of chosen) {

@@ -7,10 +7,8 @@ import * as tf from '@tensorflow/tfjs';
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';
 import { filterGradOptions, type FilterGradRoute } from '../src/training/kernels/conv-filter-gradient.js';
-import { buildModel } from '../src/training/build-model.js';
-import { crossEntropy } from '../src/training/evaluate-model.js';
 import { refCnn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
-import { syntheticSamples } from '../src/training/synthetic-samples.js';
+import { fixedBatchStep } from './fixed-batch-step.js';
 
 const which = process.argv[2] ?? 'ref-cnn';
 const table: Record<string, [Genome, DataShape]> = {
@@ -22,12 +20,7 @@ const [genome, data] = table[which]!;
 await initBackend({ prefer: ['wasm'] });
 if (process.env['ROUTE']) filterGradOptions.route = process.env['ROUTE'] as FilterGradRoute;
 const batch = 64;
-const samples = syntheticSamples(data, batch, 1);
-const model = buildModel(genome, data, 1);
-const optimizer = tf.train.adam(0.001);
-const x = tf.tensor(samples.features, [batch, ...data.inputShape]);
-const y = tf.oneHot(tf.tensor1d(samples.labels, 'int32'), data.numClasses);
-const step = () => tf.dispose(optimizer.minimize(() => crossEntropy(model.apply(x, { training: true }) as tf.Tensor, y), true) ?? []);
+const step = fixedBatchStep(genome, data, batch);
 for (let i = 0; i < 5; i++) step();
 const steps = 20;
 const t0 = performance.now();
