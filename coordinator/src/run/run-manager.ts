@@ -279,10 +279,13 @@ export class RunManager {
     if ((await this.opts.queue.checkMarker(this.run.id)) === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
     const finished = await this.opts.queue.finished();
     const batch = emptyBatch();
-    const oneByOne: FinishedJob[] = [];
+    const championJobs: FinishedJob[] = [];
+    const verificationJobs: FinishedJob[] = [];
     this.store.transaction(() => {
       for (const job of finished) {
-        if (!this.reconcileSearchJob(job, batch)) oneByOne.push(job);
+        const handled = this.reconcileSearchJob(job, batch);
+        if (handled === 'champion') championJobs.push(job);
+        else if (handled === 'verification') verificationJobs.push(job);
       }
       const run = this.currentRun();
       if (run?.state === 'searching' && !this.searchBudgetSpent(run)) this.proposeUpToTarget(run, batch);
@@ -291,10 +294,8 @@ export class RunManager {
     await this.opts.queue.removeMany(batch.remove);
     await this.opts.queue.addMany(batch.add);
     for (const { evaluationId, result } of batch.recorded) this.events.resultRecorded?.(this.store.getEvaluation(evaluationId)!, result);
-    for (const job of oneByOne) {
-      if (this.verifier.owns(job.id)) await this.verifier.reconcile(job);
-      else await this.reconcileChampionJob(job);
-    }
+    for (const job of verificationJobs) await this.verifier.reconcile(job);
+    for (const job of championJobs) await this.reconcileChampionJob(job);
     const run = this.currentRun();
     if (!run) return;
     for (const { evaluationId } of batch.recorded) await this.verifier.afterSearchResult(run, evaluationId);
@@ -487,14 +488,14 @@ export class RunManager {
 
   /**
    * Handles one finished job inside the pass's transaction: a search result or failed attempt, a job
-   * that names no evaluation, or one already recorded. Returns false, doing nothing, for a champion
-   * training still owed a result (that goes through {@link reconcileChampionJob}) and for a
-   * verification re-run (the verifier's).
+   * that names no evaluation, or one already recorded (`'recorded'`). Does nothing for a champion
+   * training still owed a result (`'champion'`: that goes through {@link reconcileChampionJob}) or a
+   * verification re-run (`'verification'`: the verifier's).
    */
-  private reconcileSearchJob(job: FinishedJob, batch: QueueBatch): boolean {
+  private reconcileSearchJob(job: FinishedJob, batch: QueueBatch): 'recorded' | 'champion' | 'verification' {
     const ev = this.store.getEvaluation(job.id);
-    if (ev?.kind === 'champion' && (ev.state === 'queued' || ev.state === 'running')) return false;
-    if (!ev && this.verifier.owns(job.id)) return false;
+    if (ev?.kind === 'champion' && (ev.state === 'queued' || ev.state === 'running')) return 'champion';
+    if (!ev && this.verifier.owns(job.id)) return 'verification';
     if (!ev) {
       this.store.logEvent(null, 'rejected-result', { evaluationId: job.id, reason: 'unknown evaluation id' });
       this.opts.log.warn({ evaluationId: job.id }, 'finished job names no evaluation of this store; removed');
@@ -504,14 +505,14 @@ export class RunManager {
       const problem = this.resultProblem(ev, job.returnvalue);
       if (problem) {
         this.rejectResult(ev, problem, batch);
-        return true;
+        return 'recorded';
       }
       this.recordSearchResult(ev, job.returnvalue as EvaluationResult, batch);
     } else {
       this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable, batch);
     }
     batch.remove.push(job.id);
-    return true;
+    return 'recorded';
   }
 
   /** Records a champion training's outcome (scored on the test split here), then carries out its queue work. */
