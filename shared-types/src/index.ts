@@ -2,6 +2,7 @@
  * genome rules that coordinator and worker share. No I/O. */
 export * from './validation.js';
 export * from './random.js';
+export * from './sha256.js';
 export * from './genome/genome-schema.js';
 export * from './genome/search-space-schema.js';
 export * from './genome/analyze.js';

@@ -1,8 +1,7 @@
-import { createHash } from 'node:crypto';
 import { createReadStream, existsSync } from 'node:fs';
 import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import { Type } from '@sinclair/typebox';
-import { CheckpointFormatError, decodeCheckpointHeader, type CheckpointHeader } from '@netbreeder/shared-types';
+import { CheckpointFormatError, decodeCheckpointHeader, sha256Hex, type CheckpointHeader } from '@netbreeder/shared-types';
 import type { RunManager } from '../run/run-manager.js';
 import { checkpointRef } from '../checkpoints/checkpoint-files.js';
 import { checkpointSettings } from '../run/checkpoint-policy.js';
@@ -56,7 +55,7 @@ export function registerCheckpointRoutes(app: FastifyInstance, parts: Checkpoint
       const { sha256 } = req.params as { sha256: string };
       const body = req.body;
       if (!Buffer.isBuffer(body) || body.length === 0) throw new HttpError('NB_BAD_CHECKPOINT', 'the body must be a checkpoint file sent as application/octet-stream');
-      const actual = createHash('sha256').update(body).digest('hex');
+      const actual = sha256Hex(body);
       if (actual !== sha256) {
         store.logEvent(null, 'checkpoint-refused', { claimed: sha256, actual, bytes: body.length, reason: 'hash mismatch' });
         reject(req, `checkpoint body has sha256 ${actual}, not ${sha256}`);

@@ -1,7 +1,6 @@
-import { createHash } from 'node:crypto';
 import { mkdir, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { encodeShard, type DatasetManifest, type PreparedDataset } from '@netbreeder/shared-types';
+import { encodeShard, sha256Hex, type DatasetManifest, type PreparedDataset } from '@netbreeder/shared-types';
 import type { StoredDataset } from '../store/run-store.js';
 import type { DatasetPreparation } from '../datasets/index.js';
 
@@ -28,7 +27,7 @@ export async function storeDataset(dataset: PreparedDataset, dataDir: string, pr
   const dir = join(dataDir, 'datasets');
   await mkdir(dir, { recursive: true });
   const shard = encodeShard({ inputShape: dataset.inputShape, classNames: dataset.classNames, train: dataset.train, val: dataset.val });
-  const sha256 = createHash('sha256').update(shard).digest('hex');
+  const sha256 = sha256Hex(shard);
   const empty = { features: new Float32Array(0), labels: new Int32Array(0), count: 0 };
   const test = encodeShard({ inputShape: dataset.inputShape, classNames: dataset.classNames, train: dataset.test, val: empty });
   const shardPath = join(dir, `${sha256}.nbs`);

@@ -1,6 +1,6 @@
-import { createHash } from 'node:crypto';
 import { INPUT_ID, type Genome, type LayerNode } from './genome-schema.js';
 import { topologicalOrder } from './analyze.js';
+import { sha256Hex } from '../sha256.js';
 
 /** Rounds to 6 significant digits so that float noise never makes two equal genomes differ. */
 const tidyNumber = (v: number): number => (Number.isInteger(v) ? v : Number(v.toPrecision(6)));
@@ -45,5 +45,5 @@ export function canonicalGenome(genome: Genome): Genome {
 
 /** sha256 of the canonical form, as 64 hex digits: equal networks get equal hashes. */
 export function genomeHash(genome: Genome): string {
-  return createHash('sha256').update(stableStringify(canonicalGenome(genome))).digest('hex');
+  return sha256Hex(stableStringify(canonicalGenome(genome)));
 }

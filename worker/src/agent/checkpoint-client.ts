@@ -1,10 +1,8 @@
-import { createHash } from 'node:crypto';
 import type { Logger } from 'pino';
-import { CheckpointRefSchema, createValidator, type CheckpointRef } from '@netbreeder/shared-types';
+import { CheckpointRefSchema, createValidator, sha256Hex, type CheckpointRef } from '@netbreeder/shared-types';
 import { authHeader } from './auth-header.js';
 
 const refValidator = createValidator('checkpoint reference', CheckpointRefSchema);
-const sha256 = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest('hex');
 
 /** How a {@link CheckpointClient} reaches the coordinator. */
 export interface CheckpointClientOptions {
@@ -37,7 +35,7 @@ export class CheckpointClient {
 
   /** Uploads one checkpoint; resolves with null when stored, else with why not. */
   async upload(bytes: Uint8Array, meta: { evaluationId: string; epoch: number }): Promise<string | null> {
-    const hash = sha256(bytes);
+    const hash = sha256Hex(bytes);
     let body = bytes;
     if (this.opts.corruptUploads) {
       body = bytes.slice();
@@ -80,7 +78,7 @@ export class CheckpointClient {
       const res = await fetch(this.url(`/checkpoints/${ref.sha256}`), { headers: authHeader(this.opts.joinToken), signal: AbortSignal.timeout(60_000) });
       if (!res.ok) return { bytes: null, note: `the coordinator answered HTTP ${res.status} for it` };
       const bytes = new Uint8Array(await res.arrayBuffer());
-      const hash = sha256(bytes);
+      const hash = sha256Hex(bytes);
       if (hash !== ref.sha256) return { bytes: null, note: `the download (${bytes.length} of ${ref.bytes} bytes) has sha256 ${hash.slice(0, 12)}…, not ${ref.sha256.slice(0, 12)}…` };
       return { bytes };
     } catch (err) {

@@ -1,7 +1,6 @@
-import { createHash } from 'node:crypto';
 import { mkdir, readFile, readdir, rename, rm, stat, utimes, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import type { DatasetManifest } from '@netbreeder/shared-types';
+import { sha256Hex, type DatasetManifest } from '@netbreeder/shared-types';
 import type { Logger } from 'pino';
 import { authHeader } from './auth-header.js';
 
@@ -73,7 +72,7 @@ export class DatasetCache {
         const res = await fetch(url, { headers: authHeader(this.opts.joinToken ?? null) });
         if (!res.ok) throw new Error(`HTTP ${res.status} from ${url}`);
         const bytes = Buffer.from(await res.arrayBuffer());
-        const sha = createHash('sha256').update(bytes).digest('hex');
+        const sha = sha256Hex(bytes);
         if (sha !== manifest.sha256) throw new Error(`download has sha256 ${sha.slice(0, 12)}…, expected ${manifest.sha256.slice(0, 12)}… (${bytes.length} of ${manifest.bytes} bytes)`);
         await this.makeRoom(bytes.length);
         const tmp = `${path}.${process.pid}.tmp`;
@@ -106,5 +105,5 @@ export class DatasetCache {
 }
 
 async function sha256OfFile(path: string): Promise<string> {
-  return createHash('sha256').update(await readFile(path)).digest('hex');
+  return sha256Hex(await readFile(path));
 }
