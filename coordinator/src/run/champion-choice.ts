@@ -111,7 +111,7 @@ export const championRound = (store: RunStore, runId: string): number => Math.ma
  * earlier final training, so its evaluation ids are its own.
  */
 export function nextChampionSeq(store: RunStore, run: RunRecord): number {
-  const used = store.evaluations(run.id).filter((e) => e.kind === 'champion').map((e) => e.seq + 1);
+  const used = store.evaluations(run.id, 'champion').map((e) => e.seq + 1);
   return Math.max(run.proposals, ...used);
 }
 

@@ -103,7 +103,7 @@ export class ChampionPhase {
 
   /** Queues each candidate's final training once (idempotent across restarts). */
   async ensureJobs(run: RunRecord): Promise<void> {
-    const existing = new Set(this.o.store.evaluations(run.id).filter((e) => e.kind === 'champion').map((e) => e.seq));
+    const existing = new Set(this.o.store.evaluations(run.id, 'champion').map((e) => e.seq));
     for (const c of this.candidates(run.id)) {
       if (existing.has(c.seq)) continue;
       const source = this.o.store.getEvaluation(c.sourceEvaluationId)!;
@@ -211,7 +211,7 @@ export class ChampionPhase {
   private async finishIfComplete(runId: string): Promise<void> {
     const run = this.o.store.getRun(runId)!;
     if (run.state !== 'training-champion') return;
-    const champions = this.o.store.evaluations(runId).filter((e) => e.kind === 'champion');
+    const champions = this.o.store.evaluations(runId, 'champion');
     const open = this.candidates(runId).some((c) => {
       const attempts = champions.filter((e) => e.seq === c.seq);
       return attempts.length === 0 || attempts.some((e) => e.state === 'queued' || e.state === 'running');

@@ -368,8 +368,12 @@ export class RunStore {
   }
 
   /** Every evaluation of a run in proposal order (for reports and tests). */
-  evaluations(runId: string): EvaluationRecord[] {
-    return (this.sql('SELECT * FROM evaluations WHERE run_id = ? ORDER BY seq, attempt').all(runId) as Row[]).map(evaluationFromRow);
+  /** A run's evaluations (of one kind only, with `kind`: read through the index, not the whole run), by seq and attempt. */
+  evaluations(runId: string, kind?: EvaluationRecord['kind']): EvaluationRecord[] {
+    const rows = kind
+      ? this.sql('SELECT * FROM evaluations WHERE run_id = ? AND kind = ? ORDER BY seq, attempt').all(runId, kind)
+      : this.sql('SELECT * FROM evaluations WHERE run_id = ? ORDER BY seq, attempt').all(runId);
+    return (rows as Row[]).map(evaluationFromRow);
   }
 
   /** The chain of mutations that led to `genomeHash`, from its earliest recorded ancestor. */
