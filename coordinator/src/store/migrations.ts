@@ -254,4 +254,10 @@ export const MIGRATIONS: readonly string[] = [
     PRIMARY KEY (run_id, position)
   );
   `,
+  // 6: every read of the event log names a run and a kind (the champion candidates, reissues,
+  // rejections, a finish request), so it is indexed by both: a run's long log of verification and
+  // fault events is not scanned to find one kind.
+  `
+  CREATE INDEX events_by_run_kind ON events(run_id, kind, id);
+  `,
 ];
