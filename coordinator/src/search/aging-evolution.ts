@@ -4,6 +4,7 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, type AgingEvolutionSnapshot } from './snapshot.js';
 import { PopulationSearch } from './population-search.js';
+import { frozenCopy } from './frozen-copy.js';
 import { tournamentSelect } from './tournament.js';
 import type { Variation } from './variation.js';
 import { childProposal, shortHash } from './proposals.js';
@@ -79,7 +80,7 @@ export class AgingEvolution<G = Genome> extends PopulationSearch<G, Observation<
     if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
       return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];
     }
-    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness };
+    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: frozenCopy(o.genome), fitness: o.fitness };
     this.population.push(member);
     this.observed++;
     const decisions: SearchDecision[] = [

@@ -93,15 +93,15 @@ const DEFAULT_MAX_ATTEMPTS = 64;
  * A child of `parent`: draws an operator by weight, applies it, and keeps the result only when it
  * passes `checkGenome` against the space and data and its canonical hash differs from the parent's;
  * otherwise draws again, up to `maxAttempts` times, then throws {@link MutationError}. The parent is
- * never modified.
+ * never modified. `knownParentHash`: the parent's hash when the caller has it (not computed again).
  */
-export function mutate(parent: Genome, ctx: MutateContext): MutationOutcome {
+export function mutate(parent: Genome, ctx: MutateContext, knownParentHash?: string): MutationOutcome {
   const weights = { ...DEFAULT_MUTATION_WEIGHTS, ...ctx.weights };
   const table = (Object.keys(MUTATION_OPERATORS) as MutationOperatorName[]).map((name) => [name, weights[name]] as const);
   const maxAttempts = ctx.maxAttempts ?? DEFAULT_MAX_ATTEMPTS;
-  let parentHash: string | null;
+  let parentHash: string | null = knownParentHash ?? null;
   try {
-    parentHash = genomeHash(parent);
+    parentHash ??= genomeHash(parent);
   } catch {
     parentHash = null; // a structurally broken parent: any valid child differs from it
   }
@@ -114,8 +114,8 @@ export function mutate(parent: Genome, ctx: MutateContext): MutationOutcome {
     if (!check.ok) continue;
     const childHash = genomeHash(check.genome);
     if (childHash === parentHash) continue;
-    // A deep copy, so the child shares no node object with its parent.
-    return { genome: structuredClone(check.genome), genomeHash: childHash, mutation: { operator, detail: result.detail }, attempts: attempt };
+    // A deep copy (genomes are plain JSON), so the child shares no node object with its parent.
+    return { genome: JSON.parse(JSON.stringify(check.genome)) as Genome, genomeHash: childHash, mutation: { operator, detail: result.detail }, attempts: attempt };
   }
   throw new MutationError(
     `no valid child differing from genome ${parentHash?.slice(0, 12) ?? '(invalid)'} in ${maxAttempts} attempts; ` +

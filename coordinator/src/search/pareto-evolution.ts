@@ -7,6 +7,7 @@ import { SEARCH_SNAPSHOT_VERSION, type ParetoEvolutionSnapshot, type ParetoMembe
 import { PopulationSearch } from './population-search.js';
 import type { Variation } from './variation.js';
 import { childProposal, shortHash } from './proposals.js';
+import { frozenCopy } from './frozen-copy.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface ParetoEvolutionOptions<G> {
@@ -88,7 +89,7 @@ export class ParetoEvolution<G = Genome> extends PopulationSearch<G, ParetoMembe
     if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
       return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];
     }
-    const joined = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, cost };
+    const joined = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: frozenCopy(o.genome), fitness: o.fitness, cost };
     this.population.push(joined);
     this.observed++;
     const decisions: SearchDecision[] = [

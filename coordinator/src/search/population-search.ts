@@ -4,6 +4,7 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SearchSnapshotError } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { randomProposal, type RandomRole } from './proposals.js';
+import { frozenCopy, memberCopies } from './frozen-copy.js';
 
 type PopulationSettings = Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations'>;
 
@@ -24,7 +25,7 @@ export interface PopulationState<M, S> {
  * minimal genome, forgetting members, and restoring all of it from a snapshot taken with the same
  * settings.
  */
-export abstract class PopulationSearch<G, M extends { evaluationId: string }, S extends PopulationSettings> {
+export abstract class PopulationSearch<G, M extends { evaluationId: string; genome: G }, S extends PopulationSettings> {
   protected readonly settings: S;
   protected readonly variation: Variation<G>;
   protected readonly seed: number;
@@ -46,7 +47,7 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string }, S 
     }
     this.seed = s ? s.seed : options.seed;
     this.rng = s ? restoreRandom(s.rng) : createRandom(options.seed);
-    this.population = s ? structuredClone(s.population) : [];
+    this.population = s ? s.population.map((m) => ({ ...m, genome: frozenCopy(m.genome) })) : [];
     this.proposed = s ? s.proposed : 0;
     this.initialProposed = s ? s.initialProposed : 0;
     this.observed = s ? s.observed : 0;
@@ -59,9 +60,9 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string }, S 
     return before - this.population.length;
   }
 
-  /** The living members, oldest first (copies). */
+  /** The living members, oldest first (copies sharing the frozen genomes). */
   members(): M[] {
-    return structuredClone(this.population);
+    return memberCopies(this.population);
   }
 
   /** Everything a snapshot holds but its version and algorithm name (copies). */
@@ -73,7 +74,7 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string }, S 
       observed: this.observed,
       settings: { ...this.settings },
       initialProposed: this.initialProposed,
-      population: structuredClone(this.population),
+      population: memberCopies(this.population),
     };
   }
 

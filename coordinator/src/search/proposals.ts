@@ -47,7 +47,7 @@ export function childProposal<G>(
   const chosen = selection.reason;
   let child: ReturnType<Variation<G>['mutate']>;
   try {
-    child = variation.mutate(parent.genome, rng);
+    child = variation.mutate(parent.genome, rng, parent.genomeHash);
   } catch (err) {
     if (!(err instanceof MutationError)) throw err;
     const why = `${chosen}, but it has no valid mutation (${err.message}); a fresh member instead`;

@@ -8,6 +8,7 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { shortHash } from './proposals.js';
+import { frozenCopy, memberCopies } from './frozen-copy.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
 /** Where new configurations come from: independent random genomes, or children of aging evolution. */
@@ -89,7 +90,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       if (s && !snap) throw new SearchSnapshotError(`an 'asha-evolution' snapshot must hold an 'aging-evolution' configuration source, not '${s.source.algorithm}'`);
       this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, snapshot: snap });
     }
-    this.rungs = s ? structuredClone(s.rungs) : this.budgets.map(() => []);
+    this.rungs = s ? s.rungs.map((rung) => rung.map((m) => ({ ...m, genome: frozenCopy(m.genome) }))) : this.budgets.map(() => []);
     this.proposed = s ? s.proposed : 0;
     this.observed = s ? s.observed : 0;
     this.promotions = s ? s.promotions : 0;
@@ -166,7 +167,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     const fromSource = k === 0 ? this.source.observe(o) : [];
     const rung = this.rungs[k]!;
     if (rung.some((m) => m.genomeHash === o.genomeHash)) return [...fromSource, ignoredObservation(o, 'duplicate', `rung ${k} already holds genome ${shortHash(o.genomeHash)}`)];
-    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: structuredClone(o.genome), fitness: o.fitness, promoted: false };
+    const member = { evaluationId: o.evaluationId, genomeHash: o.genomeHash, genome: frozenCopy(o.genome), fitness: o.fitness, promoted: false };
     rung.push(member);
     this.observed++;
     return [
@@ -193,9 +194,9 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     return removed;
   }
 
-  /** Each rung's results in arrival order, lowest rung first (copies). */
+  /** Each rung's results in arrival order, lowest rung first (copies sharing the frozen genomes). */
   rungMembers(): AshaRungMember<G>[][] {
-    return structuredClone(this.rungs);
+    return this.rungs.map(memberCopies);
   }
 
   snapshot(): AshaSnapshot<G> {
@@ -210,7 +211,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       settings: { eta: this.settings.eta, minEpochs: this.settings.minEpochs, maxEpochs: this.settings.maxEpochs },
       promotions: this.promotions,
       offRung: this.offRung,
-      rungs: structuredClone(this.rungs),
+      rungs: this.rungs.map(memberCopies),
       source,
     };
   }

@@ -13,9 +13,10 @@ export interface Variation<G> {
   minimal(rng: Random): G;
   /**
    * A valid child that differs from `parent`; throws {@link MutationError} when none is found.
-   * May give the child's hash too, when it had to compute it anyway.
+   * May give the child's hash too, when it had to compute it anyway. `parentHash`, when the caller
+   * knows it (a population member's), saves hashing the parent again.
    */
-  mutate(parent: G, rng: Random): { genome: G; mutation: Mutation; genomeHash?: string };
+  mutate(parent: G, rng: Random, parentHash?: string): { genome: G; mutation: Mutation; genomeHash?: string };
   /** Content hash: equal genomes give equal hashes. */
   hash(genome: G): string;
   /** True when `value` has the genome's form (used on restored snapshots). */
@@ -26,8 +27,8 @@ export interface Variation<G> {
 export function genomeVariation(space: SearchSpace, data: DataShape, options: MutateOptions = {}): Variation<Genome> {
   return {
     minimal: (rng) => minimalGenome({ space, data, rng }),
-    mutate: (parent, rng) => {
-      const { genome, mutation, genomeHash } = mutate(parent, { space, data, rng, ...options });
+    mutate: (parent, rng, parentHash) => {
+      const { genome, mutation, genomeHash } = mutate(parent, { space, data, rng, ...options }, parentHash);
       return { genome, mutation, genomeHash };
     },
     hash: (genome) => genomeHash(genome),

@@ -5,15 +5,44 @@ import { sha256Hex } from '../sha256.js';
 /** Rounds to 6 significant digits so that float noise never makes two equal genomes differ. */
 const tidyNumber = (v: number): number => (Number.isInteger(v) ? v : Number(v.toPrecision(6)));
 
-/** JSON with object keys sorted at every depth. */
+/** Object keys as JSON strings, quoted once each (genomes reuse a few dozen keys). */
+const quotedKeys = new Map<string, string>();
+const quoteKey = (k: string): string => {
+  let q = quotedKeys.get(k);
+  if (q === undefined) {
+    q = JSON.stringify(k);
+    if (quotedKeys.size < 10_000) quotedKeys.set(k, q);
+  }
+  return q;
+};
+
+/**
+ * JSON with object keys sorted at every depth (undefined members left out, numbers tidied). Its
+ * output is what genome hashes are made of, so it must never change: built with plain string
+ * appends because it runs for every genome the search makes or checks.
+ */
 export function stableStringify(value: unknown): string {
-  if (Array.isArray(value)) return `[${value.map(stableStringify).join(',')}]`;
+  if (Array.isArray(value)) {
+    let out = '[';
+    for (let i = 0; i < value.length; i++) {
+      if (i > 0) out += ',';
+      out += stableStringify(value[i]) ?? '';
+    }
+    return `${out}]`;
+  }
   if (value && typeof value === 'object') {
-    const entries = Object.keys(value as object)
-      .sort()
-      .filter((k) => (value as Record<string, unknown>)[k] !== undefined)
-      .map((k) => `${JSON.stringify(k)}:${stableStringify((value as Record<string, unknown>)[k])}`);
-    return `{${entries.join(',')}}`;
+    const record = value as Record<string, unknown>;
+    const keys = Object.keys(record).sort();
+    let out = '{';
+    let first = true;
+    for (const k of keys) {
+      const v = record[k];
+      if (v === undefined) continue;
+      if (!first) out += ',';
+      first = false;
+      out += `${quoteKey(k)}:${stableStringify(v)}`;
+    }
+    return `${out}}`;
   }
   if (typeof value === 'number') return JSON.stringify(tidyNumber(value));
   return JSON.stringify(value);
