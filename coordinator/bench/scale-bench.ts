@@ -5,7 +5,11 @@
  *
  * 1. raw BullMQ: 20,000 no-op jobs added in bulk and completed by 50 plain BullMQ workers (the ceiling);
  * 2. the project end to end with zero training time and 50 simulated workers (propose, queue,
- *    complete, record, select the next); the ratio of 2 to 1;
+ *    complete, record, select the next); the ratio of 2 to 1. Between the two, the project's queue
+ *    protocol alone (jobs added one by one, finished jobs read back and removed after recording, as
+ *    the coordinator does, but nothing stored or searched) with the same no-op workers: how much of
+ *    the gap the durable protocol costs and how much the coordinator's own work. Every phase splits
+ *    the CPU per evaluation between the coordinator (this process), the workers and Redis;
  * 3. 1,000 simulated workers with 10-second mean (log-normal) jobs: evaluations/s, the wait from a
  *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, /status latency;
  * 4. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations: coordinator CPU
@@ -27,7 +31,10 @@ import { createRequire } from 'node:module';
 import { parseArgs } from 'node:util';
 import Database from 'better-sqlite3';
 import { Queue } from 'bullmq';
+import { EVALUATION_JOB_VERSION, createRandom, defaultSearchSpace, genomeHash, type EvaluationJob } from '@netbreeder/shared-types';
 import { openRedis, type SimulationSettings } from '@netbreeder/worker';
+import { EvaluationQueue } from '../src/queue/evaluation-queue.js';
+import { minimalGenome } from '../src/search/index.js';
 import { Coordinator } from '../src/coordinator.js';
 import { createLogger } from '../src/logger.js';
 import { parseRunConfig } from '../src/config/run-config.js';
@@ -37,7 +44,7 @@ const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
 const QUEUE = 'evaluations';
 const { values: args } = parseArgs({ options: { quick: { type: 'boolean' }, only: { type: 'string' }, sizes: { type: 'string' } } });
 const QUICK = args.quick === true;
-const PHASES = ['raw', 'zero', 'thousand', 'store'] as const;
+const PHASES = ['raw', 'protocol', 'zero', 'thousand', 'store'] as const;
 /** `--only zero,store`: run just those phases (for profiling one of them). */
 const ONLY = new Set(args.only ? args.only.split(',') : PHASES);
 for (const p of ONLY) if (!(PHASES as readonly string[]).includes(p)) throw new Error(`--only takes ${PHASES.join(', ')}; got '${p}'`);
@@ -102,6 +109,21 @@ async function obliterate(queuePrefix: string): Promise<void> {
   connection.disconnect();
 }
 
+/** CPU seconds the Redis server has used so far (INFO cpu: main thread and children, user and system). */
+async function redisCpuSeconds(): Promise<number> {
+  const connection = openRedis(REDIS_URL);
+  const info = await connection.info('cpu');
+  connection.disconnect();
+  const field = (name: string) => Number(new RegExp(`^${name}:([0-9.]+)`, 'm').exec(info)?.[1] ?? NaN);
+  return field('used_cpu_user') + field('used_cpu_sys');
+}
+
+/** CPU milliseconds per evaluation, split between the coordinator (this process), the workers and Redis. */
+function cpuSplit(perEvaluation: number, seconds: { coordinator: number; workers: number; redis: number }) {
+  const ms = (v: number) => (perEvaluation ? round((1000 * v) / perEvaluation, 3) : null);
+  return { coordinatorMs: ms(seconds.coordinator), workersMs: ms(seconds.workers), redisMs: ms(seconds.redis), totalMs: ms(seconds.coordinator + seconds.workers + seconds.redis) };
+}
+
 /** Milliseconds of sequential GET /status, `n` times. */
 async function statusTimes(url: string, n: number): Promise<number[]> {
   const out: number[] = [];
@@ -117,6 +139,7 @@ async function statusTimes(url: string, n: number): Promise<number[]> {
 /** Evaluations done, the coordinator's CPU and /status latency over a window of `ms`. */
 async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number) {
   const done0 = coordinator.store.counts(runId).done;
+  const redis0 = await redisCpuSeconds();
   const cpu0 = process.cpuUsage();
   const t0 = performance.now();
   const status: number[] = [];
@@ -128,9 +151,12 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
   }
   const seconds = (performance.now() - t0) / 1000;
   const cpu = process.cpuUsage(cpu0);
+  const redisSeconds = (await redisCpuSeconds()) - redis0;
   const results = coordinator.store.counts(runId).done - done0;
   const cpuSeconds = (cpu.user + cpu.system) / 1e6;
   return {
+    cpuSeconds,
+    redisSeconds,
     seconds: round(seconds),
     results,
     evaluationsPerSecond: round(results / seconds, 1),
@@ -149,6 +175,9 @@ async function rawBullmq(workers: number, jobs: number) {
   const fleet = await Fleet.start({ mode: 'raw', count: workers, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE });
   const connection = openRedis(REDIS_URL);
   const q = new Queue(QUEUE, { connection, prefix: p });
+  fleet.reset();
+  const redis0 = await redisCpuSeconds();
+  const cpu0 = process.cpuUsage();
   const t0 = performance.now();
   for (let i = 0; i < jobs; i += 1000) {
     await q.addBulk(Array.from({ length: Math.min(1000, jobs - i) }, (_, k) => ({ name: 'noop', data: { i: i + k }, opts: { removeOnComplete: false } })));
@@ -159,11 +188,93 @@ async function rawBullmq(workers: number, jobs: number) {
     await sleep(50);
   }
   const seconds = (performance.now() - t0) / 1000;
+  const cpu = process.cpuUsage(cpu0);
+  const redisSeconds = (await redisCpuSeconds()) - redis0;
+  const f = await fleet.report();
   await fleet.stop();
   await q.obliterate({ force: true });
   await q.close();
   connection.disconnect();
-  return { workers, jobs, seconds: round(seconds, 2), jobsPerSecond: round(jobs / seconds, 0) };
+  const cpuPerJob = cpuSplit(jobs, { coordinator: (cpu.user + cpu.system) / 1e6, workers: f.cpuSeconds, redis: redisSeconds });
+  return { workers, jobs, seconds: round(seconds, 2), jobsPerSecond: round(jobs / seconds, 0), cpuPerJob };
+}
+
+// ---- 1b. the project's queue protocol alone ------------------------------------------------------
+
+/** A job as big as the search's: a real genome and dataset manifest (the no-op workers ignore it). */
+function protocolJob(seq: number): EvaluationJob {
+  const data = { inputShape: [16, 16, 1], numClasses: 4 };
+  const genome = minimalGenome({ space: defaultSearchSpace(), data, rng: createRandom(seq) });
+  return {
+    schemaVersion: EVALUATION_JOB_VERSION,
+    kind: 'search',
+    evaluationId: `protocol-s${seq}-a1`,
+    runId: 'protocol',
+    attempt: 1,
+    genome,
+    genomeHash: genomeHash(genome),
+    seed: seq,
+    budget: { epochs: genome.training.epochs, maxSeconds: 60 },
+    dataset: { sha256: '0'.repeat(64), bytes: 1, ...data, classNames: ['a', 'b', 'c', 'd'], trainCount: 60, valCount: 10 },
+  };
+}
+
+/**
+ * The coordinator's queue work and nothing else, with `workers` no-op BullMQ workers: one job in
+ * flight per worker plus slack, each added on its own; a pass (on every finished-job event, and
+ * every second) reads the finished jobs back, removes them and adds as many new ones. No store, no
+ * search, no HTTP: the ceiling the durable protocol leaves the coordinator.
+ */
+async function queueProtocol(workers: number, warmupMs: number, measureMs: number) {
+  const p = prefix('protocol');
+  const fleet = await Fleet.start({ mode: 'raw', count: workers, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE });
+  const queue = new EvaluationQueue({ redisUrl: REDIS_URL, prefix: p, queueName: QUEUE }, createLogger('bench', 'error'));
+  let seq = 0;
+  let done = 0;
+  let ticking: Promise<void> | null = null;
+  let again = false;
+  const pass = async () => {
+    const finished = await queue.finished();
+    await queue.removeMany(finished.map((j) => j.id));
+    done += finished.length;
+    await queue.addMany(finished.map(() => protocolJob(seq++)));
+  };
+  const tick = () => {
+    if (ticking) {
+      again = true;
+      return;
+    }
+    ticking = (async () => {
+      do {
+        again = false;
+        await pass();
+      } while (again);
+    })().finally(() => {
+      ticking = null;
+    });
+  };
+  await queue.watch(tick);
+  const timer = setInterval(tick, 1000);
+  await queue.addMany(Array.from({ length: workers + 2 }, () => protocolJob(seq++)));
+  await sleep(warmupMs);
+  fleet.reset();
+  const done0 = done;
+  const redis0 = await redisCpuSeconds();
+  const cpu0 = process.cpuUsage();
+  const t0 = performance.now();
+  await sleep(measureMs);
+  const seconds = (performance.now() - t0) / 1000;
+  const cpu = process.cpuUsage(cpu0);
+  const redisSeconds = (await redisCpuSeconds()) - redis0;
+  const results = done - done0;
+  const f = await fleet.report();
+  clearInterval(timer);
+  await ticking;
+  await fleet.stop();
+  await queue.obliterate();
+  await queue.close();
+  const cpuPerJob = cpuSplit(results, { coordinator: (cpu.user + cpu.system) / 1e6, workers: f.cpuSeconds, redis: redisSeconds });
+  return { workers, seconds: round(seconds), jobs: results, jobsPerSecond: round(results / seconds, 0), cpuPerJob };
 }
 
 // ---- 2. and 3. the project end to end ------------------------------------------------------------
@@ -186,7 +297,9 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
   await coordinator.close();
   await obliterate(p);
   await rm(dataDir, { recursive: true, force: true });
-  return { workers, aliveWorkers: alive, fleetStartSeconds: round(fleetStartSeconds), ...figures, waitP50Ms: round(f.waitP50Ms, 0), waitP99Ms: round(f.waitP99Ms, 0), waits: f.waits, fleetRssMb: round(f.rssMb, 0) };
+  const { cpuSeconds, redisSeconds, ...shown } = figures;
+  const cpuPerEvaluation = cpuSplit(figures.results, { coordinator: cpuSeconds, workers: f.cpuSeconds, redis: redisSeconds });
+  return { workers, aliveWorkers: alive, fleetStartSeconds: round(fleetStartSeconds), ...shown, cpuPerEvaluation, waitP50Ms: round(f.waitP50Ms, 0), waitP99Ms: round(f.waitP99Ms, 0), waits: f.waits, fleetRssMb: round(f.rssMb, 0) };
 }
 
 // ---- 4. a store holding many finished evaluations ---------------------------------------------
@@ -232,7 +345,8 @@ async function storeGrowth(sizes: number[], measureMs: number) {
     const direct = await statusTimes(coordinator.url, 50);
     await fleet.stop();
     await coordinator.close();
-    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...figures, statusIdleP50Ms: round(percentile(direct, 0.5), 1) });
+    const { cpuSeconds: _cpu, redisSeconds: _redis, ...shown } = figures;
+    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, statusIdleP50Ms: round(percentile(direct, 0.5), 1) });
   }
   await obliterate(p);
   await rm(dataDir, { recursive: true, force: true });
@@ -249,6 +363,9 @@ async function main(): Promise<void> {
   const raw = ONLY.has('raw') ? await rawBullmq(50, QUICK ? 5000 : 20_000) : null;
   if (raw) console.log(`raw BullMQ, 50 workers, ${raw.jobs} no-op jobs: ${raw.jobsPerSecond} jobs/s`);
 
+  const protocol = ONLY.has('protocol') ? await queueProtocol(50, 3000, QUICK ? 8000 : 15_000) : null;
+  if (protocol) console.log(`queue protocol alone, 50 no-op workers: ${protocol.jobsPerSecond} jobs/s${raw ? ` (${round((100 * protocol.jobsPerSecond) / raw.jobsPerSecond, 0)}% of raw)` : ''}`);
+
   const zero = ONLY.has('zero') ? await endToEnd('zero', 50, { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'zero' }, 5000, QUICK ? 10_000 : 25_000) : null;
   const ratio = raw && zero ? zero.evaluationsPerSecond / raw.jobsPerSecond : null;
   if (zero) console.log(`project end to end, 50 simulated workers, zero training: ${zero.evaluationsPerSecond} evaluations/s${ratio === null ? '' : ` (${round(100 * ratio, 0)}% of raw)`}`);
@@ -262,11 +379,19 @@ async function main(): Promise<void> {
   const line = (a: string, b: string) => table.push(`${a.padEnd(58)} ${b}`);
   line('figure', 'value');
   line('-'.repeat(58), '-'.repeat(30));
-  if (raw) line('raw BullMQ no-op jobs/s (50 workers, bulk add)', `${raw.jobsPerSecond}`);
+  const split = (c: ReturnType<typeof cpuSplit>) => `${c.coordinatorMs} / ${c.workersMs} / ${c.redisMs} (total ${c.totalMs})`;
+  if (raw) {
+    line('raw BullMQ no-op jobs/s (50 workers, bulk add)', `${raw.jobsPerSecond}`);
+    line('  CPU ms per job: adder / workers / Redis', split(raw.cpuPerJob));
+  }
+  if (protocol) {
+    line('queue protocol alone, jobs/s (50 no-op workers)', `${protocol.jobsPerSecond}${raw ? ` (${round((100 * protocol.jobsPerSecond) / raw.jobsPerSecond, 0)}% of raw)` : ''}`);
+    line('  CPU ms per job: coordinator / workers / Redis', split(protocol.cpuPerJob));
+  }
   if (zero) {
     line('project evaluations/s, zero training (50 workers)', `${zero.evaluationsPerSecond}`);
     if (ratio !== null) line('ratio project / raw', `${round(100 * ratio, 0)}%`);
-    line('  coordinator CPU, ms per result (zero training)', `${zero.cpuMsPerResult}`);
+    line('  CPU ms per evaluation: coordinator / workers / Redis', split(zero.cpuPerEvaluation));
   }
   if (thousand) {
     line('1,000 workers, 10 s jobs: evaluations/s', `${thousand.evaluationsPerSecond} (ideal ${round(thousand.workers / 10, 0)})`);
@@ -283,7 +408,7 @@ async function main(): Promise<void> {
   const totalSeconds = round((performance.now() - startedAt) / 1000, 0);
   line('benchmark wall time s', `${totalSeconds}`);
   console.log(table.join('\n'));
-  console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, endToEndZeroTraining: zero, ratio: ratio === null ? null : round(ratio, 3), thousandWorkers: thousand, storeGrowth: growth, totalSeconds }));
+  console.log(JSON.stringify({ bench: 'scale', machine, quick: QUICK, rawBullmq: raw, queueProtocol: protocol, endToEndZeroTraining: zero, ratio: ratio === null ? null : round(ratio, 3), thousandWorkers: thousand, storeGrowth: growth, totalSeconds }));
 }
 
 void main().then(

@@ -22,7 +22,7 @@ export interface FleetChildConfig {
 
 export type FleetChildMessage =
   | { type: 'ready' }
-  | { type: 'report'; started: number; dropped: number; agents: number; waits: number; waitP50Ms: number; waitP99Ms: number; rssMb: number };
+  | { type: 'report'; started: number; dropped: number; agents: number; waits: number; waitP50Ms: number; waitP99Ms: number; rssMb: number; cpuSeconds: number };
 
 const percentile = (sorted: number[], p: number): number => (sorted.length ? sorted[Math.min(sorted.length - 1, Math.floor(p * sorted.length))]! : 0);
 
@@ -30,6 +30,12 @@ async function main(): Promise<void> {
   const config = JSON.parse(process.argv[2]!) as FleetChildConfig;
   const send = (m: FleetChildMessage) => process.send!(m);
   let report: () => FleetChildMessage;
+  // This process's CPU since the last 'reset' (or since it started).
+  let cpuFrom = process.cpuUsage();
+  const cpuSeconds = () => {
+    const c = process.cpuUsage(cpuFrom);
+    return (c.user + c.system) / 1e6;
+  };
   let reset: () => void;
   let stop: () => Promise<void>;
   if (config.mode === 'raw') {
@@ -39,8 +45,10 @@ async function main(): Promise<void> {
       workers.push(new Worker(config.queueName, async () => 'ok', { connection, prefix: config.prefix, concurrency: 1 }));
     }
     await Promise.all(workers.map((w) => w.waitUntilReady()));
-    report = () => ({ type: 'report', started: 0, dropped: 0, agents: workers.length, waits: 0, waitP50Ms: 0, waitP99Ms: 0, rssMb: process.memoryUsage.rss() / 2 ** 20 });
-    reset = () => {};
+    report = () => ({ type: 'report', started: 0, dropped: 0, agents: workers.length, waits: 0, waitP50Ms: 0, waitP99Ms: 0, rssMb: process.memoryUsage.rss() / 2 ** 20, cpuSeconds: cpuSeconds() });
+    reset = () => {
+      cpuFrom = process.cpuUsage();
+    };
     stop = async () => {
       await Promise.all(workers.map((w) => w.close(true)));
     };
@@ -67,10 +75,11 @@ async function main(): Promise<void> {
     report = () => {
       const s = fleet.snapshot();
       const waits = s.waitsMs.slice(from).sort((a, b) => a - b);
-      return { type: 'report', started: s.started, dropped: s.dropped, agents: s.agents, waits: waits.length, waitP50Ms: percentile(waits, 0.5), waitP99Ms: percentile(waits, 0.99), rssMb: process.memoryUsage.rss() / 2 ** 20 };
+      return { type: 'report', started: s.started, dropped: s.dropped, agents: s.agents, waits: waits.length, waitP50Ms: percentile(waits, 0.5), waitP99Ms: percentile(waits, 0.99), rssMb: process.memoryUsage.rss() / 2 ** 20, cpuSeconds: cpuSeconds() };
     };
     reset = () => {
       from = fleet.snapshot().waitsMs.length;
+      cpuFrom = process.cpuUsage();
     };
     stop = () => fleet.stop({ force: true });
   }

@@ -203,9 +203,9 @@ export class RunStore {
     return statement;
   }
 
-  /** The SQLite handle, for the store's companion tables (./trust-store.ts) only. */
-  get database(): Database.Database {
-    return this.db;
+  /** The cached prepared statement for `sql`, for the store's companion tables (./trust-store.ts) only. */
+  statement(sql: string): Database.Statement {
+    return this.sql(sql);
   }
 
   /** Runs `fn` in one transaction: all of its writes land, or none. */

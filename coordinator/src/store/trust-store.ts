@@ -92,44 +92,43 @@ const trustFromRow = (r: Row): WorkerTrustRecord => ({
 export class TrustStore {
   constructor(private readonly store: RunStore) {}
 
-  private get db() {
-    return this.store.database;
+  /** The store's cached prepared statement for `sql`. */
+  private sql(sql: string) {
+    return this.store.statement(sql);
   }
 
   addVerification(v: { id: string; runId: string; sourceEvaluationId: string; opinion: 1 | 2; purpose: VerificationPurpose; job: EvaluationJob; now: number }): void {
-    this.db
-      .prepare(`INSERT INTO verifications (id, run_id, source_evaluation_id, opinion, purpose, job_json, state, queued_at) VALUES (?, ?, ?, ?, ?, ?, 'queued', ?)`)
+    this.sql(`INSERT INTO verifications (id, run_id, source_evaluation_id, opinion, purpose, job_json, state, queued_at) VALUES (?, ?, ?, ?, ?, ?, 'queued', ?)`)
       .run(v.id, v.runId, v.sourceEvaluationId, v.opinion, v.purpose, JSON.stringify(v.job), v.now);
   }
 
   getVerification(id: string): VerificationRecord | null {
-    const r = this.db.prepare('SELECT * FROM verifications WHERE id = ?').get(id) as Row | undefined;
+    const r = this.sql('SELECT * FROM verifications WHERE id = ?').get(id) as Row | undefined;
     return r ? verificationFromRow(r) : null;
   }
 
   /** The verifications of one search result, second opinion first. */
   verificationsOf(sourceEvaluationId: string): VerificationRecord[] {
-    return (this.db.prepare('SELECT * FROM verifications WHERE source_evaluation_id = ? ORDER BY opinion').all(sourceEvaluationId) as Row[]).map(verificationFromRow);
+    return (this.sql('SELECT * FROM verifications WHERE source_evaluation_id = ? ORDER BY opinion').all(sourceEvaluationId) as Row[]).map(verificationFromRow);
   }
 
   /** A run's verifications still waiting for their result. */
   openVerifications(runId: string): VerificationRecord[] {
-    return (this.db.prepare(`SELECT * FROM verifications WHERE run_id = ? AND state = 'queued' ORDER BY queued_at`).all(runId) as Row[]).map(verificationFromRow);
+    return (this.sql(`SELECT * FROM verifications WHERE run_id = ? AND state = 'queued' ORDER BY queued_at`).all(runId) as Row[]).map(verificationFromRow);
   }
 
   /** Closes a queued verification once (true when this call closed it). */
   finishVerification(id: string, outcome: { state: 'done'; result: EvaluationResult } | { state: 'failed' | 'timed-out'; error: string }, now: number): boolean {
     const info =
       outcome.state === 'done'
-        ? this.db
-            .prepare(`UPDATE verifications SET state = 'done', finished_at = ?, worker_id = ?, result_json = ? WHERE id = ? AND state = 'queued'`)
+        ? this.sql(`UPDATE verifications SET state = 'done', finished_at = ?, worker_id = ?, result_json = ? WHERE id = ? AND state = 'queued'`)
             .run(now, outcome.result.workerId, JSON.stringify({ ...outcome.result, model: undefined }), id)
-        : this.db.prepare(`UPDATE verifications SET state = ?, finished_at = ?, error = ? WHERE id = ? AND state = 'queued'`).run(outcome.state, now, outcome.error.slice(0, 4000), id);
+        : this.sql(`UPDATE verifications SET state = ?, finished_at = ?, error = ? WHERE id = ? AND state = 'queued'`).run(outcome.state, now, outcome.error.slice(0, 4000), id);
     return info.changes === 1;
   }
 
   getVerdict(evaluationId: string): VerdictRecord | null {
-    const r = this.db.prepare('SELECT * FROM result_verdicts WHERE evaluation_id = ?').get(evaluationId) as Row | undefined;
+    const r = this.sql('SELECT * FROM result_verdicts WHERE evaluation_id = ?').get(evaluationId) as Row | undefined;
     if (!r) return null;
     return { evaluationId, runId: r.run_id as string, workerId: r.worker_id as string, verdict: r.verdict as VerdictKind, reason: r.reason as string, decidedAt: r.decided_at as number };
   }
@@ -137,8 +136,7 @@ export class TrustStore {
   /** Records the final verdict on a result; a second verdict on the same result changes nothing (false). */
   saveVerdict(v: VerdictRecord): boolean {
     return (
-      this.db
-        .prepare('INSERT OR IGNORE INTO result_verdicts (evaluation_id, run_id, worker_id, verdict, reason, decided_at) VALUES (?, ?, ?, ?, ?, ?)')
+      this.sql('INSERT OR IGNORE INTO result_verdicts (evaluation_id, run_id, worker_id, verdict, reason, decided_at) VALUES (?, ?, ?, ?, ?, ?)')
         .run(v.evaluationId, v.runId, v.workerId, v.verdict, v.reason.slice(0, 4000), v.decidedAt).changes === 1
     );
   }
@@ -146,27 +144,26 @@ export class TrustStore {
   /** Verdicts of a run by kind (an aggregate kept by a trigger). */
   verdictCounts(runId: string): Record<VerdictKind, number> {
     const out: Record<VerdictKind, number> = { confirmed: 0, rejected: 0, disputed: 0, unverified: 0 };
-    for (const r of this.db.prepare('SELECT verdict, n FROM verdict_counts WHERE run_id = ?').all(runId) as Row[]) out[r.verdict as VerdictKind] = r.n as number;
+    for (const r of this.sql('SELECT verdict, n FROM verdict_counts WHERE run_id = ?').all(runId) as Row[]) out[r.verdict as VerdictKind] = r.n as number;
     return out;
   }
 
   /** Queued verifications of a run (read through `verifications_by_run_state`). */
   openVerificationCount(runId: string): number {
-    return (this.db.prepare(`SELECT COUNT(*) AS n FROM verifications WHERE run_id = ? AND state = 'queued'`).get(runId) as Row).n as number;
+    return (this.sql(`SELECT COUNT(*) AS n FROM verifications WHERE run_id = ? AND state = 'queued'`).get(runId) as Row).n as number;
   }
 
   trust(workerId: string): WorkerTrustRecord {
-    const r = this.db.prepare('SELECT * FROM worker_trust WHERE worker_id = ?').get(workerId) as Row | undefined;
+    const r = this.sql('SELECT * FROM worker_trust WHERE worker_id = ?').get(workerId) as Row | undefined;
     return r ? trustFromRow(r) : { workerId, agreed: 0, failed: 0, quarantinedAt: null, quarantineReason: null };
   }
 
   allTrust(): WorkerTrustRecord[] {
-    return (this.db.prepare('SELECT * FROM worker_trust ORDER BY worker_id').all() as Row[]).map(trustFromRow);
+    return (this.sql('SELECT * FROM worker_trust ORDER BY worker_id').all() as Row[]).map(trustFromRow);
   }
 
   addTrust(workerId: string, delta: { agreed?: number; failed?: number }): WorkerTrustRecord {
-    this.db
-      .prepare(
+    this.sql(
         `INSERT INTO worker_trust (worker_id, agreed, failed) VALUES (?, ?, ?)
          ON CONFLICT (worker_id) DO UPDATE SET agreed = agreed + excluded.agreed, failed = failed + excluded.failed`,
       )
@@ -177,16 +174,16 @@ export class TrustStore {
   /** Quarantines a worker once (true when this call did). */
   quarantine(workerId: string, reason: string, now: number): boolean {
     this.addTrust(workerId, {});
-    return this.db.prepare('UPDATE worker_trust SET quarantined_at = ?, quarantine_reason = ? WHERE worker_id = ? AND quarantined_at IS NULL').run(now, reason, workerId).changes === 1;
+    return this.sql('UPDATE worker_trust SET quarantined_at = ?, quarantine_reason = ? WHERE worker_id = ? AND quarantined_at IS NULL').run(now, reason, workerId).changes === 1;
   }
 
   quarantinedWorkers(): string[] {
-    return (this.db.prepare('SELECT worker_id FROM worker_trust WHERE quarantined_at IS NOT NULL ORDER BY worker_id').all() as Row[]).map((r) => r.worker_id as string);
+    return (this.sql('SELECT worker_id FROM worker_trust WHERE quarantined_at IS NOT NULL ORDER BY worker_id').all() as Row[]).map((r) => r.worker_id as string);
   }
 
   /** A run's CPU time and energy per worker and kind (the incremental aggregate of migration 4). */
   cpuUsage(runId: string): CpuUsageRow[] {
-    return (this.db.prepare('SELECT * FROM cpu_usage WHERE run_id = ? ORDER BY worker_id, kind').all(runId) as Row[]).map((r) => ({
+    return (this.sql('SELECT * FROM cpu_usage WHERE run_id = ? ORDER BY worker_id, kind').all(runId) as Row[]).map((r) => ({
       workerId: r.worker_id as string,
       kind: r.kind as CpuUsageRow['kind'],
       evaluations: r.evaluations as number,
