@@ -20,6 +20,7 @@
  *
  *   npm run bench:scale [-- --quick]     (--quick: shorter windows, 100k largest store; a smoke run)
  *   npm run bench:scale -- --only zero,store --sizes 100000   (some phases only, for profiling)
+ *   NB_FLEET_PROF=/tmp/prof npm run bench:scale -- --only zero   (also writes the fleet child's CPU profile there)
  */
 import { fork, type ChildProcess } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
@@ -64,7 +65,7 @@ const FLEET_ENTRY = fileURLToPath(new URL('./scale-fleet.ts', import.meta.url));
 class Fleet {
   private constructor(private readonly child: ChildProcess) {}
   static async start(config: FleetChildConfig): Promise<Fleet> {
-    const child = fork(FLEET_ENTRY, [JSON.stringify(config)], { execArgv: ['--import', TSX_LOADER], stdio: ['ignore', 'inherit', 'inherit', 'ipc'] });
+    const child = fork(FLEET_ENTRY, [JSON.stringify(config)], { execArgv: ['--import', TSX_LOADER, ...(process.env.NB_FLEET_PROF ? ['--cpu-prof', `--cpu-prof-dir=${process.env.NB_FLEET_PROF}`] : [])], stdio: ['ignore', 'inherit', 'inherit', 'ipc'] });
     await new Promise<void>((resolve, reject) => {
       child.once('message', (m: FleetChildMessage) => (m.type === 'ready' ? resolve() : reject(new Error('fleet did not start'))));
       child.once('exit', (code) => reject(new Error(`fleet child exited with code ${code} before it was ready`)));

@@ -260,4 +260,15 @@ export const MIGRATIONS: readonly string[] = [
   `
   CREATE INDEX events_by_run_kind ON events(run_id, kind, id);
   `,
+  // 7: the search's state (about 130 KB for a population of 100) moves out of the run's row. In the
+  // row, every proposal's counter update rewrote it and every read of the run walked its overflow
+  // pages to reach the columns after it.
+  `
+  CREATE TABLE search_snapshots (
+    run_id TEXT PRIMARY KEY REFERENCES runs(id),
+    snapshot_json TEXT NOT NULL
+  );
+  INSERT INTO search_snapshots (run_id, snapshot_json) SELECT id, search_snapshot_json FROM runs WHERE search_snapshot_json IS NOT NULL;
+  ALTER TABLE runs DROP COLUMN search_snapshot_json;
+  `,
 ];

@@ -1,5 +1,6 @@
 import Database from 'better-sqlite3';
 import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, SearchDecision, SearchStep, WorkerHeartbeat } from '@netbreeder/shared-types';
+import { withMemberGenomes, withoutMemberGenomes } from './snapshot-genomes.js';
 import { MIGRATIONS } from './migrations.js';
 import type { DatasetPreparation } from '../datasets/index.js';
 
@@ -145,7 +146,7 @@ const evaluationFromRow = (r: Row): EvaluationRecord => ({
 /** A worker seen since the bound parameter whose last heartbeat did not say it stopped. */
 const LIVE_WORKER = "last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'";
 
-/** Every column of `runs` but the search snapshot, which only a resuming coordinator reads. */
+/** Every column of `runs` (the search snapshot is in its own table since migration 7). */
 const RUN_COLUMNS = 'id, name, config_json, state, seed, dataset_json, proposals, created_at, search_started_at, finished_at, failure';
 
 const runFromRow = (r: Row): RunRecord => ({
@@ -254,12 +255,20 @@ export class RunStore {
 
   /** The search algorithm's last saved state (parsed JSON), or null before the first proposal. */
   searchSnapshot(runId: string): unknown {
-    const row = this.sql('SELECT search_snapshot_json FROM runs WHERE id = ?').get(runId) as Row | undefined;
-    return row?.search_snapshot_json ? JSON.parse(row.search_snapshot_json as string) : null;
+    const row = this.sql('SELECT snapshot_json FROM search_snapshots WHERE run_id = ?').get(runId) as Row | undefined;
+    if (!row) return null;
+    const jobOf = this.sql('SELECT job_json FROM evaluations WHERE id = ?');
+    return withMemberGenomes(JSON.parse(row.snapshot_json as string), (id) => {
+      const r = jobOf.get(id) as Row | undefined;
+      return r ? (JSON.parse(r.job_json as string) as EvaluationJob).genome : undefined;
+    });
   }
 
+  /** Saves the search algorithm's state; its members' genomes are stored once, in their evaluations (./snapshot-genomes.ts). */
   saveSearchSnapshot(runId: string, snapshot: unknown): void {
-    this.sql('UPDATE runs SET search_snapshot_json = ? WHERE id = ?').run(JSON.stringify(snapshot), runId);
+    this
+      .sql('INSERT INTO search_snapshots (run_id, snapshot_json) VALUES (?, ?) ON CONFLICT(run_id) DO UPDATE SET snapshot_json = excluded.snapshot_json')
+      .run(runId, JSON.stringify(withoutMemberGenomes(snapshot)));
   }
 
   // ---- genomes and evaluations -----------------------------------------------------------------
