@@ -1,4 +1,4 @@
-import { Queue, QueueEvents, type Job } from 'bullmq';
+import { Queue, QueueEvents } from 'bullmq';
 import type { Redis } from 'ioredis';
 import { DO_NOT_RETRY_PREFIX, type EvaluationJob } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
@@ -61,22 +61,32 @@ export class EvaluationQueue {
     return this.queue.getJobState(evaluationId);
   }
 
-  /** Up to `limit` finished jobs of each kind, oldest first. */
+  /**
+   * Up to `limit` finished jobs of each kind, oldest first. Reads only the fields a finished job's
+   * outcome is in, not the whole job: its payload (genome, dataset manifest) is in the store.
+   */
   async finished(limit = 200): Promise<FinishedJob[]> {
     const out: FinishedJob[] = [];
     for (const state of ['completed', 'failed'] as const) {
-      const jobs = (await this.queue.getJobs([state], 0, limit - 1, true)) as Array<Job | undefined>;
-      for (const job of jobs) {
-        if (!job?.id) continue;
-        const failedReason = state === 'failed' ? (job.failedReason ?? 'failed without a reason') : null;
+      const ids = await this.queue.getRanges([state], 0, limit - 1, true);
+      if (!ids.length) continue;
+      const pipeline = this.connection.pipeline();
+      // `name` is set on every job: without it the job was removed meanwhile.
+      for (const id of ids) pipeline.hmget(this.queue.toKey(id), 'name', 'returnvalue', 'failedReason');
+      const replies = (await pipeline.exec()) ?? [];
+      ids.forEach((id, i) => {
+        const [err, fields] = replies[i] ?? [null, null];
+        const [name, returnvalue, reason] = (fields as Array<string | null> | null) ?? [null, null, null];
+        if (err || name === null) return;
+        const failedReason = state === 'failed' ? (reason || 'failed without a reason') : null;
         out.push({
-          id: job.id,
+          id,
           state,
-          returnvalue: job.returnvalue,
+          returnvalue: parseReturnValue(returnvalue ?? null),
           failedReason,
           unrecoverable: failedReason != null && failedReason.startsWith(DO_NOT_RETRY_PREFIX),
         });
-      }
+      });
     }
     return out;
   }
@@ -136,6 +146,16 @@ const jobOptions = (job: EvaluationJob) => ({
   // Champion trainings go first, then verifications (the champion phase may wait on them), then the search.
   priority: job.kind === 'champion' ? 1 : job.verifies ? 5 : 10,
 });
+
+/** A job's stored return value: JSON as BullMQ writes it, or the raw text when it is not JSON. */
+function parseReturnValue(text: string | null): unknown {
+  if (text === null) return null;
+  try {
+    return JSON.parse(text) as unknown;
+  } catch {
+    return text;
+  }
+}
 
 /** The URL without its password, for logs. */
 export function redactUrl(url: string): string {
