@@ -30,6 +30,7 @@ import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { createRequire } from 'node:module';
 import { parseArgs } from 'node:util';
+import { monitorEventLoopDelay } from 'node:perf_hooks';
 import Database from 'better-sqlite3';
 import { Queue } from 'bullmq';
 import { EVALUATION_JOB_VERSION, createRandom, defaultSearchSpace, genomeHash, type EvaluationJob } from '@netbreeder/shared-types';
@@ -141,6 +142,9 @@ async function statusTimes(url: string, n: number): Promise<number[]> {
 async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number) {
   const done0 = coordinator.store.counts(runId).done;
   const redis0 = await redisCpuSeconds();
+  // How long the coordinator's event loop was held up (a pass, a big reply): what /status waits on.
+  const loop = monitorEventLoopDelay({ resolution: 10 });
+  loop.enable();
   const cpu0 = process.cpuUsage();
   const t0 = performance.now();
   const status: number[] = [];
@@ -152,6 +156,7 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
   }
   const seconds = (performance.now() - t0) / 1000;
   const cpu = process.cpuUsage(cpu0);
+  loop.disable();
   const redisSeconds = (await redisCpuSeconds()) - redis0;
   const results = coordinator.store.counts(runId).done - done0;
   const cpuSeconds = (cpu.user + cpu.system) / 1e6;
@@ -166,6 +171,8 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
     rssMb: round(peakRss / 2 ** 20, 0),
     statusP50Ms: round(percentile(status, 0.5), 1),
     statusP99Ms: round(percentile(status, 0.99), 1),
+    eventLoopDelayP99Ms: round(loop.percentile(99) / 1e6, 0),
+    eventLoopDelayMaxMs: round(loop.max / 1e6, 0),
   };
 }
 
@@ -400,6 +407,7 @@ async function main(): Promise<void> {
     line('  wait free → next job p50 / p99 ms', `${thousand.waitP50Ms} / ${thousand.waitP99Ms} (${thousand.waits} jobs)`);
     line('  coordinator CPU % of one core / RSS MB', `${thousand.coordinatorCpuPercent} / ${thousand.rssMb}`);
     line('  /status p50 / p99 ms', `${thousand.statusP50Ms} / ${thousand.statusP99Ms}`);
+    line('  coordinator event-loop delay p99 / max ms', `${thousand.eventLoopDelayP99Ms} / ${thousand.eventLoopDelayMaxMs}`);
     line('  fleet start (1,000 agents) s / fleet RSS MB', `${thousand.fleetStartSeconds} / ${thousand.fleetRssMb}`);
   }
   for (const g of growth) {

@@ -271,4 +271,12 @@ export const MIGRATIONS: readonly string[] = [
   INSERT INTO search_snapshots (run_id, snapshot_json) SELECT id, search_snapshot_json FROM runs WHERE search_snapshot_json IS NOT NULL;
   ALTER TABLE runs DROP COLUMN search_snapshot_json;
   `,
+  // 8: whether a worker said it stopped is a column of its own, and workers are indexed by when they
+  // were last heard from: counting the live workers (every reconcile pass does) no longer decodes
+  // every worker's heartbeat, which with a thousand workers cost more than the results.
+  `
+  ALTER TABLE workers ADD COLUMN stopped INTEGER NOT NULL DEFAULT 0;
+  UPDATE workers SET stopped = (json_extract(heartbeat_json, '$.state') = 'stopped');
+  CREATE INDEX workers_by_last_seen ON workers(last_seen_at, stopped);
+  `,
 ];

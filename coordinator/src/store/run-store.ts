@@ -144,7 +144,7 @@ const evaluationFromRow = (r: Row): EvaluationRecord => ({
 });
 
 /** A worker seen since the bound parameter whose last heartbeat did not say it stopped. */
-const LIVE_WORKER = "last_seen_at >= ? AND json_extract(heartbeat_json, '$.state') != 'stopped'";
+const LIVE_WORKER = 'last_seen_at >= ? AND stopped = 0';
 
 /** Every column of `runs` (the search snapshot is in its own table since migration 7). */
 const RUN_COLUMNS = 'id, name, config_json, state, seed, dataset_json, proposals, created_at, search_started_at, finished_at, failure';
@@ -406,10 +406,10 @@ export class RunStore {
   upsertWorker(hb: WorkerHeartbeat, now: number): void {
     this
       .sql(
-        `INSERT INTO workers (id, heartbeat_json, first_seen_at, last_seen_at) VALUES (?, ?, ?, ?)
-         ON CONFLICT(id) DO UPDATE SET heartbeat_json = excluded.heartbeat_json, last_seen_at = excluded.last_seen_at`,
+        `INSERT INTO workers (id, heartbeat_json, first_seen_at, last_seen_at, stopped) VALUES (?, ?, ?, ?, ?)
+         ON CONFLICT(id) DO UPDATE SET heartbeat_json = excluded.heartbeat_json, last_seen_at = excluded.last_seen_at, stopped = excluded.stopped`,
       )
-      .run(hb.workerId, JSON.stringify(hb), now, now);
+      .run(hb.workerId, JSON.stringify(hb), now, now, hb.state === 'stopped' ? 1 : 0);
   }
 
   /** Workers heard from since `since` (ms epoch) that have not said they stopped; no JSON parsed. */

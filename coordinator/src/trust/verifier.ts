@@ -192,11 +192,14 @@ export class Verifier {
     if (!open.length) return;
     const timeoutMs = verificationSettings(run.config).timeoutSeconds * 1000;
     const now = this.o.now();
-    const live = this.o.liveWorkers().filter((w) => !this.isQuarantined(w));
+    // Which workers are alive matters only for a verification that has waited past the grace
+    // period; read once, and only then (a pass with a thousand workers would otherwise list them all).
+    let live: string[] | null = null;
+    const liveWorkers = () => (live ??= this.o.liveWorkers().filter((w) => !this.isQuarantined(w)));
     for (const v of open) {
       const waited = now - v.queuedAt;
-      const nobody = !live.some((w) => !v.job.excludeWorkers?.includes(w));
-      if (waited <= timeoutMs && !(nobody && waited > Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS))) continue;
+      if (waited <= Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS)) continue;
+      if (waited <= timeoutMs && liveWorkers().some((w) => !v.job.excludeWorkers?.includes(w))) continue;
       const why = waited > timeoutMs ? `no result within ${timeoutMs / 1000} s` : 'no worker other than the excluded ones is alive';
       await this.o.queue.remove(v.id).catch(() => undefined); // a job being trained cannot be removed; its late result is ignored
       this.o.log.warn({ verificationId: v.id, why }, 'verification timed out');

@@ -13,6 +13,8 @@ export class HeartbeatSender {
   private inFlight: Promise<void> | null = null;
   private again = false;
   private lastNotifiedAt = -Infinity;
+  /** When the coordinator last took a heartbeat of this worker. */
+  private lastDeliveredAt = -Infinity;
   private trailing: NodeJS.Timeout | null = null;
 
   constructor(
@@ -29,9 +31,16 @@ export class HeartbeatSender {
     private readonly minChangeGapMs = 1000,
   ) {}
 
+  /**
+   * Sends one now and then every `intervalMs`; a periodic one is skipped when a state change was
+   * delivered less than half an interval ago (it would say nothing new, and with a thousand
+   * workers each heartbeat is work for the coordinator).
+   */
   start(): void {
     if (this.timer) return;
-    this.timer = setInterval(() => void this.send(), this.intervalMs);
+    this.timer = setInterval(() => {
+      if (Date.now() - this.lastDeliveredAt >= this.intervalMs / 2) void this.send();
+    }, this.intervalMs);
     this.timer.unref();
     void this.send();
   }
@@ -100,6 +109,7 @@ export class HeartbeatSender {
       }
       if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
       this.failures = 0;
+      this.lastDeliveredAt = Date.now();
     } catch (err) {
       this.failures++;
       if (this.failures === 1 || this.failures % 10 === 0) {
