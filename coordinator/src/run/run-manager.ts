@@ -138,7 +138,7 @@ export class RunManager {
       queue: opts.queue,
       log: opts.log,
       now: this.now,
-      liveWorkers: () => this.store.liveWorkerIds(this.now() - this.workerTimeoutMs).filter((id) => !this.isRevoked(id)),
+      liveWorkerBesides: (excluded) => this.store.hasLiveWorkerOutside(this.now() - this.workerTimeoutMs, [...excluded, ...this.revokedIds()]),
       onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
     });
     this.champion = new ChampionPhase({
@@ -329,15 +329,20 @@ export class RunManager {
 
   /** True when results and heartbeats of this worker are refused. */
   isRevoked(workerId: string): boolean {
-    if (!this.revoked) this.revoked = new Set(this.store.events(null, 'worker-revoked').map((e) => (e.detail as { workerId: string }).workerId));
-    return this.revoked.has(workerId);
+    return this.revokedIds().has(workerId);
+  }
+
+  /** The workers whose results and heartbeats are refused (read from the event log once). */
+  private revokedIds(): Set<string> {
+    this.revoked ??= new Set(this.store.events(null, 'worker-revoked').map((e) => (e.detail as { workerId: string }).workerId));
+    return this.revoked;
   }
 
   /** Refuses every later result and heartbeat of `workerId` (a PC that misbehaves or left the office). */
   revokeWorker(workerId: string, reason: string): void {
     if (this.isRevoked(workerId)) return;
     this.store.logEvent(null, 'worker-revoked', { workerId, reason });
-    this.revoked!.add(workerId);
+    this.revokedIds().add(workerId);
     this.opts.log.warn({ workerId, reason }, 'worker revoked; its results will be refused');
   }
 

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { EvaluationResult } from '@netbreeder/shared-types';
-import { searchJob, searchResult, storeWithRun } from './test-fixtures.js';
+import { heartbeat, searchJob, searchResult, storeWithRun } from './test-fixtures.js';
 
 function storeWithOneEvaluation() {
   const store = storeWithRun();
@@ -11,6 +11,21 @@ function storeWithOneEvaluation() {
 const result = (over: Partial<EvaluationResult> = {}): EvaluationResult => searchResult('r1-s0-a1', 'w1', over);
 
 describe('RunStore', () => {
+  it('counts as live the workers heard from recently that did not say they stopped, and finds one outside a list', () => {
+    const store = storeWithRun();
+    store.upsertWorker(heartbeat('a'), 10_000);
+    store.upsertWorker(heartbeat('b'), 10_000);
+    store.upsertWorker(heartbeat('old'), 1_000);
+    store.upsertWorker(heartbeat('gone'), 10_000);
+    store.upsertWorker(heartbeat('gone', { state: 'stopped' }), 10_001);
+    expect(store.countLiveWorkers(5_000)).toBe(2);
+    expect(store.hasLiveWorkerOutside(5_000, ['a'])).toBe(true);
+    expect(store.hasLiveWorkerOutside(5_000, ['a', 'b'])).toBe(false);
+    expect(store.hasLiveWorkerOutside(5_000, ['a', 'b', 'old', 'gone'])).toBe(false);
+    store.upsertWorker(heartbeat('gone'), 10_002); // came back
+    expect(store.hasLiveWorkerOutside(5_000, ['a', 'b'])).toBe(true);
+  });
+
   it('records a result once; a second delivery is a duplicate and changes nothing', () => {
     const store = storeWithOneEvaluation();
     expect(store.recordResult('r1-s0-a1', result(), 2000)).toBe('recorded');

@@ -417,9 +417,9 @@ export class RunStore {
     return (this.sql(`SELECT COUNT(*) AS n FROM workers WHERE ${LIVE_WORKER}`).get(since) as Row).n as number;
   }
 
-  /** The ids of the workers `countLiveWorkers` counts (read without decoding their heartbeats). */
-  liveWorkerIds(since: number): string[] {
-    return (this.sql(`SELECT id FROM workers WHERE ${LIVE_WORKER} ORDER BY id`).all(since) as Row[]).map((r) => r.id as string);
+  /** True when a worker `countLiveWorkers` counts is none of `excluded` (one indexed query, at most one row read past them). */
+  hasLiveWorkerOutside(since: number, excluded: readonly string[]): boolean {
+    return this.sql(`SELECT 1 FROM workers WHERE ${LIVE_WORKER} AND id NOT IN (SELECT value FROM json_each(?)) LIMIT 1`).get(since, JSON.stringify(excluded)) !== undefined;
   }
 
   listWorkers(): Array<{ heartbeat: WorkerHeartbeat; firstSeenAt: number; lastSeenAt: number }> {

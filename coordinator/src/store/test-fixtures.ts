@@ -6,6 +6,7 @@ import {
   type EvaluationJob,
   type EvaluationResult,
   type Genome,
+  type WorkerHeartbeat,
 } from '@netbreeder/shared-types';
 import { parseRunConfig } from '../config/run-config.js';
 import { RunStore } from './run-store.js';
@@ -67,3 +68,9 @@ export function storeWithRun(config: Record<string, unknown> = {}, createdAt = 1
   store.putGenome({ hash: fixtureHash, genome: fixtureGenome, params: 67, flops: 100, summary: 'dense 8' });
   return store;
 }
+
+/** An idle worker's heartbeat (`over` on top: watts, a state, …). */
+export const heartbeat = (workerId: string, over: Partial<WorkerHeartbeat> = {}): WorkerHeartbeat => ({
+  schemaVersion: 1, workerId, host: 'pc', pid: 1, cores: 2, backend: 'wasm', backendReason: '', state: 'idle', currentEvaluationId: null, evaluationsDone: 0, evaluationsFailed: 0,
+  samplesPerSecond: 0, rssBytes: 1, memoryCapMb: 100, version: 't', ...over,
+});

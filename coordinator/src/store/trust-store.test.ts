@@ -1,14 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import type { EvaluationResult, WorkerHeartbeat } from '@netbreeder/shared-types';
+import type { EvaluationResult } from '@netbreeder/shared-types';
 import { TrustStore } from './trust-store.js';
-import { searchJob as job, searchResult, storeWithRun } from './test-fixtures.js';
+import { heartbeat, searchJob as job, searchResult, storeWithRun } from './test-fixtures.js';
 
 const result = (evaluationId: string, workerId: string, cpuSeconds?: number): EvaluationResult =>
   searchResult(evaluationId, workerId, cpuSeconds === undefined ? {} : { cpuSeconds });
-const heartbeat = (workerId: string, watts?: { watts: number; wattsAssumed: boolean }): WorkerHeartbeat => ({
-  schemaVersion: 1, workerId, host: 'pc', pid: 1, cores: 2, backend: 'wasm', backendReason: '', state: 'idle', currentEvaluationId: null, evaluationsDone: 0, evaluationsFailed: 0,
-  samplesPerSecond: 0, rssBytes: 1, memoryCapMb: 100, version: 't', ...watts,
-});
 
 function stores() {
   const store = storeWithRun();

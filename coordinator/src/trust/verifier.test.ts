@@ -15,7 +15,7 @@ function setup(live: string[]) {
   const queue = { add: async (j: EvaluationJob) => void queued.set(j.evaluationId, j), remove: async (id: string) => void queued.delete(id) } as unknown as EvaluationQueue;
   let now = 1000;
   const quarantined: string[] = [];
-  const verifier = new Verifier({ store, queue, log: createLogger('test', 'silent'), now: () => now, liveWorkers: () => live, onQuarantine: (w) => quarantined.push(w) });
+  const verifier = new Verifier({ store, queue, log: createLogger('test', 'silent'), now: () => now, liveWorkerBesides: (excluded) => live.some((w) => !excluded.includes(w)), onQuarantine: (w) => quarantined.push(w) });
   const run = () => store.getRun('r1')!;
   /** A recorded search result of `workerId`, spot-checked. */
   const searchResult = async (seq: number, workerId: string, valAccuracy: number) => {

@@ -18,8 +18,8 @@ export interface VerifierOptions {
   queue: EvaluationQueue;
   log: Logger;
   now: () => number;
-  /** Ids of the workers alive now (recent heartbeat, not stopped). */
-  liveWorkers: () => string[];
+  /** True when a worker is alive now (recent heartbeat, not stopped, not revoked) that is none of `excluded`. */
+  liveWorkerBesides: (excluded: readonly string[]) => boolean;
   /** Called once when a worker is quarantined (the run manager drops its results from the search). */
   onQuarantine: (workerId: string, runId: string) => void;
 }
@@ -192,14 +192,15 @@ export class Verifier {
     if (!open.length) return;
     const timeoutMs = verificationSettings(run.config).timeoutSeconds * 1000;
     const now = this.o.now();
-    // Which workers are alive matters only for a verification that has waited past the grace
-    // period; read once, and only then (a pass with a thousand workers would otherwise list them all).
-    let live: string[] | null = null;
-    const liveWorkers = () => (live ??= this.o.liveWorkers().filter((w) => !this.isQuarantined(w)));
+    // Whether another worker is alive matters only for a verification that has waited past the
+    // grace period: asked then, as one indexed query (with a thousand workers, listing them all on
+    // every pass cost more than the results).
+    let quarantined: string[] | null = null;
+    const someoneElse = (v: VerificationRecord) => this.o.liveWorkerBesides([...(v.job.excludeWorkers ?? []), ...(quarantined ??= this.trust.quarantinedWorkers())]);
     for (const v of open) {
       const waited = now - v.queuedAt;
       if (waited <= Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS)) continue;
-      if (waited <= timeoutMs && liveWorkers().some((w) => !v.job.excludeWorkers?.includes(w))) continue;
+      if (waited <= timeoutMs && someoneElse(v)) continue;
       const why = waited > timeoutMs ? `no result within ${timeoutMs / 1000} s` : 'no worker other than the excluded ones is alive';
       await this.o.queue.remove(v.id).catch(() => undefined); // a job being trained cannot be removed; its late result is ignored
       this.o.log.warn({ verificationId: v.id, why }, 'verification timed out');
