@@ -138,8 +138,21 @@ async function statusTimes(url: string, n: number): Promise<number[]> {
   return out;
 }
 
+/** Counts the heartbeats the coordinator takes (the bench wraps the run manager's handler). */
+function countHeartbeats(coordinator: Coordinator): () => number {
+  const manager = coordinator.manager;
+  const record = manager.recordHeartbeat.bind(manager);
+  let n = 0;
+  manager.recordHeartbeat = (hb) => {
+    n++;
+    record(hb);
+  };
+  return () => n;
+}
+
 /** Evaluations done, the coordinator's CPU and /status latency over a window of `ms`. */
 async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number) {
+  const heartbeats = countHeartbeats(coordinator);
   const done0 = coordinator.store.counts(runId).done;
   const redis0 = await redisCpuSeconds();
   // How long the coordinator's event loop was held up (a pass, a big reply): what /status waits on.
@@ -171,6 +184,7 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
     rssMb: round(peakRss / 2 ** 20, 0),
     statusP50Ms: round(percentile(status, 0.5), 1),
     statusP99Ms: round(percentile(status, 0.99), 1),
+    heartbeatsPerSecond: round(heartbeats() / seconds, 0),
     eventLoopDelayP99Ms: round(loop.percentile(99) / 1e6, 0),
     eventLoopDelayMaxMs: round(loop.max / 1e6, 0),
   };
@@ -406,6 +420,7 @@ async function main(): Promise<void> {
     line('  workers alive (by heartbeat)', `${thousand.aliveWorkers}`);
     line('  wait free → next job p50 / p99 ms', `${thousand.waitP50Ms} / ${thousand.waitP99Ms} (${thousand.waits} jobs)`);
     line('  coordinator CPU % of one core / RSS MB', `${thousand.coordinatorCpuPercent} / ${thousand.rssMb}`);
+    line('  heartbeats taken per second', `${thousand.heartbeatsPerSecond}`);
     line('  /status p50 / p99 ms', `${thousand.statusP50Ms} / ${thousand.statusP99Ms}`);
     line('  coordinator event-loop delay p99 / max ms', `${thousand.eventLoopDelayP99Ms} / ${thousand.eventLoopDelayMaxMs}`);
     line('  fleet start (1,000 agents) s / fleet RSS MB', `${thousand.fleetStartSeconds} / ${thousand.fleetRssMb}`);

@@ -114,6 +114,7 @@ export class Coordinator {
     await this.manager.stopLoop();
     await this.http.close();
     await this.queue.close();
+    this.manager.flushHeartbeats();
     this.store.close();
   }
 }

@@ -64,7 +64,11 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   );
 
-  const aliveWorkers = () => store.listWorkers().filter((w) => manager.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
+  const workers = () => {
+    manager.flushHeartbeats();
+    return store.listWorkers();
+  };
+  const aliveWorkers = () => workers().filter((w) => manager.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
 
   new Gauge({
     name: 'netbreeder_training_samples_per_second',
@@ -103,7 +107,7 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     help: 'Workers the store has heard from, alive or not.',
     registers,
     collect() {
-      this.set(store.listWorkers().length);
+      this.set(workers().length);
     },
   });
 
