@@ -15,5 +15,8 @@ function deepFreeze<T>(value: T): T {
   return value;
 }
 
+/** Members read from a snapshot, each holding a frozen copy of its genome. */
+export const restoredMembers = <M extends { genome: unknown }>(members: readonly M[]): M[] => members.map((m) => ({ ...m, genome: frozenCopy(m.genome) }));
+
 /** Copies of `members` that share their (frozen) genomes: a member's other fields may change later. */
 export const memberCopies = <M extends object>(members: readonly M[]): M[] => members.map((m) => ({ ...m }));

@@ -4,7 +4,7 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SearchSnapshotError } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { randomProposal, type RandomRole } from './proposals.js';
-import { frozenCopy, memberCopies } from './frozen-copy.js';
+import { memberCopies, restoredMembers } from './frozen-copy.js';
 
 type PopulationSettings = Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations'>;
 
@@ -47,7 +47,7 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string; geno
     }
     this.seed = s ? s.seed : options.seed;
     this.rng = s ? restoreRandom(s.rng) : createRandom(options.seed);
-    this.population = s ? s.population.map((m) => ({ ...m, genome: frozenCopy(m.genome) })) : [];
+    this.population = s ? restoredMembers(s.population) : [];
     this.proposed = s ? s.proposed : 0;
     this.initialProposed = s ? s.initialProposed : 0;
     this.observed = s ? s.observed : 0;
@@ -65,7 +65,7 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string; geno
     return memberCopies(this.population);
   }
 
-  /** Everything a snapshot holds but its version and algorithm name (copies). */
+  /** Everything a snapshot holds but its version and algorithm name (copies sharing the frozen genomes). */
   protected state(): PopulationState<M, S> {
     return {
       seed: this.seed,

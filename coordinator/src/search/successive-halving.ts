@@ -8,7 +8,7 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
 import { shortHash } from './proposals.js';
-import { frozenCopy, memberCopies } from './frozen-copy.js';
+import { frozenCopy, memberCopies, restoredMembers } from './frozen-copy.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
 /** Where new configurations come from: independent random genomes, or children of aging evolution. */
@@ -90,7 +90,7 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       if (s && !snap) throw new SearchSnapshotError(`an 'asha-evolution' snapshot must hold an 'aging-evolution' configuration source, not '${s.source.algorithm}'`);
       this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, snapshot: snap });
     }
-    this.rungs = s ? s.rungs.map((rung) => rung.map((m) => ({ ...m, genome: frozenCopy(m.genome) }))) : this.budgets.map(() => []);
+    this.rungs = s ? s.rungs.map(restoredMembers) : this.budgets.map(() => []);
     this.proposed = s ? s.proposed : 0;
     this.observed = s ? s.observed : 0;
     this.promotions = s ? s.promotions : 0;
