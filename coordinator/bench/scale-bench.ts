@@ -1,19 +1,21 @@
 /**
- * `npm run bench:scale`: can one coordinator feed a thousand PCs? Loopback only, bounded (about 6
+ * `npm run bench:scale`: can one coordinator feed a thousand PCs? Loopback only, bounded (about 5
  * minutes on a 2-core PC). Every phase uses its own random Redis prefix on the same Redis and
  * simulated workers (real agents, queue and HTTP; simulated training) in a child process.
  *
  * 1. raw BullMQ: 20,000 no-op jobs added in bulk and completed by 50 plain BullMQ workers (the ceiling);
- * 2. the project end to end with zero training time and 50 simulated workers (propose, queue,
- *    complete, record, select the next); the ratio of 2 to 1. Between the two, the project's queue
- *    protocol alone (jobs added one by one, finished jobs read back and removed after recording, as
- *    the coordinator does, but nothing stored or searched) with the same no-op workers: how much of
- *    the gap the durable protocol costs and how much the coordinator's own work. Every phase splits
- *    the CPU per evaluation between the coordinator (this process), the workers and Redis;
- * 3. 1,000 simulated workers with 10-second mean (log-normal) jobs: evaluations/s, the wait from a
- *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, /status latency;
- * 4. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations: coordinator CPU
+ * 2. the project's queue protocol alone with the same no-op workers: jobs added one by one,
+ *    finished jobs read back and removed after recording, as the coordinator does, but nothing
+ *    stored or searched (how much of the gap the durable protocol costs, how much the rest);
+ * 3. the project end to end with zero training time and 50 simulated workers (propose, queue,
+ *    complete, record, select the next); the ratio of 3 to 1;
+ * 4. 1,000 simulated workers with 10-second mean (log-normal) jobs: evaluations/s, the wait from a
+ *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, heartbeats taken,
+ *    /status latency and the coordinator's event-loop delay;
+ * 5. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations: coordinator CPU
  *    per recorded result, evaluations/s and /status latency at each size.
+ * Phases 1 to 4 split the CPU per job between the coordinator (or the adding process: this one),
+ * the workers (the fleet child) and Redis (its INFO cpu).
  *
  * The coordinator runs in this process (its CPU figure includes this script's light polling).
  * Prints a table and, last, one JSON object with every figure.
