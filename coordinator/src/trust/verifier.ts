@@ -53,8 +53,13 @@ export class Verifier {
   }
 
   isQuarantined(workerId: string): boolean {
-    if (!this.quarantined) this.quarantined = new Set(this.trust.quarantinedWorkers());
-    return this.quarantined.has(workerId);
+    return this.quarantinedIds().has(workerId);
+  }
+
+  /** The quarantined workers (read from the store once, then kept up to date here). */
+  private quarantinedIds(): Set<string> {
+    this.quarantined ??= new Set(this.trust.quarantinedWorkers());
+    return this.quarantined;
   }
 
   /** True when a verification job has this id. */
@@ -195,8 +200,7 @@ export class Verifier {
     // Whether another worker is alive matters only for a verification that has waited past the
     // grace period: asked then, as one indexed query (with a thousand workers, listing them all on
     // every pass cost more than the results).
-    let quarantined: string[] | null = null;
-    const someoneElse = (v: VerificationRecord) => this.o.liveWorkerBesides([...(v.job.excludeWorkers ?? []), ...(quarantined ??= this.trust.quarantinedWorkers())]);
+    const someoneElse = (v: VerificationRecord) => this.o.liveWorkerBesides([...(v.job.excludeWorkers ?? []), ...this.quarantinedIds()]);
     for (const v of open) {
       const waited = now - v.queuedAt;
       if (waited <= Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS)) continue;
