@@ -77,7 +77,10 @@ export class Coordinator {
     const dataDir = resolve(options.dataDir);
     await mkdir(dataDir, { recursive: true });
     const log = options.logger;
-    const store = new RunStore(join(dataDir, 'store.sqlite'));
+    const store = new RunStore(join(dataDir, 'store.sqlite'), {
+      // Soft state: each worker sends its next heartbeat within seconds.
+      onHeartbeatWriteError: (err, heartbeats) => log.error({ err: err.message, heartbeats }, "cannot store heartbeats; the workers' next ones will be tried"),
+    });
     const queue = new EvaluationQueue(options.queue, log.child({ part: 'queue' }));
     const manager = new RunManager({ store, queue, log: log.child({ part: 'run' }), dataDir, tickMs: options.tickMs }, events);
     const startedAt = Date.now();
@@ -114,7 +117,6 @@ export class Coordinator {
     await this.manager.stopLoop();
     await this.http.close();
     await this.queue.close();
-    this.manager.flushHeartbeats();
     this.store.close();
   }
 }

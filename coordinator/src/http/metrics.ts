@@ -64,11 +64,7 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   );
 
-  const workers = () => {
-    manager.flushHeartbeats();
-    return store.listWorkers();
-  };
-  const aliveWorkers = () => workers().filter((w) => manager.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
+  const aliveWorkers = () => store.listWorkers().filter((w) => manager.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
 
   new Gauge({
     name: 'netbreeder_training_samples_per_second',
@@ -107,7 +103,7 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     help: 'Workers the store has heard from, alive or not.',
     registers,
     collect() {
-      this.set(workers().length);
+      this.set(store.listWorkers().length);
     },
   });
 

@@ -110,9 +110,6 @@ export class RunManager {
   private revoked: Set<string> | null = null;
   private ticking: Promise<void> | null = null;
   private tickAgain = false;
-  /** Heartbeats taken and not yet stored (see {@link recordHeartbeat}). */
-  private heartbeats: Array<{ hb: WorkerHeartbeat; at: number }> = [];
-  private heartbeatWrite: NodeJS.Immediate | null = null;
   /** True once `finish` was asked for the current run (also read back from the store on attach). */
   private finishRequested = false;
   private readonly now: () => number;
@@ -141,10 +138,7 @@ export class RunManager {
       queue: opts.queue,
       log: opts.log,
       now: this.now,
-      liveWorkerBesides: (excluded) => {
-        this.flushHeartbeats();
-        return this.store.hasLiveWorkerOutside(this.now() - this.workerTimeoutMs, [...excluded, ...this.revokedIds()]);
-      },
+      liveWorkerBesides: (excluded) => this.store.hasLiveWorkerOutside(this.now() - this.workerTimeoutMs, [...excluded, ...this.revokedIds()]),
       onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
     });
     this.champion = new ChampionPhase({
@@ -282,7 +276,6 @@ export class RunManager {
    */
   private async pass(): Promise<void> {
     if (!this.run) return;
-    this.flushHeartbeats();
     if ((await this.opts.queue.checkMarker(this.run.id)) === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
     const finished = await this.opts.queue.finished();
     const batch = emptyBatch();
@@ -314,42 +307,14 @@ export class RunManager {
     } else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
 
-  /**
-   * Takes a worker's heartbeat (refused at once for a revoked worker): it is stored, and the
-   * worker's current evaluation marked running, together with every other heartbeat of this
-   * event-loop turn, in one transaction at its end. A thousand workers send hundreds of heartbeats
-   * a second, and a commit for each cost more than the rest of their handling. Whatever reads the
-   * workers or the running evaluations writes the waiting heartbeats first ({@link flushHeartbeats}).
-   */
+  /** Takes a worker's heartbeat (refused for a revoked worker); the store writes it with the others of this moment (`RunStore.takeHeartbeat`). */
   recordHeartbeat(hb: WorkerHeartbeat): void {
     if (this.isRevoked(hb.workerId)) throw new Error(`worker ${hb.workerId} is revoked`);
-    this.heartbeats.push({ hb, at: this.now() });
-    this.heartbeatWrite ??= setImmediate(() => this.flushHeartbeats());
-  }
-
-  /** Writes the heartbeats taken and not yet stored, in one transaction. */
-  flushHeartbeats(): void {
-    if (this.heartbeatWrite) clearImmediate(this.heartbeatWrite);
-    this.heartbeatWrite = null;
-    if (!this.heartbeats.length) return;
-    const batch = this.heartbeats;
-    this.heartbeats = [];
-    try {
-      this.store.transaction(() => {
-        for (const { hb, at } of batch) {
-          this.store.upsertWorker(hb, at);
-          if (hb.currentEvaluationId) this.store.markRunning(hb.currentEvaluationId, hb.workerId, at);
-        }
-      });
-    } catch (err) {
-      // Soft state: each worker sends its next heartbeat within seconds.
-      this.opts.log.error({ err: (err as Error).message, heartbeats: batch.length }, 'cannot store heartbeats; the workers\' next ones will be tried');
-    }
+    this.store.takeHeartbeat(hb, this.now());
   }
 
   /** Workers whose last heartbeat is recent enough. */
   aliveWorkers(): number {
-    this.flushHeartbeats();
     const cutoff = this.now() - this.workerTimeoutMs;
     return this.store.countLiveWorkers(cutoff);
   }

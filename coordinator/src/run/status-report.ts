@@ -15,7 +15,6 @@ export function runMinutes(run: { searchStartedAt: number | null; createdAt: num
 /** Builds GET /status from the store (the truth) and the run manager's view of worker liveness. */
 export function buildStatus(manager: RunManager, meta: { version: string; startedAt: number }, now = Date.now()): StatusResponse {
   const store = manager.store;
-  manager.flushHeartbeats();
   const run = manager.currentRun() ?? store.listRuns()[0] ?? null;
   const counts = run ? store.counts(run.id, 'search') : { queued: 0, running: 0, done: 0, failed: 0 };
   const start = run ? (run.searchStartedAt ?? run.createdAt) : now;

@@ -1,4 +1,9 @@
 import { describe, expect, it } from 'vitest';
+import Database from 'better-sqlite3';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { RunStore } from './run-store.js';
 import type { EvaluationResult } from '@netbreeder/shared-types';
 import { heartbeat, searchJob, searchResult, storeWithRun } from './test-fixtures.js';
 
@@ -11,6 +16,39 @@ function storeWithOneEvaluation() {
 const result = (over: Partial<EvaluationResult> = {}): EvaluationResult => searchResult('r1-s0-a1', 'w1', over);
 
 describe('RunStore', () => {
+  it('writes taken heartbeats before any other statement, and on their own at the end of the event-loop turn', async () => {
+    const store = storeWithRun();
+    store.addEvaluation(searchJob('r1-s0-a1'), 0, 1, true);
+    store.takeHeartbeat(heartbeat('a', { state: 'training', currentEvaluationId: 'r1-s0-a1' }), 10_000);
+    // The next read sees it, the mark of the worker's evaluation as running too.
+    expect(store.countLiveWorkers(5_000)).toBe(1);
+    expect(store.getEvaluation('r1-s0-a1')).toMatchObject({ state: 'running', workerId: 'a' });
+    // A transaction that fails does not take heartbeats taken before it down with it.
+    store.takeHeartbeat(heartbeat('b'), 10_000);
+    expect(() =>
+      store.transaction(() => {
+        store.logEvent('r1', 'test', {});
+        throw new Error('boom');
+      }),
+    ).toThrow('boom');
+    expect(store.listWorkers().map((w) => w.heartbeat.workerId)).toEqual(['a', 'b']);
+    // Without another statement, the end of the turn writes them: another connection sees them.
+    const dir = mkdtempSync(join(tmpdir(), 'nb-hb-'));
+    try {
+      const onDisk = new RunStore(join(dir, 'store.sqlite'));
+      onDisk.takeHeartbeat(heartbeat('c'), 10_000);
+      const other = new Database(join(dir, 'store.sqlite'), { readonly: true });
+      const count = () => (other.prepare('SELECT COUNT(*) AS n FROM workers').get() as { n: number }).n;
+      expect(count()).toBe(0);
+      await new Promise((r) => setImmediate(r));
+      expect(count()).toBe(1);
+      other.close();
+      onDisk.close();
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
   it('counts as live the workers heard from recently that did not say they stopped, and finds one outside a list', () => {
     const store = storeWithRun();
     store.upsertWorker(heartbeat('a'), 10_000);

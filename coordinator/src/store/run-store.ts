@@ -163,6 +163,14 @@ const runFromRow = (r: Row): RunRecord => ({
   failure: (r.failure as string | null) ?? null,
 });
 
+export interface RunStoreOptions {
+  /**
+   * Told when heartbeats taken with {@link RunStore.takeHeartbeat} could not be written (soft
+   * state: each worker sends its next one within seconds). @default the error is thrown
+   */
+  onHeartbeatWriteError?: (err: Error, heartbeats: number) => void;
+}
+
 /**
  * The coordinator's store: one SQLite file (better-sqlite3, synchronous, WAL). Every write that
  * must be atomic with another goes through {@link RunStore.transaction}. Results are recorded by
@@ -172,8 +180,14 @@ export class RunStore {
   private readonly db: Database.Database;
   /** Prepared statements by SQL text: preparing costs more than running a small statement. */
   private readonly statements = new Map<string, Database.Statement>();
+  /** Heartbeats taken and not yet written (see {@link RunStore.takeHeartbeat}). */
+  private heartbeats: Array<{ hb: WorkerHeartbeat; at: number }> = [];
+  private heartbeatWrite: NodeJS.Immediate | null = null;
 
-  constructor(path: string) {
+  constructor(
+    path: string,
+    private readonly options: RunStoreOptions = {},
+  ) {
     this.db = new Database(path);
     this.db.pragma('journal_mode = WAL');
     this.db.pragma('synchronous = NORMAL');
@@ -194,8 +208,9 @@ export class RunStore {
     }
   }
 
-  /** The prepared statement for `sql`, prepared once per store. */
+  /** The prepared statement for `sql`, prepared once per store; heartbeats still waiting are written first. */
   private sql(sql: string): Database.Statement {
+    if (this.heartbeats.length) this.writeHeartbeats();
     let statement = this.statements.get(sql);
     if (!statement) {
       statement = this.db.prepare(sql);
@@ -209,12 +224,14 @@ export class RunStore {
     return this.sql(sql);
   }
 
-  /** Runs `fn` in one transaction: all of its writes land, or none. */
+  /** Runs `fn` in one transaction: all of its writes land, or none (waiting heartbeats are written before, on their own). */
   transaction<T>(fn: () => T): T {
+    if (this.heartbeats.length) this.writeHeartbeats();
     return this.db.transaction(fn)();
   }
 
   close(): void {
+    if (this.heartbeats.length) this.writeHeartbeats();
     this.db.close();
   }
 
@@ -410,6 +427,37 @@ export class RunStore {
          ON CONFLICT(id) DO UPDATE SET heartbeat_json = excluded.heartbeat_json, last_seen_at = excluded.last_seen_at, stopped = excluded.stopped`,
       )
       .run(hb.workerId, JSON.stringify(hb), now, now, hb.state === 'stopped' ? 1 : 0);
+  }
+
+  /**
+   * Takes a worker's heartbeat: it is stored, and the worker's current evaluation marked running,
+   * with every other heartbeat of this event-loop turn in one transaction at its end, or before
+   * any other statement of this store runs, whichever comes first; so every read sees it. A
+   * thousand workers send hundreds of heartbeats a second, and a commit for each cost more than the
+   * rest of their handling.
+   */
+  takeHeartbeat(hb: WorkerHeartbeat, now: number): void {
+    this.heartbeats.push({ hb, at: now });
+    this.heartbeatWrite ??= setImmediate(() => this.writeHeartbeats());
+  }
+
+  private writeHeartbeats(): void {
+    if (this.heartbeatWrite) clearImmediate(this.heartbeatWrite);
+    this.heartbeatWrite = null;
+    const batch = this.heartbeats;
+    this.heartbeats = [];
+    if (!batch.length) return;
+    try {
+      this.db.transaction(() => {
+        for (const { hb, at } of batch) {
+          this.upsertWorker(hb, at);
+          if (hb.currentEvaluationId) this.markRunning(hb.currentEvaluationId, hb.workerId, at);
+        }
+      })();
+    } catch (err) {
+      if (!this.options.onHeartbeatWriteError) throw err;
+      this.options.onHeartbeatWriteError(err as Error, batch.length);
+    }
   }
 
   /** Workers heard from since `since` (ms epoch) that have not said they stopped; no JSON parsed. */
