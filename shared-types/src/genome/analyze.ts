@@ -43,6 +43,42 @@ export function windowOutputLength(length: number, window: number, stride: numbe
   return padding === 'same' ? Math.ceil(length / stride) : Math.floor((length - window) / stride) + 1;
 }
 
+interface Visit {
+  byId: Map<string, LayerNode>;
+  state: Map<string, 'visiting' | 'done'>;
+  order: LayerNode[];
+  issues: GenomeIssue[];
+}
+
+/** Depth-first: puts `id`'s inputs, then `id`, on `order`; false (with the issue) on a cycle. */
+function visitNode(id: string, path: string[], v: Visit): boolean {
+  if (id === INPUT_ID) return true;
+  const s = v.state.get(id);
+  if (s === 'done') return true;
+  if (s === 'visiting') {
+    v.issues.push({ nodeId: id, message: `cycle ${[...path.slice(path.indexOf(id)), id].join(' -> ')}; a genome must be acyclic` });
+    return false;
+  }
+  v.state.set(id, 'visiting');
+  const n = v.byId.get(id)!;
+  for (const i of n.inputs) if (!visitNode(i, [...path, id], v)) return false;
+  v.state.set(id, 'done');
+  v.order.push(n);
+  return true;
+}
+
+/** An issue of node `n`. */
+const issueAt = (n: LayerNode, message: string): GenomeIssue => ({ nodeId: n.id, message });
+
+/** The input of a spatial layer as height × width × channels, or null (with the issue) when it is flat. */
+function spatialInput(n: LayerNode, first: SampleShape, issues: GenomeIssue[]): [number, number, number] | null {
+  if (first.length !== 3) {
+    issues.push({ nodeId: n.id, message: `${n.kind} needs a spatial input (height × width × channels) but gets [${first.join(', ')}]; use it before flatten or a global pool` });
+    return null;
+  }
+  return first as unknown as [number, number, number];
+}
+
 /**
  * Orders the nodes so each comes after its inputs, or reports the cycle or dangling reference that
  * makes that impossible. Nodes that do not lead to the output are reported too: they would train
@@ -69,22 +105,7 @@ export function topologicalOrder(genome: Genome): { ok: true; order: LayerNode[]
 
   const order: LayerNode[] = [];
   const state = new Map<string, 'visiting' | 'done'>();
-  const visit = (id: string, path: string[]): boolean => {
-    if (id === INPUT_ID) return true;
-    const s = state.get(id);
-    if (s === 'done') return true;
-    if (s === 'visiting') {
-      issues.push({ nodeId: id, message: `cycle ${[...path.slice(path.indexOf(id)), id].join(' -> ')}; a genome must be acyclic` });
-      return false;
-    }
-    state.set(id, 'visiting');
-    const n = byId.get(id)!;
-    for (const i of n.inputs) if (!visit(i, [...path, id])) return false;
-    state.set(id, 'done');
-    order.push(n);
-    return true;
-  };
-  if (!visit(genome.output, [])) return { ok: false, issues };
+  if (!visitNode(genome.output, [], { byId, state, order, issues })) return { ok: false, issues };
   for (const n of genome.nodes) {
     if (!state.has(n.id)) issues.push({ nodeId: n.id, message: 'node does not lead to the output; remove it or connect it' });
   }
@@ -106,21 +127,13 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
     if (maybeShapes.some((s) => s === undefined)) continue;
     const inShapes = maybeShapes as SampleShape[];
     const first = inShapes[0]!;
-    const fail = (message: string) => issues.push({ nodeId: n.id, message });
-    const spatial = (): [number, number, number] | null => {
-      if (first.length !== 3) {
-        fail(`${n.kind} needs a spatial input (height × width × channels) but gets [${first.join(', ')}]; use it before flatten or a global pool`);
-        return null;
-      }
-      return first as unknown as [number, number, number];
-    };
     let out: SampleShape | null = null;
     let params = 0;
     let flops = 0;
     switch (n.kind) {
       case 'dense': {
         if (first.length !== 1) {
-          fail(`dense needs a flat input but gets [${first.join(', ')}]; put flatten or a global pool before it`);
+          issues.push(issueAt(n, `dense needs a flat input but gets [${first.join(', ')}]; put flatten or a global pool before it`));
           break;
         }
         const fin = first[0]!;
@@ -131,13 +144,13 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
       }
       case 'conv2d':
       case 'depthwise-conv2d': {
-        const s = spatial();
+        const s = spatialInput(n, first, issues);
         if (!s) break;
         const [h, w, c] = s;
         const oh = windowOutputLength(h, n.kernelSize, n.strides, n.padding);
         const ow = windowOutputLength(w, n.kernelSize, n.strides, n.padding);
         if (oh < 1 || ow < 1) {
-          fail(`kernel ${n.kernelSize} with '${n.padding}' padding does not fit a ${h}×${w} input; use 'same' padding or a smaller kernel`);
+          issues.push(issueAt(n, `kernel ${n.kernelSize} with '${n.padding}' padding does not fit a ${h}×${w} input; use 'same' padding or a smaller kernel`));
           break;
         }
         const outC = n.kind === 'conv2d' ? n.filters : c * n.depthMultiplier;
@@ -149,13 +162,13 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
       }
       case 'max-pool2d':
       case 'avg-pool2d': {
-        const s = spatial();
+        const s = spatialInput(n, first, issues);
         if (!s) break;
         const [h, w, c] = s;
         const oh = windowOutputLength(h, n.poolSize, n.strides, 'valid');
         const ow = windowOutputLength(w, n.poolSize, n.strides, 'valid');
         if (oh < 1 || ow < 1) {
-          fail(`pool ${n.poolSize} does not fit a ${h}×${w} input; remove the pool or pool earlier less often`);
+          issues.push(issueAt(n, `pool ${n.poolSize} does not fit a ${h}×${w} input; remove the pool or pool earlier less often`));
           break;
         }
         out = [oh, ow, c];
@@ -163,13 +176,13 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
         break;
       }
       case 'flatten': {
-        if (!spatial()) break;
+        if (!spatialInput(n, first, issues)) break;
         out = [product(first)];
         break;
       }
       case 'global-avg-pool':
       case 'global-max-pool': {
-        const s = spatial();
+        const s = spatialInput(n, first, issues);
         if (!s) break;
         out = [s[2]];
         flops = product(s);
@@ -188,7 +201,7 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
       }
       case 'add': {
         if (inShapes.some((s) => s.join('x') !== first.join('x'))) {
-          fail(`add needs inputs of one shape but gets ${inShapes.map((s) => `[${s.join(', ')}]`).join(' and ')}; join branches of equal shape or use concat`);
+          issues.push(issueAt(n, `add needs inputs of one shape but gets ${inShapes.map((s) => `[${s.join(', ')}]`).join(' and ')}; join branches of equal shape or use concat`));
           break;
         }
         out = first;
@@ -199,7 +212,7 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
         const rank = first.length;
         const lead = (s: SampleShape) => s.slice(0, -1).join('x');
         if (inShapes.some((s) => s.length !== rank || lead(s) !== lead(first))) {
-          fail(`concat needs inputs equal in all but the last axis but gets ${inShapes.map((s) => `[${s.join(', ')}]`).join(' and ')}`);
+          issues.push(issueAt(n, `concat needs inputs equal in all but the last axis but gets ${inShapes.map((s) => `[${s.join(', ')}]`).join(' and ')}`));
           break;
         }
         out = [...first.slice(0, -1), inShapes.reduce((a, s) => a + s[s.length - 1]!, 0)];
