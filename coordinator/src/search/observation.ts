@@ -11,8 +11,8 @@ export function assertObservation<G>(o: Observation<G>, variation: Variation<G>)
     throw new TypeError(`observation ${o.evaluationId}: fitness must be a finite number (validation accuracy), got ${String(o.fitness)}`);
   }
   if (!variation.isGenome(o.genome)) throw new TypeError(`observation ${o.evaluationId}: genome does not match the genome schema`);
-  const actual = variation.hash(o.genome);
-  if (actual !== o.genomeHash) {
+  if (variation.hasHash ? !variation.hasHash(o.genome, o.genomeHash) : variation.hash(o.genome) !== o.genomeHash) {
+    const actual = variation.hash(o.genome);
     throw new TypeError(`observation ${o.evaluationId}: genomeHash ${o.genomeHash} is not the genome's hash ${actual}; pass the hash of the genome that was trained`);
   }
 }

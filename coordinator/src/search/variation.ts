@@ -1,6 +1,7 @@
 import { genomeHash, genomeValidator, type DataShape, type Genome, type Random, type SearchSpace } from '@netbreeder/shared-types';
 import { minimalGenome } from './minimal-genome.js';
 import { mutate, MutationError, type MutateOptions, type Mutation } from './mutations.js';
+import { RecentGenomes } from './recent-genomes.js';
 
 /**
  * What a search algorithm needs to know about its genomes, and nothing more: how to make a fresh
@@ -19,19 +20,25 @@ export interface Variation<G> {
   mutate(parent: G, rng: Random, parentHash?: string): { genome: G; mutation: Mutation; genomeHash?: string };
   /** Content hash: equal genomes give equal hashes. */
   hash(genome: G): string;
+  /** Same as `hash(genome) === hash`, faster for genomes this variation made (optional). */
+  hasHash?(genome: G, hash: string): boolean;
   /** True when `value` has the genome's form (used on restored snapshots). */
   isGenome(value: unknown): value is G;
 }
 
 /** The network genomes of a run: minimal linear classifiers grown by {@link mutate}. */
 export function genomeVariation(space: SearchSpace, data: DataShape, options: MutateOptions = {}): Variation<Genome> {
+  // Children it made, so their observations (read back from the store) need not be hashed again.
+  const made = new RecentGenomes();
   return {
     minimal: (rng) => minimalGenome({ space, data, rng }),
     mutate: (parent, rng, parentHash) => {
       const { genome, mutation, genomeHash } = mutate(parent, { space, data, rng, ...options }, parentHash);
+      made.remember(genomeHash, genome);
       return { genome, mutation, genomeHash };
     },
     hash: (genome) => genomeHash(genome),
+    hasHash: (genome, hash) => made.madeWith(hash, genome) || genomeHash(genome) === hash,
     isGenome: (value): value is Genome => genomeValidator.check(value),
   };
 }
