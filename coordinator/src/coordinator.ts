@@ -80,6 +80,9 @@ export class Coordinator {
     const store = new RunStore(join(dataDir, 'store.sqlite'), {
       // Soft state: each worker sends its next heartbeat within seconds.
       onHeartbeatWriteError: (err, heartbeats) => log.error({ err: err.message, heartbeats }, "cannot store heartbeats; the workers' next ones will be tried"),
+      backgroundCheckpoints: {
+        onFailure: (err) => log.warn({ err: err.message }, 'the store checkpoints on the main thread again (slower under load)'),
+      },
     });
     const queue = new EvaluationQueue(options.queue, log.child({ part: 'queue' }));
     const manager = new RunManager({ store, queue, log: log.child({ part: 'run' }), dataDir, tickMs: options.tickMs }, events);

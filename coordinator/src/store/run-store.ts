@@ -2,6 +2,7 @@ import Database from 'better-sqlite3';
 import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, SearchDecision, SearchStep, WorkerHeartbeat } from '@netbreeder/shared-types';
 import { withMemberGenomes, withoutMemberGenomes } from './snapshot-genomes.js';
 import { MIGRATIONS } from './migrations.js';
+import { WalCheckpointer, type WalCheckpointerOptions } from './wal-checkpointer.js';
 import type { DatasetPreparation } from '../datasets/index.js';
 
 /** Where a run's prepared data lives on the coordinator's disk. */
@@ -146,6 +147,9 @@ const evaluationFromRow = (r: Row): EvaluationRecord => ({
 /** A worker seen since the bound parameter whose last heartbeat did not say it stopped. */
 const LIVE_WORKER = 'last_seen_at >= ? AND stopped = 0';
 
+/** SQLite's own `wal_autocheckpoint`, in pages. */
+const SQLITE_DEFAULT_AUTOCHECKPOINT = 1000;
+
 /** Every column of `runs` (the search snapshot is in its own table since migration 7). */
 const RUN_COLUMNS = 'id, name, config_json, state, seed, dataset_json, proposals, created_at, search_started_at, finished_at, failure';
 
@@ -169,6 +173,12 @@ export interface RunStoreOptions {
    * state: each worker sends its next one within seconds). @default the error is thrown
    */
   onHeartbeatWriteError?: (err: Error, heartbeats: number) => void;
+  /**
+   * Checkpoint the write-ahead log on a thread of its own ({@link WalCheckpointer}) instead of
+   * inside the commits on this one. Should that thread fail, this connection checkpoints again as
+   * SQLite does by default, and `onFailure` is told. Only for a store in a file.
+   */
+  backgroundCheckpoints?: Omit<WalCheckpointerOptions, 'onFailure'> & { onFailure?: (err: Error) => void };
 }
 
 /**
@@ -183,6 +193,7 @@ export class RunStore {
   /** Heartbeats taken and not yet written (see {@link RunStore.takeHeartbeat}). */
   private heartbeats: Array<{ hb: WorkerHeartbeat; at: number }> = [];
   private heartbeatWrite: NodeJS.Immediate | null = null;
+  private checkpointer: WalCheckpointer | null = null;
 
   constructor(
     path: string,
@@ -196,6 +207,18 @@ export class RunStore {
     // 64 MiB of page cache (the default is 2 MiB): a store of a million results keeps its indexes' upper levels in memory.
     this.db.pragma('cache_size = -65536');
     this.migrate();
+    const background = options.backgroundCheckpoints;
+    if (background && path !== ':memory:') {
+      this.db.pragma('wal_autocheckpoint = 0');
+      this.checkpointer = WalCheckpointer.start(path, {
+        ...background,
+        onFailure: (err) => {
+          this.checkpointer = null;
+          if (this.db.open) this.db.pragma(`wal_autocheckpoint = ${SQLITE_DEFAULT_AUTOCHECKPOINT}`);
+          background.onFailure?.(err);
+        },
+      });
+    }
   }
 
   private migrate(): void {
@@ -232,6 +255,8 @@ export class RunStore {
 
   close(): void {
     if (this.heartbeats.length) this.writeHeartbeats();
+    this.checkpointer?.stop();
+    this.checkpointer = null;
     this.db.close();
   }
 

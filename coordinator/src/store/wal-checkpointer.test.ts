@@ -1,0 +1,50 @@
+import { describe, expect, it } from 'vitest';
+import Database from 'better-sqlite3';
+import { mkdtempSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { RunStore } from './run-store.js';
+import { WalCheckpointer, type CheckpointReport } from './wal-checkpointer.js';
+
+const until = async (what: string, ok: () => boolean, ms = 10_000) => {
+  const t0 = Date.now();
+  while (!ok()) {
+    if (Date.now() - t0 > ms) throw new Error(`timed out waiting for ${what}`);
+    await new Promise((r) => setTimeout(r, 20));
+  }
+};
+
+describe('background WAL checkpoints', () => {
+  it('copy the log into the database file on their own thread while this connection checkpoints nothing', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'nb-ckpt-'));
+    const path = join(dir, 'store.sqlite');
+    try {
+      const reports: CheckpointReport[] = [];
+      const store = new RunStore(path, { backgroundCheckpoints: { intervalMs: 50, onCheckpoint: (r) => reports.push(r) } });
+      expect(store.statement('PRAGMA wal_autocheckpoint').get()).toEqual({ wal_autocheckpoint: 0 });
+      const before = statSync(path).size;
+      // About 4 MB of events: over SQLite's own threshold (1,000 pages), which this connection no longer acts on.
+      const detail = { text: 'x'.repeat(4000) };
+      store.transaction(() => {
+        for (let i = 0; i < 1000; i++) store.logEvent(null, 'filler', detail);
+      });
+      // Only a checkpoint writes pages into the database file itself.
+      await until('a complete checkpoint', () => reports.some((r) => r.log > 1000 && r.checkpointed === r.log));
+      expect(statSync(path).size).toBeGreaterThan(before + 4_000_000);
+      store.close();
+      const reopened = new Database(path, { readonly: true });
+      expect((reopened.prepare("SELECT COUNT(*) AS n FROM events WHERE kind = 'filler'").get() as { n: number }).n).toBe(1000);
+      reopened.close();
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('report a thread that cannot open the store, so the caller checkpoints on its own connection again', async () => {
+    const failures: Error[] = [];
+    WalCheckpointer.start(join(tmpdir(), 'nb-no-such-dir', 'store.sqlite'), { intervalMs: 50, onFailure: (err) => failures.push(err) });
+    await until('the failure', () => failures.length > 0);
+    expect(failures).toHaveLength(1);
+    expect(failures[0]!.message).toMatch(/background WAL checkpoint thread failed/);
+  });
+});
