@@ -66,28 +66,28 @@ export class EvaluationQueue {
    * outcome is in, not the whole job: its payload (genome, dataset manifest) is in the store.
    */
   async finished(limit = 200): Promise<FinishedJob[]> {
+    const states = ['completed', 'failed'] as const;
+    const ids = await Promise.all(states.map((state) => this.queue.getRanges([state], 0, limit - 1, true)));
+    const listed = states.flatMap((state, k) => ids[k]!.map((id) => ({ id, state })));
+    if (!listed.length) return [];
+    const pipeline = this.connection.pipeline();
+    for (const { id } of listed) pipeline.hmget(this.queue.toKey(id), 'name', 'returnvalue', 'failedReason');
+    const replies = (await pipeline.exec()) ?? [];
     const out: FinishedJob[] = [];
-    for (const state of ['completed', 'failed'] as const) {
-      const ids = await this.queue.getRanges([state], 0, limit - 1, true);
-      if (!ids.length) continue;
-      const pipeline = this.connection.pipeline();
+    listed.forEach(({ id, state }, i) => {
+      const [err, fields] = replies[i] ?? [null, null];
+      const [name, returnvalue, reason] = (fields as Array<string | null> | null) ?? [null, null, null];
       // `name` is set on every job: without it the job was removed meanwhile.
-      for (const id of ids) pipeline.hmget(this.queue.toKey(id), 'name', 'returnvalue', 'failedReason');
-      const replies = (await pipeline.exec()) ?? [];
-      ids.forEach((id, i) => {
-        const [err, fields] = replies[i] ?? [null, null];
-        const [name, returnvalue, reason] = (fields as Array<string | null> | null) ?? [null, null, null];
-        if (err || name === null) return;
-        const failedReason = state === 'failed' ? (reason || 'failed without a reason') : null;
-        out.push({
-          id,
-          state,
-          returnvalue: parseReturnValue(returnvalue ?? null),
-          failedReason,
-          unrecoverable: failedReason != null && failedReason.startsWith(DO_NOT_RETRY_PREFIX),
-        });
+      if (err || name === null) return;
+      const failedReason = state === 'failed' ? (reason || 'failed without a reason') : null;
+      out.push({
+        id,
+        state,
+        returnvalue: parseReturnValue(returnvalue ?? null),
+        failedReason,
+        unrecoverable: failedReason != null && failedReason.startsWith(DO_NOT_RETRY_PREFIX),
       });
-    }
+    });
     return out;
   }
 

@@ -276,8 +276,8 @@ export class RunManager {
    */
   private async pass(): Promise<void> {
     if (!this.run) return;
-    if ((await this.opts.queue.checkMarker(this.run.id)) === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
-    const finished = await this.opts.queue.finished();
+    const [marker, finished] = await Promise.all([this.opts.queue.checkMarker(this.run.id), this.opts.queue.finished()]);
+    if (marker === 'lost') await this.rebuildQueue('Redis holds none of this coordinator\'s keys (flushed or restarted empty)');
     const batch = emptyBatch();
     const championJobs: FinishedJob[] = [];
     const verificationJobs: FinishedJob[] = [];
