@@ -35,6 +35,9 @@ describe('TrustStore: CPU accounting kept by triggers', () => {
     store.upsertWorker(heartbeat('v', { watts: 10, wattsAssumed: false }), 1000);
     trust.addVerification({ id: 'r1-s0-a1-v1', runId: 'r1', sourceEvaluationId: 'r1-s0-a1', opinion: 1, purpose: 'spot-check', job: job('r1-s0-a1-v1'), now: 1000 });
     expect(trust.openVerifications('r1').map((v) => v.id)).toEqual(['r1-s0-a1-v1']);
+    // Only those queued before a time, when asked so (the timeout check reads no younger ones).
+    expect(trust.openVerifications('r1', 1001).map((v) => v.id)).toEqual(['r1-s0-a1-v1']);
+    expect(trust.openVerifications('r1', 1000)).toEqual([]);
     expect(trust.finishVerification('r1-s0-a1-v1', { state: 'done', result: result('r1-s0-a1-v1', 'v', 36) }, 2000)).toBe(true);
     expect(trust.finishVerification('r1-s0-a1-v1', { state: 'timed-out', error: 'late' }, 3000)).toBe(false);
     expect(trust.cpuUsage('r1')).toEqual([{ workerId: 'v', kind: 'verification', evaluations: 1, cpuSeconds: 36, wattHours: 0.1, assumedWattHours: 0, cpuSecondsWithoutWatts: 0 }]);

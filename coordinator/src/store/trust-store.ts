@@ -112,9 +112,9 @@ export class TrustStore {
     return (this.sql('SELECT * FROM verifications WHERE source_evaluation_id = ? ORDER BY opinion').all(sourceEvaluationId) as Row[]).map(verificationFromRow);
   }
 
-  /** A run's verifications still waiting for their result. */
-  openVerifications(runId: string): VerificationRecord[] {
-    return (this.sql(`SELECT * FROM verifications WHERE run_id = ? AND state = 'queued' ORDER BY queued_at`).all(runId) as Row[]).map(verificationFromRow);
+  /** A run's verifications still waiting for their result (those queued before `queuedBefore`, when given). */
+  openVerifications(runId: string, queuedBefore = Number.MAX_SAFE_INTEGER): VerificationRecord[] {
+    return (this.sql(`SELECT * FROM verifications WHERE run_id = ? AND state = 'queued' AND queued_at < ? ORDER BY queued_at`).all(runId, queuedBefore) as Row[]).map(verificationFromRow);
   }
 
   /** Closes a queued verification once (true when this call closed it). */

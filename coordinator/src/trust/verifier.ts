@@ -193,10 +193,11 @@ export class Verifier {
 
   /** Gives up verifications that waited past the timeout (or 10 s with no other live worker to run them). */
   async checkTimeouts(run: RunRecord): Promise<void> {
-    const open = this.trust.openVerifications(run.id);
-    if (!open.length) return;
     const timeoutMs = verificationSettings(run.config).timeoutSeconds * 1000;
     const now = this.o.now();
+    // Only those that waited long enough to time out are read (this runs on every pass).
+    const open = this.trust.openVerifications(run.id, now - Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS));
+    if (!open.length) return;
     // Whether another worker is alive matters only for a verification that has waited past the
     // grace period: asked then, as one indexed query (with a thousand workers, listing them all on
     // every pass cost more than the results).
