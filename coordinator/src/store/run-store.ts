@@ -147,6 +147,13 @@ const evaluationFromRow = (r: Row): EvaluationRecord => ({
 /** A worker seen since the bound parameter whose last heartbeat did not say it stopped. */
 const LIVE_WORKER = 'last_seen_at >= ? AND stopped = 0';
 
+/**
+ * How long a taken heartbeat may wait to be written with the next ones (no read waits: the store
+ * writes it before any other statement). A coordinator killed meanwhile loses it; its worker sends
+ * the next within seconds.
+ */
+const HEARTBEAT_WRITE_DELAY_MS = 50;
+
 /** SQLite's own `wal_autocheckpoint`, in pages. */
 const SQLITE_DEFAULT_AUTOCHECKPOINT = 1000;
 
@@ -192,7 +199,7 @@ export class RunStore {
   private readonly statements = new Map<string, Database.Statement>();
   /** Heartbeats taken and not yet written (see {@link RunStore.takeHeartbeat}). */
   private heartbeats: Array<{ hb: WorkerHeartbeat; at: number }> = [];
-  private heartbeatWrite: NodeJS.Immediate | null = null;
+  private heartbeatWrite: NodeJS.Timeout | null = null;
   private checkpointer: WalCheckpointer | null = null;
 
   constructor(
@@ -456,18 +463,18 @@ export class RunStore {
 
   /**
    * Takes a worker's heartbeat: it is stored, and the worker's current evaluation marked running,
-   * with every other heartbeat of this event-loop turn in one transaction at its end, or before
-   * any other statement of this store runs, whichever comes first; so every read sees it. A
-   * thousand workers send hundreds of heartbeats a second, and a commit for each cost more than the
-   * rest of their handling.
+   * with every other heartbeat taken within {@link HEARTBEAT_WRITE_DELAY_MS} in one transaction,
+   * or before any other statement of this store runs, whichever comes first; so every read sees
+   * it. A thousand workers send hundreds of heartbeats a second, and a commit for each cost more
+   * than the rest of their handling.
    */
   takeHeartbeat(hb: WorkerHeartbeat, now: number): void {
     this.heartbeats.push({ hb, at: now });
-    this.heartbeatWrite ??= setImmediate(() => this.writeHeartbeats());
+    this.heartbeatWrite ??= setTimeout(() => this.writeHeartbeats(), HEARTBEAT_WRITE_DELAY_MS);
   }
 
   private writeHeartbeats(): void {
-    if (this.heartbeatWrite) clearImmediate(this.heartbeatWrite);
+    if (this.heartbeatWrite) clearTimeout(this.heartbeatWrite);
     this.heartbeatWrite = null;
     const batch = this.heartbeats;
     this.heartbeats = [];
