@@ -4,6 +4,9 @@ import { sha256Hex, type DatasetManifest } from '@netbreeder/shared-types';
 import type { Logger } from 'pino';
 import { authHeader } from './auth-header.js';
 
+/** How stale a cached shard's modification time may get before a job marks it as used again. */
+const TOUCH_EVERY_MS = 60_000;
+
 /** Where and how much a worker caches downloaded training shards. */
 export interface DatasetCacheOptions {
   /** Folder for cached shards, each named by its sha256. */
@@ -54,8 +57,11 @@ export class DatasetCache {
     if (cached && cached.size === manifest.bytes) {
       if (this.verified.has(manifest.sha256) || (await sha256OfFile(path)) === manifest.sha256) {
         this.verified.add(manifest.sha256);
-        const now = new Date();
-        await utimes(path, now, now); // mark as recently used
+        // Marked as recently used (eviction goes by modification time), at most once a minute.
+        if (Date.now() - cached.mtimeMs > TOUCH_EVERY_MS) {
+          const now = new Date();
+          await utimes(path, now, now);
+        }
         return path;
       }
       this.log.warn({ dataset: manifest.sha256.slice(0, 12) }, 'cached dataset is corrupted; fetching it again');

@@ -52,6 +52,14 @@ export function syntheticAccuracy(genomeHashHex: string, params: number): number
   return Math.min(0.99, Math.max(0.05, sizeTerm + hashTerm));
 }
 
+let rss = { bytes: 0, at: -Infinity };
+/** The process's RSS, read at most once a second (hundreds of simulated jobs a second share one process). */
+function sampledRss(): number {
+  const now = Date.now();
+  if (now - rss.at >= 1000) rss = { bytes: process.memoryUsage.rss(), at: now };
+  return rss.bytes;
+}
+
 /** One simulated job start: how long this agent waited for it since it was last free. */
 export type WaitSample = (waitMs: number) => void;
 
@@ -118,7 +126,7 @@ export class SimulatedTraining implements Trainer {
       samplesSeen: 0,
       trainSeconds: seconds,
       samplesPerSecond: 0,
-      peakRssBytes: process.memoryUsage.rss(),
+      peakRssBytes: sampledRss(),
       stoppedBy: drawn > request.budget.maxSeconds ? 'seconds' : 'epochs',
       history: [],
     };

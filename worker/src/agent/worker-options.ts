@@ -95,4 +95,6 @@ export function resolveWorkerOptions(given: Partial<WorkerOptions>): WorkerOptio
   };
 }
 
-export const coreCount = (): number => cpus().length;
+let cores: number | null = null;
+/** This PC's logical cores (read once: `os.cpus()` reads every core's times, for each heartbeat). */
+export const coreCount = (): number => (cores ??= cpus().length);
