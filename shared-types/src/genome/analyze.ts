@@ -50,7 +50,7 @@ interface Visit {
   issues: GenomeIssue[];
 }
 
-/** Depth-first: puts `id`'s inputs, then `id`, on `order`; false (with the issue) on a cycle. */
+/** Depth-first: puts `id`'s inputs, then `id`, on `order`; false (with the issue) on a cycle. `path`: the nodes being visited, outermost first. */
 function visitNode(id: string, path: string[], v: Visit): boolean {
   if (id === INPUT_ID) return true;
   const s = v.state.get(id);
@@ -61,7 +61,9 @@ function visitNode(id: string, path: string[], v: Visit): boolean {
   }
   v.state.set(id, 'visiting');
   const n = v.byId.get(id)!;
-  for (const i of n.inputs) if (!visitNode(i, [...path, id], v)) return false;
+  path.push(id);
+  for (const i of n.inputs) if (!visitNode(i, path, v)) return false;
+  path.pop();
   v.state.set(id, 'done');
   v.order.push(n);
   return true;

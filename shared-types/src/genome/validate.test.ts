@@ -65,6 +65,9 @@ describe('checkGenome rejects bad genomes, each with its reason', () => {
   it('a cycle', () => {
     const g = genome([dense('a', 'b'), dense('b', 'a')], 'b');
     expect(issuesOf(g, FLAT)).toMatch(/cycle .*a.*b.*; a genome must be acyclic/);
+    // The cycle named is the one reached, after a branch that was fine.
+    const branched = genome([dense('x', 'input'), dense('y', 'z'), dense('z', 'y'), { id: 'd', kind: 'add', inputs: ['x', 'y'] }], 'd');
+    expect(issuesOf(branched, FLAT)).toContain('cycle y -> z -> y; a genome must be acyclic');
   });
 
   it('an unknown layer kind (a schema error at that node)', () => {
