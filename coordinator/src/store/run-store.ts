@@ -217,6 +217,8 @@ export class RunStore {
     const background = options.backgroundCheckpoints;
     if (background && path !== ':memory:') {
       this.db.pragma('wal_autocheckpoint = 0');
+      // The log file shrinks back to 64 MiB when it restarts after a burst (a bulk import).
+      this.db.pragma('journal_size_limit = 67108864');
       this.checkpointer = WalCheckpointer.start(path, {
         ...background,
         onFailure: (err) => {

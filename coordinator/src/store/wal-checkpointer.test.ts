@@ -40,6 +40,33 @@ describe('background WAL checkpoints', () => {
     }
   });
 
+  it('keep the log from growing while commits keep coming (it restarts from its beginning)', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'nb-ckpt-'));
+    const path = join(dir, 'store.sqlite');
+    try {
+      const store = new RunStore(path, { backgroundCheckpoints: { intervalMs: 50 } });
+      const detail = { text: 'x'.repeat(8000) };
+      // Small commits, as fast as they go, for 1.5 s, letting the event loop turn every 20 of them.
+      const t0 = Date.now();
+      let commits = 0;
+      let largestLog = 0;
+      while (Date.now() - t0 < 1500) {
+        store.logEvent(null, 'filler', detail);
+        if (++commits % 20 === 0) {
+          await new Promise((r) => setTimeout(r, 1));
+          largestLog = Math.max(largestLog, statSync(`${path}-wal`).size);
+        }
+      }
+      // Without restarts the log would hold every commit; with them, at most a few rounds' worth.
+      const written = commits * detail.text.length;
+      expect(written).toBeGreaterThan(4_000_000);
+      expect(largestLog).toBeLessThan(written / 3);
+      store.close();
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
   it('report a thread that cannot open the store, so the caller checkpoints on its own connection again', async () => {
     const failures: Error[] = [];
     WalCheckpointer.start(join(tmpdir(), 'nb-no-such-dir', 'store.sqlite'), { intervalMs: 50, onFailure: (err) => failures.push(err) });

@@ -2,24 +2,37 @@ import { createRequire } from 'node:module';
 import { Worker } from 'node:worker_threads';
 
 /**
- * The thread's code (plain CommonJS: it runs without the TypeScript loader). Its own connection to
- * the store copies the write-ahead log into the database file every `intervalMs` with a PASSIVE
- * checkpoint, which never waits for and never blocks the coordinator's connection.
+ * The thread's code (plain CommonJS: it runs without the TypeScript loader), every `intervalMs`,
+ * on a connection of its own:
+ * 1. a PASSIVE checkpoint copies the log's frames into the database file without taking any lock
+ *    the coordinator's connection waits on;
+ * 2. the database file is synced, still without a lock;
+ * 3. a RESTART checkpoint copies the few frames committed meanwhile, syncs again (little is left
+ *    to write) and has the next commit start the log from its beginning. Only this step keeps the
+ *    coordinator's commits waiting, for about as long as those few frames take.
+ * Without step 3 the log never restarts while commits keep coming, and grows without bound.
  */
 const THREAD_CODE = `
 const { parentPort, workerData } = require('node:worker_threads');
+const { openSync, fdatasyncSync, closeSync } = require('node:fs');
 const Database = require(workerData.driver);
 const db = new Database(workerData.path, { fileMustExist: true });
+db.pragma('busy_timeout = 1000');
+const fd = openSync(workerData.path, 'r+');
 const timer = setInterval(() => {
   try {
-    const [row] = db.pragma('wal_checkpoint(PASSIVE)');
+    db.pragma('wal_checkpoint(PASSIVE)');
+    fdatasyncSync(fd);
+    const [row] = db.pragma('wal_checkpoint(RESTART)');
     parentPort.postMessage({ type: 'checkpointed', ...row });
   } catch (err) {
-    parentPort.postMessage({ type: 'failed', message: err.message });
+    // Busy past the timeout (a long transaction): the next round tries again.
+    if (err.code !== 'SQLITE_BUSY') parentPort.postMessage({ type: 'failed', message: err.message });
   }
 }, workerData.intervalMs);
 parentPort.on('message', () => {
   clearInterval(timer);
+  closeSync(fd);
   db.close();
   parentPort.close();
 });
@@ -45,11 +58,11 @@ export interface WalCheckpointerOptions {
 }
 
 /**
- * Checkpoints a SQLite store in WAL mode on a thread of its own. SQLite's automatic checkpoint runs
- * inside the commit that crosses its threshold, on the connection's thread, and syncs the database
- * file there: in the coordinator that held up its event loop (and so every job, heartbeat and
- * `/status`) for a copy and an fsync every few hundred results. With this, the coordinator's
- * connection turns its automatic checkpoint off.
+ * Checkpoints a SQLite store in WAL mode on a thread of its own (see {@link THREAD_CODE}). SQLite's
+ * automatic checkpoint runs inside the commit that crosses its threshold, on the connection's
+ * thread, and syncs the database file there: in the coordinator that held up its event loop (and
+ * so every job, heartbeat and `/status`) for a copy and an fsync every few hundred results. With
+ * this, the coordinator's connection turns its automatic checkpoint off.
  */
 export class WalCheckpointer {
   private failed = false;
