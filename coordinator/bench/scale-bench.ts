@@ -15,7 +15,8 @@
  * 5. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations: coordinator CPU
  *    per recorded result, evaluations/s and /status latency at each size.
  * Phases 1 to 4 split the CPU per job between the coordinator (or the adding process: this one),
- * the workers (the fleet child) and Redis (its INFO cpu).
+ * the workers (the fleet child) and Redis (its INFO cpu). Phases 3 and 5 also show the largest
+ * size of the store's write-ahead log (it must stay bounded: checkpoints keep up).
  *
  * The coordinator runs in this process (its CPU figure includes this script's light polling).
  * Prints a table and, last, one JSON object with every figure.
@@ -26,6 +27,7 @@
  */
 import { fork, type ChildProcess } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
+import { statSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { cpus, tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -152,8 +154,17 @@ function countHeartbeats(coordinator: Coordinator): () => number {
   return () => n;
 }
 
-/** Evaluations done, the coordinator's CPU and /status latency over a window of `ms`. */
-async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number) {
+/** Bytes of the store's write-ahead log now (0 when there is none). */
+const storeLogBytes = (dataDir: string) => {
+  try {
+    return statSync(join(dataDir, 'store.sqlite-wal')).size;
+  } catch {
+    return 0;
+  }
+};
+
+/** Evaluations done, the coordinator's CPU, /status latency and the store's log size over a window of `ms`. */
+async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number, dataDir: string) {
   const heartbeats = countHeartbeats(coordinator);
   const done0 = coordinator.store.counts(runId).done;
   const redis0 = await redisCpuSeconds();
@@ -164,9 +175,11 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
   const t0 = performance.now();
   const status: number[] = [];
   let peakRss = process.memoryUsage.rss();
+  let largestLog = storeLogBytes(dataDir);
   while (performance.now() - t0 < ms) {
     status.push(...(await statusTimes(coordinator.url, 1)));
     peakRss = Math.max(peakRss, process.memoryUsage.rss());
+    largestLog = Math.max(largestLog, storeLogBytes(dataDir));
     await sleep(statusEveryMs);
   }
   const seconds = (performance.now() - t0) / 1000;
@@ -184,6 +197,8 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
     coordinatorCpuPercent: round((100 * cpuSeconds) / seconds, 0),
     cpuMsPerResult: results ? round((1000 * cpuSeconds) / results, 2) : null,
     rssMb: round(peakRss / 2 ** 20, 0),
+    // A log that only grows means checkpoints are not keeping up (reads slow down, the disk fills).
+    storeLogMaxMb: round(largestLog / 2 ** 20, 0),
     statusP50Ms: round(percentile(status, 0.5), 1),
     statusP99Ms: round(percentile(status, 0.99), 1),
     heartbeatsPerSecond: round(heartbeats() / seconds, 0),
@@ -313,7 +328,7 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
   const run = await coordinator.startRun(runConfig(Math.max(60, simulation.meanSeconds * 10)));
   await sleep(warmupMs);
   fleet.reset();
-  const figures = await window(coordinator, run.id, measureMs, 1000);
+  const figures = await window(coordinator, run.id, measureMs, 1000, dataDir);
   const f = await fleet.report();
   const alive = coordinator.manager.aliveWorkers();
   await coordinator.manager.control(run.id, 'stop').catch(() => undefined);
@@ -365,7 +380,7 @@ async function storeGrowth(sizes: number[], measureMs: number) {
     coordinator = await startCoordinator(dataDir, p);
     const fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(dataDir, 'cache'), simulation });
     await sleep(3000);
-    const figures = await window(coordinator, run.id, measureMs, 200);
+    const figures = await window(coordinator, run.id, measureMs, 200, dataDir);
     const direct = await statusTimes(coordinator.url, 50);
     await fleet.stop();
     await coordinator.close();
@@ -416,6 +431,7 @@ async function main(): Promise<void> {
     line('project evaluations/s, zero training (50 workers)', `${zero.evaluationsPerSecond}`);
     if (ratio !== null) line('ratio project / raw', `${round(100 * ratio, 0)}%`);
     line('  CPU ms per evaluation: coordinator / workers / Redis', split(zero.cpuPerEvaluation));
+    line('  store write-ahead log, largest MB', `${zero.storeLogMaxMb}`);
   }
   if (thousand) {
     line('1,000 workers, 10 s jobs: evaluations/s', `${thousand.evaluationsPerSecond} (ideal ${round(thousand.workers / 10, 0)})`);
@@ -430,6 +446,7 @@ async function main(): Promise<void> {
   for (const g of growth) {
     line(`store with ${g.finishedInStore!.toLocaleString('en')} finished: evaluations/s`, `${g.evaluationsPerSecond}`);
     line('  CPU ms per result / /status p50 (loaded, idle) ms', `${g.cpuMsPerResult} / ${g.statusP50Ms}, ${g.statusIdleP50Ms}`);
+    line('  store write-ahead log, largest MB', `${g.storeLogMaxMb}`);
   }
   const totalSeconds = round((performance.now() - startedAt) / 1000, 0);
   line('benchmark wall time s', `${totalSeconds}`);
