@@ -3,18 +3,20 @@ import { heartbeatReplyValidator, workerHeartbeatValidator, type HeartbeatReply,
 import { authHeader } from './auth-header.js';
 
 /**
- * Posts the worker's heartbeat to the coordinator on a fixed interval (and on demand, when the
- * worker's state changes). While the coordinator cannot be reached it keeps trying at the same
- * pace, logging the first failure and then every tenth, so a worker never spins or floods its log.
+ * Posts the worker's heartbeat to the coordinator: when the worker's state changes, and otherwise
+ * `intervalMs` after the last one, so two are never further apart than that and a busy worker,
+ * whose state changes tell the coordinator it lives, sends no extra ones. While the coordinator
+ * cannot be reached it keeps trying at the same pace, logging the first failure and then every
+ * tenth, so a worker never spins or floods its log.
  */
 export class HeartbeatSender {
   private timer: NodeJS.Timeout | null = null;
+  private started = false;
+  private stopped = false;
   private failures = 0;
   private inFlight: Promise<void> | null = null;
   private again = false;
   private lastNotifiedAt = -Infinity;
-  /** When the coordinator last took a heartbeat of this worker. */
-  private lastDeliveredAt = -Infinity;
   private trailing: NodeJS.Timeout | null = null;
 
   constructor(
@@ -29,36 +31,29 @@ export class HeartbeatSender {
     private readonly onReply: (reply: HeartbeatReply) => void = () => {},
     /** State changes closer together than this are sent as one heartbeat (very short jobs). @default 1000 */
     private readonly minChangeGapMs = 1000,
+    /**
+     * A state change waits this long, so a job's end and the next job's start, moments later, go
+     * as one heartbeat. @default 200
+     */
+    private readonly changeDelayMs = 200,
   ) {}
 
-  /**
-   * Sends one now and then every `intervalMs`; a periodic one is skipped when a state change was
-   * delivered less than half an interval ago (it would say nothing new, and with a thousand
-   * workers each heartbeat is work for the coordinator).
-   */
+  /** Sends one now; from then on one follows `intervalMs` after the last, until {@link stop}. */
   start(): void {
-    if (this.timer) return;
-    this.timer = setInterval(() => {
-      if (Date.now() - this.lastDeliveredAt >= this.intervalMs / 2) void this.send();
-    }, this.intervalMs);
-    this.timer.unref();
+    if (this.started) return;
+    this.started = true;
     void this.send();
   }
 
   /**
-   * Tells the coordinator about a state change (a job started or ended): at once, unless the last
-   * change was sent less than `minChangeGapMs` ago; then one heartbeat with the newest state
-   * follows when the gap is over. A worker finishing many tiny jobs a second so costs the
-   * coordinator one heartbeat a second, not two per job.
+   * Tells the coordinator about a state change (a job started or ended): after `changeDelayMs`,
+   * or later when the last change was sent less than `minChangeGapMs` ago; the heartbeat then
+   * carries the newest state. A worker finishing many tiny jobs a second so costs the coordinator
+   * one heartbeat a second, and one between two jobs costs it one, not two.
    */
   notifyChange(): void {
-    if (this.trailing) return;
-    const wait = this.lastNotifiedAt + this.minChangeGapMs - Date.now();
-    if (wait <= 0) {
-      this.lastNotifiedAt = Date.now();
-      void this.send();
-      return;
-    }
+    if (this.trailing || this.stopped) return;
+    const wait = Math.max(this.changeDelayMs, this.lastNotifiedAt + this.minChangeGapMs - Date.now());
     this.trailing = setTimeout(() => {
       this.trailing = null;
       this.lastNotifiedAt = Date.now();
@@ -80,8 +75,17 @@ export class HeartbeatSender {
       } while (this.again);
     })().finally(() => {
       this.inFlight = null;
+      this.scheduleNext();
     });
     return this.inFlight;
+  }
+
+  /** The next periodic heartbeat, `intervalMs` after the one just sent (or tried). */
+  private scheduleNext(): void {
+    if (!this.started || this.stopped) return;
+    if (this.timer) clearTimeout(this.timer);
+    this.timer = setTimeout(() => void this.send(), this.intervalMs);
+    this.timer.unref();
   }
 
   private async post(): Promise<void> {
@@ -109,7 +113,6 @@ export class HeartbeatSender {
       }
       if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
       this.failures = 0;
-      this.lastDeliveredAt = Date.now();
     } catch (err) {
       this.failures++;
       if (this.failures === 1 || this.failures % 10 === 0) {
@@ -119,7 +122,8 @@ export class HeartbeatSender {
   }
 
   async stop(): Promise<void> {
-    if (this.timer) clearInterval(this.timer);
+    this.stopped = true;
+    if (this.timer) clearTimeout(this.timer);
     if (this.trailing) clearTimeout(this.trailing);
     this.timer = null;
     this.trailing = null;
