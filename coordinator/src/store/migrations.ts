@@ -279,4 +279,11 @@ export const MIGRATIONS: readonly string[] = [
   UPDATE workers SET stopped = (json_extract(heartbeat_json, '$.state') = 'stopped');
   CREATE INDEX workers_by_last_seen ON workers(last_seen_at, stopped);
   `,
+  // 9: the index by finish time also holds each evaluation's kind and state, so counting the last
+  // minute's results (every GET /status and /metrics) reads the index alone. Reading each row to
+  // check them cost 1 ms per thousand results of that minute: most of /status at a fast pace.
+  `
+  DROP INDEX evaluations_by_run_finished;
+  CREATE INDEX evaluations_by_run_finished ON evaluations(run_id, finished_at, kind, state);
+  `,
 ];

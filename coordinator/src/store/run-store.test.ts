@@ -50,6 +50,19 @@ describe('RunStore', () => {
     }
   });
 
+  it("counts the last minute's results from the index by finish time alone, without reading the rows", () => {
+    const store = storeWithRun();
+    // The statement doneSince runs, as SQLite plans it (the store's own cached statement).
+    const plan = store
+      .statement(`EXPLAIN QUERY PLAN SELECT COUNT(*) AS n FROM evaluations INDEXED BY evaluations_by_run_finished WHERE run_id = ? AND finished_at >= ? AND kind = 'search' AND state = 'done'`)
+      .all('r1', 0) as Array<{ detail: string }>;
+    expect(plan.map((p) => p.detail).join('\n')).toContain('USING COVERING INDEX evaluations_by_run_finished');
+    store.addEvaluation(searchJob('r1-s0-a1'), 0, 1000, true);
+    expect(store.recordResult('r1-s0-a1', result(), 5000)).toBe('recorded');
+    expect(store.doneSince('r1', 4000)).toBe(1);
+    expect(store.doneSince('r1', 6000)).toBe(0);
+  });
+
   it('counts as live the workers heard from recently that did not say they stopped, and finds one outside a list', () => {
     const store = storeWithRun();
     store.upsertWorker(heartbeat('a'), 10_000);
