@@ -381,8 +381,10 @@ async function storeGrowth(sizes: number[], measureMs: number) {
     const fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(dataDir, 'cache'), simulation });
     await sleep(3000);
     const figures = await window(coordinator, run.id, measureMs, 200, dataDir);
-    const direct = await statusTimes(coordinator.url, 50);
+    // Idle: the workers gone and the last pass over, so this is the cost of /status itself at this size.
     await fleet.stop();
+    await sleep(1000);
+    const direct = await statusTimes(coordinator.url, 50);
     await coordinator.close();
     const { cpuSeconds: _cpu, redisSeconds: _redis, ...shown } = figures;
     rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, statusIdleP50Ms: round(percentile(direct, 0.5), 1) });
