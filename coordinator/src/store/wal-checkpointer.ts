@@ -23,8 +23,9 @@ const timer = setInterval(() => {
   try {
     db.pragma('wal_checkpoint(PASSIVE)');
     fdatasyncSync(fd);
+    const started = performance.now();
     const [row] = db.pragma('wal_checkpoint(RESTART)');
-    parentPort.postMessage({ type: 'checkpointed', ...row });
+    parentPort.postMessage({ type: 'checkpointed', ...row, restartMs: performance.now() - started });
   } catch (err) {
     // Busy past the timeout (a long transaction): the next round tries again.
     if (err.code !== 'SQLITE_BUSY') parentPort.postMessage({ type: 'failed', message: err.message });
@@ -43,6 +44,8 @@ export interface CheckpointReport {
   busy: number;
   log: number;
   checkpointed: number;
+  /** How long the RESTART step took: about how long it kept the store's commits waiting. */
+  restartMs: number;
 }
 
 export interface WalCheckpointerOptions {
@@ -83,7 +86,7 @@ export class WalCheckpointer {
     };
     thread.on('message', (m: { type: 'checkpointed' } & CheckpointReport | { type: 'failed'; message: string }) => {
       if (m.type === 'failed') fail(new Error(`background WAL checkpoint failed: ${m.message}`));
-      else options.onCheckpoint?.({ busy: m.busy, log: m.log, checkpointed: m.checkpointed });
+      else options.onCheckpoint?.({ busy: m.busy, log: m.log, checkpointed: m.checkpointed, restartMs: m.restartMs });
     });
     thread.on('error', (err) => fail(new Error(`background WAL checkpoint thread failed: ${err.message}`)));
     thread.on('exit', (code) => fail(new Error(`background WAL checkpoint thread exited (code ${code})`)));
