@@ -33,7 +33,7 @@ let server: Server | null = null;
 afterEach(() => server?.close());
 
 describe('HeartbeatSender', () => {
-  it('sends a job end and the next start as one heartbeat, and the next periodic one an interval after the last', async () => {
+  it('sends a job end and the next start, at once, as one heartbeat, and the next periodic one an interval after the last', async () => {
     const coordinator = await listen();
     server = coordinator.server;
     let state: WorkerHeartbeat['state'] = 'idle';
@@ -50,7 +50,7 @@ describe('HeartbeatSender', () => {
     sender.notifyChange();
     state = 'training';
     current = 'r1-s1-a1';
-    sender.notifyChange();
+    sender.notifyChange({ now: true });
     await until(() => coordinator.beats.length === 2);
     expect(coordinator.beats[1]!.body).toMatchObject({ state: 'training', currentEvaluationId: 'r1-s1-a1' });
     // Nothing changes: the next one comes an interval after that one, not sooner.

@@ -32,8 +32,8 @@ export class HeartbeatSender {
     /** State changes closer together than this are sent as one heartbeat (very short jobs). @default 1000 */
     private readonly minChangeGapMs = 1000,
     /**
-     * A state change waits this long, so a job's end and the next job's start, moments later, go
-     * as one heartbeat. @default 200
+     * A job's end waits this long, so the next job's start, moments later, goes in the same
+     * heartbeat. @default 200
      */
     private readonly changeDelayMs = 200,
   ) {}
@@ -46,14 +46,26 @@ export class HeartbeatSender {
   }
 
   /**
-   * Tells the coordinator about a state change (a job started or ended): after `changeDelayMs`,
-   * or later when the last change was sent less than `minChangeGapMs` ago; the heartbeat then
-   * carries the newest state. A worker finishing many tiny jobs a second so costs the coordinator
-   * one heartbeat a second, and one between two jobs costs it one, not two.
+   * Tells the coordinator about a state change. A job's start (`{ now: true }`) is sent at once; a
+   * job's end waits `changeDelayMs`, and a start that follows within it goes in the same heartbeat,
+   * so one between two jobs costs the coordinator one, not two. Either waits longer when the last
+   * change was sent less than `minChangeGapMs` ago, and the heartbeat then carries the newest
+   * state: a worker finishing many tiny jobs a second costs one heartbeat a second.
    */
-  notifyChange(): void {
-    if (this.trailing || this.stopped) return;
-    const wait = Math.max(this.changeDelayMs, this.lastNotifiedAt + this.minChangeGapMs - Date.now());
+  notifyChange(opts: { now?: boolean } = {}): void {
+    if (this.stopped) return;
+    const wait = Math.max(opts.now ? 0 : this.changeDelayMs, this.lastNotifiedAt + this.minChangeGapMs - Date.now());
+    if (this.trailing) {
+      // The one waiting will carry this change too, unless this one may go now.
+      if (wait > 0) return;
+      clearTimeout(this.trailing);
+      this.trailing = null;
+    }
+    if (wait <= 0) {
+      this.lastNotifiedAt = Date.now();
+      void this.send();
+      return;
+    }
     this.trailing = setTimeout(() => {
       this.trailing = null;
       this.lastNotifiedAt = Date.now();

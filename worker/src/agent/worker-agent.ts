@@ -213,7 +213,7 @@ export class WorkerAgent {
 
     this.state = 'training';
     this.current = payload.evaluationId;
-    this.heartbeat.notifyChange();
+    this.heartbeat.notifyChange({ now: true });
     const log = this.log.child({ evaluationId: payload.evaluationId, kind: payload.kind, attempt: payload.attempt });
     try {
       const shardPath = await this.cache.ensure(payload.dataset);
