@@ -195,7 +195,8 @@ export class Verifier {
   async checkTimeouts(run: RunRecord): Promise<void> {
     const timeoutMs = verificationSettings(run.config).timeoutSeconds * 1000;
     const now = this.o.now();
-    // Only those that waited long enough to time out are read (this runs on every pass).
+    // Only those that waited past the grace period, the least a verification waits before it can
+    // time out, are read (this runs on every pass).
     const open = this.trust.openVerifications(run.id, now - Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS));
     if (!open.length) return;
     // Whether another worker is alive matters only for a verification that has waited past the
@@ -204,7 +205,6 @@ export class Verifier {
     const someoneElse = (v: VerificationRecord) => this.o.liveWorkerBesides([...(v.job.excludeWorkers ?? []), ...this.quarantinedIds()]);
     for (const v of open) {
       const waited = now - v.queuedAt;
-      if (waited <= Math.min(timeoutMs, NO_OTHER_WORKER_GRACE_MS)) continue;
       if (waited <= timeoutMs && someoneElse(v)) continue;
       const why = waited > timeoutMs ? `no result within ${timeoutMs / 1000} s` : 'no worker other than the excluded ones is alive';
       await this.o.queue.remove(v.id).catch(() => undefined); // a job being trained cannot be removed; its late result is ignored
