@@ -119,4 +119,26 @@ describe('RunStore', () => {
     ).toThrow('boom');
     expect(store.getEvaluation('r1-s0-a1')!.state).toBe('queued');
   });
+
+  it('holds the write lock from the start of a transaction, so a write after a read cannot find the store locked', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'nb-tx-'));
+    const store = new RunStore(join(dir, 'store.sqlite'));
+    // Another connection that gives up at once, as SQLite does for a reader that wants to write.
+    const other = new Database(join(dir, 'store.sqlite'));
+    other.pragma('busy_timeout = 0');
+    try {
+      store.transaction(() => {
+        store.getRun('r1');
+        // Between the read and the write another connection cannot take the lock (the checkpoint
+        // thread's RESTART waits for it), so the write that follows cannot fail with "locked".
+        expect(() => other.exec('BEGIN IMMEDIATE')).toThrow(/database is locked/);
+        store.logEvent(null, 'test', {});
+      });
+      other.exec('BEGIN IMMEDIATE; ROLLBACK');
+    } finally {
+      other.close();
+      store.close();
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
 });

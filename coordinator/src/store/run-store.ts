@@ -256,10 +256,16 @@ export class RunStore {
     return this.sql(sql);
   }
 
-  /** Runs `fn` in one transaction: all of its writes land, or none (waiting heartbeats are written before, on their own). */
+  /**
+   * Runs `fn` in one transaction: all of its writes land, or none (waiting heartbeats are written
+   * before, on their own). It takes the write lock when it begins (BEGIN IMMEDIATE), waiting up to
+   * the busy timeout for it: a deferred transaction that reads first and writes later fails at
+   * once with "database is locked" when another connection (the checkpoint thread's RESTART)
+   * writes in between, as SQLite cannot wait for the lock inside a read.
+   */
   transaction<T>(fn: () => T): T {
     if (this.heartbeats.length) this.writeHeartbeats();
-    return this.db.transaction(fn)();
+    return this.db.transaction(fn).immediate();
   }
 
   close(): void {
@@ -487,7 +493,7 @@ export class RunStore {
           this.upsertWorker(hb, at);
           if (hb.currentEvaluationId) this.markRunning(hb.currentEvaluationId, hb.workerId, at);
         }
-      })();
+      }).immediate();
     } catch (err) {
       if (!this.options.onHeartbeatWriteError) throw err;
       this.options.onHeartbeatWriteError(err as Error, batch.length);
