@@ -105,11 +105,14 @@ describe('checkpoints and resume after a lost worker', () => {
     const run = await cluster.coordinator.startRun(config(32));
     const trainer = await waitFor('a worker to train the job', () => store().listWorkers().find((w) => w.heartbeat.currentEvaluationId?.startsWith(`${run.id}-s0`)), 60_000, 50);
     await waitFor('a first checkpoint', () => latestEpoch(run.id) >= 1, 90_000, 50);
+    // Killed first, so that the checkpoint corrupted below stays the latest: a later upload would
+    // be offered to the next worker instead.
+    kill(procs.get(trainer.heartbeat.workerId)!);
+    await new Promise((r) => setTimeout(r, 500));
     const held = store().latestCheckpoint(run.id, 0)!;
     const bytes = await readFile(held.path);
     bytes[bytes.length - 3] = bytes[bytes.length - 3]! ^ 0x40; // a bit flipped on the coordinator's disk
     await writeFile(held.path, bytes);
-    kill(procs.get(trainer.heartbeat.workerId)!);
     spawn('after-bad-download');
     const done = await waitFor('the evaluation to be done', () => doneAttempt(run.id), 150_000, 200);
     expect(done.result!.workerId).toBe('after-bad-download');
