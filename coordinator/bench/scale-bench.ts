@@ -12,11 +12,13 @@
  * 4. 1,000 simulated workers with 10-second mean (log-normal) jobs: evaluations/s, the wait from a
  *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, heartbeats taken,
  *    /status latency and the coordinator's event-loop delay;
- * 5. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations: coordinator CPU
- *    per recorded result, evaluations/s and /status latency at each size.
+ * 5. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations (with every row
+ *    a recorded result writes, see `prefill`): coordinator CPU per recorded result, evaluations/s
+ *    and /status latency at each size.
  * Phases 1 to 4 split the CPU per job between the coordinator (or the adding process: this one),
  * the workers (the fleet child) and Redis (its INFO cpu). Phases 3 and 5 also show the largest
- * size of the store's write-ahead log (it must stay bounded: checkpoints keep up).
+ * size of the store's write-ahead log (it must stay bounded: checkpoints keep up) and the store's
+ * size (phase 3 per evaluation, from real rows).
  *
  * The coordinator runs in this process (its CPU figure includes this script's light polling).
  * Prints a table and, last, one JSON object with every figure.
@@ -26,7 +28,7 @@
  *   NB_FLEET_PROF=/tmp/prof npm run bench:scale -- --only zero   (also writes the fleet child's CPU profile there)
  */
 import { fork, type ChildProcess } from 'node:child_process';
-import { randomBytes } from 'node:crypto';
+import { createHash, randomBytes } from 'node:crypto';
 import { statSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { cpus, tmpdir } from 'node:os';
@@ -334,35 +336,70 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
   await coordinator.manager.control(run.id, 'stop').catch(() => undefined);
   await fleet.stop();
   await coordinator.close();
+  const size = storeSize(dataDir);
   await obliterate(p);
   await rm(dataDir, { recursive: true, force: true });
   const { cpuSeconds, redisSeconds, ...shown } = figures;
   const cpuPerEvaluation = cpuSplit(figures.results, { coordinator: cpuSeconds, workers: f.cpuSeconds, redis: redisSeconds });
-  return { workers, aliveWorkers: alive, fleetStartSeconds: round(fleetStartSeconds), ...shown, cpuPerEvaluation, waitP50Ms: round(f.waitP50Ms, 0), waitP99Ms: round(f.waitP99Ms, 0), waits: f.waits, fleetRssMb: round(f.rssMb, 0) };
+  return { workers, aliveWorkers: alive, fleetStartSeconds: round(fleetStartSeconds), ...shown, cpuPerEvaluation, waitP50Ms: round(f.waitP50Ms, 0), waitP99Ms: round(f.waitP99Ms, 0), waits: f.waits, fleetRssMb: round(f.rssMb, 0), storeEvaluations: size.evaluations, storeKbPerEvaluation: round(size.bytes / 1024 / size.evaluations, 1) };
 }
 
 // ---- 4. a store holding many finished evaluations ---------------------------------------------
 
-/** Inserts synthetic finished evaluations directly (one transaction) until the run holds `total` of them. */
+/**
+ * Inserts synthetic finished evaluations directly (one transaction) until the run holds `total` of
+ * them. Each gets the rows a recorded result writes, so every index a result touches is as deep as
+ * in a real store of that size: its evaluation, its own genome (a distinct random-looking hash),
+ * two decision-log steps and a lineage link. Only the payloads are short (no job, result or
+ * decisions; the genome is the run's first), so the file is smaller than a real store's (the
+ * zero-training phase measures a real store's size per evaluation).
+ */
 function prefill(dataDir: string, runId: string, from: number, total: number): number {
   const t0 = performance.now();
   const db = new Database(join(dataDir, 'store.sqlite'));
-  const genome = (db.prepare('SELECT genome_hash FROM evaluations WHERE run_id = ? LIMIT 1').get(runId) as { genome_hash: string }).genome_hash;
+  db.pragma('cache_size = -262144');
+  const genome = db.prepare('SELECT g.genome_json, g.params, g.flops, g.summary FROM evaluations e JOIN genomes g ON g.hash = e.genome_hash WHERE e.run_id = ? LIMIT 1').get(runId) as Record<string, string | number>;
+  const insertGenome = db.prepare('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)');
   const insert = db.prepare(
     `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at, started_at, finished_at,
        worker_id, backend, val_accuracy, val_loss, train_seconds, samples_per_second, result_json)
      VALUES (?, ?, 'search', ?, 1, ?, 0, '{}', 'done', ?, ?, ?, 'prefill', 'cpu', ?, 2.0, 10, 0, NULL)`,
   );
+  const insertStep = db.prepare(
+    `INSERT INTO search_steps (run_id, step, kind, evaluation_id, genome_hash, parent_hashes_json, budget_epochs, reason, decisions_json, at)
+     VALUES (?, ?, ?, ?, ?, ?, NULL, 'prefill', '[]', ?)`,
+  );
+  const insertLink = db.prepare(`INSERT INTO lineage (evaluation_id, run_id, child_hash, parent_hash, operator, detail) VALUES (?, ?, ?, ?, 'prefill', '')`);
+  let step = (db.prepare('SELECT COALESCE(MAX(step) + 1, 0) AS n FROM search_steps WHERE run_id = ?').get(runId) as { n: number }).n;
+  const hashOf = (i: number) => createHash('sha256').update(`${runId}:prefill:${i}`).digest('hex');
   // One result a second, the newest a minute before now (so none counts in the last minute's rate).
   const newest = Date.now() - 60_000;
   db.transaction(() => {
     for (let i = from; i < total; i++) {
       const at = newest - (total - i) * 1000;
-      insert.run(`${runId}-prefill${i}`, runId, -1 - i, genome, at - 10_000, at - 10_000, at, ((i * 7919) % 1000) / 10_000);
+      const id = `${runId}-prefill${i}`;
+      const hash = hashOf(i);
+      const parent = hashOf(Math.max(0, i - 1 - (i % 7)));
+      insertGenome.run(hash, genome.genome_json, genome.params, genome.flops, genome.summary);
+      insert.run(id, runId, -1 - i, hash, at - 10_000, at - 10_000, at, ((i * 7919) % 1000) / 10_000);
+      insertStep.run(runId, step++, 'propose', id, hash, JSON.stringify([parent]), at - 10_000);
+      insertStep.run(runId, step++, 'observe', id, hash, '[]', at);
+      insertLink.run(id, runId, hash, parent);
     }
   })();
   db.close();
   return (performance.now() - t0) / 1000;
+}
+
+/** The store's size (its file after a full checkpoint, free pages left out) in bytes, and its evaluations. */
+function storeSize(dataDir: string): { bytes: number; evaluations: number } {
+  const db = new Database(join(dataDir, 'store.sqlite'));
+  db.pragma('wal_checkpoint(TRUNCATE)');
+  const pages = (db.pragma('page_count', { simple: true }) as number) - (db.pragma('freelist_count', { simple: true }) as number);
+  const bytes = pages * (db.pragma('page_size', { simple: true }) as number);
+  const evaluations = (db.prepare('SELECT COUNT(*) AS n FROM evaluations').get() as { n: number }).n;
+  db.close();
+  return { bytes, evaluations };
 }
 
 async function storeGrowth(sizes: number[], measureMs: number) {
@@ -387,7 +424,8 @@ async function storeGrowth(sizes: number[], measureMs: number) {
     const direct = await statusTimes(coordinator.url, 50);
     await coordinator.close();
     const { cpuSeconds: _cpu, redisSeconds: _redis, ...shown } = figures;
-    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, statusIdleP50Ms: round(percentile(direct, 0.5), 1) });
+    const storeMb = round(storeSize(dataDir).bytes / 2 ** 20, 0);
+    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, statusIdleP50Ms: round(percentile(direct, 0.5), 1), storeMb });
   }
   await obliterate(p);
   await rm(dataDir, { recursive: true, force: true });
@@ -434,6 +472,7 @@ async function main(): Promise<void> {
     if (ratio !== null) line('ratio project / raw', `${round(100 * ratio, 0)}%`);
     line('  CPU ms per evaluation: coordinator / workers / Redis', split(zero.cpuPerEvaluation));
     line('  store write-ahead log, largest MB', `${zero.storeLogMaxMb}`);
+    line('  store size per evaluation KB (real rows)', `${zero.storeKbPerEvaluation} (${zero.storeEvaluations} evaluations)`);
   }
   if (thousand) {
     line('1,000 workers, 10 s jobs: evaluations/s', `${thousand.evaluationsPerSecond} (ideal ${round(thousand.workers / 10, 0)})`);
@@ -448,7 +487,7 @@ async function main(): Promise<void> {
   for (const g of growth) {
     line(`store with ${g.finishedInStore!.toLocaleString('en')} finished: evaluations/s`, `${g.evaluationsPerSecond}`);
     line('  CPU ms per result / /status p50 (loaded, idle) ms', `${g.cpuMsPerResult} / ${g.statusP50Ms}, ${g.statusIdleP50Ms}`);
-    line('  store write-ahead log, largest MB', `${g.storeLogMaxMb}`);
+    line('  store write-ahead log, largest MB / store MB', `${g.storeLogMaxMb} / ${g.storeMb}`);
   }
   const totalSeconds = round((performance.now() - startedAt) / 1000, 0);
   line('benchmark wall time s', `${totalSeconds}`);
