@@ -358,7 +358,10 @@ function prefill(dataDir: string, runId: string, from: number, total: number): n
   const t0 = performance.now();
   const db = new Database(join(dataDir, 'store.sqlite'));
   db.pragma('cache_size = -262144');
-  const genome = db.prepare('SELECT g.genome_json, g.params, g.flops, g.summary FROM evaluations e JOIN genomes g ON g.hash = e.genome_hash WHERE e.run_id = ? LIMIT 1').get(runId) as Record<string, string | number>;
+  // The run's first proposal (pre-filled rows have negative numbers), so every size copies the same small genome.
+  const genome = db
+    .prepare('SELECT g.genome_json, g.params, g.flops, g.summary FROM evaluations e JOIN genomes g ON g.hash = e.genome_hash WHERE e.run_id = ? AND e.seq >= 0 ORDER BY e.seq LIMIT 1')
+    .get(runId) as Record<string, string | number>;
   const insertGenome = db.prepare('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)');
   const insert = db.prepare(
     `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at, started_at, finished_at,
