@@ -1,7 +1,8 @@
 /**
- * `npm run bench:scale`: can one coordinator feed a thousand PCs? Loopback only, bounded (about 5
- * minutes on a 2-core PC). Every phase uses its own random Redis prefix on the same Redis and
- * simulated workers (real agents, queue and HTTP; simulated training) in a child process.
+ * `npm run bench:scale`: can one coordinator feed a thousand PCs? Loopback only, bounded (6 to 8
+ * minutes on a 2-core PC, 2 to 4 of them writing the pre-filled store). Every phase uses its own
+ * random Redis prefix on the same Redis and simulated workers (real agents, queue and HTTP;
+ * simulated training) in a child process.
  *
  * 1. raw BullMQ: 20,000 no-op jobs added in bulk and completed by 50 plain BullMQ workers (the ceiling);
  * 2. the project's queue protocol alone with the same no-op workers: jobs added one by one,
