@@ -271,8 +271,11 @@ async function main(): Promise<void> {
   const dataDir = await mkdtemp(join(tmpdir(), 'nb-bench-search-'));
   const prefix = `nbbench-search-${randomBytes(4).toString('hex')}`;
   const watch = new RunWatch();
+  // A pass for each finished job at once (passDelayMs 0), not one for those of 50 ms: the run is
+  // finished by the result that reaches the budget, and a result that shared its pass would be
+  // recorded past the budget, where the finish can no longer discard it.
   const coordinator = await Coordinator.start(
-    { dataDir, port: 0, host: '127.0.0.1', tickMs: 250, queue: { redisUrl, prefix, queueName: 'evaluations' }, logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn') },
+    { dataDir, port: 0, host: '127.0.0.1', tickMs: 250, passDelayMs: 0, queue: { redisUrl, prefix, queueName: 'evaluations' }, logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn') },
     { resultRecorded: (ev, result) => watch.onResult(ev, result) },
   );
   watch.coordinator = coordinator;

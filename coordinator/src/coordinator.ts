@@ -29,6 +29,8 @@ export interface CoordinatorOptions {
   queue: QueueLocation;
   /** Milliseconds between reconcile passes. @default 1000 */
   tickMs: number;
+  /** How long a finished job waits for others to share its reconcile pass (`RunManagerOptions.passDelayMs`; 0: a pass at once). @default 50 */
+  passDelayMs: number;
   logger: Logger;
   /** Token workers present to join (heartbeats, datasets). @default kept in dataDir/secrets.json, random on first start */
   joinToken?: string;
@@ -50,6 +52,7 @@ export function resolveCoordinatorOptions(given: Partial<CoordinatorOptions>): C
     host: '0.0.0.0',
     queue: DEFAULT_QUEUE_LOCATION,
     tickMs: 1000,
+    passDelayMs: 50,
     logger: createLogger('coordinator'),
     publicStatus: true,
     lockDurationMs: 30_000,
@@ -85,7 +88,7 @@ export class Coordinator {
       },
     });
     const queue = new EvaluationQueue(options.queue, log.child({ part: 'queue' }));
-    const manager = new RunManager({ store, queue, log: log.child({ part: 'run' }), dataDir, tickMs: options.tickMs }, events);
+    const manager = new RunManager({ store, queue, log: log.child({ part: 'run' }), dataDir, tickMs: options.tickMs, passDelayMs: options.passDelayMs }, events);
     const startedAt = Date.now();
     const secrets = await loadSecrets(dataDir, { joinToken: options.joinToken, adminToken: options.adminToken });
     const http = await createHttpServer({
