@@ -260,11 +260,7 @@ export class RunManager {
 
   /** A job finished: a pass after `passDelayMs` (one pass for every job that finishes meanwhile), or right after the running one. */
   private passAfterFinish(): void {
-    if (this.ticking) {
-      this.tickAgain = true;
-      return;
-    }
-    if (this.passDelayMs <= 0) return void this.tick();
+    if (this.ticking || this.passDelayMs <= 0) return void this.tick(); // tick() marks a running pass to go again
     if (this.passSoon || !this.timer) return;
     this.passSoon = setTimeout(() => {
       this.passSoon = null;
