@@ -27,10 +27,11 @@
  *   npm run bench:scale [-- --quick]     (--quick: shorter windows, 100k largest store; a smoke run)
  *   npm run bench:scale -- --only zero,store --sizes 100000   (some phases only, for profiling)
  *   NB_FLEET_PROF=/tmp/prof npm run bench:scale -- --only zero   (also writes the fleet child's CPU profile there)
+ *   NB_COORDINATOR_PROF=/tmp/prof npm run bench:scale -- --only store   (a CPU profile of this process over each measured window)
  */
 import { fork, type ChildProcess } from 'node:child_process';
 import { createHash, randomBytes } from 'node:crypto';
-import { statSync } from 'node:fs';
+import { cpSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { cpus, tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -38,6 +39,7 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import { createRequire } from 'node:module';
 import { parseArgs } from 'node:util';
 import { monitorEventLoopDelay } from 'node:perf_hooks';
+import { Session } from 'node:inspector/promises';
 import Database from 'better-sqlite3';
 import { Queue } from 'bullmq';
 import { EVALUATION_JOB_VERSION, createRandom, defaultSearchSpace, genomeHash, type EvaluationJob } from '@netbreeder/shared-types';
@@ -157,6 +159,25 @@ function countHeartbeats(coordinator: Coordinator): () => number {
   return () => n;
 }
 
+/**
+ * With NB_COORDINATOR_PROF=DIR, profiles this process (the coordinator) from now until the returned
+ * function is called, which writes DIR/<label>.cpuprofile. Without it, does nothing.
+ */
+async function profileWindow(label: string): Promise<() => Promise<void>> {
+  const dir = process.env.NB_COORDINATOR_PROF;
+  if (!dir) return async () => undefined;
+  const session = new Session();
+  session.connect();
+  await session.post('Profiler.enable');
+  await session.post('Profiler.start');
+  return async () => {
+    const { profile } = await session.post('Profiler.stop');
+    mkdirSync(dir, { recursive: true });
+    writeFileSync(join(dir, `${label}.cpuprofile`), JSON.stringify(profile));
+    session.disconnect();
+  };
+}
+
 /** Bytes of the store's write-ahead log now (0 when there is none). */
 const storeLogBytes = (dataDir: string) => {
   try {
@@ -167,7 +188,8 @@ const storeLogBytes = (dataDir: string) => {
 };
 
 /** Evaluations done, the coordinator's CPU, /status latency and the store's log size over a window of `ms`. */
-async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number, dataDir: string) {
+async function window(coordinator: Coordinator, runId: string, ms: number, statusEveryMs: number, dataDir: string, label: string) {
+  const stopProfile = await profileWindow(label);
   const heartbeats = countHeartbeats(coordinator);
   const done0 = coordinator.store.counts(runId).done;
   const redis0 = await redisCpuSeconds();
@@ -188,6 +210,7 @@ async function window(coordinator: Coordinator, runId: string, ms: number, statu
   const seconds = (performance.now() - t0) / 1000;
   const cpu = process.cpuUsage(cpu0);
   loop.disable();
+  await stopProfile();
   const redisSeconds = (await redisCpuSeconds()) - redis0;
   const results = coordinator.store.counts(runId).done - done0;
   const cpuSeconds = (cpu.user + cpu.system) / 1e6;
@@ -331,7 +354,7 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
   const run = await coordinator.startRun(runConfig(Math.max(60, simulation.meanSeconds * 10)));
   await sleep(warmupMs);
   fleet.reset();
-  const figures = await window(coordinator, run.id, measureMs, 1000, dataDir);
+  const figures = await window(coordinator, run.id, measureMs, 1000, dataDir, name);
   const f = await fleet.report();
   const alive = coordinator.manager.aliveWorkers();
   await coordinator.manager.control(run.id, 'stop').catch(() => undefined);
@@ -406,22 +429,46 @@ function storeSize(dataDir: string): { bytes: number; evaluations: number } {
   return { bytes, evaluations };
 }
 
-async function storeGrowth(sizes: number[], measureMs: number) {
-  const dataDir = await mkdtemp(join(tmpdir(), 'nb-bench-store-'));
-  const p = prefix('store');
+/** Mean node count of the genomes of the search evaluations of `runId` that finished since `since`: how big the genomes being worked on were. */
+function meanGenomeNodes(dataDir: string, runId: string, since: number): number {
+  const db = new Database(join(dataDir, 'store.sqlite'), { readonly: true });
+  const row = db
+    .prepare(`SELECT AVG(json_array_length(job_json, '$.genome.nodes')) AS n FROM evaluations INDEXED BY evaluations_by_run_finished WHERE run_id = ? AND finished_at >= ? AND kind = 'search' AND state = 'done'`)
+    .get(runId, since) as { n: number | null };
+  db.close();
+  return round(row.n ?? 0, 1);
+}
+
+/**
+ * The cost per result as the store grows, with nothing else changing: one run is first searched
+ * for `warmupResults` real results (its genomes grow as it evolves, and bigger genomes cost more
+ * to mutate, check and store), then each size starts from a copy of that same store, pre-filled
+ * to the size, on a Redis prefix of its own (the queue is rebuilt from the store, as after a lost
+ * Redis). Measuring the sizes one after another on one continuing run would charge the genomes'
+ * growth to the store.
+ */
+async function storeGrowth(sizes: number[], warmupResults: number, measureMs: number) {
+  const root = await mkdtemp(join(tmpdir(), 'nb-bench-store-'));
+  const template = join(root, 'template');
   const simulation: SimulationSettings = { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'store' };
-  let coordinator = await startCoordinator(dataDir, p);
+  const prefixes: string[] = [prefix('store-warmup')];
+  let coordinator = await startCoordinator(template, prefixes[0]!);
   const run = await coordinator.startRun(runConfig(60));
+  let fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: prefixes[0]!, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(root, 'cache'), simulation });
+  while (coordinator.store.counts(run.id).done < warmupResults) await sleep(250);
+  await fleet.stop();
   await coordinator.close();
   const rows: Array<Record<string, number | null>> = [];
-  let have = 0;
   for (const size of sizes) {
-    const insertSeconds = prefill(dataDir, run.id, have, size);
-    have = size;
-    coordinator = await startCoordinator(dataDir, p);
-    const fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: p, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(dataDir, 'cache'), simulation });
+    const dataDir = join(root, `size-${size}`);
+    cpSync(template, dataDir, { recursive: true });
+    const insertSeconds = prefill(dataDir, run.id, 0, size);
+    prefixes.push(prefix('store'));
+    coordinator = await startCoordinator(dataDir, prefixes.at(-1)!);
+    fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: prefixes.at(-1)!, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(root, 'cache'), simulation });
     await sleep(3000);
-    const figures = await window(coordinator, run.id, measureMs, 200, dataDir);
+    const windowStart = Date.now();
+    const figures = await window(coordinator, run.id, measureMs, 200, dataDir, `store-${size}`);
     // Idle: the workers gone and the last pass over, so this is the cost of /status itself at this size.
     await fleet.stop();
     await sleep(1000);
@@ -429,10 +476,11 @@ async function storeGrowth(sizes: number[], measureMs: number) {
     await coordinator.close();
     const { cpuSeconds: _cpu, redisSeconds: _redis, ...shown } = figures;
     const storeMb = round(storeSize(dataDir).bytes / 2 ** 20, 0);
-    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, statusIdleP50Ms: round(percentile(direct, 0.5), 1), storeMb });
+    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, meanGenomeNodes: meanGenomeNodes(dataDir, run.id, windowStart), statusIdleP50Ms: round(percentile(direct, 0.5), 1), storeMb });
+    await rm(dataDir, { recursive: true, force: true });
   }
-  await obliterate(p);
-  await rm(dataDir, { recursive: true, force: true });
+  for (const p of prefixes) await obliterate(p);
+  await rm(root, { recursive: true, force: true });
   return rows;
 }
 
@@ -456,7 +504,7 @@ async function main(): Promise<void> {
   const thousand = ONLY.has('thousand') ? await endToEnd('thousand', 1000, { meanSeconds: 10, sigma: 0.5, dropRate: 0, seed: 'thousand' }, QUICK ? 15_000 : 25_000, QUICK ? 20_000 : 60_000) : null;
   if (thousand) console.log(`1,000 simulated workers, 10 s mean jobs: ${thousand.evaluationsPerSecond} evaluations/s`);
 
-  const growth = ONLY.has('store') ? await storeGrowth(SIZES, QUICK ? 8000 : 15_000) : [];
+  const growth = ONLY.has('store') ? await storeGrowth(SIZES, QUICK ? 5000 : 15_000, QUICK ? 8000 : 15_000) : [];
 
   const table: string[] = [];
   const line = (a: string, b: string) => table.push(`${a.padEnd(58)} ${b}`);
@@ -491,6 +539,7 @@ async function main(): Promise<void> {
   for (const g of growth) {
     line(`store with ${g.finishedInStore!.toLocaleString('en')} finished: evaluations/s`, `${g.evaluationsPerSecond}`);
     line('  CPU ms per result / /status p50 (loaded, idle) ms', `${g.cpuMsPerResult} / ${g.statusP50Ms}, ${g.statusIdleP50Ms}`);
+    line('  mean nodes of the genomes evaluated', `${g.meanGenomeNodes}`);
     line('  store write-ahead log, largest MB / store MB', `${g.storeLogMaxMb} / ${g.storeMb}`);
   }
   const totalSeconds = round((performance.now() - startedAt) / 1000, 0);
