@@ -14,8 +14,9 @@
  *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, heartbeats taken,
  *    /status latency and the coordinator's event-loop delay;
  * 5. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations (with every row
- *    a recorded result writes, see `prefill`): coordinator CPU per recorded result, evaluations/s
- *    and /status latency at each size.
+ *    a recorded result writes, see `prefill`), each size from a copy of one warmed-up run (see
+ *    `storeGrowth`): coordinator CPU per recorded result, evaluations/s, /status latency and the
+ *    mean size of the genomes evaluated at each size.
  * Phases 1 to 4 split the CPU per job between the coordinator (or the adding process: this one),
  * the workers (the fleet child) and Redis (its INFO cpu). Phases 3 and 5 also show the largest
  * size of the store's write-ahead log (it must stay bounded: checkpoints keep up) and the store's
@@ -371,14 +372,13 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
 // ---- 4. a store holding many finished evaluations ---------------------------------------------
 
 /**
- * Inserts synthetic finished evaluations directly (one transaction) until the run holds `total` of
- * them. Each gets the rows a recorded result writes, so every index a result touches is as deep as
+ * Inserts `total` synthetic finished evaluations into the run directly (one transaction). Each gets the rows a recorded result writes, so every index a result touches is as deep as
  * in a real store of that size: its evaluation, its own genome (a distinct random-looking hash),
  * two decision-log steps and a lineage link. Only the payloads are short (no job, result or
  * decisions; the genome is the run's first), so the file is smaller than a real store's (the
  * zero-training phase measures a real store's size per evaluation).
  */
-function prefill(dataDir: string, runId: string, from: number, total: number): number {
+function prefill(dataDir: string, runId: string, total: number): number {
   const t0 = performance.now();
   const db = new Database(join(dataDir, 'store.sqlite'));
   db.pragma('cache_size = -262144');
@@ -402,7 +402,7 @@ function prefill(dataDir: string, runId: string, from: number, total: number): n
   // One result a second, the newest a minute before now (so none counts in the last minute's rate).
   const newest = Date.now() - 60_000;
   db.transaction(() => {
-    for (let i = from; i < total; i++) {
+    for (let i = 0; i < total; i++) {
       const at = newest - (total - i) * 1000;
       const id = `${runId}-prefill${i}`;
       const hash = hashOf(i);
@@ -462,9 +462,10 @@ async function storeGrowth(sizes: number[], warmupResults: number, measureMs: nu
   for (const size of sizes) {
     const dataDir = join(root, `size-${size}`);
     cpSync(template, dataDir, { recursive: true });
-    const insertSeconds = prefill(dataDir, run.id, 0, size);
+    const insertSeconds = prefill(dataDir, run.id, size);
     prefixes.push(prefix('store'));
     coordinator = await startCoordinator(dataDir, prefixes.at(-1)!);
+    const finishedInStore = coordinator.store.counts(run.id).done;
     fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: prefixes.at(-1)!, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(root, 'cache'), simulation });
     await sleep(3000);
     const windowStart = Date.now();
@@ -476,7 +477,7 @@ async function storeGrowth(sizes: number[], warmupResults: number, measureMs: nu
     await coordinator.close();
     const { cpuSeconds: _cpu, redisSeconds: _redis, ...shown } = figures;
     const storeMb = round(storeSize(dataDir).bytes / 2 ** 20, 0);
-    rows.push({ finishedInStore: size, insertSeconds: round(insertSeconds, 1), ...shown, meanGenomeNodes: meanGenomeNodes(dataDir, run.id, windowStart), statusIdleP50Ms: round(percentile(direct, 0.5), 1), storeMb });
+    rows.push({ prefilled: size, finishedInStore, insertSeconds: round(insertSeconds, 1), ...shown, meanGenomeNodes: meanGenomeNodes(dataDir, run.id, windowStart), statusIdleP50Ms: round(percentile(direct, 0.5), 1), storeMb });
     await rm(dataDir, { recursive: true, force: true });
   }
   for (const p of prefixes) await obliterate(p);
@@ -507,9 +508,9 @@ async function main(): Promise<void> {
   const growth = ONLY.has('store') ? await storeGrowth(SIZES, QUICK ? 5000 : 15_000, QUICK ? 8000 : 15_000) : [];
 
   const table: string[] = [];
-  const line = (a: string, b: string) => table.push(`${a.padEnd(58)} ${b}`);
+  const line = (a: string, b: string) => table.push(`${a.padEnd(68)} ${b}`);
   line('figure', 'value');
-  line('-'.repeat(58), '-'.repeat(30));
+  line('-'.repeat(68), '-'.repeat(30));
   const split = (c: ReturnType<typeof cpuSplit>) => `${c.coordinatorMs} / ${c.workersMs} / ${c.redisMs} (total ${c.totalMs})`;
   if (raw) {
     line('raw BullMQ no-op jobs/s (50 workers, bulk add)', `${raw.jobsPerSecond}`);
@@ -537,7 +538,7 @@ async function main(): Promise<void> {
     line('  fleet start (1,000 agents) s / fleet RSS MB', `${thousand.fleetStartSeconds} / ${thousand.fleetRssMb}`);
   }
   for (const g of growth) {
-    line(`store with ${g.finishedInStore!.toLocaleString('en')} finished: evaluations/s`, `${g.evaluationsPerSecond}`);
+    line(`store with ${g.finishedInStore!.toLocaleString('en')} finished (${g.prefilled!.toLocaleString('en')} pre-filled): evaluations/s`, `${g.evaluationsPerSecond}`);
     line('  CPU ms per result / /status p50 (loaded, idle) ms', `${g.cpuMsPerResult} / ${g.statusP50Ms}, ${g.statusIdleP50Ms}`);
     line('  mean nodes of the genomes evaluated', `${g.meanGenomeNodes}`);
     line('  store write-ahead log, largest MB / store MB', `${g.storeLogMaxMb} / ${g.storeMb}`);
