@@ -7,7 +7,12 @@ export interface CoordinatorSecrets {
   adminToken: string;
 }
 
-const newToken = () => randomBytes(24).toString('base64url');
+/**
+ * A new random token (192 bits) in hex. Never base64url: about one token in 64 would begin with
+ * '-', and `--admin-token -x…` or `--join-token -x…` on a command line is then read as an option
+ * (the command refuses it as ambiguous).
+ */
+export const newToken = (): string => randomBytes(24).toString('hex');
 
 /**
  * The coordinator's tokens: those given (flags or environment) win; otherwise the ones kept in
