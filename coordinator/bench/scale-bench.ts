@@ -35,7 +35,7 @@ import { createHash, randomBytes } from 'node:crypto';
 import { cpSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { cpus, tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { basename, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { createRequire } from 'node:module';
 import { parseArgs } from 'node:util';
@@ -372,8 +372,9 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
 // ---- 4. a store holding many finished evaluations ---------------------------------------------
 
 /**
- * Inserts `total` synthetic finished evaluations into the run directly (one transaction). Each gets the rows a recorded result writes, so every index a result touches is as deep as
- * in a real store of that size: its evaluation, its own genome (a distinct random-looking hash),
+ * Inserts `total` synthetic finished evaluations into the run directly (one transaction). Each
+ * gets the rows a recorded result writes, so every index a result touches is as deep as in a real
+ * store of that size: its evaluation, its own genome (a distinct random-looking hash),
  * two decision-log steps and a lineage link. Only the payloads are short (no job, result or
  * decisions; the genome is the run's first), so the file is smaller than a real store's (the
  * zero-training phase measures a real store's size per evaluation).
@@ -429,6 +430,18 @@ function storeSize(dataDir: string): { bytes: number; evaluations: number } {
   return { bytes, evaluations };
 }
 
+/**
+ * Copies a closed coordinator's data folder: its files as they are, its store through SQLite's
+ * backup (the closed store's checkpoint thread may still be ending, and may delete the write-ahead
+ * log while a plain file copy walks the folder).
+ */
+async function copyDataDir(from: string, to: string): Promise<void> {
+  cpSync(from, to, { recursive: true, filter: (src) => !basename(src).startsWith('store.sqlite') });
+  const db = new Database(join(from, 'store.sqlite'));
+  await db.backup(join(to, 'store.sqlite'));
+  db.close();
+}
+
 /** Mean node count of the genomes of the search evaluations of `runId` that finished since `since`: how big the genomes being worked on were. */
 function meanGenomeNodes(dataDir: string, runId: string, since: number): number {
   const db = new Database(join(dataDir, 'store.sqlite'), { readonly: true });
@@ -451,22 +464,25 @@ async function storeGrowth(sizes: number[], warmupResults: number, measureMs: nu
   const root = await mkdtemp(join(tmpdir(), 'nb-bench-store-'));
   const template = join(root, 'template');
   const simulation: SimulationSettings = { meanSeconds: 0, sigma: 0, dropRate: 0, seed: 'store' };
-  const prefixes: string[] = [prefix('store-warmup')];
+  const prefixes = [prefix('store-warmup')];
+  const startFleet = (c: Coordinator, queuePrefix: string) =>
+    Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: queuePrefix, queueName: QUEUE, coordinatorUrl: c.url, joinToken: c.secrets.joinToken, cacheDir: join(root, 'cache'), simulation });
   let coordinator = await startCoordinator(template, prefixes[0]!);
   const run = await coordinator.startRun(runConfig(60));
-  let fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: prefixes[0]!, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(root, 'cache'), simulation });
+  let fleet = await startFleet(coordinator, prefixes[0]!);
   while (coordinator.store.counts(run.id).done < warmupResults) await sleep(250);
   await fleet.stop();
   await coordinator.close();
   const rows: Array<Record<string, number | null>> = [];
   for (const size of sizes) {
     const dataDir = join(root, `size-${size}`);
-    cpSync(template, dataDir, { recursive: true });
+    await copyDataDir(template, dataDir);
     const insertSeconds = prefill(dataDir, run.id, size);
-    prefixes.push(prefix('store'));
-    coordinator = await startCoordinator(dataDir, prefixes.at(-1)!);
+    const queuePrefix = prefix('store');
+    prefixes.push(queuePrefix);
+    coordinator = await startCoordinator(dataDir, queuePrefix);
     const finishedInStore = coordinator.store.counts(run.id).done;
-    fleet = await Fleet.start({ mode: 'simulated', count: 50, redisUrl: REDIS_URL, prefix: prefixes.at(-1)!, queueName: QUEUE, coordinatorUrl: coordinator.url, joinToken: coordinator.secrets.joinToken, cacheDir: join(root, 'cache'), simulation });
+    fleet = await startFleet(coordinator, queuePrefix);
     await sleep(3000);
     const windowStart = Date.now();
     const figures = await window(coordinator, run.id, measureMs, 200, dataDir, `store-${size}`);
