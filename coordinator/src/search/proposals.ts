@@ -10,14 +10,14 @@ export const shortHash = (hash: string): string => hash.slice(0, 12);
 export type RandomRole = Extract<SearchDecision, { kind: 'random-genome' }>['role'];
 
 /**
- * A parentless proposal: the minimal genome with 0 to `maxMutations` random mutations. The random
+ * A parentless proposal: a fresh genome (minimal, or of the hand-made family) with 0 to `maxMutations` random mutations. The random
  * draws are the same, in the same order, whichever algorithm asks. Its decisions: `before` (what
  * led here), then the `random-genome` decision.
  */
 export function randomProposal<G>(variation: Variation<G>, rng: Random, maxMutations: number, why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
-  const { genome, mutations, requested } = randomGenome(variation, rng, rng.int(0, maxMutations));
+  const { genome, origin, mutations, requested } = randomGenome(variation, rng, rng.int(0, maxMutations));
   const shortfall = mutations.length < requested ? ` (${requested} asked, the space allowed ${mutations.length})` : '';
-  const reason = `${why}: minimal genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`;
+  const reason = `${why}: ${origin} genome with ${mutations.length} random mutation(s)${shortfall}: ${describeMutations(mutations)}`;
   const hash = variation.hash(genome);
   return {
     genome,

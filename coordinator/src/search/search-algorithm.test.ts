@@ -115,7 +115,7 @@ describe('createSearchAlgorithm', () => {
 
   it('passes mutation options through', () => {
     const zero = { 'add-layer': 0, 'remove-layer': 0, 'change-width': 0, 'change-kernel-size': 0, 'change-stride': 0, 'change-activation': 0, 'add-skip': 0 };
-    const alg = createSearchAlgorithm('aging-evolution', { ...settings, initialMutations: 0 }, { space, data: IMAGE, seed: 1, mutation: { weights: zero } });
+    const alg = createSearchAlgorithm('aging-evolution', { ...settings, initialMutations: 0, start: 'minimal' }, { space, data: IMAGE, seed: 1, mutation: { weights: zero } });
     const d = new Driver('w').run(alg, 80);
     expect(d.proposals.every((p) => p.genome.nodes.length === 0)).toBe(true);
     expect(d.proposals.some((p) => p.mutation !== null)).toBe(true);

@@ -109,7 +109,7 @@ export function createSearchAlgorithm(
   if (!Number.isInteger(ctx.seed) || ctx.seed < 0 || ctx.seed > 0xffffffff) throw new RangeError(`search seed must be a 32-bit unsigned integer, got ${ctx.seed}`);
   const resolved = resolveSearchSettings(settings);
   minimalGenome({ space: ctx.space, data: ctx.data, rng: createRandom(0) }); // fails fast when nothing fits the space
-  const variation = genomeVariation(ctx.space, ctx.data, ctx.mutation);
+  const variation = genomeVariation(ctx.space, ctx.data, ctx.mutation, resolved.start);
   const restored = snapshot === undefined ? undefined : parseSearchSnapshot(snapshot, variation);
   if (restored && restored.algorithm !== name) throw new SearchSnapshotError(`the snapshot belongs to '${restored.algorithm}', not '${name}'`);
   if (restored && restored.seed !== ctx.seed) throw new SearchSnapshotError(`the snapshot was seeded with ${restored.seed}, not ${ctx.seed}; resume with the run's own seed`);

@@ -5,7 +5,7 @@ import { resolveSearchSettings, SEARCH_SETTING_DEFAULTS } from './search-setting
 describe('resolveSearchSettings', () => {
   it('fills the defaults', () => {
     expect(resolveSearchSettings({ populationSize: 5, sampleSize: 2 })).toEqual({
-      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params',
+      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'family',
     });
   });
 
@@ -15,6 +15,7 @@ describe('resolveSearchSettings', () => {
     expect(search.minEpochs.default).toBe(SEARCH_SETTING_DEFAULTS.minEpochs);
     expect(search.maxEpochs.default).toBe(SEARCH_SETTING_DEFAULTS.maxEpochs);
     expect(search.objective.default).toBe(SEARCH_SETTING_DEFAULTS.objective);
+    expect(search.start.default).toBe(SEARCH_SETTING_DEFAULTS.start);
   });
 
   it('names the bad value', () => {
@@ -23,5 +24,6 @@ describe('resolveSearchSettings', () => {
     expect(() => resolveSearchSettings({ ...base, minEpochs: 0 })).toThrow(/minEpochs must be a whole number ≥ 1/);
     expect(() => resolveSearchSettings({ ...base, minEpochs: 4, maxEpochs: 3 })).toThrow(/maxEpochs \(3\) must be at least minEpochs \(4\)/);
     expect(() => resolveSearchSettings({ ...base, objective: 'weight' as never })).toThrow(/objective must be one of params, flops, latency, got weight/);
+    expect(() => resolveSearchSettings({ ...base, start: 'linear' as never })).toThrow(/start must be one of family, minimal, mixed, got linear/);
   });
 });

@@ -1,3 +1,5 @@
+import { START_KINDS, type StartKind } from './family-genome.js';
+
 /** Settings of a search algorithm, as a run gives them. Defaults are applied in {@link resolveSearchSettings} only. */
 export interface SearchSettings {
   /** Living members that parents are drawn from (P in regularized evolution). */
@@ -26,6 +28,11 @@ export interface SearchSettings {
   /** What multi-objective selection minimises against validation accuracy.
    * @default 'params' */
   objective?: SizeObjective;
+  /** Where fresh genomes (initial members, random-search samples) come from: the hand-made family
+   * around the reference network, the minimal linear classifier, or either with even odds (see
+   * `StartKind`).
+   * @default 'family' */
+  start?: StartKind;
 }
 
 /** A size or cost to minimise against accuracy: the genome's parameter count, its FLOPs per sample, or its measured CPU latency per sample (ms). */
@@ -35,7 +42,7 @@ export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops', 'la
 export type ResolvedSearchSettings = Required<SearchSettings>;
 
 /** The one place the optional settings get their defaults (the run file schema carries the same ones, checked by a test). */
-export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params' } as const;
+export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'family' } as const;
 
 /** Applies the defaults and checks every value, naming the one that is wrong. */
 export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchSettings {
@@ -49,8 +56,9 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
     minEpochs: settings.minEpochs ?? d.minEpochs,
     maxEpochs: settings.maxEpochs ?? d.maxEpochs,
     objective: settings.objective ?? d.objective,
+    start: settings.start ?? d.start,
   };
-  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective'>, min: number) => {
+  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective' | 'start'>, min: number) => {
     const v = resolved[name];
     if (!Number.isInteger(v) || v < min) throw new RangeError(`search setting ${name} must be a whole number ≥ ${min}, got ${String(v)}`);
   };
@@ -66,6 +74,9 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
   }
   if (!SIZE_OBJECTIVES.includes(resolved.objective)) {
     throw new RangeError(`search setting objective must be one of ${SIZE_OBJECTIVES.join(', ')}, got ${String(resolved.objective)}`);
+  }
+  if (!START_KINDS.includes(resolved.start)) {
+    throw new RangeError(`search setting start must be one of ${START_KINDS.join(', ')}, got ${String(resolved.start)}`);
   }
   return resolved;
 }

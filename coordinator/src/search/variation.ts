@@ -1,5 +1,6 @@
 import { genomeHash, genomeValidator, type DataShape, type Genome, type Random, type SearchSpace } from '@netbreeder/shared-types';
 import { minimalGenome } from './minimal-genome.js';
+import { freshGenome, type StartKind } from './family-genome.js';
 import { mutate, MutationError, type MutateOptions, type Mutation } from './mutations.js';
 import { RecentGenomes } from './recent-genomes.js';
 
@@ -18,6 +19,11 @@ export interface Variation<G> {
    * knows it (a population member's), saves hashing the parent again.
    */
   mutate(parent: G, rng: Random, parentHash?: string): { genome: G; mutation: Mutation; genomeHash?: string };
+  /**
+   * A fresh genome and the name of where it came from (`family`, `minimal`), when the variation
+   * has more than one start; without it, fresh genomes are `minimal(rng)`.
+   */
+  fresh?(rng: Random): { genome: G; origin: string };
   /** Content hash: equal genomes give equal hashes. */
   hash(genome: G): string;
   /** Same as `hash(genome) === hash`, faster for genomes this variation made (optional). */
@@ -26,12 +32,13 @@ export interface Variation<G> {
   isGenome(value: unknown): value is G;
 }
 
-/** The network genomes of a run: minimal linear classifiers grown by {@link mutate}. */
-export function genomeVariation(space: SearchSpace, data: DataShape, options: MutateOptions = {}): Variation<Genome> {
+/** The network genomes of a run: fresh genomes from `start` (see {@link StartKind}), grown and changed by {@link mutate}. */
+export function genomeVariation(space: SearchSpace, data: DataShape, options: MutateOptions = {}, start: StartKind = 'minimal'): Variation<Genome> {
   // Children it made, so their observations (read back from the store) need not be hashed again.
   const made = new RecentGenomes();
   return {
     minimal: (rng) => minimalGenome({ space, data, rng }),
+    fresh: (rng) => freshGenome(start, { space, data, rng }),
     mutate: (parent, rng, parentHash) => {
       const { genome, mutation, genomeHash } = mutate(parent, { space, data, rng, ...options }, parentHash);
       made.remember(genomeHash, genome);
@@ -45,6 +52,8 @@ export function genomeVariation(space: SearchSpace, data: DataShape, options: Mu
 
 export interface RandomGenome<G> {
   genome: G;
+  /** Where the fresh genome came from before the mutations (`minimal`, `family`). */
+  origin: string;
   /** The mutations applied to the minimal genome, in order. */
   mutations: Mutation[];
   /** How many were asked for; more than `mutations.length` when the space ran out of room. */
@@ -52,11 +61,12 @@ export interface RandomGenome<G> {
 }
 
 /**
- * A fresh genome with `count` random mutations applied in turn. Stops early, keeping what it has,
+ * A fresh genome (see `Variation.fresh`) with `count` random mutations applied in turn. Stops early, keeping what it has,
  * when a mutation finds no valid child (a narrow space may leave no room to grow).
  */
 export function randomGenome<G>(variation: Variation<G>, rng: Random, count: number): RandomGenome<G> {
-  let genome = variation.minimal(rng);
+  const fresh = variation.fresh ? variation.fresh(rng) : { genome: variation.minimal(rng), origin: 'minimal' };
+  let genome = fresh.genome;
   const mutations: Mutation[] = [];
   for (let i = 0; i < count; i++) {
     try {
@@ -68,7 +78,7 @@ export function randomGenome<G>(variation: Variation<G>, rng: Random, count: num
       throw err;
     }
   }
-  return { genome, mutations, requested: count };
+  return { genome, origin: fresh.origin, mutations, requested: count };
 }
 
 /** `add-layer (added conv2d …); change-width (…)`, or `none`. */

@@ -191,6 +191,12 @@ describe('checkGenome rejects bad genomes, each with its reason', () => {
     expect(issuesOf(g, data, space)).toContain(expected);
   });
 
+  it("allows 'linear' (no activation) on a weight layer even when the space does not list it", () => {
+    const g = genome([conv('c', 'input', 8, { activation: 'linear' }), { id: 'n', kind: 'batch-norm', inputs: ['c'] }, { id: 'r', kind: 'activation', inputs: ['n'], activation: 'relu' }]);
+    expect(defaultSearchSpace().activations).not.toContain('linear');
+    expect(checkGenome(g, defaultSearchSpace(), IMAGE).ok).toBe(true);
+  });
+
   it('schema errors: a wrong type, a missing field, an extra field', () => {
     expect(issuesOf({ ...genome([]), training: { ...TRAINING, batchSize: 'big' } })).toContain('/training/batchSize Expected integer');
     expect(issuesOf({ schemaVersion: 1, nodes: [], output: 'input' })).toContain('/training Expected required property');

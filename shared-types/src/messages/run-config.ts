@@ -219,6 +219,14 @@ export const RunConfigSchema = Type.Object(
          */
         objective: Type.Union([Type.Literal('params'), Type.Literal('flops'), Type.Literal('latency')], { default: 'params' }),
         /**
+         * Where fresh genomes (initial members, random-search samples, new ASHA configurations) come
+         * from: `family`, networks of the hand-made kind around the reference network of the data
+         * kind (convolution blocks with batch norm and pooling for images, dense layers with dropout
+         * for tables; varied depth, width and recipe); `minimal`, the linear classifier that
+         * mutations must grow; `mixed`, either with even odds. @default "family"
+         */
+        start: Type.Union([Type.Literal('family'), Type.Literal('minimal'), Type.Literal('mixed')], { default: 'family' }),
+        /**
          * Weight inheritance: a candidate promoted by `asha`/`asha-evolution` continues from its own
          * checkpoint of the lower rung, and a child of evolution starts from its parent's final
          * weights where layer names and shapes match (the rest is freshly initialised). Every search
