@@ -50,6 +50,7 @@ describe('checkGenome accepts good genomes', () => {
       ]),
       IMAGE,
     ],
+    ['a linear conv before batch-norm (linear is no non-linearity, so the space need not list it)', genome([conv('c1', 'input', 8, { activation: 'linear' }), { id: 'bn', kind: 'batch-norm', inputs: ['c1'] }]), IMAGE],
     ['a residual block', genome([conv('c1', 'input'), conv('c2', 'c1'), { id: 'sum', kind: 'add', inputs: ['c2', 'c1'] }]), IMAGE],
     ['a concat of the input and a conv', genome([conv('c1', 'input'), { id: 'cat', kind: 'concat', inputs: ['c1', 'input'] }]), IMAGE],
     ['a flat MLP with a skip', genome([dense('a', 'input'), dense('b', 'a'), { id: 's', kind: 'add', inputs: ['a', 'b'] }]), FLAT],

@@ -13,7 +13,8 @@ const inRange = (v: number, r: { min: number; max: number }) => v >= r.min && v 
 function nodeIssues(n: LayerNode, space: SearchSpace): string[] {
   const out: string[] = [];
   if (!space.allowedKinds.includes(n.kind)) out.push(`layer kind '${n.kind}' is not allowed in this search space`);
-  if ('activation' in n && !space.activations.includes(n.activation)) out.push(`activation '${n.activation}' is not allowed`);
+  // `linear` is no non-linearity at all (a conv before batch-norm), so no space forbids it; `activations` lists the ones searched over.
+  if ('activation' in n && n.activation !== 'linear' && !space.activations.includes(n.activation)) out.push(`activation '${n.activation}' is not allowed`);
   switch (n.kind) {
     case 'dense':
       if (!inRange(n.units, space.units)) out.push(`units ${n.units} outside [${space.units.min}, ${space.units.max}]`);
