@@ -35,10 +35,13 @@ export const referenceDataKind = (data: DataShape): ReferenceDataKind => (data.i
 /** Widths of the hidden layers in order (filters of each conv, units of each dense). */
 const WIDTHS: Readonly<Record<ReferenceDataKind, readonly number[]>> = { image: [16, 32], flat: [128, 64] };
 
+/** A layer without its inputs (the reference is a chain: each layer takes the one before). */
+type ChainLayer = LayerNode extends infer N ? (N extends LayerNode ? Omit<N, 'inputs'> : never) : never;
+
 /** The hand-made layers, with hidden widths `widths` and `act` as the non-linearity. `linearConv`: conv → batch-norm → act; else conv(act) → batch-norm. */
 function layers(kind: ReferenceDataKind, widths: readonly number[], act: Activation, linearConv: boolean): LayerNode[] {
   const nodes: LayerNode[] = [];
-  const add = (n: Omit<LayerNode, 'inputs'>) => nodes.push({ ...n, inputs: [nodes.at(-1)?.id ?? INPUT_ID] } as LayerNode);
+  const add = (n: ChainLayer) => nodes.push({ ...n, inputs: [nodes.at(-1)?.id ?? INPUT_ID] } as LayerNode);
   if (kind === 'flat') {
     widths.forEach((units, i) => {
       add({ id: `dense${i + 1}`, kind: 'dense', units, activation: act });
