@@ -48,7 +48,7 @@ export function describeChoice(choice: ChampionChoice): string {
     return `Picked by the user: genome \`${choice.genomeHash.slice(0, 12)}\` (its best search result, evaluation ${choice.evaluationId}, validation ${(choice.valAccuracy * 100).toFixed(2)}%), trained again and scored once on the test split.`;
   }
   if (choice.by === 'rule') return `By the run's champion rule: the best validation accuracy among results with ${describeRule(choice.rule)}.`;
-  return `The best validation accuracy of the search${choice.note ? ` (${choice.note})` : ''}.`;
+  return `The best validation evidence of the search${choice.note ? ` (${choice.note})` : ''}.`;
 }
 
 /** How the champion of `runId` was chosen, as recorded when its champion phase began (runs from before this record: the best). */
