@@ -16,7 +16,7 @@ export interface SearchEvidence {
  * entry is that genome's best result at that budget, with `valAccuracy` replaced by the mean and
  * `results` counting the results averaged. Pure; the test split plays no part.
  */
-export function rankByValidation<E extends SearchEvidence>(results: readonly E[]): Array<E & { results: number }> {
+export function rankByValidation<E extends SearchEvidence>(results: readonly E[]): Array<E & { valAccuracy: number; results: number }> {
   const byGenome = new Map<string, E[]>();
   for (const r of results) if (r.valAccuracy !== null) byGenome.set(r.genomeHash, [...(byGenome.get(r.genomeHash) ?? []), r]);
   const ranked = [...byGenome.values()].map((rows) => {
