@@ -10,6 +10,7 @@ import { parseRunConfig } from '../config/run-config.js';
 import { RunStore } from '../store/run-store.js';
 import { fixtureManifest, searchJob, searchResult } from '../store/test-fixtures.js';
 import { referenceComparison } from '../champion/reference-comparison.js';
+import { championFiles } from '../champion/champion-files.js';
 import { ChampionPhase } from './champion-phase.js';
 import { logReference } from './reference-network.js';
 
@@ -122,6 +123,11 @@ describe('the champion is chosen without the test split', () => {
     const comparison = referenceComparison(store, 'r1');
     expect(comparison.state).toBe('scored');
     const points = (comparison.championTestAccuracy! - comparison.referenceTestAccuracy!) * 100;
+    const report = championFiles(store, store.getRun('r1')!)!.get('report.md')!.toString();
+    expect(report).toContain(comparison.line.slice(1));
+    expect(report).toMatch(/The choice read validation scores only/);
+    expect(report).toMatch(/for 2 epoch\(s\), where its longest search training \(3 epochs\) reached its best validation accuracy/);
+    expect(report).not.toMatch(/optimistic/);
     expect(comparison.line).toMatch(points > 0 ? /the search's champion beats the reference network by [\d.]+ points/ : points < 0 ? /chosen on validation, scores [\d.]+ points below the reference network/ : /ties/);
   }, 120_000);
 
