@@ -271,9 +271,9 @@ export const RunConfigSchema = Type.Object(
         epochs: Type.Optional(Type.Integer({ minimum: 1, maximum: 1000 })),
         maxSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400, default: 600 }),
         /**
-         * How many of the best distinct genomes (by validation accuracy) compete to be the
-         * champion. With more than one, each gets a confirmation training on the train split with
-         * another seed, scored on validation, and the best mean validation accuracy wins; only the
+         * How many of the best distinct genomes by validation evidence the champion phase considers:
+         * their search results are verified on another worker first (see `verification`), the
+         * report lists them, and the best of them that still counts is the champion. Only the
          * champion gets the final training and the one score on the held-out test split.
          */
         topK: Type.Integer({ minimum: 1, maximum: 20, default: 3 }),
