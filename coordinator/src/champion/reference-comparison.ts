@@ -33,7 +33,7 @@ export function referenceSource(
 
 /** The champion's test score beside the reference network's, with the one plain line every report shows. */
 export interface ReferenceComparison {
-  /** `scored`: both have their test score; `pending`: the final trainings are not done; `skipped`: the reference could not fit the search space; `off`: the run has no reference. */
+  /** `scored`: both have their test score; `pending`: the final trainings are not done; `skipped`: the reference could not fit the search space, or its final training failed; `off`: the run has no reference. */
   state: 'scored' | 'pending' | 'skipped' | 'off';
   referenceGenomeHash: string | null;
   championTestAccuracy: number | null;
@@ -71,6 +71,9 @@ export function referenceComparison(store: RunStore, runId: string): ReferenceCo
   if (!planned) return { ...none, state: 'off', line: 'no reference network in this run (search.reference is off)' };
   const scored = store.events(runId, 'reference-scored').at(-1)?.detail as { genomeHash: string; testAccuracy: number } | undefined;
   const champion = store.getChampion(runId);
+  if (!scored && champion && store.getRun(runId)?.state === 'finished') {
+    return { ...none, state: 'skipped', referenceGenomeHash: planned.genomeHash, championTestAccuracy: champion.testAccuracy, line: 'no comparison with the reference network: its final training failed (see the events)' };
+  }
   if (!scored || !champion) {
     return { ...none, state: 'pending', referenceGenomeHash: planned.genomeHash, championTestAccuracy: champion?.testAccuracy ?? null, referenceTestAccuracy: scored?.testAccuracy ?? null, line: 'the reference network is compared with the champion once both finished their final training' };
   }

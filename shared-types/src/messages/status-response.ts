@@ -61,7 +61,7 @@ export type ChampionSummary = Static<typeof ChampionSummarySchema>;
  * trained in every run), each scored once, and the one plain line that compares them.
  */
 export const ReferenceComparisonSchema = Type.Object({
-  /** `scored`: both scored; `pending`: not yet; `skipped`: the reference could not fit the search space; `off`: the run has none. */
+  /** `scored`: both scored; `pending`: not yet; `skipped`: the reference could not fit the search space, or its final training failed; `off`: the run has none. */
   state: Type.Union([Type.Literal('scored'), Type.Literal('pending'), Type.Literal('skipped'), Type.Literal('off')]),
   referenceGenomeHash: Nullable(Type.String()),
   championTestAccuracy: Nullable(Type.Number()),
