@@ -72,12 +72,13 @@ export class ChampionPhase {
   }
 
   /**
-   * The genomes that get the final training, and how the champion is chosen among them: a picked
-   * genome alone; else the best `topK` distinct genomes by validation accuracy (then fewer
-   * parameters) among the results that meet the run's rule, if it has one (none meeting it: the
-   * best overall, and the choice says so). The ensemble's members, if the run asks for one, are
-   * chosen from the same results and trained alongside. Only eligible results compete (see
-   * `eligible`: not from a quarantined worker, not rejected by verification).
+   * The genomes that get the final training, chosen on validation evidence only: the champion (a
+   * picked genome; else the best distinct genome by validation evidence, then fewer parameters,
+   * among the results that meet the run's rule if it has one; none meeting it: the best overall,
+   * and the choice says so), the ensemble's members if the run asks for one (chosen from the same
+   * results), and the run's reference network (merged with the champion when it is the champion).
+   * `considered`: the best `topK` genomes as the choice saw them, for the report. Only eligible
+   * results compete (see `eligible`: not from a quarantined worker, not rejected by verification).
    */
   chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice; considered: ConsideredGenome[] } {
     const { topK, rule, ensemble } = run.config.champion;
@@ -146,7 +147,7 @@ export class ChampionPhase {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit());
-    const better = candidate.champion !== false;
+    const isChampion = candidate.champion !== false;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
       const scored = {
@@ -172,9 +173,9 @@ export class ChampionPhase {
         );
       }
       if (candidate.reference) {
-        this.o.store.logEvent(ev.runId, 'reference-scored', { ...scored, champion: better, round: championRound(this.o.store, ev.runId) });
+        this.o.store.logEvent(ev.runId, 'reference-scored', { ...scored, champion: isChampion, round: championRound(this.o.store, ev.runId) });
       }
-      if (better) {
+      if (isChampion) {
         this.o.store.saveChampion(
           { runId: ev.runId, ...scored, testPredictions: Array.from(score.predictions), result: { ...result, model: undefined }, createdAt: this.o.now() },
           JSON.stringify(result.model),
@@ -183,7 +184,7 @@ export class ChampionPhase {
       return true;
     });
     if (!recorded) return;
-    this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, best: better }, 'champion candidate scored on the held-out test split');
+    this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, champion: isChampion, reference: candidate.reference === true }, 'champion candidate scored on the held-out test split');
     await this.finishIfComplete(ev.runId);
   }
 
