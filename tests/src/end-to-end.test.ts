@@ -107,10 +107,25 @@ describe('a run end to end with two workers', () => {
     const predicted = Array.from((model.predict(x) as tf.Tensor).argMax(-1).dataSync());
     x.dispose();
     const stored = cluster.coordinator.store.getChampion(run.id)!;
-    // The best three distinct genomes were trained again and the best on the test split exported.
-    const scored = cluster.coordinator.store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { testAccuracy: number; genomeHash: string });
-    expect(scored.length).toBe(Math.min(3, new Set(cluster.coordinator.store.evaluations(run.id).filter((e) => e.kind === 'search').map((e) => e.genomeHash)).size));
-    expect(stored.testAccuracy).toBe(Math.max(...scored.map((c) => c.testAccuracy)));
+    // Changed with issue 20 (the test split no longer chooses among candidates): the champion is the
+    // best genome by validation evidence, and only it and the reference network got a final training.
+    const store = cluster.coordinator.store;
+    const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { testAccuracy: number; genomeHash: string; champion: boolean });
+    const referenceHash = (store.events(run.id, 'reference-network')[0]!.detail as { genomeHash: string }).genomeHash;
+    expect(store.evaluations(run.id, 'search')[0]!.genomeHash).toBe(referenceHash); // the run's first evaluation
+    expect(new Set(scored.map((c) => c.genomeHash))).toEqual(new Set([stored.genomeHash, referenceHash]));
+    expect(scored.filter((c) => c.champion).map((c) => c.genomeHash)).toEqual([stored.genomeHash]);
+    // Each genome's evidence: the mean validation accuracy of its results at its largest budget.
+    const byGenome = new Map<string, Array<{ acc: number; epochs: number }>>();
+    for (const e of store.evaluations(run.id, 'search').filter((x) => x.state === 'done')) byGenome.set(e.genomeHash, [...(byGenome.get(e.genomeHash) ?? []), { acc: e.valAccuracy!, epochs: e.job.budget.epochs }]);
+    const evidence = [...byGenome.values()].map((rows) => {
+      const top = rows.filter((r) => r.epochs === Math.max(...rows.map((x) => x.epochs)));
+      return top.reduce((a, r) => a + r.acc, 0) / top.length;
+    });
+    expect(stored.valAccuracy).toBeCloseTo(Math.max(...evidence), 12);
+    const status = (await (await fetch(`${cluster.coordinator.url}/status`)).json()) as StatusResponse;
+    expect(status.reference).toMatchObject({ state: 'scored', referenceGenomeHash: referenceHash, championTestAccuracy: stored.testAccuracy });
+    expect(status.reference!.line).toMatch(/reference network/);
     expect(predicted).toEqual(stored.testPredictions);
     const accuracy = predicted.filter((p, i) => p === test.labels[i]).length / test.count;
     expect(accuracy).toBe(champion.test.accuracy);
@@ -120,6 +135,7 @@ describe('a run end to end with two workers', () => {
     expect(html).toContain('confusion matrix');
     const report = await readFile(join(out, 'report.md'), 'utf8');
     expect(report).toContain('held-out test accuracy');
+    expect(report).toContain(status.reference!.line.slice(1));
     expect(report).toContain('confusion matrix');
     // the confusion matrix accounts for every test sample, its diagonal for the correct ones
     const saved = JSON.parse(await readFile(join(out, 'champion.json'), 'utf8')) as { test: { confusion: number[][] } };

@@ -9,6 +9,8 @@ import { inheritanceSummary } from './inheritance-summary.js';
 import { describeChoice, recordedChoice } from '../run/champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
+import { referenceComparison, type ConsideredGenome } from './reference-comparison.js';
+import type { FinalLength } from './final-length.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -71,6 +73,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
       backend: champion.result.backend,
       workerId: champion.result.workerId,
       data: 'train + validation',
+      /** Which rule set the epochs (run file, learning curve, the search training's budget), in words; null for runs from before the record. */
+      length: (store.events(run.id, 'champion-training-length').map((e) => e.detail as FinalLength & { genomeHash: string }).filter((d) => d.genomeHash === champion.genomeHash).at(-1) ?? null) as (FinalLength & { genomeHash: string }) | null,
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
     /** How the champion was chosen: a user's pick, the run's rule, or the best; `sentence` says it in words. */
@@ -92,6 +96,13 @@ export function championSummary(store: RunStore, run: RunRecord) {
         files: ensembleFileNames(score.members.map((m) => m.position)),
       };
     })(),
+    /** The best `champion.topK` genomes by validation evidence, as the choice saw them (the round that made the champion). */
+    considered: ((store.events(run.id, 'champion-candidates')[championsRound]?.detail as { considered?: ConsideredGenome[] } | undefined)?.considered ?? []).map((k) => ({
+      ...k,
+      summary: store.getGenome(k.genomeHash)?.summary ?? '',
+    })),
+    /** The champion's test score beside the run's reference network's, and the plain line that compares them. */
+    reference: referenceComparison(store, run.id),
     /** Every genome that got the final training, with its validation (search) and test scores. */
     candidates: store
       .events(run.id, 'champion-candidate-scored')

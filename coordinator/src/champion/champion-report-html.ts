@@ -2,7 +2,7 @@ import { INPUT_ID, topologicalOrder, type NodeAnalysis } from '@netbreeder/share
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { describeStart } from './inheritance-summary.js';
 import { championTrustHtml } from '../trust/champion-trust.js';
-import { choiceParagraph, choiceTable, ensembleLines, foundLines, sectionHtml } from './report-choice-sections.js';
+import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
@@ -132,6 +132,7 @@ ${confusion}
 ${curveSvg(c)}
 <h2>How it was chosen</h2>
 ${sectionHtml([choiceParagraph(c), ...choiceTable(c)])}
+${sectionHtml(referenceLines(c))}
 <h2>How it was found</h2>
 ${sectionHtml(foundLines(c))}
 ${sectionHtml(ensembleLines(c))}

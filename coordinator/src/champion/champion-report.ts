@@ -2,7 +2,7 @@ import type { NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
 import { championTrustMarkdown } from '../trust/champion-trust.js';
-import { choiceParagraph, choiceTable, ensembleLines, foundLines } from './report-choice-sections.js';
+import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 
@@ -13,9 +13,12 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     `**${c.summary}**`,
     '',
+    `${c.reference.line.charAt(0).toUpperCase()}${c.reference.line.slice(1)}.`,
+    '',
     `| measure | value |`,
     `|---|---|`,
     `| held-out test accuracy | ${pct(c.test.accuracy)} on ${c.test.samples} samples never seen in search or training |`,
+    `| reference network (test) | ${c.reference.referenceTestAccuracy === null ? 'n/a' : pct(c.reference.referenceTestAccuracy)} |`,
     `| validation accuracy (during search) | ${pct(c.validation.accuracy)} |`,
     `| parameters | ${c.paramCount.toLocaleString('en-US')} |`,
     `| forward FLOPs per sample | ${c.flops.toLocaleString('en-US')} |`,
@@ -58,6 +61,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     ...choiceTable(c),
     '',
+    ...referenceLines(c),
     '## How it was found',
     '',
     ...foundLines(c),

@@ -11,6 +11,8 @@ export function explainDecision(d: SearchDecision): string {
       const start = { initial: 'As one of the first members of the population', 'extra-initial': 'As an extra first member (no result had arrived yet)', 'random-sample': 'As a random sample', fallback: 'As a fresh genome' }[d.role];
       return `${start}, it began as the minimal network with ${d.mutations.length ? `${d.mutations.length} random change(s): ${d.mutations.map((m) => `${m.operator} (${m.detail})`).join('; ')}` : 'no change'}.`;
     }
+    case 'reference-network':
+      return `It is the run's reference network, the one a careful practitioner writes by hand (${d.description})${d.adjustments.length ? `, fitted to the search space: ${d.adjustments.join('; ')}` : ''}.`;
     case 'parent-selected': {
       const drawn = d.drawn.map((m) => `${short(m.genomeHash)} ${pct(m.fitness)}${m.front === undefined ? '' : ` front ${m.front + 1}`}`).join(', ');
       const how = d.method === 'tournament' ? 'the most accurate of them' : 'the best of them by front, then by how little crowded it was';

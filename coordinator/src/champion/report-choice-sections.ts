@@ -6,25 +6,53 @@ import type { ChampionSummaryDocument } from './champion-files.js';
  */
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 
-/** Candidates that competed to be the champion (ensemble-only members are listed with the ensemble). */
+/** The final trainings of the champion's round that competed to be champion (runs from before issue 20 trained several and kept the best on test). */
 const contenders = (c: ChampionSummaryDocument) => c.candidates.filter((k) => k.champion !== false);
 
 export function choiceParagraph(c: ChampionSummaryDocument): string {
-  const k = contenders(c).length;
-  const how =
-    c.choice.by === 'pick'
-      ? ''
-      : k > 1
-        ? ` The ${k} best distinct genomes${c.choice.by === 'rule' ? ' meeting it' : ''} were each trained again on train + validation and scored on the held-out test split; the best of them by test accuracy is this champion. Because the test split chose among ${k}, its test score is slightly optimistic; the others' scores are below.`
-        : ' It was trained again on train + validation and scored once on the held-out test split.';
-  return `${c.choice.sentence}${how}`;
+  const length = c.finalTraining.length ? ` for ${c.finalTraining.length.detail}` : '';
+  const final = ` It was then trained again on train + validation${length} and scored once on the held-out test split, after every choice was made.`;
+  if (contenders(c).length > 1) {
+    // A run recorded before the choice moved to validation: say what that run did.
+    return `${c.choice.sentence} This run predates the validation-only choice: ${contenders(c).length} genomes were trained again and the best on the held-out test split was kept, so its test score is slightly optimistic.`;
+  }
+  if (c.choice.by === 'pick') return `${c.choice.sentence}${final}`;
+  const k = c.considered.length;
+  const among = k > 1 ? ` It leads the ${k} best distinct genomes by validation evidence (below).` : '';
+  return `${c.choice.sentence}${among} The choice read validation scores only: each genome's results at its largest training budget, their mean validation accuracy, then fewer parameters.${final}`;
 }
 
 export function choiceTable(c: ChampionSummaryDocument): string[] {
+  if (contenders(c).length > 1 || !c.considered.length) {
+    return [
+      '| genome | validation (search) | test |',
+      '|---|---|---|',
+      ...contenders(c).map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${pct(k.testAccuracy)} |`),
+    ];
+  }
   return [
-    '| genome | validation (search) | test |',
-    '|---|---|---|',
-    ...contenders(c).map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${pct(k.testAccuracy)} |`),
+    '| genome | validation (mean of results at its largest budget) | results | budget | parameters |',
+    '|---|---|---|---|---|',
+    ...c.considered.map(
+      (k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${k.results} | ${k.budgetEpochs} epochs | ${k.params.toLocaleString('en-US')} |`,
+    ),
+  ];
+}
+
+/** The champion beside the run's reference network on the test split, with the plain comparison line. */
+export function referenceLines(c: ChampionSummaryDocument): string[] {
+  const r = c.reference;
+  const lines = ['## Against the reference network', '', `${r.line.charAt(0).toUpperCase()}${r.line.slice(1)}.`, ''];
+  if (r.state !== 'scored') return lines;
+  return [
+    ...lines,
+    'The reference network is the one a careful practitioner writes by hand for this kind of data (see docs/reference-networks.md); it was trained in the search like any genome, then again exactly as the champion (train + validation, length from its own learning curve, the seed of its search result) and scored once on the held-out test split.',
+    '',
+    '| | held-out test accuracy |',
+    '|---|---|',
+    `| champion | ${pct(r.championTestAccuracy)} |`,
+    `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${pct(r.referenceTestAccuracy)} |`,
+    '',
   ];
 }
 

@@ -103,6 +103,9 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
     out.write(`  training:    ${genome.genome.training.optimizer}, learning rate ${genome.genome.training.learningRate}, batch ${genome.genome.training.batchSize}\n`);
     out.write(`  validation:  ${pct(champion.valAccuracy)} (during search)\n`);
     out.write(`  test:        ${pct(champion.testAccuracy)} on ${champion.testPredictions.length} held-out tiles (after final training on train + validation)\n`);
+    const reference = final.reference;
+    if (reference?.referenceTestAccuracy != null) out.write(`  reference:   ${pct(reference.referenceTestAccuracy)} on the same held-out tiles (the hand-made network, trained the same way)\n`);
+    if (reference) out.write(`  ${reference.line}\n`);
     out.write(`  exported to: ${exportDir} (model.json + weights.bin, genome.json, report.md, report.html)\n`);
     return 0;
   } finally {

@@ -1,5 +1,5 @@
 /* netbreeder run watch: polls the coordinator's JSON routes and updates the page in place.
-   GET /status (run, counts, workers, best, champion), /runs/:id/evaluations?since= (incremental),
+   GET /status (run, counts, workers, best, champion, reference), /runs/:id/evaluations?since= (incremental),
    /runs/:id/throughput, /runs/:id/top, /runs/:id/lineage/:hash. `?every=SECONDS` sets the pace. */
 (function () {
   'use strict';
@@ -87,8 +87,18 @@
     text($('tile-workers-note'), `${s.workers.length} seen · ${training.length ? `${compact(training.reduce((t, w) => t + w.samplesPerSecond, 0))} samples/s now` : 'none training'}`);
     text($('tile-champion'), s.champion ? pct(s.champion.testAccuracy) : '–');
     text($('tile-champion-note'), s.champion ? `validation ${pct(s.champion.valAccuracy)}` : run.state === 'training-champion' ? 'training now…' : 'after the search');
+    showReference(s.reference);
     showWorkers(s.workers);
     showTrust(s);
+  }
+
+  /** The reference network's test score beside the champion's, and the plain line comparing them. */
+  function showReference(r) {
+    text($('tile-reference'), r?.referenceTestAccuracy != null ? pct(r.referenceTestAccuracy) : '–');
+    text($('tile-reference-note'), !r ? '' : r.state === 'pending' ? 'trained beside the champion' : r.state === 'scored' ? `${r.points >= 0 ? '+' : ''}${r.points.toFixed(2)} points for the champion` : r.state);
+    const line = $('reference-line');
+    line.hidden = !r || r.state !== 'scored';
+    if (r) text(line, r.line);
   }
 
   /** CPU time and energy (marked when it rests on the default watts), verification verdicts and quarantined workers. */

@@ -5,6 +5,7 @@ import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { RunStore } from '../store/run-store.js';
 import { searchJob, searchResult, storeWithRun } from '../store/test-fixtures.js';
 import { howItWasFound } from '../champion/explain-lineage.js';
+import type { ConsideredGenome } from '../champion/reference-comparison.js';
 import { ChampionPhase, type ChampionCandidate } from './champion-phase.js';
 import { ChampionChoiceError, meetsRule, pickChampion, requestEnsemble } from './champion-choice.js';
 
@@ -45,22 +46,26 @@ async function begin(champion: Record<string, unknown> = {}, before?: (store: Ru
   const { store, phase, queued } = storeWith(champion);
   before?.(store);
   await phase.begin(store.getRun('r1')!);
-  const detail = store.events('r1', 'champion-candidates').at(-1)!.detail as { candidates: ChampionCandidate[]; choice: { by: string; note?: string } };
+  const detail = store.events('r1', 'champion-candidates').at(-1)!.detail as { candidates: ChampionCandidate[]; choice: { by: string; note?: string }; considered: ConsideredGenome[] };
   return { store, queued, ...detail };
 }
 
 describe('choosing the champion candidates', () => {
-  it('without a rule: the best topK distinct genomes, each queued once for its final training', async () => {
-    const { candidates, choice, queued } = await begin();
+  // Changed with issue 20: only the champion, chosen on validation, gets a final training (the
+  // topK genomes were all trained and the best on the test split kept); topK are the ones considered.
+  it('without a rule: the best genome by validation is the champion, the only one queued for a final training', async () => {
+    const { candidates, choice, queued, considered } = await begin();
     expect(choice).toEqual({ by: 'best' });
-    expect(candidates.map((c) => c.genomeHash)).toEqual([hashOf(0), hashOf(1)]);
-    expect(queued.map((j) => j.kind)).toEqual(['champion', 'champion']);
+    expect(candidates.map((c) => c.genomeHash)).toEqual([hashOf(0)]);
+    expect(considered.map((c) => c.genomeHash)).toEqual([hashOf(0), hashOf(1)]);
+    expect(queued.map((j) => j.kind)).toEqual(['champion']);
   });
 
   it('by a parameter rule: only results under the limit compete', async () => {
-    const { candidates, choice } = await begin({ rule: { maxParams: 3000 } });
+    const { candidates, choice, considered } = await begin({ rule: { maxParams: 3000 } });
     expect(choice).toEqual({ by: 'rule', rule: { maxParams: 3000 } });
-    expect(candidates.map((c) => c.genomeHash)).toEqual([hashOf(1), hashOf(2)]);
+    expect(candidates.map((c) => c.genomeHash)).toEqual([hashOf(1)]);
+    expect(considered.map((c) => c.genomeHash)).toEqual([hashOf(1), hashOf(2)]);
   });
 
   it('by a latency rule: an unmeasured latency cannot meet it', async () => {
@@ -103,8 +108,8 @@ describe('choosing the champion candidates', () => {
     expect(store.getRun('r1')!.state).toBe('training-champion');
     expect(phase.candidates('r1')).toEqual([{ sourceEvaluationId: 'r1-s2-a1', genomeHash: hashOf(2), seq: 4, valAccuracy: 0.8, champion: true }]);
     await phase.ensureJobs(store.getRun('r1')!);
-    // 4 proposals: the round's key is 4, past every proposal and the first round's keys (0 and 1)
-    expect(queued.map((j) => j.evaluationId)).toEqual(['r1-c0-a1', 'r1-c1-a1', 'r1-c4-a1']);
+    // 4 proposals: the round's key is 4, past every proposal and the first round's key (0)
+    expect(queued.map((j) => j.evaluationId)).toEqual(['r1-c0-a1', 'r1-c4-a1']);
     expect(queued.at(-1)).toMatchObject({ kind: 'champion', genomeHash: hashOf(2), seed: 2 });
   });
 

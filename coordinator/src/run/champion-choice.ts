@@ -1,6 +1,7 @@
 import type { ChampionRule, EnsembleSettings } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { selectEnsemble, type EnsemblePick } from '../champion/ensemble-selection.js';
+import { rankByValidation } from '../champion/validation-evidence.js';
 
 /**
  * How a run's champion is chosen: a genome the user `pick`ed, the best under the run file's
@@ -47,7 +48,7 @@ export function describeChoice(choice: ChampionChoice): string {
     return `Picked by the user: genome \`${choice.genomeHash.slice(0, 12)}\` (its best search result, evaluation ${choice.evaluationId}, validation ${(choice.valAccuracy * 100).toFixed(2)}%), trained again and scored once on the test split.`;
   }
   if (choice.by === 'rule') return `By the run's champion rule: the best validation accuracy among results with ${describeRule(choice.rule)}.`;
-  return `The best validation accuracy of the search${choice.note ? ` (${choice.note})` : ''}.`;
+  return `The best validation evidence of the search${choice.note ? ` (${choice.note})` : ''}.`;
 }
 
 /** How the champion of `runId` was chosen, as recorded when its champion phase began (runs from before this record: the best). */
@@ -116,11 +117,13 @@ export function nextChampionSeq(store: RunStore, run: RunRecord): number {
 }
 
 /** A search result the champion phase may choose from. */
-export type PoolEntry = ReturnType<RunStore['topEvaluations']>[number];
+export type PoolEntry = ReturnType<RunStore['topEvaluations']>[number] & { results?: number };
 
 /**
- * The distinct genomes the champion (and the ensemble) may come from, best validation accuracy
- * first (then fewer parameters): under the run's rule if it has one, and at most `want` of them.
+ * The distinct genomes the champion (and the ensemble) may come from, best validation evidence
+ * first (see {@link rankByValidation}: each genome's results at its largest budget, their mean
+ * validation accuracy, then fewer parameters): under the run's rule if it has one, and at most
+ * `want` of them. Reads validation scores only.
  * `ruleUnmet`: the rule left nothing, so the pool is the best overall. Results `eligible` refuses
  * (a quarantined worker's, one verification rejected) never enter it.
  */
@@ -131,10 +134,7 @@ export function candidatePool(
   eligible: (ev: EvaluationRecord) => boolean = () => true,
 ): { pool: PoolEntry[]; ruleUnmet: boolean } {
   const rule = run.config.champion.rule;
-  const distinct = (rows: PoolEntry[]) => {
-    const seen = new Set<string>();
-    return rows.filter((e) => !seen.has(e.genomeHash) && seen.add(e.genomeHash)).slice(0, want);
-  };
+  const distinct = (rows: PoolEntry[]): PoolEntry[] => rankByValidation(rows).slice(0, want);
   // A rule may leave out most results, so it reads further down the ranking.
   const ranked = store.topEvaluations(run.id, rule ? 100_000 : want * 10).filter(eligible);
   if (!rule) return { pool: distinct(ranked), ruleUnmet: false };

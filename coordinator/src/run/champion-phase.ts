@@ -6,7 +6,9 @@ import { scoreChampion } from '../champion/score-champion.js';
 import { exportChampion } from '../champion/export-champion.js';
 import { scoreEnsemble } from '../champion/score-ensemble.js';
 import type { EnsembleSettings } from '@netbreeder/shared-types';
-import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, recordedChoice, type ChampionChoice } from './champion-choice.js';
+import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, type ChampionChoice } from './champion-choice.js';
+import { finalTrainingLength } from '../champion/final-length.js';
+import { referenceSource, type ConsideredGenome } from '../champion/reference-comparison.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 export interface ChampionCandidate {
@@ -21,6 +23,8 @@ export interface ChampionCandidate {
   ensemblePosition?: number;
   /** Ensemble members: the largest architecture similarity to a member chosen before it (0 for the first). */
   ensembleSimilarity?: number;
+  /** The run's reference network: its final training gives the test score the champion is compared with (it may be the champion too). */
+  reference?: boolean;
 }
 
 export interface ChampionPhaseOptions {
@@ -39,17 +43,20 @@ export interface ChampionPhaseOptions {
 const championId = (runId: string, seq: number, attempt: number) => `${runId}-c${seq}-a${attempt}`;
 
 /**
- * The end of a run: the best `champion.topK` distinct genomes of the search are trained again with
- * the champion budget on train + validation (each from the seed that earned its place), each is
- * scored on the held-out test split here on the coordinator, and the best of them is stored and
- * exported. Every step is in the store, so a restart picks up where it was.
+ * The end of a run: the champion is chosen on validation evidence alone (a pick, else the best
+ * under the run's rule, else the best of the search; see `candidatePool`), then trained again on
+ * train + validation (from the seed that earned its place, for as many epochs as its learning curve
+ * says: `final-length.ts`), scored ONCE on the held-out test split here on the coordinator, stored
+ * and exported. The run's reference network gets the same final training and its one test score
+ * for the comparison (`reference-comparison.ts`); ensemble members too. No choice reads a test
+ * score. Every step is in the store, so a restart picks up where it was.
  */
 export class ChampionPhase {
   constructor(private readonly o: ChampionPhaseOptions) {}
 
   /** Chooses the candidates and queues their final trainings. */
   async begin(run: RunRecord): Promise<void> {
-    const { candidates, choice } = this.chooseCandidates(run);
+    const { candidates, choice, considered } = this.chooseCandidates(run);
     const ensemble = run.config.champion.ensemble;
     if (candidates.length === 0) {
       this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded (or every successful one failed verification or came from a quarantined worker), so there is no champion' });
@@ -58,21 +65,22 @@ export class ChampionPhase {
     }
     this.o.store.transaction(() => {
       this.o.store.setRunState(run.id, 'training-champion');
-      this.o.store.logEvent(run.id, 'champion-candidates', { candidates, choice, round: 0, ...(ensemble ? { ensemble } : {}) });
+      this.o.store.logEvent(run.id, 'champion-candidates', { candidates, choice, considered, round: 0, ...(ensemble ? { ensemble } : {}) });
     });
     this.o.log.info({ runId: run.id, candidates: candidates.length, best: candidates[0]!.valAccuracy }, 'search done; training the best genomes on train + validation');
     await this.ensureJobs(this.o.store.getRun(run.id)!);
   }
 
   /**
-   * The genomes that get the final training, and how the champion is chosen among them: a picked
-   * genome alone; else the best `topK` distinct genomes by validation accuracy (then fewer
-   * parameters) among the results that meet the run's rule, if it has one (none meeting it: the
-   * best overall, and the choice says so). The ensemble's members, if the run asks for one, are
-   * chosen from the same results and trained alongside. Only eligible results compete (see
-   * `eligible`: not from a quarantined worker, not rejected by verification).
+   * The genomes that get the final training, chosen on validation evidence only: the champion (a
+   * picked genome; else the best distinct genome by validation evidence, then fewer parameters,
+   * among the results that meet the run's rule if it has one; none meeting it: the best overall,
+   * and the choice says so), the ensemble's members if the run asks for one (chosen from the same
+   * results), and the run's reference network (merged with the champion when it is the champion).
+   * `considered`: the best `topK` genomes as the choice saw them, for the report. Only eligible
+   * results compete (see `eligible`: not from a quarantined worker, not rejected by verification).
    */
-  chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice } {
+  chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice; considered: ConsideredGenome[] } {
     const { topK, rule, ensemble } = run.config.champion;
     let choice = championChoice(this.o.store, run);
     const { pool, ruleUnmet } = candidatePool(this.o.store, run, Math.max(topK, ensemble ? ensemblePoolSize(ensemble.size) : 0), this.o.eligible);
@@ -86,14 +94,17 @@ export class ChampionPhase {
     if (choice.by === 'pick') {
       const picked = this.o.store.getEvaluation(choice.evaluationId)!;
       add({ ...picked, valAccuracy: choice.valAccuracy }, { champion: true });
-    } else {
-      for (const e of pool.slice(0, topK)) add(e, { champion: true });
+    } else if (pool[0]) {
+      add(pool[0], { champion: true });
     }
     if (ensemble) {
       const members = ensembleFromPool(pool, ensemble);
       if (members.length >= 2) members.forEach((m, i) => add(m.entry, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
     }
-    return { candidates: out, choice };
+    const reference = out.length ? referenceSource(this.o.store, run, pool) : null;
+    if (reference) add(reference, { reference: true });
+    const considered = pool.slice(0, topK).map((e) => ({ genomeHash: e.genomeHash, evaluationId: e.id, valAccuracy: e.valAccuracy!, results: e.results ?? 1, budgetEpochs: e.job.budget.epochs, params: e.params }));
+    return { candidates: out, choice, considered };
   }
 
   candidates(runId: string): ChampionCandidate[] {
@@ -107,31 +118,36 @@ export class ChampionPhase {
     for (const c of this.candidates(run.id)) {
       if (existing.has(c.seq)) continue;
       const source = this.o.store.getEvaluation(c.sourceEvaluationId)!;
+      const length = finalTrainingLength(run.config.champion.epochs, source.result?.history ?? [], source.job.budget.epochs);
       const job: EvaluationJob = {
         ...source.job,
         kind: 'champion',
         attempt: 1,
         evaluationId: championId(run.id, c.seq, 1),
         // The same initial weights that earned the genome its place; only the data (train +
-        // validation) and the budget change.
+        // validation) and the budget change. The reference network follows the same rules.
         seed: source.job.seed,
-        budget: { epochs: run.config.champion.epochs, maxSeconds: run.config.champion.maxSeconds },
+        budget: { epochs: length.epochs, maxSeconds: run.config.champion.maxSeconds },
       };
-      this.o.store.addEvaluation(job, c.seq, this.o.now(), false);
+      this.o.store.transaction(() => {
+        this.o.store.addEvaluation(job, c.seq, this.o.now(), false);
+        this.o.store.logEvent(run.id, 'champion-training-length', { evaluationId: job.evaluationId, genomeHash: c.genomeHash, sourceEvaluationId: c.sourceEvaluationId, ...length });
+      });
       await this.o.queue.add(job);
     }
     await this.finishIfComplete(run.id);
   }
 
-  /** Scores one candidate's final training on the test split and keeps it if it is the best so far. */
+  /**
+   * Scores one final training on the test split, once, after every choice was made: the champion's
+   * is stored as the champion (the choice on validation stands whatever it scores), the reference
+   * network's is recorded for the comparison, an ensemble member's is kept for the ensemble.
+   */
   async recordResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit());
-    const current = this.o.store.getChampion(ev.runId);
-    // A pick is the champion whatever it scores (it competes with no one, not even an earlier round's champion).
-    const picked = recordedChoice(this.o.store, ev.runId).by === 'pick';
-    const better = candidate.champion !== false && (picked || !current || score.accuracy > current.testAccuracy);
+    const isChampion = candidate.champion !== false;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
       const scored = {
@@ -156,7 +172,10 @@ export class ChampionPhase {
           JSON.stringify(result.model),
         );
       }
-      if (better) {
+      if (candidate.reference) {
+        this.o.store.logEvent(ev.runId, 'reference-scored', { ...scored, champion: isChampion, round: championRound(this.o.store, ev.runId) });
+      }
+      if (isChampion) {
         this.o.store.saveChampion(
           { runId: ev.runId, ...scored, testPredictions: Array.from(score.predictions), result: { ...result, model: undefined }, createdAt: this.o.now() },
           JSON.stringify(result.model),
@@ -165,7 +184,7 @@ export class ChampionPhase {
       return true;
     });
     if (!recorded) return;
-    this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, best: better }, 'champion candidate scored on the held-out test split');
+    this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, champion: isChampion, reference: candidate.reference === true }, 'champion candidate scored on the held-out test split');
     await this.finishIfComplete(ev.runId);
   }
 

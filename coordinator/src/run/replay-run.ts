@@ -1,7 +1,7 @@
-import { defaultSearchSpace } from '@netbreeder/shared-types';
 import { replaySearch, type RecordedCall, type ReplayReport } from '../search/index.js';
 import type { RunStore } from '../store/run-store.js';
 import { observationFor } from './search-record.js';
+import { searchContextOf } from './reference-network.js';
 
 /**
  * Replays a stored run's search (see {@link replaySearch}): the algorithm is made again from the
@@ -34,11 +34,10 @@ export function replayRun(store: RunStore, runId: string): ReplayReport & { runI
     return { run, calls, storedSnapshot: store.searchSnapshot(runId) };
   });
   const { algorithm, ...settings } = run.config.search;
-  const m = run.dataset.manifest;
   const report = replaySearch({
     algorithm,
     settings,
-    context: { space: run.config.searchSpace ?? defaultSearchSpace(), data: { inputShape: m.inputShape, numClasses: m.numClasses }, seed: run.seed },
+    context: searchContextOf(run),
     calls,
     storedSnapshot: storedSnapshot ?? undefined,
   });

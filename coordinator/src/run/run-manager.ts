@@ -32,6 +32,7 @@ import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
 import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 import { Verifier } from '../trust/verifier.js';
 import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
+import { logReference, searchContextOf } from './reference-network.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -183,6 +184,7 @@ export class RunManager {
     this.store.transaction(() => {
       this.store.createRun({ id, name: config.name, config, seed: config.seed, dataset, now: this.now() });
       this.store.logEvent(id, 'run-created', { name: config.name, dataset: dataset.manifest.sha256 });
+      logReference(this.store, { id, config, seed: config.seed, dataset });
       for (const warning of preparation.warnings) this.store.logEvent(id, 'dataset-warning', warning);
     });
     this.opts.log.info(
@@ -204,14 +206,13 @@ export class RunManager {
   }
 
   private async attach(run: RunRecord): Promise<void> {
-    const space = run.config.searchSpace ?? defaultSearchSpace();
-    const m = run.dataset.manifest;
-    const data = { inputShape: m.inputShape, numClasses: m.numClasses };
+    const context = searchContextOf(run);
+    const { space, data } = context;
     const testSplit = decodeShard(await readFile(run.dataset.testPath)).train;
     const algorithm = createSearchAlgorithm(
       run.config.search.algorithm,
       (({ algorithm: _algorithm, ...settings }) => settings)(run.config.search),
-      { space, data, seed: run.seed },
+      context,
       (this.store.searchSnapshot(run.id) as Parameters<typeof createSearchAlgorithm>[3]) ?? undefined,
     );
     // Only now, with everything ready, does the reconcile loop see the run.

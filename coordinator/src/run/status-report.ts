@@ -1,6 +1,7 @@
 import type { StatusResponse } from '@netbreeder/shared-types';
 import type { RunManager } from './run-manager.js';
 import { trustStatus } from '../trust/trust-status.js';
+import { referenceComparison } from '../champion/reference-comparison.js';
 
 const iso = (ms: number) => new Date(ms).toISOString();
 
@@ -84,6 +85,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
             summary: championGenome.summary,
           }
         : null,
+    ...(run ? { reference: referenceComparison(store, run.id) } : {}),
     ...trust.run,
   };
 }

@@ -7,7 +7,7 @@ import { PopulationSearch } from './population-search.js';
 import { frozenCopy } from './frozen-copy.js';
 import { tournamentSelect } from './tournament.js';
 import type { Variation } from './variation.js';
-import { childProposal, shortHash } from './proposals.js';
+import { childProposal, shortHash, type FirstGenome } from './proposals.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
 export interface AgingEvolutionOptions<G> {
@@ -17,6 +17,8 @@ export interface AgingEvolutionOptions<G> {
   variation: Variation<G>;
   /** Seeds the algorithm's random source; ignored when restoring, where the snapshot's state rules. */
   seed: number;
+  /** The genome of the first initial member (the run's reference network). @default none: every initial member is random */
+  first?: FirstGenome<G>;
   /** A snapshot from {@link AgingEvolution.snapshot} (already checked with `parseSearchSnapshot`). */
   snapshot?: AgingEvolutionSnapshot<G>;
 }

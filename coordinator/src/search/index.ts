@@ -64,4 +64,5 @@ export {
   type MutationResult,
 } from './mutations.js';
 export { ADD_LAYER_KIND_WEIGHTS, describeNode } from './layer-mutations.js';
+export { referenceProposal, type FirstGenome } from './proposals.js';
 export { forgetResults, replaySearch, type RecordedCall, type ReplayDisagreement, type ReplayInput, type ReplayReport } from './replay.js';

@@ -6,7 +6,7 @@ import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, type ParetoEvolutionSnapshot, type ParetoMember } from './snapshot.js';
 import { PopulationSearch } from './population-search.js';
 import type { Variation } from './variation.js';
-import { childProposal, shortHash } from './proposals.js';
+import { childProposal, shortHash, type FirstGenome } from './proposals.js';
 import { frozenCopy } from './frozen-copy.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
@@ -17,6 +17,8 @@ export interface ParetoEvolutionOptions<G> {
   variation: Variation<G>;
   /** Seeds the random source; ignored when restoring, where the snapshot's state rules. */
   seed: number;
+  /** The genome of the first initial member (the run's reference network). @default none: every initial member is random */
+  first?: FirstGenome<G>;
   /** A snapshot from {@link ParetoEvolution.snapshot} (already checked with `parseSearchSnapshot`). */
   snapshot?: ParetoEvolutionSnapshot<G>;
 }

@@ -3,7 +3,7 @@ import type { Proposal } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SearchSnapshotError } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { randomProposal, type RandomRole } from './proposals.js';
+import { randomProposal, referenceProposal, type FirstGenome, type RandomRole } from './proposals.js';
 import { memberCopies, restoredMembers } from './frozen-copy.js';
 
 type PopulationSettings = Pick<ResolvedSearchSettings, 'populationSize' | 'sampleSize' | 'initialMutations'>;
@@ -34,10 +34,16 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string; geno
   protected proposed: number;
   protected initialProposed: number;
   protected observed: number;
+  /** The genome of the first initial member (the run's reference network), if any. */
+  protected readonly first: FirstGenome<G> | undefined;
 
   /** `mustMatch`: the settings a snapshot must have been taken with to be resumed. */
-  protected constructor(options: { settings: S; variation: Variation<G>; seed: number; snapshot?: PopulationState<M, S> }, mustMatch: readonly (keyof S & string)[]) {
+  protected constructor(
+    options: { settings: S; variation: Variation<G>; seed: number; first?: FirstGenome<G>; snapshot?: PopulationState<M, S> },
+    mustMatch: readonly (keyof S & string)[],
+  ) {
     this.settings = { ...options.settings };
+    this.first = options.first;
     this.variation = options.variation;
     const s = options.snapshot;
     for (const k of s ? mustMatch : []) {
@@ -78,9 +84,14 @@ export abstract class PopulationSearch<G, M extends { evaluationId: string; geno
     };
   }
 
-  /** A fresh member: the minimal genome with up to `initialMutations` random mutations. */
+  /**
+   * A fresh member: the first genome (the reference network) for the very first initial member when
+   * there is one (it draws nothing), else the minimal genome with up to `initialMutations` random
+   * mutations. A restored snapshot counts its initial members, so the first genome is proposed once.
+   */
   protected initialMember(why: string, role: RandomRole, before: SearchDecision[] = []): Proposal<G> {
     this.initialProposed++;
+    if (this.first && this.initialProposed === 1 && role === 'initial') return referenceProposal(this.variation, this.first, why);
     return randomProposal(this.variation, this.rng, this.settings.initialMutations, why, role, before);
   }
 }

@@ -33,6 +33,33 @@ export function randomProposal<G>(variation: Variation<G>, rng: Random, maxMutat
 }
 
 /**
+ * A genome every algorithm proposes as its first new configuration: the run's reference network
+ * (see `fitReferenceNetwork`), which then joins the population like any other result.
+ */
+export interface FirstGenome<G> {
+  genome: G;
+  /** What it is, in one line. */
+  description: string;
+  /** How it was changed to fit the search space (empty: as written). */
+  adjustments: readonly string[];
+}
+
+/** The proposal of the reference network, its decision saying so; `why`: its place in the algorithm (an initial member, a random sample). */
+export function referenceProposal<G>(variation: Variation<G>, first: FirstGenome<G>, why: string): Proposal<G> {
+  const hash = variation.hash(first.genome);
+  const fitted = first.adjustments.length ? `, fitted to the search space: ${first.adjustments.join('; ')}` : '';
+  const reason = `${why}: the reference network (${first.description})${fitted}`;
+  return {
+    genome: structuredClone(first.genome),
+    genomeHash: hash,
+    parentHashes: [],
+    mutation: null,
+    reason,
+    decisions: [{ kind: 'reference-network', version: SEARCH_DECISION_VERSION, reason, genomeHash: hash, description: first.description, adjustments: [...first.adjustments] }],
+  };
+}
+
+/**
  * A mutated child of `parent`, its reason starting with how the parent was chosen (the `selection`
  * decision, recorded first); when the parent has no valid mutation, `fallback` gives the proposal
  * instead, with the reason why and the decisions that led to it.

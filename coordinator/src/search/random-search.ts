@@ -4,7 +4,7 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type RandomSearchSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { randomProposal } from './proposals.js';
+import { randomProposal, referenceProposal, type FirstGenome } from './proposals.js';
 import { ignoredObservation } from './decisions.js';
 
 export interface RandomSearchOptions<G> {
@@ -14,12 +14,14 @@ export interface RandomSearchOptions<G> {
   variation: Variation<G>;
   /** Seeds the random source; ignored when restoring, where the snapshot's state rules. */
   seed: number;
+  /** The first sample (the run's reference network). @default none: every sample is random */
+  first?: FirstGenome<G>;
   /** A snapshot from {@link RandomSearch.snapshot} (already checked with `parseSearchSnapshot`). */
   snapshot?: RandomSearchSnapshot;
 }
 
 /**
- * The honest baseline: every proposal is an independent random genome, a minimal genome with a
+ * The honest baseline: every proposal (but the first genome, when given) is an independent random genome, a minimal genome with a
  * number of random mutations drawn uniformly from 0 to `randomMutations`, so it reaches the same
  * kinds of networks evolution can build, by the same operators, without selection. Observations
  * are counted and otherwise change nothing.
@@ -30,12 +32,14 @@ export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
   private readonly variation: Variation<G>;
   private readonly seed: number;
   private readonly rng: Random;
+  private readonly first: FirstGenome<G> | undefined;
   private proposed: number;
   private observed: number;
 
   constructor(options: RandomSearchOptions<G>) {
     this.settings = { ...options.settings };
     this.variation = options.variation;
+    this.first = options.first;
     const s = options.snapshot;
     if (s && s.settings.randomMutations !== this.settings.randomMutations) {
       throw new SearchSnapshotError(
@@ -50,6 +54,7 @@ export class RandomSearch<G = Genome> implements SearchAlgorithm<G> {
 
   propose(): Proposal<G> {
     this.proposed++;
+    if (this.first && this.proposed === 1) return referenceProposal(this.variation, this.first, 'random sample 1');
     return randomProposal(this.variation, this.rng, this.settings.randomMutations, `random sample ${this.proposed}`, 'random-sample');
   }
 

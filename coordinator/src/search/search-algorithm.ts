@@ -1,4 +1,4 @@
-import { createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchDecision, type SearchSpace } from '@netbreeder/shared-types';
+import { checkGenome, createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchDecision, type SearchSpace } from '@netbreeder/shared-types';
 import { AgingEvolution } from './aging-evolution.js';
 import { minimalGenome } from './minimal-genome.js';
 import type { Mutation, MutateOptions } from './mutations.js';
@@ -8,6 +8,7 @@ import { resolveSearchSettings, type SearchSettings } from './search-settings.js
 import { parseSearchSnapshot, SearchSnapshotError, type SearchSnapshot } from './snapshot.js';
 import { SuccessiveHalving } from './successive-halving.js';
 import { genomeVariation } from './variation.js';
+import type { FirstGenome } from './proposals.js';
 
 /** One genome the algorithm wants trained, with its lineage and why it was chosen. */
 export interface Proposal<G = Genome> {
@@ -88,6 +89,11 @@ export interface SearchContext {
   seed: number;
   /** How mutations are drawn (operator weights, retry budget). @default the documented defaults of `mutate` */
   mutation?: MutateOptions;
+  /**
+   * The run's reference network, already fitted to `space` (`fitReferenceNetwork`): every algorithm
+   * proposes it as its first new configuration. @default none
+   */
+  reference?: FirstGenome<Genome>;
 }
 
 export const SEARCH_ALGORITHM_NAMES: readonly SearchAlgorithmName[] = ['aging-evolution', 'random', 'asha', 'asha-evolution', 'pareto-evolution'];
@@ -114,15 +120,20 @@ export function createSearchAlgorithm(
   if (restored && restored.algorithm !== name) throw new SearchSnapshotError(`the snapshot belongs to '${restored.algorithm}', not '${name}'`);
   if (restored && restored.seed !== ctx.seed) throw new SearchSnapshotError(`the snapshot was seeded with ${restored.seed}, not ${ctx.seed}; resume with the run's own seed`);
   const seed = ctx.seed;
+  const first = ctx.reference;
+  if (first) {
+    const check = checkGenome(first.genome, ctx.space, ctx.data);
+    if (!check.ok) throw new RangeError(`the reference network does not fit the search space (${check.issues.map((i) => i.message).join('; ')}); fit it with fitReferenceNetwork`);
+  }
   switch (name) {
     case 'random':
-      return new RandomSearch({ settings: resolved, variation, seed, snapshot: restored?.algorithm === 'random' ? restored : undefined });
+      return new RandomSearch({ settings: resolved, variation, seed, first, snapshot: restored?.algorithm === 'random' ? restored : undefined });
     case 'asha':
     case 'asha-evolution':
-      return new SuccessiveHalving({ variant: name, settings: resolved, variation, seed, snapshot: restored?.algorithm === name ? restored : undefined });
+      return new SuccessiveHalving({ variant: name, settings: resolved, variation, seed, first, snapshot: restored?.algorithm === name ? restored : undefined });
     case 'pareto-evolution':
-      return new ParetoEvolution({ settings: resolved, variation, seed, snapshot: restored?.algorithm === 'pareto-evolution' ? restored : undefined });
+      return new ParetoEvolution({ settings: resolved, variation, seed, first, snapshot: restored?.algorithm === 'pareto-evolution' ? restored : undefined });
     case 'aging-evolution':
-      return new AgingEvolution({ settings: resolved, variation, seed, snapshot: restored?.algorithm === 'aging-evolution' ? restored : undefined });
+      return new AgingEvolution({ settings: resolved, variation, seed, first, snapshot: restored?.algorithm === 'aging-evolution' ? restored : undefined });
   }
 }

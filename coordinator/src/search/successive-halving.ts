@@ -7,7 +7,7 @@ import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.
 import type { ResolvedSearchSettings } from './search-settings.js';
 import { SEARCH_SNAPSHOT_VERSION, SearchSnapshotError, type AshaRungMember, type AshaSnapshot } from './snapshot.js';
 import type { Variation } from './variation.js';
-import { shortHash } from './proposals.js';
+import { shortHash, type FirstGenome } from './proposals.js';
 import { frozenCopy, memberCopies, restoredMembers } from './frozen-copy.js';
 import { decisionMember, ignoredObservation } from './decisions.js';
 
@@ -23,6 +23,8 @@ export interface SuccessiveHalvingOptions<G> {
   variation: Variation<G>;
   /** Seeds the configuration source's random source; ignored when restoring. */
   seed: number;
+  /** The first new configuration (the run's reference network), passed to the configuration source. @default none */
+  first?: FirstGenome<G>;
   /** A snapshot from {@link SuccessiveHalving.snapshot} (already checked with `parseSearchSnapshot`). */
   snapshot?: AshaSnapshot<G>;
 }
@@ -84,11 +86,11 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     if (this.name === 'asha') {
       const snap = s?.source.algorithm === 'random' ? s.source : undefined;
       if (s && !snap) throw new SearchSnapshotError(`an 'asha' snapshot must hold a 'random' configuration source, not '${s.source.algorithm}'`);
-      this.source = new RandomSearch({ settings: this.settings, variation: this.variation, seed, snapshot: snap });
+      this.source = new RandomSearch({ settings: this.settings, variation: this.variation, seed, first: options.first, snapshot: snap });
     } else {
       const snap = s?.source.algorithm === 'aging-evolution' ? s.source : undefined;
       if (s && !snap) throw new SearchSnapshotError(`an 'asha-evolution' snapshot must hold an 'aging-evolution' configuration source, not '${s.source.algorithm}'`);
-      this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, snapshot: snap });
+      this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, first: options.first, snapshot: snap });
     }
     this.rungs = s ? s.rungs.map(restoredMembers) : this.budgets.map(() => []);
     this.proposed = s ? s.proposed : 0;

@@ -233,6 +233,14 @@ export const RunConfigSchema = Type.Object(
          * training then uploads its final checkpoint. @default false
          */
         weightInheritance: Type.Boolean({ default: false }),
+        /**
+         * Train the reference network (the one a careful practitioner writes by hand for this data
+         * kind; docs/reference-networks.md) as the run's first evaluation. It joins the population
+         * like any result, gets the champion's final training too, and the report says whether the
+         * search beat it. A reference that cannot fit the search space is scaled down or skipped
+         * (an event says which). Runs stored before this setting have none. @default true
+         */
+        reference: Type.Boolean({ default: true }),
       },
       { additionalProperties: false, default: {} },
     ),
@@ -263,12 +271,18 @@ export const RunConfigSchema = Type.Object(
     ),
     champion: Type.Object(
       {
-        /** Epochs of the final training on train + validation. */
-        epochs: Type.Integer({ minimum: 1, maximum: 1000, default: 15 }),
+        /**
+         * Epochs of the final training on train + validation. Absent: each genome's own learning
+         * curve sets it (the epoch of its best validation accuracy in its longest search training,
+         * at least 1); the report and a `champion-training-length` event say which rule set it.
+         */
+        epochs: Type.Optional(Type.Integer({ minimum: 1, maximum: 1000 })),
         maxSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400, default: 600 }),
         /**
-         * How many of the best distinct genomes get the final training; the one that scores best
-         * on the held-out test split is exported (the report lists every candidate's scores).
+         * How many of the best distinct genomes by validation evidence the champion phase considers:
+         * their search results are verified on another worker first (see `verification`), the
+         * report lists them, and the best of them that still counts is the champion. Only the
+         * champion gets the final training and the one score on the held-out test split.
          */
         topK: Type.Integer({ minimum: 1, maximum: 20, default: 3 }),
         /**

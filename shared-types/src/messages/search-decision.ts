@@ -44,6 +44,23 @@ export const RandomGenomeDecisionSchema = Type.Object(
   { additionalProperties: false },
 );
 
+/**
+ * The run's reference network (the hand-made network for the data kind, fitted to the search
+ * space): every algorithm proposes it as its first new configuration.
+ */
+export const ReferenceNetworkDecisionSchema = Type.Object(
+  {
+    kind: Type.Literal('reference-network'),
+    ...base,
+    genomeHash: Hash,
+    /** What it is, in one line. */
+    description: Type.String({ maxLength: 1000 }),
+    /** How it was changed to fit the search space (empty: as written). */
+    adjustments: Type.Array(Type.String({ maxLength: 1000 }), { maxItems: 50 }),
+  },
+  { additionalProperties: false },
+);
+
 /** A parent drawn by tournament: every drawn member in draw order, and the winner. */
 export const ParentSelectedDecisionSchema = Type.Object(
   {
@@ -159,6 +176,7 @@ export const ResultsForgottenDecisionSchema = Type.Object(
 
 export const SearchDecisionSchema = Type.Union([
   RandomGenomeDecisionSchema,
+  ReferenceNetworkDecisionSchema,
   ParentSelectedDecisionSchema,
   MutationDecisionSchema,
   MutationImpossibleDecisionSchema,

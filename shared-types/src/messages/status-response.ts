@@ -56,6 +56,23 @@ export const ChampionSummarySchema = Type.Object({
 });
 export type ChampionSummary = Static<typeof ChampionSummarySchema>;
 
+/**
+ * The champion's held-out test score beside the run's reference network's (the hand-made network
+ * trained in every run), each scored once, and the one plain line that compares them.
+ */
+export const ReferenceComparisonSchema = Type.Object({
+  /** `scored`: both scored; `pending`: not yet; `skipped`: the reference could not fit the search space, or its final training failed; `off`: the run has none. */
+  state: Type.Union([Type.Literal('scored'), Type.Literal('pending'), Type.Literal('skipped'), Type.Literal('off')]),
+  referenceGenomeHash: Nullable(Type.String()),
+  championTestAccuracy: Nullable(Type.Number()),
+  referenceTestAccuracy: Nullable(Type.Number()),
+  /** Champion minus reference, in percentage points of test accuracy. */
+  points: Nullable(Type.Number()),
+  championIsReference: Type.Boolean(),
+  line: Type.String(),
+});
+export type ReferenceComparisonStatus = Static<typeof ReferenceComparisonSchema>;
+
 /** GET /status: everything a person watching a run needs at a glance. */
 export const StatusResponseSchema = Type.Object({
   coordinator: Type.Object({ version: Type.String(), startedAt: Type.String(), uptimeSeconds: Type.Number() }),
@@ -85,6 +102,8 @@ export const StatusResponseSchema = Type.Object({
   workers: Type.Array(WorkerStatusSchema),
   best: Nullable(ScoredGenomeSchema),
   champion: Nullable(ChampionSummarySchema),
+  /** The champion against the reference network (absent: no run). */
+  reference: Type.Optional(ReferenceComparisonSchema),
   /** CPU-seconds and energy of the run: in total, by kind of job (per worker in `workers`). */
   accounting: Type.Optional(AccountingStatusSchema),
   verification: Type.Optional(VerificationStatusSchema),

@@ -1,0 +1,21 @@
+import { describe, expect, it } from 'vitest';
+import type { EpochRecord } from '@netbreeder/shared-types';
+import { finalTrainingLength } from './final-length.js';
+
+const curve = (val: Array<number | null>): EpochRecord[] => val.map((v, i) => ({ epoch: i + 1, trainLoss: 1, trainAccuracy: 0.5, valLoss: v === null ? null : 1 - v, valAccuracy: v, seconds: 1 }));
+
+describe('finalTrainingLength', () => {
+  it('takes the epoch of the best validation accuracy (the earliest among equals)', () => {
+    expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8, 0.8, 0.75]), 5)).toMatchObject({ epochs: 3, rule: 'learning-curve' });
+    expect(finalTrainingLength(undefined, curve([0.9, 0.7]), 2)).toMatchObject({ epochs: 1, rule: 'learning-curve' });
+  });
+
+  it("keeps the run file's champion.epochs when it is set", () => {
+    expect(finalTrainingLength(12, curve([0.5, 0.9]), 2)).toEqual({ epochs: 12, rule: 'run-file', detail: expect.stringMatching(/champion\.epochs/) });
+  });
+
+  it('falls back to the search budget when the curve has no validation scores', () => {
+    expect(finalTrainingLength(undefined, curve([null, null]), 4)).toMatchObject({ epochs: 4, rule: 'genome-epochs' });
+    expect(finalTrainingLength(undefined, [], 3)).toMatchObject({ epochs: 3, rule: 'genome-epochs' });
+  });
+});

@@ -1,0 +1,38 @@
+import type { EpochRecord } from '@netbreeder/shared-types';
+
+/** How many epochs a final training (on train + validation) gets, and which rule set it. */
+export interface FinalLength {
+  epochs: number;
+  /**
+   * `run-file`: the run file's `champion.epochs`; `learning-curve`: the epoch of the best validation
+   * accuracy in the genome's longest search training; `genome-epochs`: that training recorded no
+   * validation accuracy per epoch (or there was none), so the epochs it was given.
+   */
+  rule: 'run-file' | 'learning-curve' | 'genome-epochs';
+  /** One sentence for the report and the event. */
+  detail: string;
+}
+
+/**
+ * The final training's length for one genome. With `champion.epochs` in the run file, that number.
+ * Otherwise its learning curve decides: in `history` (the per-epoch record of its longest search
+ * training, on the train split, scored on validation) the epoch with the highest validation
+ * accuracy (the earliest among equals), at least 1; validation accuracy rather than loss because
+ * accuracy is what chose the champion. A training without per-epoch validation scores falls back
+ * to `budgetEpochs`, the epochs it was given. Pure.
+ */
+export function finalTrainingLength(fixed: number | undefined, history: readonly EpochRecord[], budgetEpochs: number): FinalLength {
+  if (fixed !== undefined) return { epochs: fixed, rule: 'run-file', detail: `${fixed} epochs, as the run file's champion.epochs sets` };
+  let best: EpochRecord | null = null;
+  for (const r of history) if (r.valAccuracy !== null && (best === null || r.valAccuracy > best.valAccuracy!)) best = r;
+  if (best === null) {
+    const epochs = Math.max(1, budgetEpochs);
+    return { epochs, rule: 'genome-epochs', detail: `${epochs} epochs, its search training's budget (its learning curve has no validation scores)` };
+  }
+  const epochs = Math.max(1, best.epoch);
+  return {
+    epochs,
+    rule: 'learning-curve',
+    detail: `${epochs} epoch(s), where its longest search training (${history.length} epochs) reached its best validation accuracy, ${(best.valAccuracy! * 100).toFixed(2)}%`,
+  };
+}

@@ -1,0 +1,89 @@
+import { genomeHash } from '@netbreeder/shared-types';
+import type { RunRecord, RunStore } from '../store/run-store.js';
+import { runReference } from '../run/reference-network.js';
+
+/** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it. */
+export interface ConsideredGenome {
+  genomeHash: string;
+  /** Its best result at its largest budget (the source of its final training, were it chosen). */
+  evaluationId: string;
+  /** Mean validation accuracy of its results at that budget. */
+  valAccuracy: number;
+  results: number;
+  budgetEpochs: number;
+  params: number;
+}
+
+/** The search result a reference network's final training starts from (its seed, its learning curve), or null when the run has none. */
+export function referenceSource(
+  store: RunStore,
+  run: RunRecord,
+  pool: ReadonlyArray<{ id: string; genomeHash: string; seq: number; valAccuracy: number | null }>,
+): { id: string; genomeHash: string; seq: number; valAccuracy: number | null } | null {
+  const fitted = runReference(run);
+  if (!fitted?.ok) return null;
+  const hash = genomeHash(fitted.genome);
+  const ranked = pool.find((e) => e.genomeHash === hash);
+  if (ranked) return ranked;
+  // Not among the best: its first evaluation, proposal 0, every attempt of it (a failed one still gives the seed and budget).
+  const attempts = Array.from({ length: run.config.evaluation.maxAttempts }, (_, i) => store.getEvaluation(`${run.id}-s0-a${i + 1}`)).filter((e) => e?.genomeHash === hash);
+  const source = attempts.find((e) => e!.state === 'done') ?? attempts.at(-1);
+  return source ? { id: source.id, genomeHash: hash, seq: source.seq, valAccuracy: source.valAccuracy } : null;
+}
+
+/** The champion's test score beside the reference network's, with the one plain line every report shows. */
+export interface ReferenceComparison {
+  /** `scored`: both have their test score; `pending`: the final trainings are not done; `skipped`: the reference could not fit the search space, or its final training failed; `off`: the run has no reference. */
+  state: 'scored' | 'pending' | 'skipped' | 'off';
+  referenceGenomeHash: string | null;
+  championTestAccuracy: number | null;
+  referenceTestAccuracy: number | null;
+  /** Champion minus reference, in percentage points of test accuracy. */
+  points: number | null;
+  /** True when the champion is the reference network itself. */
+  championIsReference: boolean;
+  line: string;
+}
+
+const pct = (v: number) => `${(v * 100).toFixed(2)}%`;
+
+/** The plain line for a champion and a reference both scored once on the test split. Pure. */
+export function comparisonLine(champion: { genomeHash: string; testAccuracy: number }, reference: { genomeHash: string; testAccuracy: number }): string {
+  if (champion.genomeHash === reference.genomeHash) {
+    return `the search did not beat the reference network; it is exported as the champion (test accuracy ${pct(reference.testAccuracy)})`;
+  }
+  const points = (champion.testAccuracy - reference.testAccuracy) * 100;
+  const scores = `test accuracy ${pct(champion.testAccuracy)} against ${pct(reference.testAccuracy)}`;
+  if (points > 0) return `the search's champion beats the reference network by ${points.toFixed(2)} points (${scores})`;
+  if (points === 0) return `the search's champion ties the reference network on the test split (${pct(champion.testAccuracy)})`;
+  return (
+    `the champion, chosen on validation, scores ${(-points).toFixed(2)} points below the reference network on the test split (${scores}); ` +
+    'it stays the exported champion, since no choice is made on test scores'
+  );
+}
+
+/** The comparison of `runId` as the store has it now. */
+export function referenceComparison(store: RunStore, runId: string): ReferenceComparison {
+  const none = { referenceGenomeHash: null, championTestAccuracy: null, referenceTestAccuracy: null, points: null, championIsReference: false };
+  const skipped = store.events(runId, 'reference-skipped').at(-1)?.detail as { reason: string } | undefined;
+  if (skipped) return { ...none, state: 'skipped', line: `no reference network in this run: ${skipped.reason}` };
+  const planned = store.events(runId, 'reference-network').at(-1)?.detail as { genomeHash: string } | undefined;
+  if (!planned) return { ...none, state: 'off', line: 'no reference network in this run (search.reference is off)' };
+  const scored = store.events(runId, 'reference-scored').at(-1)?.detail as { genomeHash: string; testAccuracy: number } | undefined;
+  const champion = store.getChampion(runId);
+  if (!scored && champion && store.getRun(runId)?.state === 'finished') {
+    return { ...none, state: 'skipped', referenceGenomeHash: planned.genomeHash, championTestAccuracy: champion.testAccuracy, line: 'no comparison with the reference network: its final training failed (see the events)' };
+  }
+  if (!scored || !champion) {
+    return { ...none, state: 'pending', referenceGenomeHash: planned.genomeHash, championTestAccuracy: champion?.testAccuracy ?? null, referenceTestAccuracy: scored?.testAccuracy ?? null, line: 'the reference network is compared with the champion once both finished their final training' };
+  }
+  return {
+    state: 'scored',
+    referenceGenomeHash: scored.genomeHash,
+    championTestAccuracy: champion.testAccuracy,
+    referenceTestAccuracy: scored.testAccuracy,
+    points: Number(((champion.testAccuracy - scored.testAccuracy) * 100).toFixed(4)),
+    championIsReference: champion.genomeHash === scored.genomeHash,
+    line: comparisonLine(champion, scored),
+  };
+}
