@@ -30,8 +30,9 @@ export interface SearchSettings {
   objective?: SizeObjective;
   /** Where fresh genomes (initial members, random-search samples) come from: the hand-made family
    * around the reference network, the minimal linear classifier, or either with even odds (see
-   * `StartKind`).
-   * @default 'family' */
+   * `StartKind`). A run file gets 'family' from its schema; absent here means a run stored before
+   * the setting existed, which started from minimal genomes and must replay as it ran.
+   * @default 'minimal' */
   start?: StartKind;
 }
 
@@ -42,7 +43,7 @@ export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops', 'la
 export type ResolvedSearchSettings = Required<SearchSettings>;
 
 /** The one place the optional settings get their defaults (the run file schema carries the same ones, checked by a test). */
-export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'family' } as const;
+export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal' } as const;
 
 /** Applies the defaults and checks every value, naming the one that is wrong. */
 export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchSettings {
