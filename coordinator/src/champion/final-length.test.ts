@@ -10,6 +10,14 @@ describe('finalTrainingLength', () => {
     expect(finalTrainingLength(undefined, curve([0.9, 0.7]), 2)).toMatchObject({ epochs: 1, rule: 'learning-curve' });
   });
 
+  it('takes the whole final budget when the curve was still at its best on its last epoch, and only then', () => {
+    expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3, 14)).toMatchObject({ epochs: 14, rule: 'still-rising' });
+    expect(finalTrainingLength(undefined, curve([0.5, 0.8, 0.7]), 3, 14)).toMatchObject({ epochs: 2, rule: 'learning-curve' });
+    expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3)).toMatchObject({ epochs: 3, rule: 'learning-curve' });
+    // A budget shorter than the curve never shortens it.
+    expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3, 2)).toMatchObject({ epochs: 3, rule: 'learning-curve' });
+  });
+
   it("keeps the run file's champion.epochs when it is set", () => {
     expect(finalTrainingLength(12, curve([0.5, 0.9]), 2)).toEqual({ epochs: 12, rule: 'run-file', detail: expect.stringMatching(/champion\.epochs/) });
   });

@@ -6,9 +6,11 @@ export interface FinalLength {
   /**
    * `run-file`: the run file's `champion.epochs`; `learning-curve`: the epoch of the best validation
    * accuracy in the genome's longest search training; `genome-epochs`: that training recorded no
-   * validation accuracy per epoch (or there was none), so the epochs it was given.
+   * validation accuracy per epoch (or there was none), so the epochs it was given; `still-rising`:
+   * the curve was still at its best on its last epoch, so the final training takes the whole final
+   * budget (`champion.maxSamples`) there is.
    */
-  rule: 'run-file' | 'learning-curve' | 'genome-epochs';
+  rule: 'run-file' | 'learning-curve' | 'genome-epochs' | 'still-rising';
   /** One sentence for the report and the event. */
   detail: string;
 }
@@ -19,9 +21,12 @@ export interface FinalLength {
  * training, on the train split, scored on validation) the epoch with the highest validation
  * accuracy (the earliest among equals), at least 1; validation accuracy rather than loss because
  * accuracy is what chose the champion. A training without per-epoch validation scores falls back
- * to `budgetEpochs`, the epochs it was given. Pure.
+ * to `budgetEpochs`, the epochs it was given. When the best epoch is the curve's last one (it was
+ * still improving when its training ended, so the curve does not say where it would peak) and the
+ * run gives the final training a budget of `budgetMaxEpochs` epochs (from `champion.maxSamples`),
+ * it takes that whole budget. Pure.
  */
-export function finalTrainingLength(fixed: number | undefined, history: readonly EpochRecord[], budgetEpochs: number): FinalLength {
+export function finalTrainingLength(fixed: number | undefined, history: readonly EpochRecord[], budgetEpochs: number, budgetMaxEpochs?: number): FinalLength {
   if (fixed !== undefined) return { epochs: fixed, rule: 'run-file', detail: `${fixed} epochs, as the run file's champion.epochs sets` };
   let best: EpochRecord | null = null;
   for (const r of history) if (r.valAccuracy !== null && (best === null || r.valAccuracy > best.valAccuracy!)) best = r;
@@ -30,6 +35,14 @@ export function finalTrainingLength(fixed: number | undefined, history: readonly
     return { epochs, rule: 'genome-epochs', detail: `${epochs} epochs, its search training's budget (its learning curve has no validation scores)` };
   }
   const epochs = Math.max(1, best.epoch);
+  const last = history[history.length - 1]!;
+  if (budgetMaxEpochs !== undefined && best === last && budgetMaxEpochs > epochs) {
+    return {
+      epochs: budgetMaxEpochs,
+      rule: 'still-rising',
+      detail: `${budgetMaxEpochs} epochs, the whole final budget (champion.maxSamples): its longest search training (${history.length} epochs) was still at its best validation accuracy, ${(best.valAccuracy! * 100).toFixed(2)}%, on its last epoch`,
+    };
+  }
   return {
     epochs,
     rule: 'learning-curve',

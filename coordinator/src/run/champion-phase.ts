@@ -118,7 +118,10 @@ export class ChampionPhase {
     for (const c of this.candidates(run.id)) {
       if (existing.has(c.seq)) continue;
       const source = this.o.store.getEvaluation(c.sourceEvaluationId)!;
-      const length = finalTrainingLength(run.config.champion.epochs, source.result?.history ?? [], source.job.budget.epochs);
+      const { maxSamples } = run.config.champion;
+      const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount;
+      const budgetMaxEpochs = maxSamples === undefined ? undefined : Math.max(1, Math.min(1000, Math.floor(maxSamples / trainAndVal)));
+      const length = finalTrainingLength(run.config.champion.epochs, source.result?.history ?? [], source.job.budget.epochs, budgetMaxEpochs);
       const job: EvaluationJob = {
         ...source.job,
         kind: 'champion',
@@ -127,7 +130,7 @@ export class ChampionPhase {
         // The same initial weights that earned the genome its place; only the data (train +
         // validation) and the budget change. The reference network follows the same rules.
         seed: source.job.seed,
-        budget: { epochs: length.epochs, maxSeconds: run.config.champion.maxSeconds },
+        budget: { epochs: length.epochs, maxSeconds: run.config.champion.maxSeconds, ...(maxSamples === undefined ? {} : { maxSamples }) },
       };
       this.o.store.transaction(() => {
         this.o.store.addEvaluation(job, c.seq, this.o.now(), false);

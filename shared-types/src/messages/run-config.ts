@@ -279,6 +279,13 @@ export const RunConfigSchema = Type.Object(
         epochs: Type.Optional(Type.Integer({ minimum: 1, maximum: 1000 })),
         maxSeconds: Type.Number({ exclusiveMinimum: 0, maximum: 86_400, default: 600 }),
         /**
+         * Most training samples one final training may see (a budget for the champion phase, so a
+         * comparison at equal CPU can count it). A genome whose learning curve was still rising
+         * when its search training ended takes this whole budget; absent, no cap and no such
+         * extension.
+         */
+        maxSamples: Type.Optional(Type.Integer({ minimum: 1 })),
+        /**
          * How many of the best distinct genomes by validation evidence the champion phase considers:
          * their search results are verified on another worker first (see `verification`), the
          * report lists them, and the best of them that still counts is the champion. Only the
