@@ -8,6 +8,7 @@ export * from './genome/search-space-schema.js';
 export * from './genome/analyze.js';
 export * from './genome/canonical.js';
 export * from './genome/validate.js';
+export * from './genome/motifs.js';
 export * from './messages/dataset-manifest.js';
 export * from './messages/evaluation-job.js';
 export * from './messages/evaluation-result.js';
