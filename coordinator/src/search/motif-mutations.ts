@@ -1,4 +1,4 @@
-import { INPUT_ID, maxRepeatsOf, motifAsGenome, type Genome, type LayerNode, type Motif } from '@netbreeder/shared-types';
+import { INPUT_ID, maxRepeatsOf, motifAsGenome, type Genome, type LayerNode, type Motif, type SampleShape } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import { blocksOf } from './block-mutations.js';
 import { describeEdge, edgesOf, freshId, freshMotifId, insertOnEdge, shapesOf } from './graph-edit.js';
@@ -35,22 +35,32 @@ export const changeRepeatCount: MutationOperator = (genome, ctx) => {
 };
 
 /**
+ * A random motif of the genome, the shape its first repeat reads, and every tensor's shape; null
+ * when the genome has no motif or does not analyse, or the space switches repeats off.
+ */
+function pickMotif(genome: Genome, ctx: GenomeContext): { motif: Motif; motifs: Motif[]; inputShape: SampleShape; shapes: Map<string, SampleShape> } | null {
+  const motifs = genome.motifs;
+  if (!motifs?.length || !allowsRepeats(ctx)) return null;
+  const shapes = shapesOf(genome, ctx.data);
+  if (!shapes) return null;
+  const motif = ctx.rng.pick(motifs);
+  const user = repeatsOf(genome).find((r) => r.motif === motif.id);
+  return user ? { motif, motifs, inputShape: shapes.get(user.inputs[0]!)!, shapes } : null;
+}
+
+/**
  * Changes one motif with one of the layer operators (add or remove a layer, width, kernel size,
  * stride, activation, skip), applied to the motif seen as a genome whose input is the tensor its
  * first repeat reads. Every application of the motif changes with it.
  */
 export const mutateMotif: MutationOperator = (genome, ctx) => {
-  const repeats = repeatsOf(genome);
-  if (!repeats.length || !genome.motifs?.length || !allowsRepeats(ctx)) return null;
-  const shapes = shapesOf(genome, ctx.data);
-  if (!shapes) return null;
-  const motif = ctx.rng.pick(genome.motifs);
-  const user = repeats.find((r) => r.motif === motif.id)!;
-  const inner = { ...ctx, data: { ...ctx.data, inputShape: shapes.get(user.inputs[0]!)! } };
-  const result = ctx.rng.pick(MOTIF_NODE_OPERATORS)(motifAsGenome(genome, motif), inner);
+  const picked = pickMotif(genome, ctx);
+  if (!picked) return null;
+  const { motif, motifs, inputShape } = picked;
+  const result = ctx.rng.pick(MOTIF_NODE_OPERATORS)(motifAsGenome(genome, motif), { ...ctx, data: { ...ctx.data, inputShape } });
   if (!result || result.genome.output === INPUT_ID || !result.genome.nodes.length) return null;
   const changed: Motif = { id: motif.id, nodes: result.genome.nodes, output: result.genome.output };
-  return { genome: { ...genome, motifs: genome.motifs.map((m) => (m.id === motif.id ? changed : m)) }, detail: `in motif ${motif.id}: ${result.detail}` };
+  return { genome: { ...genome, motifs: motifs.map((m) => (m.id === motif.id ? changed : m)) }, detail: `in motif ${motif.id}: ${result.detail}` };
 };
 
 /**
@@ -81,13 +91,10 @@ export const makeMotif: MutationOperator = (genome, ctx) => {
 
 /** Applies an existing motif once more somewhere else: a new repeat (×1) on a random edge whose tensor has the rank the motif already reads. */
 export const insertRepeat: MutationOperator = (genome, ctx) => {
-  const repeats = repeatsOf(genome);
-  if (!repeats.length || !genome.motifs?.length || !allowsRepeats(ctx)) return null;
-  const shapes = shapesOf(genome, ctx.data);
-  if (!shapes) return null;
-  const motif = ctx.rng.pick(genome.motifs);
-  const rank = shapes.get(repeats.find((r) => r.motif === motif.id)!.inputs[0]!)!.length;
-  const edges = edgesOf(genome).filter((e) => shapes.get(e.from)!.length === rank);
+  const picked = pickMotif(genome, ctx);
+  if (!picked) return null;
+  const { motif, inputShape, shapes } = picked;
+  const edges = edgesOf(genome).filter((e) => shapes.get(e.from)!.length === inputShape.length);
   if (!edges.length) return null;
   const edge = ctx.rng.pick(edges);
   const node: LayerNode = { id: freshId(genome, 'repeat'), kind: 'repeat', inputs: [edge.from], motif: motif.id, times: 1 };
