@@ -6,6 +6,7 @@ export * from './sha256.js';
 export * from './genome/genome-schema.js';
 export * from './genome/search-space-schema.js';
 export * from './genome/analyze.js';
+export * from './genome/motifs.js';
 export * from './genome/canonical.js';
 export * from './genome/validate.js';
 export * from './genome/reference-networks.js';

@@ -45,6 +45,7 @@ export function architectureSvg(c: ChampionSummaryDocument, layers: NodeAnalysis
     if ('strides' in n && n.strides > 1) parts.push(`stride ${n.strides}`);
     if ('rate' in n) parts.push(`rate ${n.rate}`);
     if ('activation' in n) parts.push(n.activation);
+    if (n.kind === 'repeat') parts.push(`motif ${n.motif} ×${n.times}`);
     return parts.join(', ');
   };
   const edges = all.flatMap((n) =>

@@ -1,4 +1,4 @@
-import type { Genome, LayerNode } from '@netbreeder/shared-types';
+import { expandMotifs, type Genome, type LayerNode } from '@netbreeder/shared-types';
 
 /**
  * Choosing the members of an averaging ensemble: accurate AND different from each other, since
@@ -15,7 +15,7 @@ import type { Genome, LayerNode } from '@netbreeder/shared-types';
 /** Width in powers of two (8 and 12 units fall together, 8 and 32 do not). */
 const bucket = (n: number) => Math.round(Math.log2(Math.max(1, n)));
 
-/** One token per layer naming its kind and its main sizes, plus the optimizer: the multiset that architectures are compared by. */
+/** One token per built layer naming its kind and its main sizes, plus the optimizer: the multiset that architectures are compared by. */
 export function architectureTokens(genome: Genome): string[] {
   const token = (n: LayerNode): string => {
     switch (n.kind) {
@@ -34,7 +34,8 @@ export function architectureTokens(genome: Genome): string[] {
         return n.kind;
     }
   };
-  return [...genome.nodes.map(token), `optimizer/${genome.training.optimizer}`];
+  // A repeat counts as the layers it builds, so a motif applied twice and the same layers written out compare equal.
+  return [...expandMotifs(genome).genome.nodes.map(token), `optimizer/${genome.training.optimizer}`];
 }
 
 /** Multiset Jaccard similarity of two genomes' {@link architectureTokens}: 1 for equal token counts, 0 for nothing in common. */

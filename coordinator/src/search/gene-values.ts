@@ -35,6 +35,9 @@ export function logUniformIn(rng: Random, r: NumericRange): number {
   return tidyInRange(rng.logUniform(r.min, r.max), r);
 }
 
+/** A dropout rate uniform in `r`, rounded to hundredths (and kept in `r`). */
+export const drawDropoutRate = (rng: Random, r: NumericRange): number => clamp(Math.round(rng.uniform(r.min, r.max) * 100) / 100, r);
+
 /** One element of `items` other than `current`, or null when there is none. */
 export function pickOther<T>(rng: Random, items: readonly T[], current: T): T | null {
   const others = items.filter((i) => i !== current);

@@ -38,6 +38,7 @@ const ID_STEMS: Record<LayerKind, string> = {
   'global-max-pool': 'gmp',
   add: 'add',
   concat: 'cat',
+  repeat: 'rep',
 };
 
 /** An id for a new node of `kind` that no node of `genome` uses: `conv1`, `conv2`, … (valid for the schema). */
@@ -93,10 +94,40 @@ export function insertOnEdge(genome: Genome, edge: Edge, node: LayerNode): Genom
   return { ...genome, nodes, output: edge.to === null ? node.id : genome.output };
 }
 
-/** Drops every node that does not lead to the output. */
+/** Drops every node that does not lead to the output, and every motif no remaining repeat applies. */
 export function pruneDead(genome: Genome): Genome {
   const live = upstream(genome, [genome.output]);
-  return { ...genome, nodes: genome.nodes.filter((n) => live.has(n.id)) };
+  const nodes = genome.nodes.filter((n) => live.has(n.id));
+  if (!genome.motifs) return { ...genome, nodes };
+  const used = new Set(nodes.flatMap((n) => (n.kind === 'repeat' ? [n.motif] : [])));
+  const { motifs, ...rest } = genome;
+  const kept = motifs.filter((m) => used.has(m.id));
+  return kept.length ? { ...rest, nodes, motifs: kept } : { ...rest, nodes };
+}
+
+/** Ids of the nodes that read `id`, plus `null` when the classifier head does. */
+export function readersOf(genome: Genome, id: string): (string | null)[] {
+  const out: (string | null)[] = genome.nodes.filter((n) => n.inputs.includes(id)).map((n) => n.id);
+  if (genome.output === id) out.push(null);
+  return out;
+}
+
+/**
+ * Puts the chain `nodes` (each reading the one before, the first reading `after`) right after node
+ * `after`: every reader of `after` (and the head, when it read it) reads the chain's last node instead.
+ */
+export function insertChainAfter(genome: Genome, after: string, nodes: readonly LayerNode[]): Genome {
+  const last = nodes[nodes.length - 1]!.id;
+  const rewired = genome.nodes.map((n) => (n.inputs.includes(after) ? ({ ...n, inputs: n.inputs.map((i) => (i === after ? last : i)) } as LayerNode) : n));
+  const at = rewired.findIndex((n) => n.id === after);
+  rewired.splice(at + 1, 0, ...nodes);
+  return { ...genome, nodes: rewired, output: genome.output === after ? last : genome.output };
+}
+
+/** An id for a new motif that the genome's motifs do not use: `motif1`, `motif2`, … */
+export function freshMotifId(genome: Genome): string {
+  const used = new Set((genome.motifs ?? []).map((m) => m.id));
+  for (let k = 1; ; k++) if (!used.has(`motif${k}`)) return `motif${k}`;
 }
 
 /**

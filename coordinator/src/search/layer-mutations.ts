@@ -1,6 +1,6 @@
 import type { Genome, LayerKind, LayerNode, SampleShape } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
-import { clamp, logUniformInt, pickOther, weightedPick } from './gene-values.js';
+import { clamp, drawDropoutRate, logUniformInt, pickOther, weightedPick } from './gene-values.js';
 import { ancestorsOf, bypassNode, describeEdge, edgesOf, freshId, insertOnEdge, shapesOf, type Edge } from './graph-edit.js';
 
 /**
@@ -16,7 +16,7 @@ export type MutationOperator = (genome: Genome, ctx: GenomeContext) => MutationR
  * Relative odds of each kind when a layer is added (only kinds the space allows and the tensor
  * accepts take part). Weight layers are favoured since they carry the capacity; the rest shape it.
  */
-export const ADD_LAYER_KIND_WEIGHTS: Readonly<Record<Exclude<LayerKind, 'add' | 'concat'>, number>> = {
+export const ADD_LAYER_KIND_WEIGHTS: Readonly<Record<Exclude<LayerKind, 'add' | 'concat' | 'repeat'>, number>> = {
   dense: 3,
   conv2d: 3,
   'depthwise-conv2d': 1,
@@ -55,7 +55,7 @@ export function describeNode(n: LayerNode): string {
 }
 
 /** The space's smallest stride of 1 if allowed, else its smallest stride. */
-const unitStride = (strides: readonly number[]): number => (strides.includes(1) ? 1 : Math.min(...strides));
+export const unitStride = (strides: readonly number[]): number => (strides.includes(1) ? 1 : Math.min(...strides));
 
 /** Kinds that may go on an edge whose tensor has shape `shape`. */
 function insertableKinds(shape: SampleShape, edge: Edge, ctx: GenomeContext): LayerKind[] {
@@ -108,7 +108,7 @@ function newLayer(genome: Genome, kind: LayerKind, from: string, shape: SampleSh
       return { ...base, kind, poolSize, strides };
     }
     case 'dropout':
-      return { ...base, kind, rate: clamp(Math.round(rng.uniform(space.dropoutRate.min, space.dropoutRate.max) * 100) / 100, space.dropoutRate) };
+      return { ...base, kind, rate: drawDropoutRate(rng, space.dropoutRate) };
     case 'activation':
       return { ...base, kind, activation: rng.pick(space.activations) };
     case 'batch-norm':
@@ -119,6 +119,8 @@ function newLayer(genome: Genome, kind: LayerKind, from: string, shape: SampleSh
     case 'add':
     case 'concat':
       throw new Error(`newLayer does not build merges; use addSkip for '${kind}'`);
+    case 'repeat':
+      throw new Error("newLayer does not build repeats; the motif mutations add them");
   }
 }
 

@@ -99,12 +99,15 @@ describe('mutate', () => {
       schemaVersion: 1,
       nodes: [
         { id: 'c1', kind: 'conv2d', inputs: ['input'], filters: 8, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' },
-        { id: 'c2', kind: 'conv2d', inputs: ['c1'], filters: 8, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' },
+        { id: 'r', kind: 'repeat', inputs: ['c1'], motif: 'm', times: 2 },
+        { id: 'c2', kind: 'conv2d', inputs: ['r'], filters: 8, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' },
         { id: 'g', kind: 'global-avg-pool', inputs: ['c2'] },
         { id: 'x', kind: 'dropout', inputs: ['g'], rate: 0.2 },
       ],
       output: 'x',
       training: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 1e-4, epochs: 5 },
+      // A motif, so the motif operators apply too.
+      motifs: [{ id: 'm', nodes: [{ id: 'mc', kind: 'conv2d', inputs: ['input'], filters: 8, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' }], output: 'mc' }],
     };
     const space = defaultSearchSpace();
     const rng = createRandom(5);

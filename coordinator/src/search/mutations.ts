@@ -3,6 +3,8 @@ import type { GenomeContext } from './minimal-genome.js';
 import { weightedPick } from './gene-values.js';
 import { addLayer, addSkip, changeActivation, changeKernelSize, changeStride, changeWidth, removeLayer, type MutationOperator } from './layer-mutations.js';
 import { changeBatchSize, changeDropoutRate, changeEpochs, changeOptimizer, changeWeightDecay, perturbLearningRate } from './training-mutations.js';
+import { duplicateBlock, insertBlock, removeBlock, scaleWidths } from './block-mutations.js';
+import { changeRepeatCount, insertRepeat, makeMotif, mutateMotif } from './motif-mutations.js';
 
 export type { MutationOperator, MutationResult } from './layer-mutations.js';
 
@@ -21,17 +23,30 @@ export const MUTATION_OPERATORS = {
   'change-weight-decay': changeWeightDecay,
   'change-dropout-rate': changeDropoutRate,
   'change-epochs': changeEpochs,
+  'insert-block': insertBlock,
+  'remove-block': removeBlock,
+  'scale-widths': scaleWidths,
+  'duplicate-block': duplicateBlock,
+  'change-repeat-count': changeRepeatCount,
+  'mutate-motif': mutateMotif,
+  'make-motif': makeMotif,
+  'insert-repeat': insertRepeat,
 } as const satisfies Record<string, MutationOperator>;
 
 export type MutationOperatorName = keyof typeof MUTATION_OPERATORS;
 
 /**
- * Relative odds of each operator (total 24). Structure gets 17/24 since the search starts from a
- * linear classifier and must grow: adding a layer is the most common move (6), with removal (2) to
- * undo growth that does not pay; width (3), kernel size (2), skip connections (2), stride and
- * activation (1 each) refine it. Training genes get 7/24: the learning rate, which matters most,
- * 2; batch size, optimizer, weight decay, dropout rate and epochs 1 each. An operator that does not
- * apply (no conv layer to widen, no dropout to tune) is simply drawn again.
+ * Relative odds of each operator (total 35). Single layers get 17: the search starts from a linear
+ * classifier and must grow, so adding a layer is the most common move (6), with removal (2) to undo
+ * growth that does not pay; width (3), kernel size (2), skip connections (2), stride and activation
+ * (1 each) refine it. Whole blocks get 6, moves of the size that usually pays off: inserting a
+ * conv or dense block (3) grows a useful depth in one step; removing one, duplicating one, and
+ * widening or narrowing every layer at once (1 each) change depth and width at the network's scale.
+ * Repeated motifs get 5: changing one (2) reshapes every application; a repeat count ±1, turning a
+ * block into a motif, and applying a motif elsewhere 1 each. Training genes get 7: the learning
+ * rate, which matters most, 2; batch size, optimizer, weight decay, dropout rate and epochs 1 each.
+ * An operator that does not apply (no conv layer to widen, no motif to repeat) is simply drawn
+ * again, so on a young genome the layer and block moves share the odds.
  */
 export const DEFAULT_MUTATION_WEIGHTS: Readonly<Record<MutationOperatorName, number>> = {
   'add-layer': 6,
@@ -47,6 +62,14 @@ export const DEFAULT_MUTATION_WEIGHTS: Readonly<Record<MutationOperatorName, num
   'change-weight-decay': 1,
   'change-dropout-rate': 1,
   'change-epochs': 1,
+  'insert-block': 3,
+  'remove-block': 1,
+  'scale-widths': 1,
+  'duplicate-block': 1,
+  'change-repeat-count': 1,
+  'mutate-motif': 2,
+  'make-motif': 1,
+  'insert-repeat': 1,
 };
 
 /** How {@link mutate} draws and retries. */

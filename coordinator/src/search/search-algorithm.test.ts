@@ -114,7 +114,8 @@ describe('createSearchAlgorithm', () => {
   });
 
   it('passes mutation options through', () => {
-    const zero = { 'add-layer': 0, 'remove-layer': 0, 'change-width': 0, 'change-kernel-size': 0, 'change-stride': 0, 'change-activation': 0, 'add-skip': 0 };
+    const structural = ['add-layer', 'remove-layer', 'change-width', 'change-kernel-size', 'change-stride', 'change-activation', 'add-skip', 'insert-block', 'remove-block', 'scale-widths', 'duplicate-block', 'change-repeat-count', 'mutate-motif', 'make-motif', 'insert-repeat'];
+    const zero = Object.fromEntries(structural.map((name) => [name, 0]));
     const alg = createSearchAlgorithm('aging-evolution', { ...settings, initialMutations: 0, start: 'minimal' }, { space, data: IMAGE, seed: 1, mutation: { weights: zero } });
     const d = new Driver('w').run(alg, 80);
     expect(d.proposals.every((p) => p.genome.nodes.length === 0)).toBe(true);

@@ -1,4 +1,8 @@
 import { INPUT_ID, type Genome, type LayerNode } from './genome-schema.js';
+import { topologicalOrder, type GenomeIssue } from './graph-order.js';
+import { expandMotifs, issueInGenomeTerms, motifAsGenome, motifIssues, motifsById } from './motifs.js';
+
+export { topologicalOrder, type GenomeIssue } from './graph-order.js';
 
 /** A tensor shape without the batch axis: `[features]` or `[height, width, channels]`. */
 export type SampleShape = readonly number[];
@@ -7,12 +11,6 @@ export type SampleShape = readonly number[];
 export interface DataShape {
   inputShape: SampleShape;
   numClasses: number;
-}
-
-/** One structural problem, naming the node and how to fix it. */
-export interface GenomeIssue {
-  nodeId: string | null;
-  message: string;
 }
 
 export interface NodeAnalysis {
@@ -25,7 +23,12 @@ export interface NodeAnalysis {
 
 /** Shapes, parameter count and FLOPs of a genome, computed from the genome alone. */
 export interface GenomeAnalysis {
-  /** Nodes in topological order, then the implicit head (`head-flatten` when needed, `head-dense`). */
+  /**
+   * Layers in topological order, then the implicit head (`head-flatten` when needed, `head-dense`).
+   * A repeat's motif is listed once per application (ids `r.k.c`, see `expandMotifs`), followed by
+   * an entry of kind `repeat` with the repeat's own id, its output shape and no parameters or FLOPs
+   * of its own (those are on its layers, so sums over the list count every application once).
+   */
   nodes: NodeAnalysis[];
   /** Every weight the model holds (trainable or not), as TensorFlow.js `countParams()` counts them. */
   params: number;
@@ -43,32 +46,6 @@ export function windowOutputLength(length: number, window: number, stride: numbe
   return padding === 'same' ? Math.ceil(length / stride) : Math.floor((length - window) / stride) + 1;
 }
 
-interface Visit {
-  byId: Map<string, LayerNode>;
-  state: Map<string, 'visiting' | 'done'>;
-  order: LayerNode[];
-  issues: GenomeIssue[];
-}
-
-/** Depth-first: puts `id`'s inputs, then `id`, on `order`; false (with the issue) on a cycle. `path`: the nodes being visited, outermost first. */
-function visitNode(id: string, path: string[], v: Visit): boolean {
-  if (id === INPUT_ID) return true;
-  const s = v.state.get(id);
-  if (s === 'done') return true;
-  if (s === 'visiting') {
-    v.issues.push({ nodeId: id, message: `cycle ${[...path.slice(path.indexOf(id)), id].join(' -> ')}; a genome must be acyclic` });
-    return false;
-  }
-  v.state.set(id, 'visiting');
-  const n = v.byId.get(id)!;
-  path.push(id);
-  for (const i of n.inputs) if (!visitNode(i, path, v)) return false;
-  path.pop();
-  v.state.set(id, 'done');
-  v.order.push(n);
-  return true;
-}
-
 /** An issue of node `n`. */
 const issueAt = (n: LayerNode, message: string): GenomeIssue => ({ nodeId: n.id, message });
 
@@ -81,44 +58,16 @@ function spatialInput(n: LayerNode, first: SampleShape, issues: GenomeIssue[]): 
   return first as unknown as [number, number, number];
 }
 
-/**
- * Orders the nodes so each comes after its inputs, or reports the cycle or dangling reference that
- * makes that impossible. Nodes that do not lead to the output are reported too: they would train
- * nothing.
- */
-export function topologicalOrder(genome: Genome): { ok: true; order: LayerNode[] } | { ok: false; issues: GenomeIssue[] } {
-  const issues: GenomeIssue[] = [];
-  const byId = new Map<string, LayerNode>();
-  for (const n of genome.nodes) {
-    if (n.id === INPUT_ID) issues.push({ nodeId: n.id, message: `'${INPUT_ID}' is reserved for the dataset input; rename the node` });
-    else if (byId.has(n.id)) issues.push({ nodeId: n.id, message: 'duplicate node id; give every node its own id' });
-    else byId.set(n.id, n);
-  }
-  for (const n of genome.nodes) {
-    for (const i of n.inputs) {
-      if (i !== INPUT_ID && !byId.has(i)) issues.push({ nodeId: n.id, message: `input '${i}' is not a node of this genome` });
-    }
-    if (new Set(n.inputs).size !== n.inputs.length) issues.push({ nodeId: n.id, message: 'the same input is listed twice' });
-  }
-  if (genome.output !== INPUT_ID && !byId.has(genome.output)) {
-    issues.push({ nodeId: null, message: `output '${genome.output}' is not a node of this genome` });
-  }
-  if (issues.length) return { ok: false, issues };
-
-  const order: LayerNode[] = [];
-  const state = new Map<string, 'visiting' | 'done'>();
-  if (!visitNode(genome.output, [], { byId, state, order, issues })) return { ok: false, issues };
-  for (const n of genome.nodes) {
-    if (!state.has(n.id)) issues.push({ nodeId: n.id, message: 'node does not lead to the output; remove it or connect it' });
-  }
-  if (issues.length) return { ok: false, issues };
-  return { ok: true, order };
-}
-
 /** Infers every node's shape and counts parameters and FLOPs, or reports the shape mismatches. */
 export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
-  const topo = topologicalOrder(genome);
-  if (!topo.ok) return topo;
+  const motifProblems = motifIssues(genome);
+  if (motifProblems.length) return { ok: false, issues: motifProblems };
+  const ownOrder = topologicalOrder(genome);
+  if (!ownOrder.ok) return ownOrder;
+  const expanded = expandMotifs(genome);
+  const topo = expanded.genome === genome ? ownOrder : topologicalOrder(expanded.genome);
+  if (!topo.ok) return { ok: false, issues: topo.issues.map((i) => issueInGenomeTerms(i, genome)) };
+  const repeatAt = new Map([...expanded.repeatOutputs].map(([repeat, layer]) => [layer, repeat] as const));
   const issues: GenomeIssue[] = [];
   const shapes = new Map<string, SampleShape>([[INPUT_ID, data.inputShape]]);
   const nodes: NodeAnalysis[] = [];
@@ -220,14 +169,18 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
         out = [...first.slice(0, -1), inShapes.reduce((a, s) => a + s[s.length - 1]!, 0)];
         break;
       }
+      case 'repeat':
+        throw new Error('expandMotifs leaves no repeat node');
     }
     if (!out) continue;
     shapes.set(n.id, out);
     nodes.push({ id: n.id, kind: n.kind, outputShape: out, params, flops });
+    const repeat = repeatAt.get(n.id);
+    if (repeat !== undefined) nodes.push({ id: repeat, kind: 'repeat', outputShape: out, params: 0, flops: 0 });
   }
-  if (issues.length) return { ok: false, issues };
+  if (issues.length) return { ok: false, issues: issues.map((i) => issueInGenomeTerms(i, genome)) };
 
-  let last = shapes.get(genome.output)!;
+  let last = shapes.get(expanded.genome.output)!;
   if (last.length !== 1) {
     const flat = [product(last)];
     nodes.push({ id: 'head-flatten', kind: 'head-flatten', outputShape: flat, params: 0, flops: 0 });
@@ -273,6 +226,11 @@ export function describeGenome(genome: Genome, numClasses?: number): string {
       case 'add':
       case 'concat':
         return `${n.kind}(${n.inputs.join(', ')})`;
+      case 'repeat': {
+        const motif = motifsById(genome).get(n.motif);
+        const order = motif ? topologicalOrder(motifAsGenome(genome, motif)) : null;
+        return `${n.times}× ${n.motif}(${order?.ok ? order.order.map(part).join(' → ') : '?'})`;
+      }
       default:
         return n.kind;
     }

@@ -6,7 +6,8 @@ import { Type, type Static } from '@sinclair/typebox';
  * Nodes name their inputs by id; the id `input` is the dataset's sample tensor. The node named by
  * `output` feeds the classifier head, which every genome has implicitly: a flatten when the output
  * is still spatial, then a dense layer with one softmax unit per class. Shapes are never stored in
- * a genome; they follow from the dataset's input shape (see `analyzeGenome`).
+ * a genome; they follow from the dataset's input shape (see `analyzeGenome`). A genome may define
+ * blocks once (`motifs`) and apply them several times in sequence with `repeat` nodes.
  */
 export const GENOME_SCHEMA_VERSION = 1;
 
@@ -62,6 +63,17 @@ export const GlobalMaxPoolNodeSchema = node('global-max-pool', [1, 1], {});
 export const AddNodeSchema = node('add', [2, 4], {});
 /** Concatenation along the last (channel or feature) axis. */
 export const ConcatNodeSchema = node('concat', [2, 4], {});
+/** Most applications one repeat node may ask for (the search space's `maxRepeats` is usually lower). */
+export const MAX_REPEAT_TIMES = 16;
+/**
+ * Applies the genome's motif `motif` `times` times in sequence: the first application reads this
+ * node's input, each later one the previous one's output; consumers of this node read the last
+ * one's output. See `expandMotifs` for the layers this stands for.
+ */
+export const RepeatNodeSchema = node('repeat', [1, 1], {
+  motif: Type.String({ minLength: 1, maxLength: 32 }),
+  times: Type.Integer({ minimum: 1, maximum: MAX_REPEAT_TIMES }),
+});
 
 export const LayerNodeSchema = Type.Union([
   DenseNodeSchema,
@@ -77,6 +89,7 @@ export const LayerNodeSchema = Type.Union([
   GlobalMaxPoolNodeSchema,
   AddNodeSchema,
   ConcatNodeSchema,
+  RepeatNodeSchema,
 ]);
 export type LayerNode = Static<typeof LayerNodeSchema>;
 export type LayerKind = LayerNode['kind'];
@@ -96,6 +109,7 @@ export const LAYER_KINDS: readonly LayerKind[] = [
   'global-max-pool',
   'add',
   'concat',
+  'repeat',
 ];
 
 export const OptimizerSchema = Type.Union([Type.Literal('adam'), Type.Literal('sgd'), Type.Literal('rmsprop')]);
@@ -116,6 +130,21 @@ export const TrainingGenesSchema = Type.Object(
 );
 export type TrainingGenes = Static<typeof TrainingGenesSchema>;
 
+/**
+ * A block defined once and used by `repeat` nodes. Its nodes read `input` (inside a motif that is
+ * the tensor the motif is applied to) or each other; `output` names the node whose tensor one
+ * application gives. Motifs do not nest: a motif's nodes are never `repeat` nodes.
+ */
+export const MotifSchema = Type.Object(
+  {
+    id: NodeId,
+    nodes: Type.Array(LayerNodeSchema, { minItems: 1, maxItems: 64 }),
+    output: Type.String({ minLength: 1, maxLength: 32 }),
+  },
+  { additionalProperties: false },
+);
+export type Motif = Static<typeof MotifSchema>;
+
 export const GenomeSchema = Type.Object(
   {
     schemaVersion: Type.Literal(GENOME_SCHEMA_VERSION),
@@ -123,6 +152,8 @@ export const GenomeSchema = Type.Object(
     /** Id of the node that feeds the classifier head (`input` for a linear model). */
     output: Type.String({ minLength: 1, maxLength: 32 }),
     training: TrainingGenesSchema,
+    /** Blocks that `repeat` nodes apply; absent (not empty) when the genome uses none. */
+    motifs: Type.Optional(Type.Array(MotifSchema, { minItems: 1, maxItems: 16 })),
   },
   { additionalProperties: false },
 );

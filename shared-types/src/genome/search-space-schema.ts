@@ -1,5 +1,5 @@
 import { Type, type Static } from '@sinclair/typebox';
-import { ActivationSchema, LAYER_KINDS, OptimizerSchema, type LayerKind } from './genome-schema.js';
+import { ActivationSchema, LAYER_KINDS, MAX_REPEAT_TIMES, OptimizerSchema, type LayerKind } from './genome-schema.js';
 
 const Range = (min: number, max: number, opts: { integer?: boolean } = {}) => {
   const n = opts.integer ? Type.Integer({ minimum: min, maximum: max }) : Type.Number({ minimum: min, maximum: max });
@@ -13,7 +13,8 @@ const Range = (min: number, max: number, opts: { integer?: boolean } = {}) => {
 export const SearchSpaceSchema = Type.Object(
   {
     allowedKinds: Type.Array(Type.Union(LAYER_KINDS.map((k) => Type.Literal(k))), { minItems: 1, uniqueItems: true }),
-    /** Most layer nodes a genome may have (the implicit head not counted). */
+    /** Most layer nodes a genome may have (the implicit head not counted). A repeat node counts as
+     * the layers it builds: its motif's nodes once per application (see `expandedLayerCount`). */
     maxNodes: Type.Integer({ minimum: 0, maximum: 256 }),
     /** Most trainable and non-trainable parameters, head included. */
     maxParams: Type.Integer({ minimum: 1 }),
@@ -31,10 +32,17 @@ export const SearchSpaceSchema = Type.Object(
     batchSizes: Type.Array(Type.Integer({ minimum: 1, maximum: 4096 }), { minItems: 1, uniqueItems: true }),
     weightDecay: Range(0, 0.1),
     epochs: Range(1, 1000, { integer: true }),
+    /** Most applications a `repeat` node may ask for. @default 4 ({@link DEFAULT_MAX_REPEATS}) */
+    maxRepeats: Type.Optional(Type.Integer({ minimum: 1, maximum: MAX_REPEAT_TIMES })),
   },
   { additionalProperties: false },
 );
 export type SearchSpace = Static<typeof SearchSpaceSchema>;
+
+/** `maxRepeats` of a space that does not set it. */
+export const DEFAULT_MAX_REPEATS = 4;
+/** The space's `maxRepeats`, or its default. */
+export const maxRepeatsOf = (space: SearchSpace): number => space.maxRepeats ?? DEFAULT_MAX_REPEATS;
 
 /** Kinds that only make sense on a spatial (height × width × channels) tensor. */
 export const SPATIAL_KINDS: readonly LayerKind[] = [
@@ -69,5 +77,6 @@ export function defaultSearchSpace(): SearchSpace {
     batchSizes: [16, 32, 64, 128],
     weightDecay: { min: 0, max: 1e-3 },
     epochs: { min: 1, max: 20 },
+    maxRepeats: DEFAULT_MAX_REPEATS,
   };
 }

@@ -1,6 +1,7 @@
 import { GenomeSchema, type Genome, type LayerNode } from './genome-schema.js';
-import { SPATIAL_KINDS, type SearchSpace } from './search-space-schema.js';
+import { maxRepeatsOf, SPATIAL_KINDS, type SearchSpace } from './search-space-schema.js';
 import { analyzeGenome, type DataShape, type GenomeAnalysis, type GenomeIssue } from './analyze.js';
+import { expandedLayerCount } from './motifs.js';
 import { createValidator } from '../validation.js';
 
 export const genomeValidator = createValidator('genome', GenomeSchema);
@@ -35,6 +36,9 @@ function nodeIssues(n: LayerNode, space: SearchSpace): string[] {
     case 'dropout':
       if (!inRange(n.rate, space.dropoutRate)) out.push(`dropout rate ${n.rate} outside [${space.dropoutRate.min}, ${space.dropoutRate.max}]`);
       break;
+    case 'repeat':
+      if (n.times > maxRepeatsOf(space)) out.push(`times ${n.times} is above the search space's maxRepeats ${maxRepeatsOf(space)}; lower times or raise maxRepeats`);
+      break;
     default:
       break;
   }
@@ -51,9 +55,16 @@ export function checkGenome(value: unknown, space: SearchSpace, data: DataShape)
   if (schemaIssues.length) return { ok: false, issues: schemaIssues.map((i) => ({ nodeId: null, message: `${i.path || '(root)'} ${i.message}` })) };
   const genome = value as Genome;
   const issues: GenomeIssue[] = [];
-  if (genome.nodes.length > space.maxNodes) issues.push({ nodeId: null, message: `${genome.nodes.length} nodes, more than the search space's ${space.maxNodes}` });
+  const layers = expandedLayerCount(genome);
+  if (layers > space.maxNodes) {
+    const counted = genome.motifs ? ' once motifs are expanded (a repeat counts its motif nodes once per application)' : '';
+    issues.push({ nodeId: null, message: `${layers} nodes${counted}, more than the search space's ${space.maxNodes}` });
+  }
   for (const n of genome.nodes) for (const message of nodeIssues(n, space)) issues.push({ nodeId: n.id, message });
-  if (data.inputShape.length !== 3 && genome.nodes.some((n) => SPATIAL_KINDS.includes(n.kind))) {
+  const motifNodes = (genome.motifs ?? []).flatMap((m) => m.nodes.map((n) => ({ motif: m.id, n })));
+  for (const { motif, n } of motifNodes) for (const message of nodeIssues(n, space)) issues.push({ nodeId: n.id, message: `in motif '${motif}': ${message}` });
+  const anySpatial = genome.nodes.some((n) => SPATIAL_KINDS.includes(n.kind)) || motifNodes.some(({ n }) => SPATIAL_KINDS.includes(n.kind));
+  if (data.inputShape.length !== 3 && anySpatial) {
     issues.push({ nodeId: null, message: 'this dataset has flat samples, so spatial layers (conv, pool, flatten) cannot be used' });
   }
   const t = genome.training;

@@ -4,7 +4,8 @@ import { analyzeGenome, type DataShape, type Genome } from '@netbreeder/shared-t
 import { initBackend } from './backend.js';
 import { buildModel } from './build-model.js';
 import { InvalidGenomeError } from './errors.js';
-import { chainGenome, concatDepthwiseGenome, linearGenome, refCnn, refMlp, refSkipBn } from './reference-genomes.js';
+import { chainGenome, concatDepthwiseGenome, flatMotifGenome, linearGenome, motifGenome, refCnn, refMlp, refSkipBn } from './reference-genomes.js';
+import { planWeightCopy } from './weight-inheritance.js';
 
 const MNIST_FLAT: DataShape = { inputShape: [784], numClasses: 10 };
 const MNIST_IMAGE: DataShape = { inputShape: [28, 28, 1], numClasses: 10 };
@@ -30,6 +31,8 @@ const cases: Array<[string, Genome, DataShape]> = [
     ),
     TILES,
   ],
+  ['repeated motifs: a conv cell ×3 and a residual cell ×2', motifGenome(3), TILES],
+  ['a repeated motif on flat input: dense → dropout ×3', flatMotifGenome(), MNIST_FLAT],
 ];
 
 beforeAll(async () => {
@@ -81,6 +84,23 @@ describe('buildModel', () => {
     } finally {
       model.dispose();
       penalised.dispose();
+    }
+  });
+
+  it('names a repeat\'s layers r.k.node, so a child with one more application inherits the others by name', () => {
+    const parent = buildModel(motifGenome(2), TILES, 1);
+    const child = buildModel(motifGenome(3), TILES, 1);
+    try {
+      const names = child.layers.map((l) => l.name);
+      expect(names).toEqual(expect.arrayContaining(['body.1.c', 'body.2.bn', 'body.3.act', 'res.1.sum', 'res.2.c']));
+      const specs = (m: tf.LayersModel) => m.weights.map((w) => ({ name: w.originalName, shape: w.shape as number[] }));
+      const plan = planWeightCopy(specs(child), specs(parent));
+      // Every weight but the third application's conv kernel and bias and its four batch-norm weights.
+      expect(plan.total - plan.copied).toBe(6);
+      expect(specs(child).filter((_, i) => !plan.copies.some(([t]) => t === i)).every((w) => w.name.startsWith('body.3.'))).toBe(true);
+    } finally {
+      parent.dispose();
+      child.dispose();
     }
   });
 

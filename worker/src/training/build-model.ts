@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import { analyzeGenome, createRandom, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
+import { analyzeGenome, createRandom, expandMotifs, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
 import { InvalidGenomeError } from './errors.js';
 import { SeededDropout } from './seeded-dropout.js';
 
@@ -22,7 +22,8 @@ type Sym = tf.SymbolicTensor;
 
 /**
  * Builds the TensorFlow.js functional model of a genome: one layer per node (named by the node's
- * id), then the implicit head that `analyzeGenome` describes (flatten when the output is still
+ * id; a repeat's layers are its motif's nodes once per application, named `r.k.c` by
+ * `expandMotifs`), then the implicit head that `analyzeGenome` describes (flatten when the output is still
  * spatial, then a dense softmax with one unit per class). Initialisers and dropout masks are
  * seeded from `seed`, one derived seed per layer, so the same genome and seed give the same model.
  * Throws {@link InvalidGenomeError} when the genome does not fit the data shape.
@@ -30,7 +31,8 @@ type Sym = tf.SymbolicTensor;
 export function buildModel(genome: Genome, data: DataShape, seed: number): tf.LayersModel {
   const analysis = analyzeGenome(genome, data);
   if (!analysis.ok) throw new InvalidGenomeError(analysis.issues);
-  const topo = topologicalOrder(genome);
+  const layers = expandMotifs(genome).genome;
+  const topo = topologicalOrder(layers);
   if (!topo.ok) throw new InvalidGenomeError(topo.issues);
 
   const random = createRandom(`build ${seed}`);
@@ -103,12 +105,14 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
       case 'concat':
         layer = tf.layers.concatenate({ name: n.id, axis: -1 });
         break;
+      case 'repeat':
+        throw new Error('expandMotifs leaves no repeat node');
     }
     const inputs = n.inputs.length === 1 ? single(n) : n.inputs.map((i) => tensors.get(i)!);
     tensors.set(n.id, layer.apply(inputs) as Sym);
   }
 
-  let last = tensors.get(genome.output)!;
+  let last = tensors.get(layers.output)!;
   if (last.shape.length !== 2) last = tf.layers.flatten({ name: HEAD_FLATTEN_NAME }).apply(last) as Sym;
   const output = tf.layers
     .dense({ name: HEAD_DENSE_NAME, units: data.numClasses, activation: 'softmax', kernelInitializer: glorot(), kernelRegularizer: regularizer() })

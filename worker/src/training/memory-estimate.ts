@@ -31,7 +31,7 @@ export function estimateTrainingBytes(
 ): TrainingMemoryEstimate {
   const weights = analysis.params * 4 * 2;
   const optimizer = analysis.params * 4 * OPTIMIZER_SLOTS[options.optimizer];
-  const perSample = sampleSize(data.inputShape) + analysis.nodes.reduce((a, n) => a + sampleSize(n.outputShape), 0);
+  const perSample = sampleSize(data.inputShape) + analysis.nodes.reduce((a, n) => a + (n.kind === 'repeat' ? 0 : sampleSize(n.outputShape)), 0); // a repeat's entry repeats its last layer's shape
   const activations = perSample * options.batchSize * 4 * ACTIVATION_COPIES;
   const dataBytes = options.samples * (sampleSize(data.inputShape) + 1) * 4;
   return { weights, optimizer, activations, data: dataBytes, total: weights + optimizer + activations + dataBytes };

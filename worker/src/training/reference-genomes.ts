@@ -78,3 +78,61 @@ export const concatDepthwiseGenome = (training: Partial<TrainingGenes> = {}): Ge
   output: 'fc',
   training: genes(training),
 });
+
+/**
+ * Repeated motifs on an image: a conv stem, a conv → batch norm → relu motif applied `times` times,
+ * a max pool, then a residual motif (conv → batch norm, added to the motif's input, relu) applied
+ * twice, a global average pool and a dense layer.
+ */
+export const motifGenome = (times = 3): Genome => ({
+  schemaVersion: GENOME_SCHEMA_VERSION,
+  nodes: [
+    { id: 'stem', kind: 'conv2d', inputs: ['input'], filters: 8, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' },
+    { id: 'body', kind: 'repeat', inputs: ['stem'], motif: 'cell', times },
+    { id: 'pool', kind: 'max-pool2d', inputs: ['body'], poolSize: 2, strides: 2 },
+    { id: 'res', kind: 'repeat', inputs: ['pool'], motif: 'residual', times: 2 },
+    { id: 'gap', kind: 'global-avg-pool', inputs: ['res'] },
+    { id: 'fc', kind: 'dense', inputs: ['gap'], units: 12, activation: 'relu' },
+  ],
+  output: 'fc',
+  training: genes(),
+  motifs: [
+    {
+      id: 'cell',
+      nodes: [
+        { id: 'c', kind: 'conv2d', inputs: ['input'], filters: 12, kernelSize: 3, strides: 1, padding: 'same', activation: 'linear' },
+        { id: 'bn', kind: 'batch-norm', inputs: ['c'] },
+        { id: 'act', kind: 'activation', inputs: ['bn'], activation: 'relu' },
+      ],
+      output: 'act',
+    },
+    {
+      id: 'residual',
+      nodes: [
+        { id: 'c', kind: 'conv2d', inputs: ['input'], filters: 12, kernelSize: 3, strides: 1, padding: 'same', activation: 'linear' },
+        { id: 'bn', kind: 'batch-norm', inputs: ['c'] },
+        { id: 'sum', kind: 'add', inputs: ['bn', 'input'] },
+        { id: 'act', kind: 'activation', inputs: ['sum'], activation: 'relu' },
+      ],
+      output: 'act',
+    },
+  ],
+});
+
+/** Repeated motifs on flat samples: a dense → dropout motif applied three times. */
+export const flatMotifGenome = (): Genome => ({
+  schemaVersion: GENOME_SCHEMA_VERSION,
+  nodes: [{ id: 'mlp', kind: 'repeat', inputs: ['input'], motif: 'layer', times: 3 }],
+  output: 'mlp',
+  training: genes(),
+  motifs: [
+    {
+      id: 'layer',
+      nodes: [
+        { id: 'd', kind: 'dense', inputs: ['input'], units: 24, activation: 'relu' },
+        { id: 'drop', kind: 'dropout', inputs: ['d'], rate: 0.2 },
+      ],
+      output: 'drop',
+    },
+  ],
+});
