@@ -4,6 +4,7 @@ export * from './validation.js';
 export * from './random.js';
 export * from './sha256.js';
 export * from './genome/genome-schema.js';
+export * from './genome/schedule.js';
 export * from './genome/search-space-schema.js';
 export * from './genome/analyze.js';
 export * from './genome/motifs.js';

@@ -49,7 +49,7 @@ export function familyGenome(ctx: GenomeContext): Genome | null {
         schemaVersion: GENOME_SCHEMA_VERSION,
         nodes,
         output: nodes.length ? nodes[nodes.length - 1]!.id : INPUT_ID,
-        training: familyTraining(space, rng),
+        training: familyTraining(space, rng, data),
       };
       if (checkGenome(genome, space, data).ok) return genome;
     }
@@ -122,8 +122,8 @@ const dropoutRate = (space: SearchSpace, rng: GenomeContext['rng']) => {
  * The recipe of a family member: the space's random training genes, but Adam (when allowed) with a
  * learning rate log-uniform in [3e-4, 3e-3] (common practice for Adam), kept in the space's range.
  */
-function familyTraining(space: SearchSpace, rng: GenomeContext['rng']): TrainingGenes {
-  const genes = randomTrainingGenes(space, rng);
+function familyTraining(space: SearchSpace, rng: GenomeContext['rng'], data: GenomeContext['data']): TrainingGenes {
+  const genes = randomTrainingGenes(space, rng, data);
   const lo = Math.max(space.learningRate.min, 3e-4);
   const hi = Math.min(space.learningRate.max, 3e-3);
   return {

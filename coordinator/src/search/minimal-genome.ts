@@ -10,6 +10,7 @@ import {
   type TrainingGenes,
 } from '@netbreeder/shared-types';
 import { drawWeightDecay, logUniformIn } from './gene-values.js';
+import { drawRecipeGenes } from './recipe-genes.js';
 
 /** What every genome-building step of the search needs: the rules, the data's shape, a seeded source. */
 export interface GenomeContext {
@@ -33,15 +34,17 @@ export class MinimalGenomeError extends Error {
 /**
  * Training genes drawn from the space: learning rate log-uniform, batch size and optimizer uniform
  * among the allowed ones, weight decay 0 half the time (see {@link drawWeightDecay}), epochs uniform
- * in range.
+ * in range; then the recipe genes the space gives ranges for (see {@link drawRecipeGenes}; image
+ * augmentation only when `data` says the samples are images).
  */
-export function randomTrainingGenes(space: SearchSpace, rng: Random): TrainingGenes {
+export function randomTrainingGenes(space: SearchSpace, rng: Random, data?: DataShape): TrainingGenes {
   return {
     optimizer: rng.pick(space.optimizers),
     learningRate: logUniformIn(rng, space.learningRate),
     batchSize: rng.pick(space.batchSizes),
     weightDecay: drawWeightDecay(rng, space.weightDecay),
     epochs: rng.int(space.epochs.min, space.epochs.max),
+    ...drawRecipeGenes(space, rng, data),
   };
 }
 
@@ -56,7 +59,7 @@ export function minimalGenome(ctx: GenomeContext): Genome {
     schemaVersion: GENOME_SCHEMA_VERSION,
     nodes: [],
     output: INPUT_ID,
-    training: randomTrainingGenes(ctx.space, ctx.rng),
+    training: randomTrainingGenes(ctx.space, ctx.rng, ctx.data),
   };
   const check = checkGenome(genome, ctx.space, ctx.data);
   if (!check.ok) {

@@ -135,6 +135,10 @@ describe('mutate', () => {
       batchSizes: [32],
       weightDecay: { min: 0, max: 0 },
       epochs: { min: 5, max: 5 },
+      // and no recipe genes to draw or change
+      schedules: undefined,
+      labelSmoothing: undefined,
+      patience: undefined,
     };
     const parent = minimalGenome({ space, data: FLAT, rng: createRandom(1) });
     expect(() => mutate(parent, { space, data: FLAT, rng: createRandom(1), maxAttempts: 20 })).toThrow(MutationError);

@@ -2,6 +2,7 @@ import { checkGenome, genomeHash, type Genome } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import { weightedPick } from './gene-values.js';
 import { addLayer, addSkip, changeActivation, changeKernelSize, changeStride, changeWidth, removeLayer, type MutationOperator } from './layer-mutations.js';
+import { changeAugment, changeLabelSmoothing, changePatience, changeSchedule } from './recipe-genes.js';
 import { changeBatchSize, changeDropoutRate, changeEpochs, changeOptimizer, changeWeightDecay, perturbLearningRate } from './training-mutations.js';
 import { duplicateBlock, insertBlock, removeBlock, scaleWidths } from './block-mutations.js';
 import { changeRepeatCount, insertRepeat, makeMotif, mutateMotif } from './motif-mutations.js';
@@ -31,12 +32,16 @@ export const MUTATION_OPERATORS = {
   'mutate-motif': mutateMotif,
   'make-motif': makeMotif,
   'insert-repeat': insertRepeat,
+  'change-schedule': changeSchedule,
+  'change-augment': changeAugment,
+  'change-label-smoothing': changeLabelSmoothing,
+  'change-patience': changePatience,
 } as const satisfies Record<string, MutationOperator>;
 
 export type MutationOperatorName = keyof typeof MUTATION_OPERATORS;
 
 /**
- * Relative odds of each operator (total 35). Single layers get 17: the search starts from a linear
+ * Relative odds of each operator (total 41). Single layers get 17: the search starts from a linear
  * classifier and must grow, so adding a layer is the most common move (6), with removal (2) to undo
  * growth that does not pay; width (3), kernel size (2), skip connections (2), stride and activation
  * (1 each) refine it. Whole blocks get 6, moves of the size that usually pays off: inserting a
@@ -45,6 +50,9 @@ export type MutationOperatorName = keyof typeof MUTATION_OPERATORS;
  * Repeated motifs get 5: changing one (2) reshapes every application; a repeat count ±1, turning a
  * block into a motif, and applying a motif elsewhere 1 each. Training genes get 7: the learning
  * rate, which matters most, 2; batch size, optimizer, weight decay, dropout rate and epochs 1 each.
+ * The recipe genes get 6: the learning-rate schedule and the augmentation, which change what a
+ * longer training gains, 2 each; label smoothing and early stopping 1 each (each applies only where
+ * the search space gives it a range).
  * An operator that does not apply (no conv layer to widen, no motif to repeat) is simply drawn
  * again, so on a young genome the layer and block moves share the odds.
  */
@@ -70,6 +78,10 @@ export const DEFAULT_MUTATION_WEIGHTS: Readonly<Record<MutationOperatorName, num
   'mutate-motif': 2,
   'make-motif': 1,
   'insert-repeat': 1,
+  'change-schedule': 2,
+  'change-augment': 2,
+  'change-label-smoothing': 1,
+  'change-patience': 1,
 };
 
 /** How {@link mutate} draws and retries. */

@@ -19,7 +19,8 @@ describe('RandomSearch', () => {
       expect(p.parentHashes).toEqual([]);
       expect(p.mutation).toBeNull();
       expect(p.reason).toMatch(/^random sample \d+: minimal genome with \d+ random mutation/);
-      expect(p.genome.nodes.length).toBeLessThanOrEqual(12);
+      // at most 12 mutations, each adding at most one block (up to four layers), within the space
+      expect(p.genome.nodes.length).toBeLessThanOrEqual(Math.min(48, space.maxNodes));
     }
     expect(new Set(ps.map((p) => p.genomeHash)).size).toBe(60);
     const sizes = ps.map((p) => p.genome.nodes.length);

@@ -115,6 +115,54 @@ export const LAYER_KINDS: readonly LayerKind[] = [
 export const OptimizerSchema = Type.Union([Type.Literal('adam'), Type.Literal('sgd'), Type.Literal('rmsprop')]);
 export type OptimizerName = Static<typeof OptimizerSchema>;
 
+/**
+ * How the learning rate moves over one training of T optimizer steps (T = the job's epochs × the
+ * steps of one epoch), after an optional linear warm-up over `warmupEpochs` epochs:
+ * - `constant`: the gene's learning rate throughout;
+ * - `cosine`: cosine annealing from the learning rate down to `minFactor` times it
+ *   (lr_t = lr_min + ½ (lr − lr_min)(1 + cos(π t / T)), Loshchilov & Hutter, SGDR, ICLR 2017);
+ * - `step`: multiplied by `factor` each time training passes one of `atFractions` of T.
+ */
+export const LearningRateScheduleSchema = Type.Union([
+  Type.Object({ kind: Type.Literal('constant') }, { additionalProperties: false }),
+  Type.Object(
+    {
+      kind: Type.Literal('cosine'),
+      /** The last step's learning rate as a fraction of the gene's. */
+      minFactor: Type.Number({ minimum: 0, maximum: 1 }),
+      /** Epochs of linear warm-up from lr/W to lr before the decay starts (0 = none). */
+      warmupEpochs: Type.Integer({ minimum: 0, maximum: 100 }),
+    },
+    { additionalProperties: false },
+  ),
+  Type.Object(
+    {
+      kind: Type.Literal('step'),
+      /** Multiplier at each step point (common practice: 0.1). */
+      factor: Type.Number({ exclusiveMinimum: 0, exclusiveMaximum: 1 }),
+      /** Fractions of the training at which the rate is multiplied, ascending, each in (0, 1). */
+      atFractions: Type.Array(Type.Number({ exclusiveMinimum: 0, exclusiveMaximum: 1 }), { minItems: 1, maxItems: 4 }),
+      warmupEpochs: Type.Integer({ minimum: 0, maximum: 100 }),
+    },
+    { additionalProperties: false },
+  ),
+]);
+export type LearningRateSchedule = Static<typeof LearningRateScheduleSchema>;
+export type ScheduleKind = LearningRateSchedule['kind'];
+export const SCHEDULE_KINDS: readonly ScheduleKind[] = ['constant', 'cosine', 'step'];
+
+/** Random changes to each training image (never to validation or test samples). */
+export const AugmentationSchema = Type.Object(
+  {
+    /** Shift by up to this many pixels in x and in y (each drawn per sample, uniform), zero fill. */
+    shift: Type.Integer({ minimum: 0, maximum: 8 }),
+    /** Mirror left to right with probability ½; only where the run file says flips keep the label. */
+    flip: Type.Boolean(),
+  },
+  { additionalProperties: false },
+);
+export type Augmentation = Static<typeof AugmentationSchema>;
+
 export const TrainingGenesSchema = Type.Object(
   {
     optimizer: OptimizerSchema,
@@ -125,6 +173,18 @@ export const TrainingGenesSchema = Type.Object(
     weightDecay: Type.Number({ minimum: 0, maximum: 0.1 }),
     /** Epochs of training an evaluation gets unless its job sets another budget. */
     epochs: Type.Integer({ minimum: 1, maximum: 1000 }),
+    /** How the learning rate moves during training; absent: constant. */
+    schedule: Type.Optional(LearningRateScheduleSchema),
+    /** Image augmentation of training batches; absent: none. */
+    augment: Type.Optional(AugmentationSchema),
+    /** ε of label smoothing: training targets (1 − ε)·one-hot + ε/classes; absent or 0: none. */
+    labelSmoothing: Type.Optional(Type.Number({ minimum: 0, maximum: 0.5 })),
+    /**
+     * Early stopping: end the training when the validation loss has not improved for this many
+     * epochs (a training without validation, such as a final training, never stops early).
+     * Absent: no early stopping.
+     */
+    patience: Type.Optional(Type.Integer({ minimum: 1, maximum: 100 })),
   },
   { additionalProperties: false },
 );

@@ -15,19 +15,19 @@ export type ReferenceDataKind = 'image' | 'flat';
 
 /**
  * The training recipe of each reference network (common practice: Adam at 0.001 without weight
- * decay). `epochs` is the budget of its search evaluation; its final training takes its length from
+ * decay, the rate annealed to 0 by a cosine over the training). `epochs` is the budget of its search evaluation; its final training takes its length from
  * its own learning curve, like the champion's.
  */
 export const REFERENCE_RECIPES: Readonly<Record<ReferenceDataKind, TrainingGenes>> = {
-  image: { optimizer: 'adam', learningRate: 0.001, batchSize: 64, weightDecay: 0, epochs: 10 },
-  flat: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10 },
+  image: { optimizer: 'adam', learningRate: 0.001, batchSize: 64, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
+  flat: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
 };
 
 /** One line per data kind, for reports and logs. */
 export const REFERENCE_DESCRIPTIONS: Readonly<Record<ReferenceDataKind, string>> = {
   image:
-    'hand-made conv net: conv 3×3 16 → batch-norm → relu → max-pool 2 → conv 3×3 32 → batch-norm → relu → max-pool 2 → dropout 0.25 → flatten → dense softmax; Adam 0.001, batch 64',
-  flat: 'hand-made dense net: dense 128 relu → dropout 0.2 → dense 64 relu → dropout 0.2 → dense softmax; Adam 0.001, batch 32',
+    'hand-made conv net: conv 3×3 16 → batch-norm → relu → max-pool 2 → conv 3×3 32 → batch-norm → relu → max-pool 2 → dropout 0.25 → flatten → dense softmax; Adam 0.001 with cosine decay, batch 64',
+  flat: 'hand-made dense net: dense 128 relu → dropout 0.2 → dense 64 relu → dropout 0.2 → dense softmax; Adam 0.001 with cosine decay, batch 32',
 };
 
 export const referenceDataKind = (data: DataShape): ReferenceDataKind => (data.inputShape.length === 3 ? 'image' : 'flat');
@@ -97,6 +97,7 @@ function fittedTraining(recipe: TrainingGenes, space: SearchSpace, notes: string
   t.batchSize = nearest(t.batchSize, space.batchSizes);
   t.weightDecay = clamp(t.weightDecay, space.weightDecay);
   t.epochs = clamp(t.epochs, space.epochs);
+  if (t.schedule && !(space.schedules ?? ['constant']).includes(t.schedule.kind)) delete t.schedule;
   for (const k of Object.keys(recipe) as (keyof TrainingGenes)[]) {
     if (t[k] !== recipe[k]) notes.push(`${k} ${String(recipe[k])} → ${String(t[k])} (the search space's limits)`);
   }

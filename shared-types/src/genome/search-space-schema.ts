@@ -1,5 +1,5 @@
 import { Type, type Static } from '@sinclair/typebox';
-import { ActivationSchema, LAYER_KINDS, MAX_REPEAT_TIMES, OptimizerSchema, type LayerKind } from './genome-schema.js';
+import { ActivationSchema, LAYER_KINDS, SCHEDULE_KINDS, MAX_REPEAT_TIMES, OptimizerSchema, type LayerKind } from './genome-schema.js';
 
 const Range = (min: number, max: number, opts: { integer?: boolean } = {}) => {
   const n = opts.integer ? Type.Integer({ minimum: min, maximum: max }) : Type.Number({ minimum: min, maximum: max });
@@ -34,6 +34,20 @@ export const SearchSpaceSchema = Type.Object(
     epochs: Range(1, 1000, { integer: true }),
     /** Most applications a `repeat` node may ask for. @default 4 ({@link DEFAULT_MAX_REPEATS}) */
     maxRepeats: Type.Optional(Type.Integer({ minimum: 1, maximum: MAX_REPEAT_TIMES })),
+    /** Learning-rate schedules a genome may have (absent: only a constant rate, as before schedules existed). */
+    schedules: Type.Optional(Type.Array(Type.Union(SCHEDULE_KINDS.map((k) => Type.Literal(k))), { minItems: 1, uniqueItems: true })),
+    /** Range of the augmentation's shift in pixels, for image data (absent: no shift). */
+    shift: Type.Optional(Range(0, 8, { integer: true })),
+    /**
+     * The run file's word that a left-right mirror keeps every image's label (a tile stays a tile;
+     * a digit or a letter does not). Only then may a genome flip its training images; refused on
+     * flat data, which has no width axis. @default false
+     */
+    flips: Type.Optional(Type.Boolean()),
+    /** Range of label smoothing ε (absent: none). */
+    labelSmoothing: Type.Optional(Range(0, 0.5)),
+    /** Range of early stopping's patience in epochs; a genome may also have none (absent: no early stopping). */
+    patience: Type.Optional(Range(1, 100, { integer: true })),
   },
   { additionalProperties: false },
 );
@@ -78,5 +92,9 @@ export function defaultSearchSpace(): SearchSpace {
     weightDecay: { min: 0, max: 1e-3 },
     epochs: { min: 1, max: 20 },
     maxRepeats: DEFAULT_MAX_REPEATS,
+    schedules: ['constant', 'cosine', 'step'],
+    shift: { min: 0, max: 2 },
+    labelSmoothing: { min: 0, max: 0.1 },
+    patience: { min: 2, max: 5 },
   };
 }

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { checkGenome, formatGenomeIssues } from './validate.js';
+import { checkGenome, formatGenomeIssues, spaceIssuesForData } from './validate.js';
 import { defaultSearchSpace, type SearchSpace } from './search-space-schema.js';
 import type { Genome, LayerNode } from './genome-schema.js';
 import type { DataShape } from './analyze.js';
@@ -188,6 +188,26 @@ describe('checkGenome rejects bad genomes, each with its reason', () => {
     ['epochs', genome([], 'input', { epochs: 50 }), FLAT, 'epochs 50 outside [1, 20]'],
     ['optimizer', genome([], 'input', {}), FLAT, "optimizer 'adam' is not allowed", { ...defaultSearchSpace(), optimizers: ['sgd'] }],
   ];
+  const recipe: [string, Partial<Genome['training']>, DataShape, string, SearchSpace?][] = [
+    ['schedule not in the space', { schedule: { kind: 'step', factor: 0.1, atFractions: [0.5], warmupEpochs: 0 } }, FLAT, "learning-rate schedule 'step' is not allowed", { ...defaultSearchSpace(), schedules: ['cosine'] }],
+    ['schedule in a space from before schedules', { schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } }, FLAT, "learning-rate schedule 'cosine' is not allowed (the space allows constant)", { ...defaultSearchSpace(), schedules: undefined }],
+    ['step fractions out of order', { schedule: { kind: 'step', factor: 0.1, atFractions: [0.75, 0.5], warmupEpochs: 0 } }, FLAT, 'step schedule atFractions must be ascending'],
+    ['augmentation of flat samples', { augment: { shift: 1, flip: false } }, FLAT, 'augment needs images (height × width × channels); this dataset has flat samples, so drop the augment gene'],
+    ['a shift outside the range', { augment: { shift: 4, flip: false } }, IMAGE, 'augment shift 4 outside [0, 2]'],
+    ['a flip the run file did not allow', { augment: { shift: 0, flip: true } }, IMAGE, 'augment.flip mirrors images, but the run file does not say mirroring keeps the label: set searchSpace.flips to true, or drop the flip'],
+    ['label smoothing outside the range', { labelSmoothing: 0.3 }, FLAT, 'label smoothing 0.3 outside [0, 0.1]'],
+    ['patience outside the range', { patience: 9 }, FLAT, 'patience 9 outside [2, 5]'],
+  ];
+  it.each(recipe)('a recipe gene: %s', (_name, training, data, expected, space = defaultSearchSpace()) => {
+    expect(issuesOf(genome([], 'input', training), data, space)).toContain(expected);
+  });
+
+  it('allows a flip once the run file says mirroring keeps the label, and refuses flips on flat data at the run level', () => {
+    expect(checkGenome(genome([], 'input', { augment: { shift: 1, flip: true } }), { ...defaultSearchSpace(), flips: true }, IMAGE).ok).toBe(true);
+    expect(spaceIssuesForData({ ...defaultSearchSpace(), flips: true }, FLAT)).toEqual([expect.stringMatching(/^searchSpace\.flips .*no width axis.*: remove searchSpace\.flips$/)]);
+    expect(spaceIssuesForData({ ...defaultSearchSpace(), flips: true }, IMAGE)).toEqual([]);
+  });
+
   it.each(outOfRange)('an out-of-range %s', (_name, g, data, expected, space = defaultSearchSpace()) => {
     expect(issuesOf(g, data, space)).toContain(expected);
   });

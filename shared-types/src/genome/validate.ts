@@ -1,4 +1,4 @@
-import { GenomeSchema, type Genome, type LayerNode } from './genome-schema.js';
+import { GenomeSchema, type Genome, type LayerNode, type TrainingGenes } from './genome-schema.js';
 import { maxRepeatsOf, SPATIAL_KINDS, type SearchSpace } from './search-space-schema.js';
 import { analyzeGenome, type DataShape, type GenomeAnalysis, type GenomeIssue } from './analyze.js';
 import { expandedLayerCount } from './motifs.js';
@@ -73,6 +73,7 @@ export function checkGenome(value: unknown, space: SearchSpace, data: DataShape)
   if (!space.batchSizes.includes(t.batchSize)) issues.push({ nodeId: null, message: `batch size ${t.batchSize} not in [${space.batchSizes.join(', ')}]` });
   if (!inRange(t.weightDecay, space.weightDecay)) issues.push({ nodeId: null, message: `weight decay ${t.weightDecay} outside [${space.weightDecay.min}, ${space.weightDecay.max}]` });
   if (!inRange(t.epochs, space.epochs)) issues.push({ nodeId: null, message: `epochs ${t.epochs} outside [${space.epochs.min}, ${space.epochs.max}]` });
+  for (const message of recipeIssues(t, space, data)) issues.push({ nodeId: null, message });
   if (issues.length) return { ok: false, issues };
 
   const result = analyzeGenome(genome, data);
@@ -87,4 +88,40 @@ export function checkGenome(value: unknown, space: SearchSpace, data: DataShape)
 /** Formats issues as one line each, for errors and logs. */
 export function formatGenomeIssues(issues: GenomeIssue[]): string {
   return issues.map((i) => (i.nodeId ? `node '${i.nodeId}': ${i.message}` : i.message)).join('\n');
+}
+
+/** Rules of the search space and the data for the training recipe genes (schedule, augmentation, smoothing, patience). */
+function recipeIssues(t: TrainingGenes, space: SearchSpace, data: DataShape): string[] {
+  const out: string[] = [];
+  const schedules = space.schedules ?? ['constant'];
+  if (t.schedule && !schedules.includes(t.schedule.kind)) out.push(`learning-rate schedule '${t.schedule.kind}' is not allowed (the space allows ${schedules.join(', ')})`);
+  if (t.schedule?.kind === 'step' && t.schedule.atFractions.some((f, i, all) => i > 0 && f <= all[i - 1]!)) {
+    out.push('step schedule atFractions must be ascending, e.g. [0.5, 0.75]');
+  }
+  if (t.augment && (t.augment.shift > 0 || t.augment.flip)) {
+    if (data.inputShape.length !== 3) out.push('augment needs images (height × width × channels); this dataset has flat samples, so drop the augment gene');
+    const shift = space.shift ?? { min: 0, max: 0 };
+    if (!inRange(t.augment.shift, shift)) out.push(`augment shift ${t.augment.shift} outside [${shift.min}, ${shift.max}]`);
+    if (t.augment.flip && !space.flips) out.push('augment.flip mirrors images, but the run file does not say mirroring keeps the label: set searchSpace.flips to true, or drop the flip');
+  }
+  if (t.labelSmoothing) {
+    const r = space.labelSmoothing ?? { min: 0, max: 0 };
+    if (!inRange(t.labelSmoothing, r)) out.push(`label smoothing ${t.labelSmoothing} outside [${r.min}, ${r.max}]`);
+  }
+  if (t.patience !== undefined && !(space.patience && inRange(t.patience, space.patience))) {
+    out.push(space.patience ? `patience ${t.patience} outside [${space.patience.min}, ${space.patience.max}]` : 'early stopping (patience) is not allowed: the search space sets no patience range');
+  }
+  return out;
+}
+
+/**
+ * What a search space asks that the run's data cannot give, each as a sentence naming the field
+ * and the fix (checked when a run starts, before anything is stored).
+ */
+export function spaceIssuesForData(space: SearchSpace, data: DataShape): string[] {
+  const out: string[] = [];
+  if (space.flips && data.inputShape.length !== 3) {
+    out.push(`searchSpace.flips asks for left-right mirrored training images, but this dataset's samples are flat (shape [${data.inputShape.join(', ')}], no width axis): remove searchSpace.flips`);
+  }
+  return out;
 }

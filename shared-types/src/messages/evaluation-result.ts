@@ -58,7 +58,10 @@ export const EvaluationResultSchema = Type.Object(
     samplesPerSecond: Finite({ minimum: 0 }),
     peakRssBytes: Type.Integer({ minimum: 0 }),
     /** Why training stopped: all epochs done, or a budget limit reached. */
-    stoppedBy: Type.Union([Type.Literal('epochs'), Type.Literal('seconds'), Type.Literal('samples')]),
+    /** What ended training: its epochs, its wall-time cap, its sample cap, or early stopping (`patience` epochs without a lower validation loss). */
+    stoppedBy: Type.Union([Type.Literal('epochs'), Type.Literal('seconds'), Type.Literal('samples'), Type.Literal('patience')]),
+    /** The epoch of best validation accuracy (with a validation split), 1-based. */
+    bestEpoch: Type.Optional(Type.Integer({ minimum: 1 })),
     history: Type.Array(EpochRecordSchema, { maxItems: 1000 }),
     /**
      * CPU time (user + system, all threads) the training process spent on this evaluation, in

@@ -169,4 +169,16 @@ describe('bad input is refused with a clear reason and changes nothing', () => {
     expect(existsSync(join(dir, 'data', 'store.sqlite'))).toBe(false);
     await rm(dir, { recursive: true, force: true });
   });
+
+  it('refuses a run file that asks to mirror images of a dataset without a width axis, naming the field, and stores no run', async () => {
+    const dir = await mkdtemp(join(tmpdir(), 'nb-flips-'));
+    // An invented kiln log: two readings and the glaze outcome of each firing.
+    const rows = ['peak_c,hold_min,outcome', ...Array.from({ length: 40 }, (_, i) => `${1180 + (i % 9) * 7},${20 + (i % 5) * 4},${i % 2 ? 'even' : 'crawled'}`)];
+    await writeFile(join(dir, 'kiln.csv'), rows.join('\n'));
+    const runsBefore = cluster.coordinator.store.listRuns().length;
+    const config = parseRunConfig({ dataset: { kind: 'csv', path: join(dir, 'kiln.csv'), labelColumn: 'outcome' }, searchSpace: { ...defaultSearchSpace(), flips: true } });
+    await expect(cluster.coordinator.manager.startRun(config)).rejects.toThrow(/searchSpace\.flips.*no width axis.*remove searchSpace\.flips/);
+    expect(cluster.coordinator.store.listRuns()).toHaveLength(runsBefore);
+    await rm(dir, { recursive: true, force: true });
+  });
 });

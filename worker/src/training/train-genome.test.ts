@@ -37,6 +37,33 @@ beforeAll(async () => {
 });
 
 describe('trainGenome', () => {
+  it('stops early once the validation loss has not improved for `patience` epochs, and returns the samples it did not use', async () => {
+    // Validation labels that disagree with the task: the better the network fits the training
+    // split, the higher its validation loss, so it stops after its first epochs.
+    const wrong = { ...val, labels: val.labels.map((l) => (l + 1) % IMAGE.numClasses) };
+    const budget = { epochs: 15, maxSeconds: 60 };
+    const out = await trainGenome(request(smallCnn({ patience: 2, learningRate: 0.02 }), { val: wrong, budget }));
+    expect(out.stoppedBy).toBe('patience');
+    expect(out.epochsRun).toBeLessThan(15);
+    expect(out.samplesSeen).toBe(out.epochsRun * train.count);
+    // The last `patience` epochs did not lower the validation loss below its best.
+    const losses = out.history.map((h) => h.valLoss!);
+    const best = Math.min(...losses);
+    expect(losses.slice(-2).every((l) => l >= best)).toBe(true);
+    expect(losses.slice(0, -2)).toContain(best);
+  });
+
+  it('keeps the weights of its best validation epoch when asked, and reports that epoch', async () => {
+    const out = await trainGenome(request(smallCnn({ learningRate: 0.05 }), { budget: { epochs: 6, maxSeconds: 60 }, keepBestWeights: true, exportModel: true }));
+    const bestAccuracy = Math.max(...out.history.map((h) => h.valAccuracy!));
+    expect(out.valAccuracy).toBe(bestAccuracy);
+    expect(out.history[out.bestEpoch! - 1]!.valAccuracy).toBe(bestAccuracy);
+    // The exported model is that epoch's: it scores the best accuracy again.
+    const model = await loadModelFromMessage(out.model!);
+    expect(evaluateModel(model, val).accuracy).toBeCloseTo(bestAccuracy, 10);
+    model.dispose();
+  });
+
   it('learns the synthetic task and reports a result that fits the evaluation-result schema', async () => {
     const epochs: number[] = [];
     const outcome = await trainGenome(request(smallCnn(), { onEpoch: (r) => epochs.push(r.epoch) }));

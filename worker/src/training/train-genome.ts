@@ -3,6 +3,7 @@ import {
   analyzeGenome,
   createRandom,
   genomeHash,
+  learningRateAt,
   restoreRandom,
   sampleSize,
   type DataShape,
@@ -22,6 +23,7 @@ import { singleSampleLatencyMs } from './measure-latency.js';
 import { estimateTrainingBytes } from './memory-estimate.js';
 import { modelToMessage } from './model-artifacts.js';
 import { applyStart, captureCheckpoint, type StartCheckpoint } from './training-checkpoint.js';
+import { augmentBatch, smoothLabels } from './augment.js';
 
 /** One training of one genome. */
 export interface TrainRequest {
@@ -49,6 +51,11 @@ export interface TrainRequest {
   checkpoints?: { everyEpochs: number; final: boolean; runId: string; evaluationId: string };
   /** Receives each checkpoint; training waits for it before the next epoch. */
   onCheckpoint?: (bytes: Uint8Array, epoch: number, final: boolean) => void | Promise<void>;
+  /**
+   * With a validation split: end with the weights of the epoch of best validation accuracy (the
+   * earliest among equals), and report that epoch's scores. @default false (the last epoch's)
+   */
+  keepBestWeights?: boolean;
 }
 
 /** What one training yields: an evaluation result without the ids the worker adds. */
@@ -57,6 +64,29 @@ export type TrainOutcome = Omit<EvaluationResult, 'schemaVersion' | 'evaluationI
 /** Losses above this (or not finite) mean training diverged; they are reported as this value. */
 export const DIVERGED_LOSS = 1e6;
 const finiteLoss = (v: number) => (Number.isFinite(v) && v < DIVERGED_LOSS ? Math.max(0, v) : DIVERGED_LOSS);
+
+/** Sets the rate the next `minimize` uses (SGD keeps it as a tensor; Adam and RMSprop read the field). */
+function setLearningRate(optimizer: tf.Optimizer, lr: number): void {
+  // Duck-typed: the library's optimizer classes answer `instanceof` by their fields, so every
+  // optimizer with a learning rate passes as an SGD one.
+  const o = optimizer as unknown as { learningRate: number; setLearningRate?: (lr: number) => void };
+  if (o.learningRate === lr) return;
+  if (typeof o.setLearningRate === 'function') o.setLearningRate(lr);
+  else o.learningRate = lr;
+}
+
+/** Epochs since the lowest validation loss of `history` (0 when the last epoch has it). */
+function epochsSinceBestLoss(history: readonly EpochRecord[]): number {
+  let best = Infinity;
+  let at = -1;
+  history.forEach((r, i) => {
+    if (r.valLoss !== null && r.valLoss < best) {
+      best = r.valLoss;
+      at = i;
+    }
+  });
+  return at < 0 ? 0 : history.length - 1 - at;
+}
 
 function makeOptimizer(name: OptimizerName, learningRate: number): tf.Optimizer {
   switch (name) {
@@ -80,7 +110,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   const analyzed = analyzeGenome(genome, data);
   if (!analyzed.ok) throw new InvalidGenomeError(analyzed.issues);
   const analysis = analyzed.analysis;
-  const { batchSize, optimizer: optimizerName, learningRate } = genome.training;
+  const { batchSize, optimizer: optimizerName, learningRate, schedule, augment, labelSmoothing, patience } = genome.training;
   if (request.memoryCapMb != null) {
     const estimate = estimateTrainingBytes(analysis, data, { batchSize, optimizer: optimizerName, samples: train.count + (val?.count ?? 0) });
     const cap = request.memoryCapMb * 2 ** 20;
@@ -109,6 +139,13 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   const order = resumed ? resumed.order : identityOrder(train.count);
   const assembler = new BatchAssembler(train, sampleLength, data.numClasses, Math.min(batchSize, train.count));
   const history: EpochRecord[] = resumed ? [...resumed.history] : [];
+  // The schedule's clock: optimizer steps over the job's whole epoch budget, continued on resume.
+  const stepsPerEpoch = Math.ceil(train.count / batchSize);
+  const totalSteps = budget.epochs * stepsPerEpoch;
+  let step = (resumed?.epoch ?? 0) * stepsPerEpoch;
+  const augmenting = augment && data.inputShape.length === 3 && (augment.shift > 0 || augment.flip) ? augment : null;
+  const scratch = augmenting ? new Float32Array(sampleLength) : null;
+  let best: { epoch: number; valAccuracy: number; valLoss: number | null; weights: tf.Tensor[] | null } | null = null;
   let samplesSeen = resumed?.samplesSeen ?? 0;
   let stepSeconds = resumed?.stepSeconds ?? 0;
   const checkpoint = async (epoch: number, final: boolean) => {
@@ -124,6 +161,10 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
 
   const stepBatch = (start: number, size: number, sums: { loss: tf.Scalar; correct: tf.Scalar }) => {
     const batch = assembler.batch(order, start, size);
+    if (augmenting) augmentBatch(batch.features, size, data.inputShape, augmenting, random, scratch!);
+    if (labelSmoothing) smoothLabels(batch.oneHot, size, data.numClasses, labelSmoothing);
+    setLearningRate(optimizer, learningRateAt(learningRate, schedule, { step, totalSteps, stepsPerEpoch }));
+    step++;
     const kept: { correct?: tf.Scalar } = {};
     const x = tf.tensor(batch.features, [size, ...data.inputShape]);
     const y = tf.tensor2d(batch.oneHot, [size, data.numClasses]);
@@ -202,6 +243,11 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
         };
         history.push(record);
         request.onEpoch?.(record);
+        if (scored && (best === null || scored.accuracy > best.valAccuracy)) {
+          if (best?.weights) tf.dispose(best.weights);
+          best = { epoch, valAccuracy: scored.accuracy, valLoss: record.valLoss, weights: request.keepBestWeights ? model.getWeights().map((w) => w.clone()) : null };
+        }
+        if (!cut && patience && val && epoch < budget.epochs && epochsSinceBestLoss(history) >= patience) cut = 'patience';
         // Let the event loop run (a child process flushes its epoch message to the parent here).
         await new Promise<void>((resolve) => setImmediate(resolve));
         if (trainLoss >= DIVERGED_LOSS) diverged = true;
@@ -214,10 +260,12 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
       if (diverged) break;
     }
     const last = history[history.length - 1];
+    const kept = best?.weights ? best : null;
+    if (kept) model.setWeights(kept.weights!);
     const outcome: TrainOutcome = {
       backend,
-      valAccuracy: last?.valAccuracy ?? null,
-      valLoss: last?.valLoss ?? null,
+      valAccuracy: kept ? kept.valAccuracy : (last?.valAccuracy ?? null),
+      valLoss: kept ? kept.valLoss : (last?.valLoss ?? null),
       trainLoss: last?.trainLoss ?? 0,
       trainAccuracy: last?.trainAccuracy ?? 0,
       paramCount: analysis.params,
@@ -228,6 +276,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
       samplesPerSecond: stepSeconds > 0 ? samplesSeen / stepSeconds : 0,
       peakRssBytes: peakRss,
       stoppedBy,
+      ...(best ? { bestEpoch: best.epoch } : {}),
       history,
       start: begun.start,
     };
@@ -242,6 +291,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     if (request.exportModel) outcome.model = await modelToMessage(model);
     return outcome;
   } finally {
+    if (best?.weights) tf.dispose(best.weights);
     optimizer.dispose();
     model.dispose();
   }

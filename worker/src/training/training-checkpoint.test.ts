@@ -9,7 +9,7 @@ const IMAGE: DataShape = { inputShape: [8, 8, 1], numClasses: 4 };
 const train = syntheticSamples(IMAGE, 192, 3);
 const val = syntheticSamples(IMAGE, 96, 4);
 /** Conv, pooling, dropout (seeded masks) and batch normalization (moving statistics): every kind of state a checkpoint must carry. */
-const net = (optimizer: OptimizerName): Genome =>
+const net = (optimizer: OptimizerName, recipe: Partial<Genome['training']> = {}): Genome =>
   chainGenome(
     [
       { id: 'c1', kind: 'conv2d', filters: 4, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' },
@@ -17,7 +17,7 @@ const net = (optimizer: OptimizerName): Genome =>
       { id: 'p1', kind: 'max-pool2d', poolSize: 2, strides: 2 },
       { id: 'drop', kind: 'dropout', rate: 0.3 },
     ],
-    { batchSize: 32, learningRate: 0.01, optimizer },
+    { batchSize: 32, learningRate: 0.01, optimizer, ...recipe },
   );
 const request = (genome: Genome, extra: Partial<TrainRequest> = {}): TrainRequest => ({
   genome,
@@ -58,6 +58,18 @@ describe('training checkpoints', () => {
       expect(resumed.samplesSeen).toBe(whole.samplesSeen);
     });
   }
+
+  it('a training with a cosine schedule, shifts, flips and label smoothing resumes exactly where it was', async () => {
+    const genome = net('sgd', { schedule: { kind: 'cosine', minFactor: 0.1, warmupEpochs: 1 }, augment: { shift: 2, flip: true }, labelSmoothing: 0.1 });
+    const { outcome: whole, checkpoints } = await trainKeeping(genome);
+    const resumed = await trainGenome(request(genome, { start: { kind: 'resumed', bytes: checkpoints.get(3)!, sha256: 'a'.repeat(64), fromEvaluationId: 'r1-s0-a1' } }));
+    expect(resumed.start).toMatchObject({ kind: 'resumed', fromEpoch: 3 });
+    expect(resumed.valLoss).toBe(whole.valLoss);
+    expect(resumed.trainLoss).toBe(whole.trainLoss);
+    // and the recipe changed the training: the same genome without it ends elsewhere
+    const plain = await trainGenome(request(net('sgd')));
+    expect(plain.trainLoss).not.toBe(whole.trainLoss);
+  });
 
   it('a resumed training keeps the sample budget of the whole training', async () => {
     const genome = net('adam');

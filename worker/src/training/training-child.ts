@@ -62,6 +62,7 @@ async function train(id: number, request: ChildTrainRequest): Promise<void> {
     budget: request.budget,
     seed: request.seed,
     exportModel: request.exportModel,
+    keepBestWeights: request.keepBestWeights,
     memoryCapMb: request.memoryCapMb,
     onEpoch: (record) => void send({ type: 'epoch', id, record }),
     start: request.start,

@@ -16,6 +16,8 @@ export interface ChildTrainRequest {
   budget: TrainingBudget;
   seed: number;
   exportModel?: boolean;
+  /** See `TrainRequest.keepBestWeights`. */
+  keepBestWeights?: boolean;
   memoryCapMb?: number;
   /** Weights and state to start from (see `TrainRequest.start`). */
   start?: StartCheckpoint;
