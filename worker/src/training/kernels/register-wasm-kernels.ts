@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import { makeBatchMatMul } from './batch-mat-mul.js';
+import { BATCH_NORM_TRAINING, BATCH_NORM_TRAINING_GRAD, batchNormTraining, batchNormTrainingGrad, batchNormTrainingGradConfig } from './batch-norm-training.js';
 import { maxPoolGrad } from './max-pool-grad.js';
 import { makeTile } from './tile.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
@@ -27,6 +28,9 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   { name: 'MaxPoolGrad', kernelFunc: maxPoolGrad as unknown as tf.KernelFunc },
   { name: 'BatchMatMul', wrap: makeBatchMatMul },
   { name: 'Tile', wrap: makeTile },
+  // Our own: batch norm in training mode, which ChannelBatchNorm runs where these exist.
+  { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining },
+  { name: BATCH_NORM_TRAINING_GRAD, kernelFunc: batchNormTrainingGrad },
 ];
 
 /** The names {@link registerWasmTrainingKernels} registers, for tests and docs. */
@@ -42,6 +46,8 @@ const builtIns = new Map<string, tf.KernelConfig>();
  */
 export function registerWasmTrainingKernels(): WasmKernelRegistration {
   const result: WasmKernelRegistration = { added: [], replaced: [] };
+  // Gradients are registered per kernel name, for every backend; the forward kernel exists on wasm only.
+  if (tf.getGradient(BATCH_NORM_TRAINING) == null) tf.registerGradient(batchNormTrainingGradConfig);
   for (const k of KERNELS) {
     const existing = tf.getKernel(k.name, 'wasm');
     if (existing && ours.has(existing.kernelFunc)) continue;

@@ -4,6 +4,7 @@ import { createRandom } from '@netbreeder/shared-types';
 import { initBackend } from '../backend.js';
 import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.js';
 import { inputGradOptions } from './conv-gradients.js';
+import { BATCH_NORM_TRAINING } from './batch-norm-training.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
 
 // Reference: the TensorFlow.js cpu backend, the library's own reference implementation of every
@@ -194,7 +195,12 @@ describe('wasm training kernels match the cpu backend (reference implementation)
         const g2 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.depthwiseConv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'valid').square().sum())([x, d]);
         const g3 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.maxPool(tf.conv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'same'), 2, 2, 'valid').square().sum())([x, f]);
         const g4 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.matMul(b.reshape([27, 4]), a.reshape([2, 27]), true, true).square().sum())([x.slice([0, 0, 0, 0], [2, 3, 3, 3]), f.slice([0, 0, 0, 0], [3, 3, 3, 4])]);
-        return [...g1, ...g2, ...g3, ...g4].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
+        const [gamma, beta] = [tf.ones([3]), tf.zeros([3])];
+        const g5 = tf.grads((a: tf.Tensor, g: tf.Tensor, b: tf.Tensor) => {
+          const [y, mean, variance] = tf.engine().runKernel(BATCH_NORM_TRAINING, { x: a, scale: g, offset: b }, { varianceEpsilon: 1e-3 }) as tf.Tensor[];
+          return y!.square().sum().add(mean!.sum()).add(variance!.sum());
+        })([x, gamma, beta]);
+        return [...g1, ...g2, ...g3, ...g4, ...g5].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
       });
     step();
     const tensors = tf.memory().numTensors;
