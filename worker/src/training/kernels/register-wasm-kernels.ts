@@ -18,7 +18,7 @@ export interface WasmKernelRegistration {
  * Our kernels, by name: `kernelFunc` for kernels that stand alone, `wrap` for replacements that
  * fall back on (or build on) the built-in kernel they replace.
  */
-const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn: tf.KernelFunc) => tf.KernelFunc }> = [
+const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn: tf.KernelFunc) => tf.KernelFunc; optional?: true }> = [
   // Missing in wasm.
   { name: 'Conv2DBackpropFilter', kernelFunc: conv2dBackpropFilter as unknown as tf.KernelFunc },
   { name: 'DepthwiseConv2dNativeBackpropFilter', kernelFunc: depthwiseBackpropFilter as unknown as tf.KernelFunc },
@@ -29,7 +29,8 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   { name: 'BatchMatMul', wrap: makeBatchMatMul },
   { name: 'Tile', wrap: makeTile },
   // Our own: batch norm in training mode, which ChannelBatchNorm runs where these exist.
-  { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining },
+  // Optional: without them the layer runs the library's ops.
+  { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining, optional: true },
   { name: BATCH_NORM_TRAINING_GRAD, kernelFunc: batchNormTrainingGrad },
 ];
 
@@ -74,14 +75,17 @@ const registered = new Map<string, tf.KernelFunc>();
 
 /**
  * Switches one of our replacement kernels off (back to the built-in) or on again, for the
- * benchmark's comparisons. Kernels wasm lacks cannot be switched off.
+ * benchmark's comparisons; likewise an optional kernel of ours (off: not registered, so its
+ * caller takes its other route). Kernels wasm lacks cannot be switched off.
  */
 export function setWasmKernelOverride(name: string, enabled: boolean): void {
   const builtIn = builtIns.get(name);
   const mine = registered.get(name);
-  if (!builtIn || !mine) throw new Error(`${name} is not one of our replacements of a built-in wasm kernel; call registerWasmTrainingKernels() first`);
-  tf.unregisterKernel(name, 'wasm');
-  tf.registerKernel(enabled ? { kernelName: name, backendName: 'wasm', kernelFunc: mine } : builtIn);
+  const optional = KERNELS.find((k) => k.name === name)?.optional === true;
+  if (!mine || (!builtIn && !optional)) throw new Error(`${name} is neither one of our replacements of a built-in wasm kernel nor an optional kernel of ours; call registerWasmTrainingKernels() first`);
+  if (tf.getKernel(name, 'wasm')) tf.unregisterKernel(name, 'wasm');
+  if (enabled) tf.registerKernel({ kernelName: name, backendName: 'wasm', kernelFunc: mine });
+  else if (builtIn) tf.registerKernel(builtIn);
 }
 
 /** Puts back the built-in kernels we replaced and removes the ones we added (for comparisons in benchmarks). */
