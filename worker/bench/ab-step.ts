@@ -8,8 +8,9 @@
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';
 import { filterGradOptions } from '../src/training/kernels/conv-filter-gradient.js';
+import { BATCH_NORM_TRAINING } from '../src/training/kernels/batch-norm-training.js';
 import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
-import { chainGenome, refCnn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
+import { chainGenome, refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
 import { fixedBatchStep } from './fixed-batch-step.js';
 
 const which = process.argv[2] ?? 'ref-cnn';
@@ -17,6 +18,7 @@ const table: Record<string, [Genome, DataShape]> = {
   'ref-mlp': [refMlp(), { inputShape: [784], numClasses: 10 }],
   'ref-cnn': [refCnn(), { inputShape: [28, 28, 1], numClasses: 10 }],
   'skip-bn': [refSkipBn(), { inputShape: [28, 28, 1], numClasses: 10 }],
+  'cnn-bn': [refCnnBn(), { inputShape: [28, 28, 1], numClasses: 10 }],
   'pointwise': [
     chainGenome([
       { id: 'c1', kind: 'conv2d', filters: 16, kernelSize: 3, strides: 2, padding: 'same', activation: 'relu' },
@@ -36,6 +38,7 @@ const variants: Array<{ name: string; on: () => void; off: () => void }> = [
   { name: 'built-in Conv2DBackpropInput', on: () => setWasmKernelOverride('Conv2DBackpropInput', false), off: () => setWasmKernelOverride('Conv2DBackpropInput', true) },
   { name: 'built-in MaxPoolGrad (wrong for 2×2)', on: () => setWasmKernelOverride('MaxPoolGrad', false), off: () => setWasmKernelOverride('MaxPoolGrad', true) },
   { name: 'built-in BatchMatMul', on: () => setWasmKernelOverride('BatchMatMul', false), off: () => setWasmKernelOverride('BatchMatMul', true) },
+  { name: "library's batch-norm ops", on: () => setWasmKernelOverride(BATCH_NORM_TRAINING, false), off: () => setWasmKernelOverride(BATCH_NORM_TRAINING, true) },
 ];
 const only = process.argv.slice(3);
 const chosen = only.length ? variants.filter((v, i) => i === 0 || only.some((o) => v.name.includes(o))) : variants;

@@ -1,13 +1,13 @@
 /**
  * Per-kernel profile of training steps (tf.profile): where one batch's time goes, for the
- * benchmark's reference genomes on wasm. `npx tsx worker/bench/profile-step.ts [ref-mlp|ref-cnn|skip-bn]`.
+ * benchmark's reference genomes on wasm. `npx tsx worker/bench/profile-step.ts [ref-mlp|ref-cnn|skip-bn|cnn-bn]`.
  * Prints kernels by total time, and the wall and CPU time of the steps outside the profiler.
  */
 import * as tf from '@tensorflow/tfjs';
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';
 import { filterGradOptions, type FilterGradRoute } from '../src/training/kernels/conv-filter-gradient.js';
-import { refCnn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
+import { refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
 import { fixedBatchStep } from './fixed-batch-step.js';
 
 const which = process.argv[2] ?? 'ref-cnn';
@@ -15,6 +15,7 @@ const table: Record<string, [Genome, DataShape]> = {
   'ref-mlp': [refMlp(), { inputShape: [784], numClasses: 10 }],
   'ref-cnn': [refCnn(), { inputShape: [28, 28, 1], numClasses: 10 }],
   'skip-bn': [refSkipBn(), { inputShape: [28, 28, 1], numClasses: 10 }],
+  'cnn-bn': [refCnnBn(), { inputShape: [28, 28, 1], numClasses: 10 }],
 };
 const [genome, data] = table[which]!;
 await initBackend({ prefer: ['wasm'] });

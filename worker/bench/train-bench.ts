@@ -12,7 +12,7 @@ import { cpus, loadavg } from 'node:os';
 import * as tf from '@tensorflow/tfjs';
 import { analyzeGenome, type BackendName, type DataShape, type Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';
-import { refCnn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
+import { refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
 import { syntheticSamples } from '../src/training/synthetic-samples.js';
 import { trainGenome } from '../src/training/train-genome.js';
 
@@ -23,6 +23,7 @@ const GENOMES: Array<{ name: string; genome: Genome; data: DataShape }> = [
   { name: 'ref-mlp', genome: refMlp(), data: FLAT },
   { name: 'ref-cnn', genome: refCnn(), data: IMAGE },
   { name: 'skip-bn', genome: refSkipBn(), data: IMAGE },
+  { name: 'cnn-bn', genome: refCnnBn(), data: IMAGE },
 ];
 /**
  * Batches measured per backend. wasm and tensorflow get one warm-up batch first (operator set-up,

@@ -1,6 +1,7 @@
 import * as tf from '@tensorflow/tfjs';
 import { analyzeGenome, createRandom, expandMotifs, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
 import { InvalidGenomeError } from './errors.js';
+import { ChannelBatchNorm } from './channel-batch-norm.js';
 import { SeededDropout } from './seeded-dropout.js';
 
 /** Names of the implicit head's layers; genome ids cannot contain a dot, so these never collide. */
@@ -85,7 +86,7 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
         layer = new SeededDropout({ name: n.id, rate: n.rate, seed: nextSeed() });
         break;
       case 'batch-norm':
-        layer = tf.layers.batchNormalization({ name: n.id, axis: -1, momentum: BATCH_NORM_MOMENTUM });
+        layer = new ChannelBatchNorm({ name: n.id, momentum: BATCH_NORM_MOMENTUM });
         break;
       case 'activation':
         layer = tf.layers.activation({ name: n.id, activation: act(n.activation) });

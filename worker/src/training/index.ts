@@ -3,6 +3,7 @@ export { initBackend, currentBackend, type InitBackendOptions, type BackendChoic
 export { registerWasmTrainingKernels, unregisterWasmTrainingKernels, WASM_TRAINING_KERNELS, type WasmKernelRegistration } from './kernels/register-wasm-kernels.js';
 export { buildModel, HEAD_DENSE_NAME, HEAD_FLATTEN_NAME } from './build-model.js';
 export { SeededDropout, type SeededDropoutArgs } from './seeded-dropout.js';
+export { ChannelBatchNorm, type ChannelBatchNormArgs } from './channel-batch-norm.js';
 export { trainGenome, DIVERGED_LOSS, type TrainRequest, type TrainOutcome } from './train-genome.js';
 export { evaluateModel, crossEntropy, type ModelEvaluation } from './evaluate-model.js';
 export { singleSampleLatencyMs } from './measure-latency.js';

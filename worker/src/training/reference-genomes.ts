@@ -44,6 +44,20 @@ export const refCnn = (): Genome =>
     { id: 'f', kind: 'flatten' },
   ]);
 
+/** cnn-bn: ref-cnn with batch norm between each convolution and its relu (conv → bn → relu → max-pool, twice), the hand-made image family's block. */
+export const refCnnBn = (): Genome =>
+  chainGenome([
+    { id: 'c1', kind: 'conv2d', filters: 16, kernelSize: 3, strides: 1, padding: 'same', activation: 'linear' },
+    { id: 'b1', kind: 'batch-norm' },
+    { id: 'r1', kind: 'activation', activation: 'relu' },
+    { id: 'p1', kind: 'max-pool2d', poolSize: 2, strides: 2 },
+    { id: 'c2', kind: 'conv2d', filters: 32, kernelSize: 3, strides: 1, padding: 'same', activation: 'linear' },
+    { id: 'b2', kind: 'batch-norm' },
+    { id: 'r2', kind: 'activation', activation: 'relu' },
+    { id: 'p2', kind: 'max-pool2d', poolSize: 2, strides: 2 },
+    { id: 'f', kind: 'flatten' },
+  ]);
+
 /** A residual block with batch norm: conv → bn → relu → conv → bn, added to the block's input, for 28×28×1 input. */
 export const refSkipBn = (): Genome => ({
   schemaVersion: GENOME_SCHEMA_VERSION,

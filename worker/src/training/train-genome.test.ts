@@ -88,6 +88,10 @@ describe('trainGenome', () => {
     expect(b.trainLoss).toBe(a.trainLoss);
     expect(b.history.map((h) => h.valAccuracy)).toEqual(a.history.map((h) => h.valAccuracy));
     expect(c.valLoss).not.toBe(a.valLoss);
+    // Batch norm (our kernels on wasm, see channel-batch-norm.ts) is as reproducible.
+    const withBatchNorm = () => trainGenome(request(refSkipBn(), { budget: { epochs: 2, maxSeconds: 60 } }));
+    const [d, e] = [await withBatchNorm(), await withBatchNorm()];
+    expect(e.history.map((h) => [h.trainLoss, h.valLoss])).toEqual(d.history.map((h) => [h.trainLoss, h.valLoss]));
   });
 
   it('stops at the sample budget and at the wall-time budget, saying which', async () => {

@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import { makeBatchMatMul } from './batch-mat-mul.js';
+import { BATCH_NORM_TRAINING, BATCH_NORM_TRAINING_GRAD, batchNormTraining, batchNormTrainingGrad, batchNormTrainingGradConfig } from './batch-norm-training.js';
 import { maxPoolGrad } from './max-pool-grad.js';
 import { makeTile } from './tile.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
@@ -17,7 +18,7 @@ export interface WasmKernelRegistration {
  * Our kernels, by name: `kernelFunc` for kernels that stand alone, `wrap` for replacements that
  * fall back on (or build on) the built-in kernel they replace.
  */
-const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn: tf.KernelFunc) => tf.KernelFunc }> = [
+const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn: tf.KernelFunc) => tf.KernelFunc; optional?: true }> = [
   // Missing in wasm.
   { name: 'Conv2DBackpropFilter', kernelFunc: conv2dBackpropFilter as unknown as tf.KernelFunc },
   { name: 'DepthwiseConv2dNativeBackpropFilter', kernelFunc: depthwiseBackpropFilter as unknown as tf.KernelFunc },
@@ -27,6 +28,10 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   { name: 'MaxPoolGrad', kernelFunc: maxPoolGrad as unknown as tf.KernelFunc },
   { name: 'BatchMatMul', wrap: makeBatchMatMul },
   { name: 'Tile', wrap: makeTile },
+  // Our own: batch norm in training mode, which ChannelBatchNorm runs where these exist.
+  // Optional: without them the layer runs the library's ops.
+  { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining, optional: true },
+  { name: BATCH_NORM_TRAINING_GRAD, kernelFunc: batchNormTrainingGrad },
 ];
 
 /** The names {@link registerWasmTrainingKernels} registers, for tests and docs. */
@@ -42,6 +47,8 @@ const builtIns = new Map<string, tf.KernelConfig>();
  */
 export function registerWasmTrainingKernels(): WasmKernelRegistration {
   const result: WasmKernelRegistration = { added: [], replaced: [] };
+  // Gradients are registered per kernel name, for every backend; the forward kernel exists on wasm only.
+  if (tf.getGradient(BATCH_NORM_TRAINING) == null) tf.registerGradient(batchNormTrainingGradConfig);
   for (const k of KERNELS) {
     const existing = tf.getKernel(k.name, 'wasm');
     if (existing && ours.has(existing.kernelFunc)) continue;
@@ -68,14 +75,17 @@ const registered = new Map<string, tf.KernelFunc>();
 
 /**
  * Switches one of our replacement kernels off (back to the built-in) or on again, for the
- * benchmark's comparisons. Kernels wasm lacks cannot be switched off.
+ * benchmark's comparisons; likewise an optional kernel of ours (off: not registered, so its
+ * caller takes its other route). Kernels wasm lacks cannot be switched off.
  */
 export function setWasmKernelOverride(name: string, enabled: boolean): void {
   const builtIn = builtIns.get(name);
   const mine = registered.get(name);
-  if (!builtIn || !mine) throw new Error(`${name} is not one of our replacements of a built-in wasm kernel; call registerWasmTrainingKernels() first`);
-  tf.unregisterKernel(name, 'wasm');
-  tf.registerKernel(enabled ? { kernelName: name, backendName: 'wasm', kernelFunc: mine } : builtIn);
+  const optional = KERNELS.find((k) => k.name === name)?.optional === true;
+  if (!mine || (!builtIn && !optional)) throw new Error(`${name} is neither one of our replacements of a built-in wasm kernel nor an optional kernel of ours; call registerWasmTrainingKernels() first`);
+  if (tf.getKernel(name, 'wasm')) tf.unregisterKernel(name, 'wasm');
+  if (enabled) tf.registerKernel({ kernelName: name, backendName: 'wasm', kernelFunc: mine });
+  else if (builtIn) tf.registerKernel(builtIn);
 }
 
 /** Puts back the built-in kernels we replaced and removes the ones we added (for comparisons in benchmarks). */

@@ -1,10 +1,11 @@
 import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { createRandom } from '@netbreeder/shared-types';
 import { initBackend } from '../backend.js';
 import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.js';
 import { inputGradOptions } from './conv-gradients.js';
+import { BATCH_NORM_TRAINING } from './batch-norm-training.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
+import { randomArray, relativeError } from './test-arrays.js';
 
 // Reference: the TensorFlow.js cpu backend, the library's own reference implementation of every
 // kernel. Each kernel we register for wasm must agree with it within 1e-4 relative error, measured
@@ -15,11 +16,6 @@ type Pad = 'same' | 'valid' | [[number, number], [number, number], [number, numb
 const PADS: Pad[] = ['same', 'valid', [[0, 0], [1, 2], [2, 0], [0, 0]]];
 const padName = (p: Pad) => (typeof p === 'string' ? p : 'explicit');
 
-function randomArray(size: number, seed: string): Float32Array {
-  const rng = createRandom(seed);
-  return Float32Array.from({ length: size }, () => rng.uniform(-1, 1));
-}
-
 /** Runs one kernel through the engine on `backend` and reads its output back. */
 async function runOn(backend: 'cpu' | 'wasm', kernel: string, inputs: Record<string, { shape: number[]; data: Float32Array }>, attrs: object) {
   await tf.setBackend(backend);
@@ -28,16 +24,6 @@ async function runOn(backend: 'cpu' | 'wasm', kernel: string, inputs: Record<str
     const out = tf.engine().runKernel(kernel, tensors, attrs as tf.NamedAttrMap) as tf.Tensor;
     return { shape: out.shape, data: out.dataSync() as Float32Array };
   });
-}
-
-function relativeError(actual: Float32Array, expected: Float32Array): number {
-  let maxDiff = 0;
-  let maxRef = 0;
-  for (let i = 0; i < expected.length; i++) {
-    maxDiff = Math.max(maxDiff, Math.abs(actual[i]! - expected[i]!));
-    maxRef = Math.max(maxRef, Math.abs(expected[i]!));
-  }
-  return maxDiff / Math.max(maxRef, 1e-12);
 }
 
 interface Case {
@@ -194,7 +180,12 @@ describe('wasm training kernels match the cpu backend (reference implementation)
         const g2 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.depthwiseConv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'valid').square().sum())([x, d]);
         const g3 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.maxPool(tf.conv2d(a as tf.Tensor4D, b as tf.Tensor4D, 1, 'same'), 2, 2, 'valid').square().sum())([x, f]);
         const g4 = tf.grads((a: tf.Tensor, b: tf.Tensor) => tf.matMul(b.reshape([27, 4]), a.reshape([2, 27]), true, true).square().sum())([x.slice([0, 0, 0, 0], [2, 3, 3, 3]), f.slice([0, 0, 0, 0], [3, 3, 3, 4])]);
-        return [...g1, ...g2, ...g3, ...g4].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
+        const [gamma, beta] = [tf.ones([3]), tf.zeros([3])];
+        const g5 = tf.grads((a: tf.Tensor, g: tf.Tensor, b: tf.Tensor) => {
+          const [y, mean, variance] = tf.engine().runKernel(BATCH_NORM_TRAINING, { x: a, scale: g, offset: b }, { varianceEpsilon: 1e-3 }) as tf.Tensor[];
+          return y!.square().sum().add(mean!.sum()).add(variance!.sum());
+        })([x, gamma, beta]);
+        return [...g1, ...g2, ...g3, ...g4, ...g5].map((g) => g.sum()).reduce((a, b) => a.add(b)).dataSync();
       });
     step();
     const tensors = tf.memory().numTensors;
