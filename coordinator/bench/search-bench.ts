@@ -5,9 +5,10 @@
  * processes training with TensorFlow.js, and the run's reference network is trained once per seed
  * with the task's whole budget (the reference row). Equal CPU means equal training samples seen:
  * the search's samples plus its champion's final training on one side, the reference row's on the
- * other. The bench finishes a run (finish control, giving up what is still queued or training) as
- * soon as the search's recorded spend reaches the search's share; the champion's final training
- * is capped at the rest (`champion.maxSamples`). The champion is chosen on validation evidence
+ * other. A run's search spends the search's share (`budget.maxSamples`: the coordinator finishes
+ * the run once its recorded results reach it, giving up what is still queued or training, and
+ * records no result past it); the champion's final training is capped at the rest
+ * (`champion.maxSamples`). The champion is chosen on validation evidence
  * and scored once on the held-out test split.
  *
  * Prints one line per finished run to stderr, then a table per task, then one JSON line with every
@@ -27,6 +28,7 @@ import { createLogger } from '../src/logger.js';
 import { spawnWorker } from '../src/cli/spawn-worker.js';
 import type { EvaluationRecord } from '../src/store/run-store.js';
 import { DISCARDED_AT_FINISH } from '../src/run/run-manager.js';
+import { newSamples } from '../src/run/sample-budget.js';
 import { referenceComparison } from '../src/champion/reference-comparison.js';
 import { budgetCurve, countedWithin, type SpentEvaluation } from './search-bench-budget.js';
 import { mnistTask, tilesTask, TASK_NAMES, type BenchTask, type TaskName } from './search-bench-tasks.js';
@@ -96,45 +98,20 @@ for (const t of settings.tasks) if (!TASK_NAMES.includes(t)) throw new RangeErro
 const log = (line: string) => process.stderr.write(`[bench:search ${new Date().toISOString().slice(11, 19)}] ${line}\n`);
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
-/** Samples a result trained in its own job: a training that continued a checkpoint counts only the epochs it added. */
-function newSamples(result: EvaluationResult, trainCount: number): number {
-  const inherited = result.start && (result.start.kind === 'own-checkpoint' || result.start.kind === 'resumed') ? result.start.fromEpoch * trainCount : 0;
-  return Math.max(0, result.samplesSeen - inherited);
-}
-
-/** The run being driven and its recorded search results, fed by the coordinator's events. */
+/** The run being driven and its recorded search results, in record order, fed by the coordinator's events. */
 class RunWatch {
   runId: string | null = null;
   results: SpentEvaluation[] = [];
-  finishRequested = false;
-  afterFinish = 0;
-  limit = 0;
   trainCount = 0;
-  coordinator: Coordinator | null = null;
 
   onResult(ev: EvaluationRecord, result: EvaluationResult): void {
     if (ev.runId !== this.runId || ev.kind !== 'search') return;
-    if (this.finishRequested) {
-      this.afterFinish++;
-      return;
-    }
     this.results.push({ evaluationId: ev.id, samples: newSamples(result, this.trainCount), valAccuracy: result.valAccuracy! });
-    const spent = this.results.reduce((s, r) => s + r.samples, 0);
-    if (spent >= this.limit) {
-      this.finishRequested = true;
-      // Not awaited: this runs inside the coordinator's reconcile pass, which the finish waits for.
-      // The request and the discarding of what is still queued or training are written to the
-      // store at once, so the champion is chosen from the results counted within the budget.
-      this.coordinator!.manager.control(ev.runId, 'finish', { discardInFlight: true }).catch((err: Error) => log(`finish request failed: ${err.message}`));
-    }
   }
 
-  reset(runId: string, limit: number, trainCount: number): void {
+  reset(runId: string, trainCount: number): void {
     this.runId = runId;
     this.results = [];
-    this.finishRequested = false;
-    this.afterFinish = 0;
-    this.limit = limit;
     this.trainCount = trainCount;
   }
 }
@@ -142,8 +119,8 @@ class RunWatch {
 async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTask, method: SearchAlgorithmName, seed: number): Promise<RunOutcome> {
   const started = Date.now();
   const searchBudget = Math.round(task.budget * (1 - settings.championShare));
-  const run = await coordinator.startRun(task.runConfig(method, seed, task.budget - searchBudget));
-  watch.reset(run.id, searchBudget, run.dataset.manifest.trainCount);
+  const run = await coordinator.startRun(task.runConfig(method, seed, searchBudget, task.budget - searchBudget));
+  watch.reset(run.id, run.dataset.manifest.trainCount);
   const store = coordinator.store;
   const deadline = started + 90 * 60_000;
   for (;;) {
@@ -171,7 +148,7 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
     evaluations: counted.length,
     largestEvaluation: Math.max(0, ...counted.map((e) => e.samples)),
     discardedAtFinish: discarded,
-    recordedAfterBudget: watch.afterFinish + (watch.results.length - counted.length),
+    recordedAfterBudget: watch.results.length - counted.length,
     failedEvaluations: failed.length - discarded,
     curve: budgetCurve(watch.results, searchBudget, FRACTIONS),
     championTestError: champion ? 1 - champion.testAccuracy : null,
@@ -211,14 +188,12 @@ async function main(): Promise<void> {
   const dataDir = await mkdtemp(join(tmpdir(), 'nb-bench-search-'));
   const prefix = `nbbench-search-${randomBytes(4).toString('hex')}`;
   const watch = new RunWatch();
-  // A pass for each finished job at once (passDelayMs 0), not one for those of 50 ms: the run is
-  // finished by the result that reaches the budget, and a result that shared its pass would be
-  // recorded past the budget, where the finish can no longer discard it.
+  // A pass for each finished job at once (passDelayMs 0), so the finish at the budget gives up
+  // what is in flight as early as it can.
   const coordinator = await Coordinator.start(
     { dataDir, port: 0, host: '127.0.0.1', tickMs: 250, passDelayMs: 0, queue: { redisUrl, prefix, queueName: 'evaluations' }, logger: createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn') },
     { resultRecorded: (ev, result) => watch.onResult(ev, result) },
   );
-  watch.coordinator = coordinator;
   let workers: ChildProcess[] = [];
   try {
     workers = await startWorkers(coordinator, dataDir, prefix, redisUrl);

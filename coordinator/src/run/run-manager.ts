@@ -35,6 +35,7 @@ import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } fro
 import { Verifier } from '../trust/verifier.js';
 import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
 import { logReference, searchContextOf } from './reference-network.js';
+import { newSamples } from './sample-budget.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
@@ -125,6 +126,8 @@ export class RunManager {
   private passSoon: NodeJS.Timeout | null = null;
   /** True once `finish` was asked for the current run (also read back from the store on attach). */
   private finishRequested = false;
+  /** Samples the driven run's recorded search results spent (see `budget.maxSamples`). */
+  private samplesSpent = 0;
   private readonly now: () => number;
   private readonly tickMs: number;
   private readonly passDelayMs: number;
@@ -225,6 +228,8 @@ export class RunManager {
     this.testSplit = testSplit;
     this.algorithm = algorithm;
     this.finishRequested = this.store.events(run.id, 'run-finish-requested').length > 0;
+    const trainCount = run.dataset.manifest.trainCount;
+    this.samplesSpent = run.config.budget.maxSamples === undefined ? 0 : this.store.evaluations(run.id, 'search').reduce((sum, e) => sum + (e.state === 'done' && e.result ? newSamples(e.result, trainCount) : 0), 0);
     this.run = run;
     await this.rebuildQueue('coordinator started');
   }
@@ -322,6 +327,10 @@ export class RunManager {
     });
     await this.opts.queue.removeMany(batch.remove);
     await this.opts.queue.addMany(batch.add);
+    if (!this.finishRequested && this.sampleBudgetReached(this.run.id)) {
+      // Not awaited: the finish waits for this pass to end.
+      void this.control(this.run.id, 'finish', { discardInFlight: true }).catch((err: Error) => this.opts.log.error({ err }, 'finishing at the sample budget failed'));
+    }
     for (const { evaluationId, result } of batch.recorded) this.events.resultRecorded?.(this.store.getEvaluation(evaluationId)!, result);
     for (const job of verificationJobs) await this.verifier.reconcile(job);
     for (const job of championJobs) await this.reconcileChampionJob(job);
@@ -440,8 +449,14 @@ export class RunManager {
 
   // ---- search phase --------------------------------------------------------------------------
 
+  /** True once the driven run's recorded search results spent its `budget.maxSamples`. */
+  private sampleBudgetReached(runId: string): boolean {
+    const limit = this.run?.id === runId ? this.run.config.budget.maxSamples : undefined;
+    return limit !== undefined && this.samplesSpent >= limit;
+  }
+
   private searchBudgetSpent(run: RunRecord): boolean {
-    if (this.finishRequested) return true;
+    if (this.finishRequested || this.sampleBudgetReached(run.id)) return true;
     const elapsedMin = (this.now() - (run.searchStartedAt ?? run.createdAt)) / 60_000;
     return run.proposals >= run.config.budget.maxEvaluations || elapsedMin >= run.config.budget.maxMinutes;
   }
@@ -537,7 +552,8 @@ export class RunManager {
         this.rejectResult(ev, problem, batch);
         return 'recorded';
       }
-      this.recordSearchResult(ev, job.returnvalue as EvaluationResult, batch);
+      if (ev.kind === 'search' && this.sampleBudgetReached(ev.runId)) this.store.recordFailure(ev.id, DISCARDED_AT_FINISH, this.now());
+      else this.recordSearchResult(ev, job.returnvalue as EvaluationResult, batch);
     } else {
       this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable, batch);
     }
@@ -605,6 +621,7 @@ export class RunManager {
 
   private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult, batch: QueueBatch): void {
     if (this.store.recordResult(ev.id, result, this.now()) !== 'recorded') return;
+    if (ev.runId === this.run?.id) this.samplesSpent += newSamples(result, this.run.dataset.manifest.trainCount);
     const observation = observationFor(ev, result);
     const decisions = this.algorithm!.observe(observation);
     this.store.addSearchStep(observeStep(ev.runId, observation, decisions, this.now()));

@@ -250,6 +250,14 @@ export const RunConfigSchema = Type.Object(
         maxEvaluations: Type.Integer({ minimum: 1, maximum: 10_000_000, default: 200 }),
         /** Stop proposing after this many minutes of run time. */
         maxMinutes: Type.Number({ exclusiveMinimum: 0, maximum: 525_600, default: 60 }),
+        /**
+         * Training samples the search may spend (a unit of work, not of time: a busy PC makes the
+         * run slower, not cheaper). Each result counts the samples it trained in its own job (a
+         * training that continued a checkpoint counts only what it added). Once the recorded
+         * results reach it the run finishes, giving up what is still queued or training; a result
+         * that arrives past it is not recorded. Absent: no such limit.
+         */
+        maxSamples: Type.Optional(Type.Integer({ minimum: 1 })),
       },
       { additionalProperties: false, default: {} },
     ),
