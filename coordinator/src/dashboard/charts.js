@@ -128,6 +128,9 @@
       },
     });
 
+    // With parsing off the charting library expects each dataset sorted by x: it reads the range
+    // from the ends, so unsorted points past them were placed outside the plot.
+    const byX = (a, b) => a.x - b.x;
     let front = null;
     /** The answer of /runs/:id/front for the current size key (null: not a multi-objective run): its front is drawn over the points. */
     function setFront(answer) {
@@ -136,7 +139,7 @@
       scatter.data.datasets[2].data = answer ? answer.points.filter((p) => p.onFront && p.cost > 0).sort((a, b) => a.cost - b.cost).map(toPoint) : [];
       // Latency is known to the front route only, so its points come from there (and no leader mark).
       if (sizeKey === 'latency') {
-        scatter.data.datasets[0].data = answer ? answer.points.filter((p) => p.cost > 0).map(toPoint) : [];
+        scatter.data.datasets[0].data = answer ? answer.points.filter((p) => p.cost > 0).map(toPoint).sort(byX) : [];
         scatter.data.datasets[1].data = [];
       }
       scatter.update('none');
@@ -146,7 +149,7 @@
       if (sizeKey === 'latency') return setFront(front && front.objective === 'latency' ? front : null);
       const done = points.filter((p) => p.state === 'done' && p.valAccuracy != null && p[sizeKey] > 0);
       const toPoint = (p) => ({ x: p[sizeKey], y: p.valAccuracy, params: p.params, flops: p.flops, workerId: p.workerId });
-      scatter.data.datasets[0].data = done.map(toPoint);
+      scatter.data.datasets[0].data = done.map(toPoint).sort(byX);
       scatter.data.datasets[1].data = done.filter((p) => p.genomeHash === leaderHash).slice(0, 1).map(toPoint);
       scatter.update('none');
     }
