@@ -80,6 +80,11 @@
     });
 
     let sizeKey = 'params';
+    // With parsing off the charting library expects each dataset sorted by x: it reads the range
+    // from the ends, so unsorted points past them were placed outside the plot.
+    const byX = (a, b) => a.x - b.x;
+    /** 1, 2 or 5 times a power of ten: the log axis labels only those, so close ticks do not overlap. */
+    const isOneTwoFive = (v) => [1, 2, 5].some((m) => Math.abs(v / 10 ** Math.floor(Math.log10(v)) - m) < 1e-9);
     const scatter = new Chart(document.getElementById('chart-scatter'), {
       type: 'scatter',
       data: {
@@ -93,7 +98,7 @@
       options: {
         parsing: false,
         scales: {
-          x: { type: 'logarithmic', ticks: { maxRotation: 0, autoSkipPadding: 6, callback: (v) => (/^[125]/.test(String(v)) ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
+          x: { type: 'logarithmic', ticks: { maxRotation: 0, autoSkipPadding: 6, callback: (v) => (isOneTwoFive(v) ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
           y: accuracyAxis(),
         },
         plugins: {
@@ -128,9 +133,6 @@
       },
     });
 
-    // With parsing off the charting library expects each dataset sorted by x: it reads the range
-    // from the ends, so unsorted points past them were placed outside the plot.
-    const byX = (a, b) => a.x - b.x;
     let front = null;
     /** The answer of /runs/:id/front for the current size key (null: not a multi-objective run): its front is drawn over the points. */
     function setFront(answer) {

@@ -205,7 +205,7 @@
     const root = document.createElement('li');
     root.className = 'root';
     const head = document.createElement('div');
-    head.append(Object.assign(document.createElement('span'), { className: 'op', textContent: 'minimal ancestor' }));
+    head.append(Object.assign(document.createElement('span'), { className: 'op', textContent: 'first ancestor' }));
     root.append(head, genomeLines(lineage.ancestor));
     items.push(root);
     lineage.steps.forEach((step, i) => {
@@ -217,7 +217,7 @@
       items.push(li);
     });
     list.replaceChildren(...items);
-    text($('lineage-hint'), `${whose}: ${lineage.steps.length} mutation${lineage.steps.length === 1 ? '' : 's'} from its minimal ancestor`);
+    text($('lineage-hint'), `${whose}: ${lineage.steps.length} mutation${lineage.steps.length === 1 ? '' : 's'} from its first ancestor (a fresh genome)`);
   }
 
   async function refreshLineage(force) {
