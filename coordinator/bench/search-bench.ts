@@ -67,7 +67,7 @@ if (args.help) {
       `  --tasks A,B           which of ${TASK_NAMES.join(', ')} (default all; --quick: tiles)\n` +
       `  --methods A,B         which of ${METHODS.join(', ')} (default ${DEFAULT_METHOD},random)\n` +
       '  --workers N           local worker processes (default 2)\n' +
-      "  --champion-share F    share of the budget for the champion's final training (default 0.33)\n" +
+      "  --champion-share F    share of the budget for the champion's final training (default 0.5)\n" +
       '  --no-reference-row    skip training the reference network with the whole budget\n' +
       '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
@@ -81,7 +81,7 @@ const whole = (name: string, value: string | undefined, fallback: number, min: n
   if (!Number.isInteger(n) || n < min) throw new RangeError(`--${name} must be a whole number ≥ ${min}, got ${value}`);
   return n;
 };
-const share = args['champion-share'] === undefined ? 0.33 : Number(args['champion-share']);
+const share = args['champion-share'] === undefined ? 0.5 : Number(args['champion-share']);
 if (!(share > 0 && share < 1)) throw new RangeError(`--champion-share must lie strictly between 0 and 1, got ${args['champion-share']}`);
 const settings = {
   seeds: whole('seeds', args.seeds, QUICK ? 1 : 5, 1),

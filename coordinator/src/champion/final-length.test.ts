@@ -10,9 +10,11 @@ describe('finalTrainingLength', () => {
     expect(finalTrainingLength(undefined, curve([0.9, 0.7]), 2)).toMatchObject({ epochs: 1, rule: 'learning-curve' });
   });
 
-  it('takes the whole final budget when the curve was still at its best on its last epoch, and only then', () => {
+  it('takes the whole final budget when the curve reached its best in its last quarter, and only then', () => {
     expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3, 14)).toMatchObject({ epochs: 14, rule: 'still-rising' });
+    expect(finalTrainingLength(undefined, curve([0.5, 0.6, 0.7, 0.8, 0.9, 0.95, 0.97, 0.99, 0.98]), 9, 14)).toMatchObject({ epochs: 14, rule: 'still-rising' });
     expect(finalTrainingLength(undefined, curve([0.5, 0.8, 0.7]), 3, 14)).toMatchObject({ epochs: 2, rule: 'learning-curve' });
+    expect(finalTrainingLength(undefined, curve([0.5, 0.9, 0.8, 0.8, 0.8, 0.8]), 6, 14)).toMatchObject({ epochs: 2, rule: 'learning-curve' });
     expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3)).toMatchObject({ epochs: 3, rule: 'learning-curve' });
     // A budget shorter than the curve never shortens it.
     expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3, 2)).toMatchObject({ epochs: 3, rule: 'learning-curve' });

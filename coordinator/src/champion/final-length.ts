@@ -7,7 +7,7 @@ export interface FinalLength {
    * `run-file`: the run file's `champion.epochs`; `learning-curve`: the epoch of the best validation
    * accuracy in the genome's longest search training; `genome-epochs`: that training recorded no
    * validation accuracy per epoch (or there was none), so the epochs it was given; `still-rising`:
-   * the curve was still at its best on its last epoch, so the final training takes the whole final
+   * the curve reached its best in its last quarter, so the final training takes the whole final
    * budget (`champion.maxSamples`) there is.
    */
   rule: 'run-file' | 'learning-curve' | 'genome-epochs' | 'still-rising';
@@ -21,8 +21,8 @@ export interface FinalLength {
  * training, on the train split, scored on validation) the epoch with the highest validation
  * accuracy (the earliest among equals), at least 1; validation accuracy rather than loss because
  * accuracy is what chose the champion. A training without per-epoch validation scores falls back
- * to `budgetEpochs`, the epochs it was given. When the best epoch is the curve's last one (it was
- * still improving when its training ended, so the curve does not say where it would peak) and the
+ * to `budgetEpochs`, the epochs it was given. When the best epoch lies in the curve's last quarter
+ * (it was still improving near its end, so the curve does not say where it would peak) and the
  * run gives the final training a budget of `budgetMaxEpochs` epochs (from `champion.maxSamples`),
  * it takes that whole budget. Pure.
  */
@@ -36,11 +36,14 @@ export function finalTrainingLength(fixed: number | undefined, history: readonly
   }
   const epochs = Math.max(1, best.epoch);
   const last = history[history.length - 1]!;
-  if (budgetMaxEpochs !== undefined && best === last && budgetMaxEpochs > epochs) {
+  // Peaked in its last quarter (always so under a decaying schedule, whose rate reaches its floor
+  // at the end): the curve does not say where a longer training would peak.
+  const lateBest = best.epoch > 0.75 * last.epoch;
+  if (budgetMaxEpochs !== undefined && lateBest && budgetMaxEpochs > epochs) {
     return {
       epochs: budgetMaxEpochs,
       rule: 'still-rising',
-      detail: `${budgetMaxEpochs} epochs, the whole final budget (champion.maxSamples): its longest search training (${history.length} epochs) was still at its best validation accuracy, ${(best.valAccuracy! * 100).toFixed(2)}%, on its last epoch`,
+      detail: `${budgetMaxEpochs} epochs, the whole final budget (champion.maxSamples): its longest search training (${history.length} epochs) reached its best validation accuracy, ${(best.valAccuracy! * 100).toFixed(2)}%, in its last quarter (epoch ${best.epoch})`,
     };
   }
   return {
