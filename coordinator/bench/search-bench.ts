@@ -55,6 +55,7 @@ const { values: args } = parseArgs({
     workers: { type: 'string' },
     'champion-share': { type: 'string' },
     'no-reference-row': { type: 'boolean' },
+    'reference-only': { type: 'boolean' },
     quick: { type: 'boolean' },
     help: { type: 'boolean' },
   },
@@ -69,6 +70,7 @@ if (args.help) {
       '  --workers N           local worker processes (default 2)\n' +
       "  --champion-share F    share of the budget for the champion's final training (default 0.5)\n" +
       '  --no-reference-row    skip training the reference network with the whole budget\n' +
+      '  --reference-only      train the reference row alone (no search runs)\n' +
       '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
   process.exit(0);
@@ -91,6 +93,7 @@ const settings = {
   methods: (args.methods?.split(',') ?? [DEFAULT_METHOD, 'random']) as SearchAlgorithmName[],
   championShare: share,
   referenceRow: args['no-reference-row'] !== true,
+  referenceOnly: args['reference-only'] === true,
 };
 for (const m of settings.methods) if (!METHODS.includes(m)) throw new RangeError(`unknown method '${m}'; use some of ${METHODS.join(', ')}`);
 for (const t of settings.tasks) if (!TASK_NAMES.includes(t)) throw new RangeError(`unknown task '${t}'; use some of ${TASK_NAMES.join(', ')}`);
@@ -196,7 +199,7 @@ async function main(): Promise<void> {
   );
   let workers: ChildProcess[] = [];
   try {
-    workers = await startWorkers(coordinator, dataDir, prefix, redisUrl);
+    if (!settings.referenceOnly) workers = await startWorkers(coordinator, dataDir, prefix, redisUrl);
     const outcomes: RunOutcome[] = [];
     const report: Array<{ task: BenchTask; summary: MethodSummary[]; references: ReferenceOutcome[]; searchBudget: number }> = [];
     const seeds = Array.from({ length: settings.seeds }, (_, i) => i + 1);
@@ -205,7 +208,7 @@ async function main(): Promise<void> {
       const total = settings.methods.length * seeds.length;
       let done = 0;
       // Seeds outermost, so a machine that gets busier during the bench slows every method alike.
-      for (const seed of seeds) {
+      for (const seed of settings.referenceOnly ? [] : seeds) {
         for (const method of settings.methods) {
           const o = await runOnce(coordinator, watch, task, method, seed);
           outcomes.push(o);
@@ -216,7 +219,11 @@ async function main(): Promise<void> {
           );
         }
       }
-      const first = coordinator.store.getRun(outcomes.find((o) => o.task === task.name)!.runId)!;
+      // The reference row trains on the task's split, which any run of the task holds; with
+      // --reference-only a run is created for it and stopped at once (no worker trains it).
+      const first = settings.referenceOnly
+        ? await coordinator.startRun(task.runConfig(DEFAULT_METHOD, 1, task.budget, task.budget)).then((r) => coordinator.manager.control(r.id, 'stop').then(() => r))
+        : coordinator.store.getRun(outcomes.find((o) => o.task === task.name)!.runId)!;
       const references = settings.referenceRow ? await referenceRows(first, seeds, task.budget, settings.workers, log) : [];
       const summary = summarize(task.name, settings.methods, outcomes, references, FRACTIONS);
       const searchBudget = Math.round(task.budget * (1 - settings.championShare));

@@ -78,7 +78,9 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     const base = smallRunConfig('decisions', EVALUATIONS, 11);
     const config = parseRunConfig({
       ...base,
-      search: { algorithm: 'pareto-evolution', populationSize: 4, sampleSize: 2, objective: 'params' },
+      // Minimal first members train in a moment, so the ten evaluations reach children of the
+      // population (every decision kind), which slower hand-made first members may not.
+      search: { algorithm: 'pareto-evolution', populationSize: 4, sampleSize: 2, objective: 'params', start: 'minimal' },
       champion: { epochs: 5, maxSeconds: 60, topK: 1, ensemble: { size: 2, diversityPenalty: 0.05 } },
     });
     run = await cluster.coordinator.startRun(config);

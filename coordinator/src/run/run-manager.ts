@@ -340,8 +340,9 @@ export class RunManager {
     await this.verifier.checkTimeouts(run);
     if (run.state === 'searching' && this.searchBudgetSpent(run)) {
       const counts = this.store.counts(run.id, 'search');
-      // Champion candidates are verified on another worker first (and open spot checks settled).
-      if (counts.queued + counts.running === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run).candidates))) await this.champion.begin(run);
+      // Champion candidates are verified on another worker first (and open spot checks settled);
+      // the reference network, retrained only to be compared with, is not.
+      if (counts.queued + counts.running === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run).candidates.filter((c) => c.champion !== false || c.ensemblePosition !== undefined)))) await this.champion.begin(run);
     } else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
   }
 
