@@ -21,7 +21,12 @@ export class EvaluationsTable {
   constructor(private readonly db: StoreDatabase) {}
 
   putGenome(g: GenomeRecord): void {
-    this.db.run('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)', g.hash, JSON.stringify(g.genome), g.params, g.flops, g.summary);
+    this.putGenomeJson({ ...g, genomeJson: JSON.stringify(g.genome) });
+  }
+
+  /** Stores a genome already written as JSON (the pre-fill copies one genome a million times: ./prefill.ts). */
+  putGenomeJson(g: Omit<GenomeRecord, 'genome'> & { genomeJson: string }): void {
+    this.db.run('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)', g.hash, g.genomeJson, g.params, g.flops, g.summary);
   }
 
   getGenome(hash: string): GenomeRecord | null {

@@ -21,8 +21,9 @@ export function prefillFinishedEvaluations(path: string, runId: string, total: n
     const evaluations = new EvaluationsTable(db);
     const searchLog = new SearchLogTable(db);
     const first = db.get('SELECT genome_hash FROM evaluations WHERE run_id = ? AND seq >= 0 ORDER BY seq LIMIT 1', runId);
-    const genome = first && evaluations.getGenome(text(first, 'genome_hash'));
-    if (!genome) throw new Error(`run ${runId} has no proposal in ${path} to take a genome from; run its search for a while first`);
+    const found = first && evaluations.getGenome(text(first, 'genome_hash'));
+    if (!found) throw new Error(`run ${runId} has no proposal in ${path} to take a genome from; run its search for a while first`);
+    const genome = { params: found.params, flops: found.flops, summary: found.summary, genomeJson: JSON.stringify(found.genome) };
     const hashOf = (i: number) => createHash('sha256').update(`${runId}:prefill:${i}`).digest('hex');
     db.transaction(() => {
       for (let i = 0; i < total; i++) {
@@ -30,7 +31,7 @@ export function prefillFinishedEvaluations(path: string, runId: string, total: n
         const id = `${runId}-prefill${i}`;
         const hash = hashOf(i);
         const parent = hashOf(Math.max(0, i - 1 - (i % 7)));
-        evaluations.putGenome({ ...genome, hash });
+        evaluations.putGenomeJson({ ...genome, hash });
         db.run(
           `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at, started_at, finished_at,
              worker_id, backend, val_accuracy, val_loss, train_seconds, samples_per_second, result_json)
