@@ -22,6 +22,9 @@ const TRANSITIONS: Record<RunState, readonly RunState[]> = {
   stopped: [],
 };
 
+/** The state a run is created in. */
+export const INITIAL_RUN_STATE: RunState = 'searching';
+
 /** Every state a run can be in. */
 export const RUN_STATES = Object.keys(TRANSITIONS) as RunState[];
 
@@ -65,7 +68,11 @@ export function assertTransition(runId: string, from: RunState, to: RunState): v
   if (!isLegalTransition(from, to)) throw new IllegalRunTransitionError(runId, from, to);
 }
 
-/** What the user may ask of a run (`RunManager.control`). */
+/**
+ * What an admin can do to a run (`RunManager.control`): pause (queue nothing new), resume, stop
+ * (end without a champion), or finish (end the search now: what is in flight completes, then the
+ * champion is trained).
+ */
 export type RunControl = 'pause' | 'resume' | 'stop' | 'finish';
 
 /**

@@ -1,19 +1,24 @@
 import type { EvaluationJob, RunConfig, RunState } from '@netbreeder/shared-types';
-import { json } from './row.js';
+import { INITIAL_RUN_STATE, OPEN_RUN_STATES, RUN_STATES, assertTransition, isRunEnded, sqlStateList } from '../run/run-lifecycle.js';
+import { json, oneOf } from './row.js';
 import { RUN_COLUMNS, runFromRow } from './row-mappers.js';
 import type { RunRecord, StoredDataset } from './records.js';
 import { withMemberGenomes, withoutMemberGenomes } from './snapshot-genomes.js';
 import type { StoreDatabase } from './store-database.js';
 
+/** The lifecycle's open states as SQL (../run/run-lifecycle.ts). */
+const OPEN_STATES = sqlStateList(OPEN_RUN_STATES);
+
 /** Runs (`runs`) and their search algorithm's saved state (`search_snapshots`). */
 export class RunsTable {
   constructor(private readonly db: StoreDatabase) {}
 
+  /** Records a new run, in the lifecycle's first state. */
   create(run: { id: string; name: string; config: RunConfig; seed: number; dataset: StoredDataset; now: number }): void {
     this.db.run(
       `INSERT INTO runs (id, name, config_json, state, seed, dataset_json, created_at, search_started_at)
-       VALUES (?, ?, ?, 'searching', ?, ?, ?, ?)`,
-      run.id, run.name, JSON.stringify(run.config), run.seed, JSON.stringify(run.dataset), run.now, run.now,
+       VALUES (?, ?, ?, ?, ?, ?, ?, ?)`,
+      run.id, run.name, JSON.stringify(run.config), INITIAL_RUN_STATE, run.seed, JSON.stringify(run.dataset), run.now, run.now,
     );
   }
 
@@ -28,16 +33,22 @@ export class RunsTable {
 
   /** The newest run that has not ended, to resume after a restart. */
   unfinished(): RunRecord | null {
-    const row = this.db.get(`SELECT ${RUN_COLUMNS} FROM runs WHERE state IN ('preparing', 'searching', 'paused', 'training-champion') ORDER BY created_at DESC LIMIT 1`);
+    const row = this.db.get(`SELECT ${RUN_COLUMNS} FROM runs WHERE state IN (${OPEN_STATES}) ORDER BY created_at DESC LIMIT 1`);
     return row ? runFromRow(row) : null;
   }
 
-  /** Moves a run to `state`; a state that ends the run sets its end time. */
+  /**
+   * Moves a run to `state` when its lifecycle (../run/run-lifecycle.ts) allows that from the state
+   * it is in; else throws `IllegalRunTransitionError` and changes nothing. A state that ends the
+   * run sets its end time.
+   */
   setState(id: string, state: RunState, opts: { now?: number; failure?: string } = {}): void {
-    const ended = state === 'finished' || state === 'failed' || state === 'stopped';
+    const row = this.db.get('SELECT state FROM runs WHERE id = ?', id);
+    if (!row) throw new Error(`no run ${id} in the store, so its state cannot be set; check the run id`);
+    assertTransition(id, oneOf(row, 'state', RUN_STATES), state);
     this.db.run(
       'UPDATE runs SET state = ?, finished_at = CASE WHEN ? THEN ? ELSE finished_at END, failure = COALESCE(?, failure) WHERE id = ?',
-      state, ended ? 1 : 0, opts.now ?? Date.now(), opts.failure ?? null, id,
+      state, isRunEnded(state) ? 1 : 0, opts.now ?? Date.now(), opts.failure ?? null, id,
     );
   }
 
