@@ -28,11 +28,11 @@ import { createSearchAlgorithm, forgetResults, type Proposal, type SearchAlgorit
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
+import { controlTarget, type RunControl } from './run-lifecycle.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
 import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 import { Verifier } from '../trust/verifier.js';
 import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
-import { controlTarget, type RunControl } from './run-lifecycle.js';
 
 /** How the run manager paces itself. */
 export interface RunManagerOptions {
