@@ -45,9 +45,6 @@ export const isRunEnded = (state: RunState): boolean => ENDED_RUN_STATES.include
 /** True when a run may go from `from` to `to` (staying in the same state is not a change). */
 export const isLegalTransition = (from: RunState, to: RunState): boolean => TRANSITIONS[from].includes(to);
 
-/** The states a run in `from` may go to. */
-export const nextStates = (from: RunState): readonly RunState[] => TRANSITIONS[from];
-
 /** A change of a run's state the lifecycle does not allow: a bug in the caller, which should have checked. */
 export class IllegalRunTransitionError extends Error {
   override name = 'IllegalRunTransitionError';
