@@ -14,9 +14,9 @@
  *    worker being free to having its next job (p50/p99), coordinator CPU and RSS, heartbeats taken,
  *    /status latency and the coordinator's event-loop delay;
  * 5. the store pre-filled with 10,000, 100,000 and 1,000,000 finished evaluations (with every row
- *    a recorded result writes, see `prefill`), each size from a copy of one warmed-up run (see
- *    `storeGrowth`): coordinator CPU per recorded result, evaluations/s, /status latency and the
- *    mean size of the genomes evaluated at each size.
+ *    a recorded result writes, see `prefillFinishedEvaluations` in src/store/prefill.ts), each size
+ *    from a copy of one warmed-up run (see `storeGrowth`): coordinator CPU per recorded result,
+ *    evaluations/s, /status latency and the mean size of the genomes evaluated at each size.
  * Phases 1 to 4 split the CPU per job between the coordinator (or the adding process: this one),
  * the workers (the fleet child) and Redis (its INFO cpu). Phases 3 and 5 also show the largest
  * size of the store's write-ahead log (it must stay bounded: checkpoints keep up) and the store's
@@ -31,7 +31,7 @@
  *   NB_COORDINATOR_PROF=/tmp/prof npm run bench:scale -- --only store   (a CPU profile of this process over each measured window)
  */
 import { fork, type ChildProcess } from 'node:child_process';
-import { createHash, randomBytes } from 'node:crypto';
+import { randomBytes } from 'node:crypto';
 import { cpSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { cpus, tmpdir } from 'node:os';
@@ -50,6 +50,7 @@ import { minimalGenome } from '../src/search/index.js';
 import { Coordinator } from '../src/coordinator.js';
 import { createLogger } from '../src/logger.js';
 import { parseRunConfig } from '../src/config/run-config.js';
+import { prefillFinishedEvaluations } from '../src/store/prefill.js';
 import type { FleetChildConfig, FleetChildMessage } from './scale-fleet.js';
 
 const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
@@ -371,54 +372,6 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
 
 // ---- 4. a store holding many finished evaluations ---------------------------------------------
 
-/**
- * Inserts `total` synthetic finished evaluations into the run directly (one transaction). Each
- * gets the rows a recorded result writes, so every index a result touches is as deep as in a real
- * store of that size: its evaluation, its own genome (a distinct random-looking hash),
- * two decision-log steps and a lineage link. Only the payloads are short (no job, result or
- * decisions; the genome is the run's first), so the file is smaller than a real store's (the
- * zero-training phase measures a real store's size per evaluation).
- */
-function prefill(dataDir: string, runId: string, total: number): number {
-  const t0 = performance.now();
-  const db = new Database(join(dataDir, 'store.sqlite'));
-  db.pragma('cache_size = -262144');
-  // The run's first proposal (pre-filled rows have negative numbers), so every size copies the same small genome.
-  const genome = db
-    .prepare('SELECT g.genome_json, g.params, g.flops, g.summary FROM evaluations e JOIN genomes g ON g.hash = e.genome_hash WHERE e.run_id = ? AND e.seq >= 0 ORDER BY e.seq LIMIT 1')
-    .get(runId) as Record<string, string | number>;
-  const insertGenome = db.prepare('INSERT OR IGNORE INTO genomes (hash, genome_json, params, flops, summary) VALUES (?, ?, ?, ?, ?)');
-  const insert = db.prepare(
-    `INSERT INTO evaluations (id, run_id, kind, seq, attempt, genome_hash, seed, job_json, state, queued_at, started_at, finished_at,
-       worker_id, backend, val_accuracy, val_loss, train_seconds, samples_per_second, result_json)
-     VALUES (?, ?, 'search', ?, 1, ?, 0, '{}', 'done', ?, ?, ?, 'prefill', 'cpu', ?, 2.0, 10, 0, NULL)`,
-  );
-  const insertStep = db.prepare(
-    `INSERT INTO search_steps (run_id, step, kind, evaluation_id, genome_hash, parent_hashes_json, budget_epochs, reason, decisions_json, at)
-     VALUES (?, ?, ?, ?, ?, ?, NULL, 'prefill', '[]', ?)`,
-  );
-  const insertLink = db.prepare(`INSERT INTO lineage (evaluation_id, run_id, child_hash, parent_hash, operator, detail) VALUES (?, ?, ?, ?, 'prefill', '')`);
-  let step = (db.prepare('SELECT COALESCE(MAX(step) + 1, 0) AS n FROM search_steps WHERE run_id = ?').get(runId) as { n: number }).n;
-  const hashOf = (i: number) => createHash('sha256').update(`${runId}:prefill:${i}`).digest('hex');
-  // One result a second, the newest a minute before now (so none counts in the last minute's rate).
-  const newest = Date.now() - 60_000;
-  db.transaction(() => {
-    for (let i = 0; i < total; i++) {
-      const at = newest - (total - i) * 1000;
-      const id = `${runId}-prefill${i}`;
-      const hash = hashOf(i);
-      const parent = hashOf(Math.max(0, i - 1 - (i % 7)));
-      insertGenome.run(hash, genome.genome_json, genome.params, genome.flops, genome.summary);
-      insert.run(id, runId, -1 - i, hash, at - 10_000, at - 10_000, at, ((i * 7919) % 1000) / 10_000);
-      insertStep.run(runId, step++, 'propose', id, hash, JSON.stringify([parent]), at - 10_000);
-      insertStep.run(runId, step++, 'observe', id, hash, '[]', at);
-      insertLink.run(id, runId, hash, parent);
-    }
-  })();
-  db.close();
-  return (performance.now() - t0) / 1000;
-}
-
 /** The store's size (its file after a full checkpoint, free pages left out) in bytes, and its evaluations. */
 function storeSize(dataDir: string): { bytes: number; evaluations: number } {
   const db = new Database(join(dataDir, 'store.sqlite'));
@@ -477,7 +430,9 @@ async function storeGrowth(sizes: number[], warmupResults: number, measureMs: nu
   for (const size of sizes) {
     const dataDir = join(root, `size-${size}`);
     await copyDataDir(template, dataDir);
-    const insertSeconds = prefill(dataDir, run.id, size);
+    const insertStartedAt = performance.now();
+    prefillFinishedEvaluations(join(dataDir, 'store.sqlite'), run.id, size);
+    const insertSeconds = (performance.now() - insertStartedAt) / 1000;
     const queuePrefix = prefix('store');
     prefixes.push(queuePrefix);
     coordinator = await startCoordinator(dataDir, queuePrefix);

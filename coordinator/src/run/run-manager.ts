@@ -30,6 +30,7 @@ import { createSearchAlgorithm, forgetResults, type Proposal, type SearchAlgorit
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from './champion-phase.js';
+import { controlTarget, type RunControl } from './run-lifecycle.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
 import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
 import { Verifier } from '../trust/verifier.js';
@@ -75,11 +76,8 @@ export interface RunManagerEvents {
   runFinished?: (run: RunRecord) => void;
 }
 
-/**
- * What an admin can do to a run: pause (queue nothing new), resume, stop (end without a champion),
- * or finish (end the search now: what is in flight completes, then the champion is trained).
- */
-export type RunControl = 'pause' | 'resume' | 'stop' | 'finish';
+/** What an admin can do to a run (./run-lifecycle.ts). */
+export type { RunControl } from './run-lifecycle.js';
 
 /** A request that the run's state does not allow (pausing a finished run, say). */
 export class RunStateError extends Error {
@@ -392,16 +390,10 @@ export class RunManager {
   async control(runId: string, action: RunControl, opts: { discardInFlight?: boolean } = {}): Promise<RunRecord> {
     const run = this.store.getRun(runId);
     if (!run) throw new Error(`no run ${runId}`);
-    const allowed: Record<RunControl, RunRecord['state'][]> = {
-      pause: ['searching'],
-      resume: ['paused'],
-      stop: ['searching', 'paused', 'training-champion'],
-      finish: ['searching', 'paused'],
-    };
-    if (!allowed[action].includes(run.state)) throw new RunStateError(`cannot ${action} run ${runId} while it is ${run.state}`);
-    const next = action === 'pause' ? 'paused' : action === 'stop' ? 'stopped' : 'searching';
+    const next = controlTarget(action, run.state);
+    if (!next) throw new RunStateError(`cannot ${action} run ${runId} while it is ${run.state}`);
     this.store.transaction(() => {
-      this.store.setRunState(runId, next, { now: this.now() });
+      if (next !== run.state) this.store.setRunState(runId, next, { now: this.now() });
       this.store.logEvent(runId, action === 'finish' ? 'run-finish-requested' : `run-${next}`, { from: run.state, action, ...(opts.discardInFlight ? { discardInFlight: true } : {}) });
     });
     if (action === 'finish' && runId === this.run?.id) this.finishRequested = true;

@@ -4,7 +4,8 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { RunStore } from './run-store.js';
-import type { EvaluationResult } from '@netbreeder/shared-types';
+import type { EvaluationResult, RunState } from '@netbreeder/shared-types';
+import { IllegalRunTransitionError, RUN_STATES, isLegalTransition, isRunEnded } from '../run/run-lifecycle.js';
 import { heartbeat, searchJob, searchResult, storeWithRun } from './test-fixtures.js';
 
 function storeWithOneEvaluation() {
@@ -140,5 +141,41 @@ describe('RunStore', () => {
       store.close();
       rmSync(dir, { recursive: true, force: true });
     }
+  });
+
+  it('changes a run\'s state only as its lifecycle allows, for every (from, to) pair; a refused change changes nothing', () => {
+    /** A store whose run r1 is in `state`: reached by legal changes from the state it was created in (`preparing`, never written by the coordinator, set directly). */
+    const runIn = (state: RunState) => {
+      const store = storeWithRun();
+      if (state === 'preparing') {
+        store.statement("UPDATE runs SET state = 'preparing' WHERE id = 'r1'").run();
+        return store;
+      }
+      const paths = new Map<RunState, RunState[]>([['searching', []]]);
+      for (const [from, path] of paths) for (const to of RUN_STATES) if (!paths.has(to) && isLegalTransition(from, to)) paths.set(to, [...path, to]);
+      for (const step of paths.get(state)!) store.setRunState('r1', step, { now: 5000 });
+      return store;
+    };
+    for (const from of RUN_STATES) {
+      for (const to of RUN_STATES) {
+        const store = runIn(from);
+        expect(store.getRun('r1')!.state).toBe(from);
+        const before = store.getRun('r1');
+        if (isLegalTransition(from, to)) {
+          store.setRunState('r1', to, { now: 9000, failure: 'why' });
+          expect(store.getRun('r1')).toMatchObject({ state: to, failure: 'why' });
+          // the end time is set by a change to an ended state, and kept after (a later champion round)
+          if (isRunEnded(to)) expect(store.getRun('r1')!.finishedAt).toBe(9000);
+          else expect(store.getRun('r1')!.finishedAt).toBe(before!.finishedAt);
+        } else {
+          expect(() => store.setRunState('r1', to, { now: 9000 }), `${from} → ${to}`).toThrow(IllegalRunTransitionError);
+          expect(store.getRun('r1')).toEqual(before);
+        }
+        // A restarted coordinator resumes the run exactly while it has not ended.
+        expect(store.unfinishedRun()?.id ?? null).toBe(isRunEnded(store.getRun('r1')!.state) ? null : 'r1');
+        store.close();
+      }
+    }
+    expect(() => storeWithRun().setRunState('nope', 'paused')).toThrow('no run nope');
   });
 });

@@ -60,9 +60,9 @@ export const searchResult = (evaluationId: string, workerId: string, over: Parti
   ...over,
 });
 
-/** An in-memory store holding run `r1` (demo tiles, the default search space and `config` on top) and the fixture genome. */
-export function storeWithRun(config: Record<string, unknown> = {}, createdAt = 1000): RunStore {
-  const store = new RunStore(':memory:');
+/** A store (in memory unless a file `path` is given) holding run `r1` (demo tiles, the default search space and `config` on top) and the fixture genome. */
+export function storeWithRun(config: Record<string, unknown> = {}, createdAt = 1000, path = ':memory:'): RunStore {
+  const store = new RunStore(path);
   const parsed = parseRunConfig({ dataset: { kind: 'demo-tiles' }, searchSpace: defaultSearchSpace(), ...config });
   store.createRun({ id: 'r1', name: 'test', config: parsed, seed: 1, dataset: { manifest: fixtureManifest, shardPath: '/nowhere', testPath: '/nowhere' }, now: createdAt });
   store.putGenome({ hash: fixtureHash, genome: fixtureGenome, params: 67, flops: 100, summary: 'dense 8' });
