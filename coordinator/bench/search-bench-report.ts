@@ -96,10 +96,13 @@ export function taskTable(title: string, budget: number, searchBudget: number, s
   const out: string[] = [];
   out.push('', `Task: ${title}.`);
   out.push(`Budget per run: ${budget.toLocaleString('en')} training samples seen in all: ${searchBudget.toLocaleString('en')} for the search, the rest for the champion's final training.`);
-  out.push('Best validation accuracy % after each share of the search budget, mean ± std (min–max) over seeds:', '');
-  out.push(...table(['method', ...fractions.map((f) => `${f * 100}%`), 'evals'], summary.map((s) => [s.method, ...s.bestValAccuracy.map((b) => cell(b)), s.evaluations.mean.toFixed(1)])));
+  const searched = summary.filter((s) => s.runs > 0);
+  if (searched.length) {
+    out.push('Best validation accuracy % after each share of the search budget, mean ± std (min–max) over seeds:', '');
+    out.push(...table(['method', ...fractions.map((f) => `${f * 100}%`), 'evals'], searched.map((s) => [s.method, ...s.bestValAccuracy.map((b) => cell(b)), s.evaluations.mean.toFixed(1)])));
+  }
   out.push('', 'Test error % (each scored once on the held-out test split), mean ± std (min–max) over seeds:', '');
-  const rows = summary.map((s) => [
+  const rows = searched.map((s) => [
     `${s.method} champion`,
     s.championTestError ? cell(s.championTestError, 2) : 'none',
     `${Math.round(s.totalSamples.mean).toLocaleString('en')}`,
