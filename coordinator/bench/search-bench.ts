@@ -36,7 +36,7 @@ import { referenceRows, type ReferenceOutcome } from './search-bench-reference.j
 import { summarize, taskTable, type MethodSummary, type RunOutcome } from './search-bench-report.js';
 
 const METHODS: readonly SearchAlgorithmName[] = ['random', 'aging-evolution', 'asha', 'asha-evolution'];
-/** The run file's default algorithm, the row the targets speak of. */
+/** The bench's main row: multi-fidelity evolution, the candidate for the run file's default (which is still aging-evolution: no sweep has chosen it yet). */
 const DEFAULT_METHOD: SearchAlgorithmName = 'asha-evolution';
 const FRACTIONS = [0.1, 0.25, 0.5, 0.75, 1] as const;
 /** Test error % on MNIST: LeCun, Bottou, Bengio, Haffner, Proc. IEEE 86(11), 1998, results table (60,000 training digits). */
