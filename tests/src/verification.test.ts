@@ -22,6 +22,10 @@ describe('verification, quarantine and CPU accounting', () => {
     cluster = await TestCluster.start('verify');
     const config: RunConfig = {
       ...smallRunConfig('verification', 10, 23),
+      // Minimal first members train in a moment, so every spot check settles within its timeout
+      // on a loaded machine; with slower hand-made ones a check of the liar's result could time
+      // out, and an unverified result still competes (seen once in a full run).
+      search: { ...smallRunConfig('verification', 10, 23).search, start: 'minimal' },
       champion: { epochs: 4, maxSeconds: 60, topK: 2 },
       verification: { spotCheckFraction: 1, championCandidates: true, timeoutSeconds: 120, quarantineAfterFailures: 2, quarantineBelowReliability: 0.5 },
     };
