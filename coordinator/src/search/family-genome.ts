@@ -1,5 +1,5 @@
 import { checkGenome, GENOME_SCHEMA_VERSION, INPUT_ID, type Genome, type LayerNode, type SearchSpace, type TrainingGenes } from '@netbreeder/shared-types';
-import { logUniformIn } from './gene-values.js';
+import { clamp, logUniformIn } from './gene-values.js';
 import { minimalGenome, randomTrainingGenes, type GenomeContext } from './minimal-genome.js';
 
 /**
@@ -58,7 +58,7 @@ export function familyGenome(ctx: GenomeContext): Genome | null {
 }
 
 const allows = (space: SearchSpace, ...kinds: LayerNode['kind'][]) => kinds.every((k) => space.allowedKinds.includes(k));
-const inRange = (v: number, r: { min: number; max: number }) => Math.max(r.min, Math.min(r.max, Math.round(v)));
+const inRange = (v: number, r: { min: number; max: number }) => clamp(Math.round(v), r);
 
 /** A chain's nodes from specs without inputs: each node is fed by the one before. */
 function chain(specs: Array<Record<string, unknown> & { id: string; kind: LayerNode['kind'] }>): LayerNode[] {
