@@ -26,7 +26,7 @@ describe('verification, quarantine and CPU accounting', () => {
       // on a loaded machine; with slower hand-made ones a check of the liar's result could time
       // out, and an unverified result still competes (seen once in a full run).
       search: { ...smallRunConfig('verification', 10, 23).search, start: 'minimal' },
-      champion: { epochs: 4, maxSeconds: 60, topK: 2 },
+      champion: { maxSeconds: 60, topK: 2 },
       verification: { spotCheckFraction: 1, championCandidates: true, timeoutSeconds: 120, quarantineAfterFailures: 2, quarantineBelowReliability: 0.5 },
     };
     cluster.spawnWorker('honest-a', ['--watts', '30']);
@@ -67,10 +67,23 @@ describe('verification, quarantine and CPU accounting', () => {
     // The champion and every candidate come from honest results.
     const champion = store.getChampion(run.id)!;
     expect(store.getEvaluation(champion.sourceEvaluationId)!.result!.workerId).not.toBe('liar');
-    const candidates = (store.events(run.id, 'champion-candidates').at(-1)!.detail as { candidates: Array<{ sourceEvaluationId: string }> }).candidates;
-    for (const c of candidates) expect(store.getEvaluation(c.sourceEvaluationId)!.result!.workerId).not.toBe('liar');
-    // Each candidate's result was verified before its final training: confirmed by another worker (or unverified after the wait).
-    for (const c of candidates) expect(['confirmed', 'unverified']).toContain(trust.getVerdict(c.sourceEvaluationId)!.verdict);
+    const round = store.events(run.id, 'champion-candidates').at(-1)!.detail as {
+      candidates: Array<{ sourceEvaluationId: string; champion: boolean; ensemblePosition?: number; reference?: boolean }>;
+      considered: Array<{ evaluationId: string }>;
+    };
+    const workerOf = (evaluationId: string) => store.getEvaluation(evaluationId)!.result!.workerId;
+    const chosen = round.candidates.filter((c) => c.champion || c.ensemblePosition !== undefined);
+    expect(chosen.length).toBeGreaterThan(0);
+    for (const c of chosen) expect(workerOf(c.sourceEvaluationId)).not.toBe('liar');
+    for (const k of round.considered) expect(workerOf(k.evaluationId)).not.toBe('liar');
+    // Each chosen candidate's result was verified before its final training: confirmed by another worker (or unverified after the wait).
+    for (const c of chosen) expect(['confirmed', 'unverified']).toContain(trust.getVerdict(c.sourceEvaluationId)!.verdict);
+    // The reference network gets its final training whatever its search result; when the liar
+    // trained it, that result was not considered (above) and its learning curve set no length.
+    const lengths = store.events(run.id, 'champion-training-length').map((e) => e.detail as { sourceEvaluationId: string; rule: string });
+    for (const c of round.candidates.filter((c) => c.reference && workerOf(c.sourceEvaluationId) === 'liar')) {
+      expect(lengths.find((l) => l.sourceEvaluationId === c.sourceEvaluationId)!.rule).not.toBe('learning-curve');
+    }
 
     // The quarantined worker is told, and stops taking jobs.
     await waitFor('the liar to learn it is quarantined', () => cluster.workerLogs.join('').includes('quarantined this worker'), 20_000, 250);

@@ -1,5 +1,5 @@
 import { genomeHash } from '@netbreeder/shared-types';
-import type { RunRecord, RunStore } from '../store/run-store.js';
+import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { runReference } from '../run/reference-network.js';
 
 /** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it. */
@@ -14,20 +14,31 @@ export interface ConsideredGenome {
   params: number;
 }
 
-/** The search result a reference network's final training starts from (its seed, its learning curve), or null when the run has none. */
+/**
+ * The search result a reference network's final training starts from (its seed, its learning
+ * curve), or null when the run has none. The reference is trained whatever its score, so its
+ * source may be a result that does not count (`eligible` refuses it: a quarantined worker's, or
+ * one verification rejected) when no other exists; the final training then takes the job from it
+ * (the coordinator wrote that) but not its learning curve (see `ChampionPhase.ensureJobs`).
+ */
 export function referenceSource(
   store: RunStore,
   run: RunRecord,
   pool: ReadonlyArray<{ id: string; genomeHash: string; seq: number; valAccuracy: number | null }>,
+  eligible: (ev: EvaluationRecord) => boolean = () => true,
 ): { id: string; genomeHash: string; seq: number; valAccuracy: number | null } | null {
   const fitted = runReference(run);
   if (!fitted?.ok) return null;
   const hash = genomeHash(fitted.genome);
   const ranked = pool.find((e) => e.genomeHash === hash);
   if (ranked) return ranked;
-  // Not among the best: its first evaluation, proposal 0, every attempt of it (a failed one still gives the seed and budget).
-  const attempts = Array.from({ length: run.config.evaluation.maxAttempts }, (_, i) => store.getEvaluation(`${run.id}-s0-a${i + 1}`)).filter((e) => e?.genomeHash === hash);
-  const source = attempts.find((e) => e!.state === 'done') ?? attempts.at(-1);
+  // Not among the best: its first evaluation, proposal 0, every attempt of it (a failed one still
+  // gives the seed and budget), a done one that counts first.
+  const attempts = Array.from({ length: run.config.evaluation.maxAttempts }, (_, i) => store.getEvaluation(`${run.id}-s0-a${i + 1}`)).filter(
+    (e): e is EvaluationRecord => e?.genomeHash === hash,
+  );
+  const done = attempts.filter((e) => e.state === 'done');
+  const source = done.find(eligible) ?? done[0] ?? attempts.at(-1);
   return source ? { id: source.id, genomeHash: hash, seq: source.seq, valAccuracy: source.valAccuracy } : null;
 }
 

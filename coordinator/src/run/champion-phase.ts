@@ -101,7 +101,7 @@ export class ChampionPhase {
       const members = ensembleFromPool(pool, ensemble);
       if (members.length >= 2) members.forEach((m, i) => add(m.entry, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
     }
-    const reference = out.length ? referenceSource(this.o.store, run, pool) : null;
+    const reference = out.length ? referenceSource(this.o.store, run, pool, this.o.eligible) : null;
     if (reference) add(reference, { reference: true });
     const considered = pool.slice(0, topK).map((e) => ({ genomeHash: e.genomeHash, evaluationId: e.id, valAccuracy: e.valAccuracy!, results: e.results ?? 1, budgetEpochs: e.job.budget.epochs, params: e.params }));
     return { candidates: out, choice, considered };
@@ -121,7 +121,10 @@ export class ChampionPhase {
       const { maxSamples } = run.config.champion;
       const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount;
       const budgetMaxEpochs = maxSamples === undefined ? undefined : Math.max(1, Math.min(1000, Math.floor(maxSamples / trainAndVal)));
-      const length = finalTrainingLength(run.config.champion.epochs, source.result?.history ?? [], source.job.budget.epochs, budgetMaxEpochs);
+      // A learning curve that does not count (a quarantined worker's: only the reference network
+      // can have one here) says nothing about the length.
+      const history = this.o.eligible && !this.o.eligible(source) ? [] : (source.result?.history ?? []);
+      const length = finalTrainingLength(run.config.champion.epochs, history, source.job.budget.epochs, budgetMaxEpochs);
       const job: EvaluationJob = {
         ...source.job,
         kind: 'champion',

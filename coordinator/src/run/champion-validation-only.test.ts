@@ -7,7 +7,7 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseRunConfig } from '../config/run-config.js';
-import { RunStore } from '../store/run-store.js';
+import { RunStore, type EvaluationRecord } from '../store/run-store.js';
 import { fixtureManifest, searchJob, searchResult } from '../store/test-fixtures.js';
 import { referenceComparison } from '../champion/reference-comparison.js';
 import { championFiles } from '../champion/champion-files.js';
@@ -59,7 +59,7 @@ const SEARCH: Array<[Genome, number]> = [
   [dense(8, 0.005), 0.85],
 ];
 
-async function finishChampionPhase(testSplit: LabelledSamples, searchResults = SEARCH) {
+async function finishChampionPhase(testSplit: LabelledSamples, searchResults = SEARCH, eligible?: (ev: EvaluationRecord) => boolean) {
   // The export at the end reads the test labels from the run's test shard, as a real run's does.
   const dataDir = mkdtempSync(join(tmpdir(), 'nb-champion-'));
   const testPath = join(dataDir, 'test.shard');
@@ -80,7 +80,7 @@ async function finishChampionPhase(testSplit: LabelledSamples, searchResults = S
   const queued: EvaluationJob[] = [];
   const queue = { add: async (job: EvaluationJob) => void queued.push(job) } as unknown as EvaluationQueue;
   let testReads = 0;
-  const phase = new ChampionPhase({ store, queue, log: createLogger('test', 'silent'), dataDir, now: () => 5000, testSplit: () => (testReads++, testSplit) });
+  const phase = new ChampionPhase({ store, queue, log: createLogger('test', 'silent'), dataDir, now: () => 5000, testSplit: () => (testReads++, testSplit), ...(eligible ? { eligible } : {}) });
   await phase.begin(run);
   const readsWhenChosen = testReads;
   for (const job of queued) {
@@ -129,6 +129,17 @@ describe('the champion is chosen without the test split', () => {
     expect(report).toMatch(/for 2 epoch\(s\), where its longest search training \(3 epochs\) reached its best validation accuracy/);
     expect(report).not.toMatch(/optimistic/);
     expect(comparison.line).toMatch(points > 0 ? /the search's champion beats the reference network by [\d.]+ points/ : points < 0 ? /chosen on validation, scores [\d.]+ points below the reference network/ : /ties/);
+  }, 120_000);
+
+  it('still trains the reference when its search result does not count, without reading the learning curve of that result', async () => {
+    // The reference's result (seq 0) "came from a quarantined worker": it may not compete, and
+    // its curve may be a lie, but the reference is trained in any case.
+    const { store, queued } = await finishChampionPhase(TEST, [[reference, 0.99], SEARCH[1]!, SEARCH[2]!], (ev) => ev.seq !== 0);
+    expect(queued.map((j) => j.genomeHash)).toEqual([genomeHash(SEARCH[1]![0]), genomeHash(reference)]);
+    const round = store.events('r1', 'champion-candidates')[0]!.detail as { considered: Array<{ genomeHash: string }> };
+    expect(round.considered.map((c) => c.genomeHash)).not.toContain(genomeHash(reference));
+    const lengths = store.events('r1', 'champion-training-length').map((e) => e.detail as { rule: string; epochs: number });
+    expect(lengths).toEqual([expect.objectContaining({ rule: 'learning-curve', epochs: 2 }), expect.objectContaining({ rule: 'genome-epochs', epochs: 3 })]);
   }, 120_000);
 
   it('trains the reference once when it is the champion, and says the search did not beat it', async () => {
