@@ -3,10 +3,10 @@ import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
-import { championTrust } from '../trust/champion-trust.js';
+import { championTrust } from './champion-trust.js';
 import { describePreprocessing } from '../datasets/index.js';
 import { inheritanceSummary } from './inheritance-summary.js';
-import { describeChoice, recordedChoice } from '../run/champion-choice.js';
+import { describeChoice, recordedChoice } from './champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison, type ConsideredGenome } from './reference-comparison.js';

@@ -1,7 +1,7 @@
 import { INPUT_ID, topologicalOrder, type NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { describeStart } from './inheritance-summary.js';
-import { championTrustHtml } from '../trust/champion-trust.js';
+import { championTrustHtml } from './champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);

@@ -1,7 +1,7 @@
 import type { NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
-import { championTrustMarkdown } from '../trust/champion-trust.js';
+import { championTrustMarkdown } from './champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);

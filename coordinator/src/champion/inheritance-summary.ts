@@ -1,6 +1,6 @@
 import type { TrainingStart } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
-import { checkpointSettings } from '../run/checkpoint-policy.js';
+import { checkpointSettings } from '../checkpoints/checkpoint-policy.js';
 
 /** One search evaluation that did not start from fresh weights at epoch 0. */
 export interface InheritedEvaluation {

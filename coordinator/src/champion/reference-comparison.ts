@@ -1,6 +1,6 @@
 import { genomeHash } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
-import { runReference } from '../run/reference-network.js';
+import { runReference } from './reference-network.js';
 
 /** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it. */
 export interface ConsideredGenome {

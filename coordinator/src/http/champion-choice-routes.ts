@@ -15,7 +15,7 @@ import {
 } from '@netbreeder/shared-types';
 import { paretoFront, type Observation, type SizeObjective } from '../search/index.js';
 import type { RunManager } from '../run/run-manager.js';
-import { ChampionChoiceError, pickChampion, requestEnsemble } from '../run/champion-choice.js';
+import { ChampionChoiceError, pickChampion, requestEnsemble } from '../champion/champion-choice.js';
 import { ensembleFiles, ENSEMBLE_FILE_PATTERN } from '../champion/ensemble-files.js';
 import { HttpError } from './error-codes.js';
 

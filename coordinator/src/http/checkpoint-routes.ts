@@ -4,7 +4,7 @@ import { Type } from '@sinclair/typebox';
 import { CheckpointFormatError, decodeCheckpointHeader, sha256Hex, type CheckpointHeader } from '@netbreeder/shared-types';
 import type { RunManager } from '../run/run-manager.js';
 import { checkpointRef } from '../checkpoints/checkpoint-files.js';
-import { checkpointSettings } from '../run/checkpoint-policy.js';
+import { checkpointSettings } from '../checkpoints/checkpoint-policy.js';
 import { HttpError, type HttpErrorCode } from './error-codes.js';
 
 /** The largest body the upload route reads at all; each run's own cap (`evaluation.checkpointMaxMb`, at most this) is checked too. */

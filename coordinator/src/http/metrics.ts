@@ -4,7 +4,7 @@ import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { RunManager } from '../run/run-manager.js';
 import { runMinutes } from '../run/status-report.js';
 import type { RunRecord } from '../store/run-store.js';
-import { registerTrustMetrics } from '../trust/trust-metrics.js';
+import { registerTrustMetrics } from './trust-metrics.js';
 import { runGauge } from './run-gauge.js';
 
 /** What `/metrics` reads on each scrape. */
@@ -141,7 +141,7 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   });
 
-  // CPU time, energy, verdicts and quarantined workers (listed in ../trust/trust-metrics.ts).
+  // CPU time, energy, verdicts and quarantined workers (listed in ./trust-metrics.ts).
   registerTrustMetrics(registry, manager, currentRun);
   return registry;
 }

@@ -1,7 +1,7 @@
 import { replaySearch, type RecordedCall, type ReplayReport } from '../search/index.js';
 import type { RunStore } from '../store/run-store.js';
 import { observationFor } from './search-record.js';
-import { searchContextOf } from './reference-network.js';
+import { searchContextOf } from './search-context.js';
 
 /**
  * Replays a stored run's search (see {@link replaySearch}): the algorithm is made again from the

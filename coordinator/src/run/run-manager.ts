@@ -29,13 +29,14 @@ import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.j
 import { createSearchAlgorithm, forgetResults, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
-import { ChampionPhase } from './champion-phase.js';
-import { controlTarget, type RunControl } from './run-lifecycle.js';
+import { ChampionPhase } from '../champion/champion-phase.js';
+import { controlTarget, type RunControl } from '../store/run-lifecycle.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
-import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from './checkpoint-policy.js';
+import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from '../checkpoints/checkpoint-policy.js';
 import { Verifier } from '../trust/verifier.js';
 import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
-import { logReference, searchContextOf } from './reference-network.js';
+import { logReference } from '../champion/reference-network.js';
+import { searchContextOf } from './search-context.js';
 import { newSamples } from './sample-budget.js';
 
 /** How the run manager paces itself. */
@@ -77,7 +78,7 @@ export interface RunManagerEvents {
 }
 
 /** What an admin can do to a run (./run-lifecycle.ts). */
-export type { RunControl } from './run-lifecycle.js';
+export type { RunControl } from '../store/run-lifecycle.js';
 
 /** A request that the run's state does not allow (pausing a finished run, say). */
 export class RunStateError extends Error {

@@ -1,5 +1,5 @@
 import type { EvaluationJob, EvaluationResult, Genome, RunConfig, SearchDecision, SearchStep, WorkerHeartbeat } from '@netbreeder/shared-types';
-import { RUN_STATES } from '../run/run-lifecycle.js';
+import { RUN_STATES } from './run-lifecycle.js';
 import { flag, json, jsonOrNull, num, numOrNull, oneOf, text, textOrNull, type Row } from './row.js';
 import {
   CPU_USAGE_KINDS,

@@ -5,7 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { RunStore } from './run-store.js';
 import type { EvaluationResult, RunState } from '@netbreeder/shared-types';
-import { IllegalRunTransitionError, RUN_STATES, isLegalTransition, isRunEnded } from '../run/run-lifecycle.js';
+import { IllegalRunTransitionError, RUN_STATES, isLegalTransition, isRunEnded } from './run-lifecycle.js';
 import { heartbeat, searchJob, searchResult, storeWithRun } from './test-fixtures.js';
 
 function storeWithOneEvaluation() {

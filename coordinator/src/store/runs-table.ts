@@ -1,5 +1,5 @@
 import type { EvaluationJob, RunConfig, RunState } from '@netbreeder/shared-types';
-import { INITIAL_RUN_STATE, OPEN_RUN_STATES, RUN_STATES, assertTransition, isRunEnded, sqlStateList } from '../run/run-lifecycle.js';
+import { INITIAL_RUN_STATE, OPEN_RUN_STATES, RUN_STATES, assertTransition, isRunEnded, sqlStateList } from './run-lifecycle.js';
 import { json, oneOf } from './row.js';
 import { RUN_COLUMNS, runFromRow } from './row-mappers.js';
 import type { RunRecord, StoredDataset } from './records.js';

@@ -4,8 +4,8 @@ import { createLogger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { RunStore } from '../store/run-store.js';
 import { searchJob, searchResult, storeWithRun } from '../store/test-fixtures.js';
-import { howItWasFound } from '../champion/explain-lineage.js';
-import type { ConsideredGenome } from '../champion/reference-comparison.js';
+import { howItWasFound } from './explain-lineage.js';
+import type { ConsideredGenome } from './reference-comparison.js';
 import { ChampionPhase, type ChampionCandidate } from './champion-phase.js';
 import { ChampionChoiceError, meetsRule, pickChampion, requestEnsemble } from './champion-choice.js';
 

@@ -1,8 +1,8 @@
 import type { AccountingStatus, CpuFigures } from '@netbreeder/shared-types';
 import type { ChampionRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { TrustStore, type VerdictKind } from '../store/trust-store.js';
-import { accountingByWorker, summarizeAccounting } from './accounting.js';
-import { reliability } from './trust-rules.js';
+import { accountingByWorker, summarizeAccounting } from '../trust/accounting.js';
+import { reliability } from '../trust/trust-rules.js';
 
 /** What the champion report says about verification and CPU accounting. */
 export interface ChampionTrust {

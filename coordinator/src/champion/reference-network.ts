@@ -1,8 +1,7 @@
 import { defaultSearchSpace, fitReferenceNetwork, genomeHash, type FittedReference, type RunConfig } from '@netbreeder/shared-types';
-import type { SearchContext } from '../search/index.js';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 
-type RunLike = Pick<RunRecord, 'config' | 'seed' | 'dataset'>;
+export type RunLike = Pick<RunRecord, 'config' | 'seed' | 'dataset'>;
 
 /**
  * The run's reference network fitted to its search space, or null when the run has none: its run
@@ -13,18 +12,6 @@ export function runReference(run: RunLike): FittedReference | null {
   if ((run.config.search as Partial<RunConfig['search']>).reference !== true) return null;
   const m = run.dataset.manifest;
   return fitReferenceNetwork({ inputShape: m.inputShape, numClasses: m.numClasses }, run.config.searchSpace ?? defaultSearchSpace());
-}
-
-/** What the search algorithm of `run` is made with: the space, the data's shape, the seed and the fitted reference network (if it has one that fits). */
-export function searchContextOf(run: RunLike): SearchContext {
-  const m = run.dataset.manifest;
-  const reference = runReference(run);
-  return {
-    space: run.config.searchSpace ?? defaultSearchSpace(),
-    data: { inputShape: m.inputShape, numClasses: m.numClasses },
-    seed: run.seed,
-    ...(reference?.ok ? { reference: { genome: reference.genome, description: reference.description, adjustments: reference.adjustments } } : {}),
-  };
 }
 
 /**

@@ -1,6 +1,6 @@
 import type { CheckpointPolicy, CheckpointRef, RunConfig, WeightSource } from '@netbreeder/shared-types';
 import type { RunStore } from '../store/run-store.js';
-import { checkpointRef } from '../checkpoints/checkpoint-files.js';
+import { checkpointRef } from './checkpoint-files.js';
 import type { Proposal } from '../search/index.js';
 
 /** The run's checkpoint settings (a run stored before they existed gets their defaults). */

@@ -1,7 +1,7 @@
 import type { ChampionRule, EnsembleSettings } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
-import { selectEnsemble, type EnsemblePick } from '../champion/ensemble-selection.js';
-import { rankByValidation } from '../champion/validation-evidence.js';
+import { selectEnsemble, type EnsemblePick } from './ensemble-selection.js';
+import { rankByValidation } from './validation-evidence.js';
 
 /**
  * How a run's champion is chosen: a genome the user `pick`ed, the best under the run file's

@@ -9,8 +9,8 @@ import { join } from 'node:path';
 import { parseRunConfig } from '../config/run-config.js';
 import { RunStore, type EvaluationRecord } from '../store/run-store.js';
 import { fixtureManifest, searchJob, searchResult } from '../store/test-fixtures.js';
-import { referenceComparison } from '../champion/reference-comparison.js';
-import { championFiles } from '../champion/champion-files.js';
+import { referenceComparison } from './reference-comparison.js';
+import { championFiles } from './champion-files.js';
 import { ChampionPhase } from './champion-phase.js';
 import { logReference } from './reference-network.js';
 

@@ -55,7 +55,7 @@ export class IllegalRunTransitionError extends Error {
   ) {
     const legal = TRANSITIONS[from];
     super(
-      `run ${runId} cannot go from '${from}' to '${to}': from '${from}' a run ${legal.length ? `may only go to ${legal.map((s) => `'${s}'`).join(', ')}` : 'goes nowhere (it has ended)'}; check the run's state before changing it (coordinator/src/run/run-lifecycle.ts)`,
+      `run ${runId} cannot go from '${from}' to '${to}': from '${from}' a run ${legal.length ? `may only go to ${legal.map((s) => `'${s}'`).join(', ')}` : 'goes nowhere (it has ended)'}; check the run's state before changing it (coordinator/src/store/run-lifecycle.ts)`,
     );
   }
 }

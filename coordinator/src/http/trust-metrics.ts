@@ -1,8 +1,8 @@
 import { Gauge, type Registry } from 'prom-client';
 import type { RunManager } from '../run/run-manager.js';
 import type { RunRecord } from '../store/run-store.js';
-import { runGauge } from '../http/run-gauge.js';
-import { summarizeAccounting } from './accounting.js';
+import { runGauge } from './run-gauge.js';
+import { summarizeAccounting } from '../trust/accounting.js';
 
 /**
  * Verification and accounting metrics of `/metrics`, read from the store's aggregates at scrape time.

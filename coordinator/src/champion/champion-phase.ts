@@ -2,13 +2,13 @@ import type { EvaluationJob, EvaluationResult, LabelledSamples } from '@netbreed
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
-import { scoreChampion } from '../champion/score-champion.js';
-import { exportChampion } from '../champion/export-champion.js';
-import { scoreEnsemble } from '../champion/score-ensemble.js';
+import { scoreChampion } from './score-champion.js';
+import { exportChampion } from './export-champion.js';
+import { scoreEnsemble } from './score-ensemble.js';
 import type { EnsembleSettings } from '@netbreeder/shared-types';
 import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, type ChampionChoice } from './champion-choice.js';
-import { finalTrainingLength } from '../champion/final-length.js';
-import { referenceSource, type ConsideredGenome } from '../champion/reference-comparison.js';
+import { finalTrainingLength } from './final-length.js';
+import { referenceSource, type ConsideredGenome } from './reference-comparison.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 export interface ChampionCandidate {
