@@ -151,10 +151,10 @@ async function statusTimes(url: string, n: number): Promise<number[]> {
 
 /** Counts the heartbeats the coordinator takes (the bench wraps the run manager's handler). */
 function countHeartbeats(coordinator: Coordinator): () => number {
-  const manager = coordinator.manager;
-  const record = manager.recordHeartbeat.bind(manager);
+  const workers = coordinator.manager.workers;
+  const record = workers.recordHeartbeat.bind(workers);
   let n = 0;
-  manager.recordHeartbeat = (hb) => {
+  workers.recordHeartbeat = (hb) => {
     n++;
     record(hb);
   };
@@ -358,7 +358,7 @@ async function endToEnd(name: string, workers: number, simulation: SimulationSet
   fleet.reset();
   const figures = await window(coordinator, run.id, measureMs, 1000, dataDir, name);
   const f = await fleet.report();
-  const alive = coordinator.manager.aliveWorkers();
+  const alive = coordinator.manager.workers.aliveCount();
   await coordinator.manager.control(run.id, 'stop').catch(() => undefined);
   await fleet.stop();
   await coordinator.close();

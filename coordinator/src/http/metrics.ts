@@ -64,7 +64,7 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   );
 
-  const aliveWorkers = () => store.listWorkers().filter((w) => manager.isWorkerAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
+  const aliveWorkers = () => store.listWorkers().filter((w) => manager.workers.isAlive(w.lastSeenAt) && w.heartbeat.state !== 'stopped');
 
   new Gauge({
     name: 'netbreeder_training_samples_per_second',

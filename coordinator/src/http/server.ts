@@ -128,7 +128,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
 
   app.post('/workers/:id/revoke', { config: { access: 'admin' }, schema: { params: WorkerIdParams, body: Type.Object({ reason: Type.String({ minLength: 1, maxLength: 500 }) }, { additionalProperties: false }) } }, async (req) => {
     const { id } = req.params as { id: string };
-    manager.revokeWorker(id, (req.body as { reason: string }).reason);
+    manager.workers.revoke(id, (req.body as { reason: string }).reason);
     return { workerId: id, revoked: true };
   });
 
@@ -142,11 +142,11 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
   app.post('/workers/heartbeat', { config: { access: 'join' }, schema: { body: WorkerHeartbeatSchema } }, async (req, reply) => {
     // fastify has checked the body against the schema; the shared validator is the same rule set.
     const hb = workerHeartbeatValidator.parse(req.body) as WorkerHeartbeat;
-    if (manager.isRevoked(hb.workerId)) {
+    if (manager.workers.isRevoked(hb.workerId)) {
       reject(req, `revoked worker ${hb.workerId}`);
       return send(reply, 'NB_WORKER_REVOKED', `worker ${hb.workerId} is revoked`);
     }
-    manager.recordHeartbeat(hb);
+    manager.workers.recordHeartbeat(hb);
     if (manager.isQuarantined(hb.workerId)) {
       const reply200: HeartbeatReply = { quarantined: true, reason: manager.verifier.trust.trust(hb.workerId).quarantineReason ?? 'its results failed verification' };
       return reply.status(200).send(reply200);

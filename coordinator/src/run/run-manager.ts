@@ -2,105 +2,44 @@ import { randomBytes } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import {
-  EVALUATION_JOB_VERSION,
-  analyzeGenome,
   canonicalGenome,
   checkGenome,
-  createRandom,
   genomeHash,
   decodeShard,
   defaultSearchSpace,
-  describeGenome,
-  evaluationResultValidator,
   spaceIssuesForData,
   ValidationError,
   type DataShape,
-  type EvaluationJob,
   type EvaluationResult,
-  type GenomeAnalysis,
   type LabelledSamples,
   type RunConfig,
   type SearchSpace,
-  type WorkerHeartbeat,
 } from '@netbreeder/shared-types';
-import type { Logger } from '../logger.js';
-import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js';
+import type { FinishedJob } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
-import { createSearchAlgorithm, forgetResults, type Proposal, type SearchAlgorithm } from '../search/index.js';
+import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
 import { loadDataset } from '../importers/index.js';
 import { ChampionPhase } from '../champion/champion-phase.js';
 import { controlTarget, type RunControl } from '../store/run-lifecycle.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
-import { checkpointPolicy, checkpointSettings, inheritedWeights, resumeRef } from '../checkpoints/checkpoint-policy.js';
+import { checkpointSettings } from '../checkpoints/checkpoint-policy.js';
 import { Verifier } from '../trust/verifier.js';
-import { observationFor, observeStep, proposalStep, rejectStep } from './search-record.js';
+import { observationFor, observeStep, rejectStep } from './search-record.js';
+import { proposeMore, recordProposal } from './proposal-recorder.js';
+import { recordFailedAttempt, rejectResult, resultProblem, type AttemptDeps } from './failed-attempts.js';
+import { emptyBatch, type QueueBatch } from './queue-batch.js';
+import { WorkerRoster } from './worker-roster.js';
+import { DISCARDED_AT_FINISH, GenomeRejectedError, RunStateError, type RunManagerEvents, type RunManagerOptions } from './run-manager-options.js';
+import { ReconcileLoop } from './reconcile-loop.js';
+import { forgetWorkerResults } from './forget-worker.js';
 import { logReference } from '../champion/reference-network.js';
 import { searchContextOf } from './search-context.js';
 import { newSamples } from './sample-budget.js';
 
-/** How the run manager paces itself. */
-export interface RunManagerOptions {
-  store: RunStore;
-  queue: EvaluationQueue;
-  log: Logger;
-  /** Folder for datasets and champion exports. */
-  dataDir: string;
-  /** Milliseconds between reconcile passes. @default 1000 */
-  tickMs?: number;
-  /**
-   * How long a finished job waits for others before the pass that records it, so results that
-   * arrive one by one (a thousand workers finish about a hundred jobs a second, each at its own
-   * moment) share one pass and its commit instead of paying for a pass each. The queued slack
-   * covers the wait: a worker that frees up finds its next job already queued. 0: a pass at once.
-   * @default 50
-   */
-  passDelayMs?: number;
-  /** A worker counts as alive while its last heartbeat is younger than this. @default 20000 */
-  workerTimeoutMs?: number;
-  /**
-   * Evaluations kept queued beyond one per alive worker, so a worker that frees up finds its next
-   * job waiting: `queueSlack` plus `queueSlackPerWorker` times the alive workers (rounded up).
-   * A dozen PCs get 1 spare job; a thousand get 21, enough for the results that arrive while one
-   * reconcile pass runs. More slack means proposals made from slightly older results.
-   * @default 1 and 0.02
-   */
-  queueSlack?: number;
-  queueSlackPerWorker?: number;
-  /** Clock, for tests. @default Date.now */
-  now?: () => number;
-}
+export { DISCARDED_AT_FINISH, GenomeRejectedError, RunStateError, type RunControl, type RunManagerEvents, type RunManagerOptions } from './run-manager-options.js';
+export { evaluationSeed } from './proposal-recorder.js';
 
-/** Events a watcher (the demo, the CLI) can follow. */
-export interface RunManagerEvents {
-  resultRecorded?: (evaluation: EvaluationRecord, result: EvaluationResult) => void;
-  runFinished?: (run: RunRecord) => void;
-}
-
-/** What an admin can do to a run (./run-lifecycle.ts). */
-export type { RunControl } from '../store/run-lifecycle.js';
-
-/** A request that the run's state does not allow (pausing a finished run, say). */
-export class RunStateError extends Error {
-  override name = 'RunStateError';
-}
-
-/** A submitted genome that breaks the run's search space; `issues` says each problem. */
-export class GenomeRejectedError extends Error {
-  override name = 'GenomeRejectedError';
-  constructor(readonly issues: string[]) {
-    super(`genome rejected: ${issues.join('; ')}`);
-  }
-}
-
-/** Derives each search evaluation's training seed from the run's seed and the proposal's position. */
-export const evaluationSeed = (runSeed: number, seq: number): number => createRandom(`${runSeed}:search:${seq}`).uint32();
-
-/** The failure recorded for an evaluation that a finish with `discardInFlight` gave up. */
-export const DISCARDED_AT_FINISH = 'run finished before this result arrived';
-
-const evaluationId = (runId: string, seq: number, attempt: number, kind: 'search' | 'champion' = 'search') =>
-  `${runId}-${kind === 'search' ? 's' : 'c'}${seq}-a${attempt}`;
 
 /**
  * Drives one run: keeps the queue topped up with proposals from the search algorithm, records each
@@ -117,20 +56,12 @@ export class RunManager {
   private space: SearchSpace = defaultSearchSpace();
   private data: DataShape | null = null;
   private testSplit: LabelledSamples | null = null;
-  private timer: NodeJS.Timeout | null = null;
-  private revoked: Set<string> | null = null;
-  private ticking: Promise<void> | null = null;
-  private tickAgain = false;
-  /** The pass that finished jobs asked for, while it waits out `passDelayMs`. */
-  private passSoon: NodeJS.Timeout | null = null;
+  private readonly loop: ReconcileLoop;
   /** True once `finish` was asked for the current run (also read back from the store on attach). */
   private finishRequested = false;
   /** Samples the driven run's recorded search results spent (see `budget.maxSamples`). */
   private samplesSpent = 0;
   private readonly now: () => number;
-  private readonly tickMs: number;
-  private readonly passDelayMs: number;
-  private readonly workerTimeoutMs: number;
   private readonly queueSlack: number;
   private readonly queueSlackPerWorker: number;
   private readonly champion: ChampionPhase;
@@ -138,15 +69,17 @@ export class RunManager {
   readonly checkpoints: CheckpointFiles;
   /** Replicated verification, worker trust and quarantine (../trust/verifier.ts). */
   readonly verifier: Verifier;
+  /** Heartbeats, who is alive, who is revoked. */
+  readonly workers: WorkerRoster;
+  private readonly attempts: AttemptDeps;
 
   constructor(
     private readonly opts: RunManagerOptions,
     private readonly events: RunManagerEvents = {},
   ) {
     this.now = opts.now ?? Date.now;
-    this.tickMs = opts.tickMs ?? 1000;
-    this.passDelayMs = opts.passDelayMs ?? 50;
-    this.workerTimeoutMs = opts.workerTimeoutMs ?? 20_000;
+    this.loop = new ReconcileLoop(() => this.pass(), { tickMs: opts.tickMs ?? 1000, passDelayMs: opts.passDelayMs ?? 50, log: opts.log });
+    this.workers = new WorkerRoster({ store: opts.store, log: opts.log, now: this.now, workerTimeoutMs: opts.workerTimeoutMs ?? 20_000 });
     this.queueSlack = opts.queueSlack ?? 1;
     this.queueSlackPerWorker = opts.queueSlackPerWorker ?? 0.02;
     this.checkpoints = new CheckpointFiles(join(opts.dataDir, 'checkpoints'), opts.store, opts.log.child({ part: 'checkpoints' }));
@@ -155,7 +88,7 @@ export class RunManager {
       queue: opts.queue,
       log: opts.log,
       now: this.now,
-      liveWorkerBesides: (excluded) => this.store.hasLiveWorkerOutside(this.now() - this.workerTimeoutMs, [...excluded, ...this.revokedIds()]),
+      liveWorkerBesides: (excluded) => this.store.hasLiveWorkerOutside(this.workers.aliveSince(), [...excluded, ...this.workers.revokedIds()]),
       onQuarantine: (workerId, runId) => this.dropResultsOf(workerId, runId),
     });
     this.champion = new ChampionPhase({
@@ -168,6 +101,7 @@ export class RunManager {
       onFinished: (run) => this.events.runFinished?.(run),
       eligible: (ev) => this.verifier.counts(ev),
     });
+    this.attempts = { store: opts.store, log: opts.log, now: this.now, configOf: (runId) => this.configOf(runId), onSearchGivenUp: (ev) => this.dropCheckpointUnlessInherited(ev) };
   }
 
   get store(): RunStore {
@@ -254,48 +188,17 @@ export class RunManager {
 
   /** Starts the reconcile loop (and listens for finished jobs, to record them within `passDelayMs`). */
   async startLoop(): Promise<void> {
-    await this.opts.queue.watch(() => this.passAfterFinish());
-    this.timer = setInterval(() => void this.tick(), this.tickMs);
-    await this.tick();
+    await this.opts.queue.watch(() => this.loop.passAfterFinish());
+    await this.loop.start();
   }
 
-  async stopLoop(): Promise<void> {
-    if (this.timer) clearInterval(this.timer);
-    this.timer = null;
-    if (this.passSoon) clearTimeout(this.passSoon);
-    this.passSoon = null;
-    await this.ticking;
-  }
-
-  /** A job finished: a pass after `passDelayMs` (one pass for every job that finishes meanwhile), or right after the running one. */
-  private passAfterFinish(): void {
-    if (this.ticking || this.passDelayMs <= 0) return void this.tick(); // tick() marks a running pass to go again
-    if (this.passSoon || !this.timer) return;
-    this.passSoon = setTimeout(() => {
-      this.passSoon = null;
-      void this.tick();
-    }, this.passDelayMs);
+  stopLoop(): Promise<void> {
+    return this.loop.stop();
   }
 
   /** One pass: record finished jobs, move the run's phase on, top up the queue. Never runs twice at once. */
   tick(): Promise<void> {
-    if (this.ticking) {
-      this.tickAgain = true;
-      return this.ticking;
-    }
-    this.ticking = (async () => {
-      do {
-        this.tickAgain = false;
-        try {
-          await this.pass();
-        } catch (err) {
-          this.opts.log.error({ err: (err as Error).message, stack: (err as Error).stack }, 'reconcile pass failed; will retry');
-        }
-      } while (this.tickAgain);
-    })().finally(() => {
-      this.ticking = null;
-    });
-    return this.ticking;
+    return this.loop.tick();
   }
 
   /**
@@ -343,41 +246,6 @@ export class RunManager {
       // the reference network, retrained only to be compared with, is not.
       if (counts.queued + counts.running === 0 && (await this.verifier.readyForChampion(run, this.champion.chooseCandidates(run).candidates.filter((c) => c.champion !== false || c.ensemblePosition !== undefined)))) await this.champion.begin(run);
     } else if (run.state === 'training-champion') await this.champion.ensureJobs(run);
-  }
-
-  /** Takes a worker's heartbeat (refused for a revoked worker); the store writes it with the others of this moment (`RunStore.takeHeartbeat`). */
-  recordHeartbeat(hb: WorkerHeartbeat): void {
-    if (this.isRevoked(hb.workerId)) throw new Error(`worker ${hb.workerId} is revoked`);
-    this.store.takeHeartbeat(hb, this.now());
-  }
-
-  /** Workers whose last heartbeat is recent enough. */
-  aliveWorkers(): number {
-    const cutoff = this.now() - this.workerTimeoutMs;
-    return this.store.countLiveWorkers(cutoff);
-  }
-
-  isWorkerAlive(lastSeenAt: number): boolean {
-    return lastSeenAt >= this.now() - this.workerTimeoutMs;
-  }
-
-  /** True when results and heartbeats of this worker are refused. */
-  isRevoked(workerId: string): boolean {
-    return this.revokedIds().has(workerId);
-  }
-
-  /** The workers whose results and heartbeats are refused (read from the event log once). */
-  private revokedIds(): Set<string> {
-    this.revoked ??= new Set(this.store.events(null, 'worker-revoked').map((e) => (e.detail as { workerId: string }).workerId));
-    return this.revoked;
-  }
-
-  /** Refuses every later result and heartbeat of `workerId` (a PC that misbehaves or left the office). */
-  revokeWorker(workerId: string, reason: string): void {
-    if (this.isRevoked(workerId)) return;
-    this.store.logEvent(null, 'worker-revoked', { workerId, reason });
-    this.revokedIds().add(workerId);
-    this.opts.log.warn({ workerId, reason }, 'worker revoked; its results will be refused');
   }
 
   /**
@@ -436,7 +304,7 @@ export class RunManager {
     }
     const genome = canonicalGenome(check.genome);
     const proposal: Proposal = { genome, genomeHash: genomeHash(genome), parentHashes: [], mutation: null, reason: 'submitted by the user' };
-    const job = this.store.transaction(() => this.recordProposal(this.store.getRun(run.id)!, proposal, check.analysis, 'submit'));
+    const job = this.store.transaction(() => recordProposal(this.store, this.store.getRun(run.id)!, proposal, check.analysis, this.now(), 'submit'));
     await this.opts.queue.add(job);
     return this.store.getEvaluation(job.evaluationId)!;
   }
@@ -458,69 +326,10 @@ export class RunManager {
   /** Proposes until one evaluation is in flight per alive worker plus the slack (inside the pass's transaction). */
   private proposeUpToTarget(run: RunRecord, batch: QueueBatch): void {
     const counts = this.store.counts(run.id, 'search');
-    const alive = this.aliveWorkers();
+    const alive = this.workers.aliveCount();
     const target = Math.max(2, alive + Math.ceil(this.queueSlack + alive * this.queueSlackPerWorker));
-    let current = run;
-    for (let n = counts.queued + counts.running; n < target && current.proposals < run.config.budget.maxEvaluations; n++) {
-      const proposal = this.algorithm!.propose();
-      batch.searchChanged = true;
-      const analysis = analyzeGenome(proposal.genome, this.data!);
-      if (!analysis.ok) {
-        // A bug in the search, never expected: the refusal is recorded with the call, and nothing is queued.
-        const issues = analysis.issues.map((i) => i.message);
-        this.store.addSearchStep(proposalStep(run.id, 'propose', null, proposal, this.now()));
-        this.store.addSearchStep(rejectStep(run.id, 'genome', { evaluationId: null, genomeHash: proposal.genomeHash }, issues, this.now()));
-        this.opts.log.error({ runId: run.id, genomeHash: proposal.genomeHash, issues }, 'search proposed an invalid genome; refused and recorded');
-        continue;
-      }
-      batch.add.push(this.recordProposal(current, proposal, analysis.analysis));
-      current = { ...current, proposals: current.proposals + 1 };
-    }
-  }
-
-  /**
-   * Records a proposal (genome, evaluation, its search step with the decisions, lineage) as
-   * evaluation number `run.proposals` of the run and returns its job; the caller is inside a
-   * transaction, saves the algorithm's state and queues the job. `step`: `submit` for a user's
-   * genome (the algorithm was not asked, so replay does not ask it either).
-   */
-  private recordProposal(run: RunRecord, proposal: Proposal, analysis: GenomeAnalysis, step: 'propose' | 'submit' = 'propose'): EvaluationJob {
-    const seq = run.proposals;
-    const job: EvaluationJob = {
-      schemaVersion: EVALUATION_JOB_VERSION,
-      kind: 'search',
-      evaluationId: evaluationId(run.id, seq, 1),
-      runId: run.id,
-      attempt: 1,
-      genome: proposal.genome,
-      genomeHash: proposal.genomeHash,
-      seed: evaluationSeed(run.seed, seq),
-      budget: { epochs: proposal.budgetEpochs ?? proposal.genome.training.epochs, maxSeconds: run.config.evaluation.maxSeconds },
-      dataset: run.dataset.manifest,
-    };
-    const policy = checkpointPolicy(run.config);
-    if (policy) job.checkpoints = policy;
-    const inherit = inheritedWeights(this.store, run.config, run.id, proposal);
-    if (inherit) job.inherit = inherit;
-    this.store.putGenome({
-      hash: proposal.genomeHash,
-      genome: proposal.genome,
-      params: analysis.params,
-      flops: analysis.flops,
-      summary: describeGenome(proposal.genome, this.data!.numClasses),
-    });
-    this.store.addEvaluation(job, seq, this.now(), true);
-    this.store.addSearchStep(proposalStep(run.id, step, job.evaluationId, proposal, this.now()));
-    for (const parent of proposal.parentHashes) {
-      this.store.addLineage(run.id, {
-        evaluationId: job.evaluationId,
-        childHash: proposal.genomeHash,
-        parentHash: parent,
-        operator: proposal.mutation?.operator ?? 'none',
-        detail: proposal.mutation?.detail ?? proposal.reason,
-      });
-    }
-    return job;
+    const o = { store: this.store, log: this.opts.log, now: this.now() };
+    batch.add.push(...proposeMore(o, this.algorithm!, run, this.data!, target - counts.queued - counts.running, () => (batch.searchChanged = true)));
   }
 
   // ---- results -------------------------------------------------------------------------------
@@ -543,13 +352,13 @@ export class RunManager {
     } else if (job.state === 'completed') {
       const problem = this.resultProblem(ev, job.returnvalue);
       if (problem) {
-        this.rejectResult(ev, problem, batch);
+        rejectResult(this.attempts, ev, problem, batch);
         return 'recorded';
       }
       if (ev.kind === 'search' && this.sampleBudgetReached(ev.runId)) this.store.recordFailure(ev.id, DISCARDED_AT_FINISH, this.now());
       else this.recordSearchResult(ev, job.returnvalue as EvaluationResult, batch);
     } else {
-      this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable, batch);
+      recordFailedAttempt(this.attempts, ev, job.failedReason ?? 'failed', job.unrecoverable, batch);
     }
     batch.remove.push(job.id);
     return 'recorded';
@@ -562,13 +371,13 @@ export class RunManager {
     let givenUp = false;
     if (job.state === 'completed') {
       const problem = this.resultProblem(ev, job.returnvalue);
-      if (problem) this.store.transaction(() => this.rejectResult(ev, problem, batch));
+      if (problem) this.store.transaction(() => rejectResult(this.attempts, ev, problem, batch));
       else {
         await this.champion.recordResult(ev, job.returnvalue as EvaluationResult);
         batch.remove.push(job.id);
       }
     } else {
-      givenUp = this.store.transaction(() => this.recordFailedAttempt(ev, job.failedReason ?? 'failed', job.unrecoverable, batch));
+      givenUp = this.store.transaction(() => recordFailedAttempt(this.attempts, ev, job.failedReason ?? 'failed', job.unrecoverable, batch));
       batch.remove.push(job.id);
     }
     await this.opts.queue.removeMany(batch.remove);
@@ -581,36 +390,9 @@ export class RunManager {
     return runId === this.run?.id ? this.run.config : this.store.getRun(runId)!.config;
   }
 
-  /**
-   * A result that cannot be recorded changes nothing but the event log: the same job goes back in
-   * the queue for another worker. Past `maxAttempts` rejections the attempt counts as failed.
-   */
-  private rejectResult(ev: EvaluationRecord, problem: string, batch: QueueBatch): void {
-    this.store.logEvent(ev.runId, 'rejected-result', { evaluationId: ev.id, reason: problem });
-    if (ev.kind === 'search') this.store.addSearchStep(rejectStep(ev.runId, 'result', { evaluationId: ev.id, genomeHash: ev.genomeHash }, [problem], this.now()));
-    this.opts.log.warn({ evaluationId: ev.id, reason: problem }, 'result rejected; the job goes back in the queue');
-    batch.remove.push(ev.id);
-    if (this.store.countEventsNaming(ev.runId, 'rejected-result', ev.id) >= this.configOf(ev.runId).evaluation.maxAttempts) {
-      this.recordFailedAttempt(ev, `every result for it was rejected; the last because ${problem}`, false, batch);
-    } else {
-      batch.add.push(ev.job);
-    }
-  }
-
-  /** Why a returned value cannot be recorded for `ev`, or null when it can. */
+  /** Why a returned value cannot be recorded for `ev`, or null when it can (see `resultProblem`). */
   private resultProblem(ev: EvaluationRecord, value: unknown): string | null {
-    const issues = evaluationResultValidator.issues(value);
-    if (issues.length) return issues.slice(0, 5).map((i) => `${i.path || '(root)'} ${i.message}`).join('; ');
-    const result = value as EvaluationResult;
-    if (result.evaluationId !== ev.id) return `result names evaluation ${result.evaluationId}, not ${ev.id}`;
-    if (this.isRevoked(result.workerId)) return `worker ${result.workerId} is revoked`;
-    if (this.verifier.isQuarantined(result.workerId)) return `worker ${result.workerId} is quarantined (its results failed verification); another worker will run it`;
-    if (ev.kind === 'search' && (result.valAccuracy === null || result.valLoss === null)) return 'a search result needs validation accuracy and loss';
-    if (ev.kind === 'search' && result.latencyMsPerSample === undefined && this.run?.config.search.algorithm === 'pareto-evolution' && this.run.config.search.objective === 'latency') {
-      return 'this run weighs accuracy against measured latency, and the result has none (a worker older than latency measurement: update it)';
-    }
-    if (ev.kind === 'champion' && !result.model) return 'a champion result needs the trained model';
-    return null;
+    return resultProblem(ev, value, { config: this.configOf(ev.runId), isRevoked: (w) => this.workers.isRevoked(w), isQuarantined: (w) => this.verifier.isQuarantined(w) });
   }
 
   private recordSearchResult(ev: EvaluationRecord, result: EvaluationResult, batch: QueueBatch): void {
@@ -628,51 +410,15 @@ export class RunManager {
     );
   }
 
-  /**
-   * A worker was quarantined: its results leave the search's population (they no longer count for
-   * selection; the champion phase skips them through `verifier.counts`). Logged with how many.
-   */
+  /** A worker was quarantined: its results leave the search's population (see `forgetWorkerResults`). */
   private dropResultsOf(workerId: string, runId: string): void {
     if (!this.algorithm || this.run?.id !== runId) return;
-    const reason = `worker ${workerId} was quarantined (its results failed verification): its results no longer count`;
-    const decision = forgetResults(this.algorithm, (id) => this.store.getEvaluation(id)?.workerId === workerId, reason);
-    const dropped = decision.kind === 'results-forgotten' ? decision.evaluationIds.length : 0;
-    this.store.transaction(() => {
-      this.store.addSearchStep({ runId, kind: 'forget', evaluationId: null, genomeHash: null, parentHashes: [], budgetEpochs: null, reason, decisions: [decision], at: this.now() });
-      this.store.saveSearchSnapshot(runId, this.algorithm!.snapshot());
-      this.store.logEvent(runId, 'quarantined-results-dropped', { workerId, droppedFromPopulation: dropped });
-    });
-    this.opts.log.warn({ workerId, dropped }, 'results of a quarantined worker dropped from the search population');
+    forgetWorkerResults({ store: this.store, log: this.opts.log, now: this.now() }, this.algorithm, workerId, runId);
   }
 
   /** True when this worker's results no longer count (it failed verification repeatedly). */
   isQuarantined(workerId: string): boolean {
     return this.verifier.isQuarantined(workerId);
-  }
-
-  /**
-   * Records a failed attempt and, unless it cannot succeed, the next attempt (queued with the
-   * batch). Returns true when the evaluation was given up.
-   */
-  private recordFailedAttempt(ev: EvaluationRecord, reason: string, unrecoverable: boolean, batch: QueueBatch): boolean {
-    const canRetry = !unrecoverable && ev.attempt < this.configOf(ev.runId).evaluation.maxAttempts;
-    const next: EvaluationJob | null = canRetry
-      ? { ...ev.job, attempt: ev.attempt + 1, evaluationId: evaluationId(ev.runId, ev.seq, ev.attempt + 1, ev.kind) }
-      : null;
-    // The next attempt resumes from the latest checkpoint any attempt of this evaluation uploaded.
-    const resume = next && ev.kind === 'search' ? resumeRef(this.store, ev.runId, ev.seq) : undefined;
-    if (next && resume) next.resume = resume;
-    if (this.store.recordFailure(ev.id, reason, this.now()) !== 'recorded') return false;
-    if (next) {
-      this.store.addEvaluation(next, ev.seq, this.now(), false);
-      this.store.logEvent(ev.runId, 'reissued', { evaluationId: ev.id, next: next.evaluationId, reason });
-      batch.add.push(next);
-    } else {
-      this.store.logEvent(ev.runId, 'genome-failing', { evaluationId: ev.id, genomeHash: ev.genomeHash, attempts: ev.attempt, reason });
-      if (ev.kind === 'search') this.dropCheckpointUnlessInherited(ev);
-    }
-    this.opts.log.warn({ evaluationId: ev.id, reason, reissuedAs: next?.evaluationId ?? null }, 'evaluation attempt failed');
-    return next === null;
   }
 
   /** Without weight inheritance nothing continues a finished (or given-up) training: its checkpoint file can go. */
@@ -681,14 +427,3 @@ export class RunManager {
     void this.checkpoints.drop(ev.runId, ev.seq).catch((err: Error) => this.opts.log.warn({ evaluationId: ev.id, err: err.message }, 'cannot delete a checkpoint file'));
   }
 }
-
-/** Queue work and notifications a pass decided, carried out once its transaction has committed. */
-interface QueueBatch {
-  add: EvaluationJob[];
-  remove: string[];
-  recorded: Array<{ evaluationId: string; result: EvaluationResult }>;
-  /** True when the search algorithm saw a result or made a proposal, so its state must be saved. */
-  searchChanged: boolean;
-}
-
-const emptyBatch = (): QueueBatch => ({ add: [], remove: [], recorded: [], searchChanged: false });

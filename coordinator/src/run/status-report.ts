@@ -52,7 +52,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
       cores: hb.cores,
       backend: hb.backend,
       state: hb.state,
-      alive: manager.isWorkerAlive(lastSeenAt) && hb.state !== 'stopped',
+      alive: manager.workers.isAlive(lastSeenAt) && hb.state !== 'stopped',
       currentEvaluationId: hb.currentEvaluationId,
       evaluationsDone: hb.evaluationsDone,
       samplesPerSecond: hb.samplesPerSecond,
