@@ -24,6 +24,8 @@ export function explainDecision(d: SearchDecision): string {
       return `The chosen parent ${short(d.parentHash)} had no valid change (${d.message}).`;
     case 'promotion':
       return `It was promoted from rung ${d.fromRung} (${d.fromEpochs} epochs) to rung ${d.toRung} (${d.toEpochs} epochs): ${pct(d.member.fitness)} placed it ${d.rank} of ${d.rungSize}, inside the top ${d.quota} (at least ${pct(d.threshold)}).`;
+    case 'reference-promotion':
+      return `As the run's reference network it moved up from rung ${d.fromRung} (${d.fromEpochs} epochs) to rung ${d.toRung} (${d.toEpochs} epochs) whatever its rank (${pct(d.member.fitness)}), so the choice has it at the longest training.`;
     case 'no-promotion':
       return 'No result was due for promotion, so a new genome started at the lowest rung.';
     case 'member-added':
@@ -57,7 +59,7 @@ export function howItWasFound(store: RunStore, runId: string, genomeHash: string
     const own = steps.filter((s) => s.genomeHash === hash);
     const born = i > 0 ? own.find((s) => s.evaluationId === chain[i - 1]!.evaluationId) ?? own[0] : own[0];
     const lines = born ? (born.kind === 'submit' ? ['A user submitted it.'] : telling(born).map(explainDecision)) : [];
-    if (i === line.length - 1) for (const s of own) if (s !== born) lines.push(...s.decisions.filter((d) => d.kind === 'promotion').map(explainDecision));
+    if (i === line.length - 1) for (const s of own) if (s !== born) lines.push(...s.decisions.filter((d) => d.kind === 'promotion' || d.kind === 'reference-promotion').map(explainDecision));
     return { genomeHash: hash, evaluationId: born?.evaluationId ?? null, lines };
   });
 }

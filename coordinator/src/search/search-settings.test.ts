@@ -5,7 +5,7 @@ import { resolveSearchSettings, SEARCH_SETTING_DEFAULTS } from './search-setting
 describe('resolveSearchSettings', () => {
   it('fills the defaults', () => {
     expect(resolveSearchSettings({ populationSize: 5, sampleSize: 2 })).toEqual({
-      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal',
+      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal', promoteReference: false,
     });
   });
 
@@ -19,6 +19,9 @@ describe('resolveSearchSettings', () => {
     // the setting predates it and started from minimal genomes.
     expect(search.start.default).toBe('family');
     expect(SEARCH_SETTING_DEFAULTS.start).toBe('minimal');
+    // Likewise the reference network climbs every rung in a new run, not in one stored before.
+    expect(search.promoteReference.default).toBe(true);
+    expect(SEARCH_SETTING_DEFAULTS.promoteReference).toBe(false);
   });
 
   it('names the bad value', () => {

@@ -34,6 +34,11 @@ export interface SearchSettings {
    * the setting existed, which started from minimal genomes and must replay as it ran.
    * @default 'minimal' */
   start?: StartKind;
+  /** Successive halving: the run's reference network moves up every rung whatever its rank, so the
+   * champion's choice always has it at the top rung's budget. A run file gets `true` from its
+   * schema; absent here means a run stored before the setting existed, which must replay as it ran.
+   * @default false */
+  promoteReference?: boolean;
 }
 
 /** A size or cost to minimise against accuracy: the genome's parameter count, its FLOPs per sample, or its measured CPU latency per sample (ms). */
@@ -43,7 +48,7 @@ export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops', 'la
 export type ResolvedSearchSettings = Required<SearchSettings>;
 
 /** The one place the optional settings get their defaults (the run file schema carries the same ones, checked by a test). */
-export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal' } as const;
+export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal', promoteReference: false } as const;
 
 /** Applies the defaults and checks every value, naming the one that is wrong. */
 export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchSettings {
@@ -58,8 +63,9 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
     maxEpochs: settings.maxEpochs ?? d.maxEpochs,
     objective: settings.objective ?? d.objective,
     start: settings.start ?? d.start,
+    promoteReference: settings.promoteReference ?? d.promoteReference,
   };
-  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective' | 'start'>, min: number) => {
+  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective' | 'start' | 'promoteReference'>, min: number) => {
     const v = resolved[name];
     if (!Number.isInteger(v) || v < min) throw new RangeError(`search setting ${name} must be a whole number ≥ ${min}, got ${String(v)}`);
   };

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { checkGenome, createRandom, defaultSearchSpace } from '@netbreeder/shared-types';
+import { checkGenome, createRandom, defaultSearchSpace, fitReferenceNetwork, genomeHash, searchDecisionValidator } from '@netbreeder/shared-types';
 import { SuccessiveHalving, type AshaVariant } from './successive-halving.js';
 import type { Observation, Proposal } from './search-algorithm.js';
 import { genomeVariation } from './variation.js';
@@ -265,5 +265,51 @@ describe('successive halving records why it promotes or does not', () => {
     // its result enters rung 1; one off every rung is counted and left out
     expect(alg.observe(result(promotion, 0.95))).toEqual([expect.objectContaining({ kind: 'member-added', rung: 1, size: 1 })]);
     expect(alg.observe(result(fresh, 0.4, 7))).toEqual([expect.objectContaining({ kind: 'observation-ignored', why: 'off-rung' })]);
+  });
+});
+
+describe('the reference network climbs every rung (promoteReference)', () => {
+  const fitted = fitReferenceNetwork(IMAGE, space);
+  if (!fitted.ok) throw new Error(fitted.reason);
+  const first = { genome: fitted.genome, description: fitted.description, adjustments: fitted.adjustments };
+  const climbing = (promoteReference: boolean) =>
+    new SuccessiveHalving({
+      variant: 'asha-evolution',
+      settings: { eta: 3, minEpochs: 1, maxEpochs: 9, populationSize: 4, sampleSize: 2, initialMutations: 2, randomMutations: 6, promoteReference },
+      variation,
+      seed: 3,
+      first,
+    });
+
+  it('moves the reference up as soon as its result is in, even when it ranks last, until the top rung', () => {
+    const alg = climbing(true);
+    const ref = alg.propose();
+    expect(ref.genomeHash).toBe(genomeHash(first.genome));
+    const others = [alg.propose(), alg.propose(), alg.propose()];
+    alg.observe(result(ref, 0.1)); // the worst of rung 0
+    others.forEach((p, i) => alg.observe(result(p, 0.5 + i / 10)));
+    const up = alg.propose();
+    expect([up.genomeHash, up.budgetEpochs, up.promotedFrom]).toEqual([ref.genomeHash, 3, 'e' + (nextId - 4)]);
+    expect(up.decisions).toEqual([expect.objectContaining({ kind: 'reference-promotion', fromRung: 0, toRung: 1, fromEpochs: 1, toEpochs: 3 })]);
+    for (const d of up.decisions!) expect(searchDecisionValidator.issues(d)).toEqual([]);
+    // The ranked rule goes on for the others: the best of rung 0 is promoted next.
+    const ranked = alg.propose();
+    expect([ranked.genomeHash, ranked.budgetEpochs]).toEqual([others[2]!.genomeHash, 3]);
+    alg.observe(result(up, 0.2));
+    const top = alg.propose();
+    expect([top.genomeHash, top.budgetEpochs, top.decisions![0]!.kind]).toEqual([ref.genomeHash, 9, 'reference-promotion']);
+    alg.observe(result(top, 0.3));
+    // At the top it stays: no rung above.
+    expect(alg.propose().genomeHash).not.toBe(ref.genomeHash);
+  });
+
+  it('without it the reference is ranked like any configuration (runs stored before the setting replay as they ran)', () => {
+    const alg = climbing(false);
+    const ref = alg.propose();
+    const others = [alg.propose(), alg.propose(), alg.propose()];
+    alg.observe(result(ref, 0.1));
+    others.forEach((p, i) => alg.observe(result(p, 0.5 + i / 10)));
+    const next = alg.propose();
+    expect([next.genomeHash, next.decisions![0]!.kind]).toEqual([others[2]!.genomeHash, 'promotion']);
   });
 });

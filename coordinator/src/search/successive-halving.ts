@@ -18,7 +18,8 @@ export interface SuccessiveHalvingOptions<G> {
   /** `asha`: new configurations are random-search samples; `asha-evolution`: children of aging evolution. */
   variant: AshaVariant;
   /** eta and the rung budgets, plus the settings of the configuration source, already resolved. */
-  settings: Pick<ResolvedSearchSettings, 'eta' | 'minEpochs' | 'maxEpochs' | 'populationSize' | 'sampleSize' | 'initialMutations' | 'randomMutations'>;
+  settings: Pick<ResolvedSearchSettings, 'eta' | 'minEpochs' | 'maxEpochs' | 'populationSize' | 'sampleSize' | 'initialMutations' | 'randomMutations'> &
+    Partial<Pick<ResolvedSearchSettings, 'promoteReference'>>;
   /** How genomes are made, mutated and hashed. */
   variation: Variation<G>;
   /** Seeds the configuration source's random source; ignored when restoring. */
@@ -44,6 +45,9 @@ export interface SuccessiveHalvingOptions<G> {
  * - A rung holds each genome once (by hash); a repeated result for it is ignored. A result whose
  *   `budgetEpochs` is no rung's budget (or absent) is counted in the snapshot's `offRung` and
  *   otherwise ignored: it is comparable with no rung.
+ * - `promoteReference` (with a `first` genome, the run's reference network): that genome moves up
+ *   a rung as soon as its result is in, whatever its rank (checked before the ranked promotions),
+ *   so it reaches the top rung; the champion's choice then always has it at the longest budget.
  * - `asha-evolution`: new configurations are children from {@link AgingEvolution}, which sees the
  *   rung-0 results only, so its tournaments compare genomes trained for the same budget; a child
  *   starts at rung 0, and only promoted ones get the full budget.
@@ -64,6 +68,8 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
   private observed: number;
   private promotions: number;
   private offRung: number;
+  /** The reference network's hash when it climbs every rung (`promoteReference`), else null. */
+  private readonly climbing: string | null;
 
   constructor(options: SuccessiveHalvingOptions<G>) {
     this.name = options.variant;
@@ -97,11 +103,14 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     this.observed = s ? s.observed : 0;
     this.promotions = s ? s.promotions : 0;
     this.offRung = s ? s.offRung : 0;
+    this.climbing = this.settings.promoteReference && options.first ? this.variation.hash(options.first.genome) : null;
   }
 
   propose(): Proposal<G> {
     this.proposed++;
     const { eta } = this.settings;
+    const climb = this.referenceClimb();
+    if (climb) return climb;
     const scanned: Extract<SearchDecision, { kind: 'no-promotion' }>['rungs'] = [];
     for (let k = this.budgets.length - 2; k >= 0; k--) {
       const rung = this.rungs[k]!;
@@ -154,6 +163,31 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       rungs: scanned,
     };
     return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}`, decisions: [none, ...(fresh.decisions ?? [])] };
+  }
+
+  /** The reference network's next rung, when it climbs and has a result not yet promoted below the top. */
+  private referenceClimb(): Proposal<G> | null {
+    if (this.climbing === null) return null;
+    for (let k = this.budgets.length - 2; k >= 0; k--) {
+      const m = this.rungs[k]!.find((r) => r.genomeHash === this.climbing && !r.promoted);
+      if (!m) continue;
+      m.promoted = true;
+      this.promotions++;
+      const reason =
+        `the reference network moves up from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs) whatever its rank ` +
+        `(fitness ${m.fitness.toFixed(4)}), so the champion's choice has it at the longest training`;
+      return {
+        genome: structuredClone(m.genome),
+        genomeHash: m.genomeHash,
+        parentHashes: [],
+        mutation: null,
+        budgetEpochs: this.budgets[k + 1]!,
+        promotedFrom: m.evaluationId,
+        reason,
+        decisions: [{ kind: 'reference-promotion', version: SEARCH_DECISION_VERSION, reason, fromRung: k, toRung: k + 1, fromEpochs: this.budgets[k]!, toEpochs: this.budgets[k + 1]!, member: decisionMember(m) }],
+      };
+    }
+    return null;
   }
 
   observe(o: Observation<G>): SearchDecision[] {

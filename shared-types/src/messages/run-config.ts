@@ -241,6 +241,14 @@ export const RunConfigSchema = Type.Object(
          * (an event says which). Runs stored before this setting have none. @default true
          */
         reference: Type.Boolean({ default: true }),
+        /**
+         * `asha` and `asha-evolution`: the reference network moves up every rung whatever its rank,
+         * so the champion's choice always has it trained for the top rung's budget and the search
+         * cannot hand back a network worse than it on validation (it costs the reference's top-rung
+         * training). A hand-made network is often slow in its first epoch; judged on the lowest
+         * rung alone it rarely climbs. @default true
+         */
+        promoteReference: Type.Boolean({ default: true }),
       },
       { additionalProperties: false, default: {} },
     ),

@@ -109,6 +109,25 @@ export const PromotionDecisionSchema = Type.Object(
   { additionalProperties: false },
 );
 
+/**
+ * Successive halving with `search.promoteReference`: the run's reference network moves up a rung
+ * as soon as its result is in, whatever its rank, so the champion's choice always has it trained
+ * for the top rung's budget (a hand-made network is often slow to start, and one short rung would
+ * judge it too early).
+ */
+export const ReferencePromotionDecisionSchema = Type.Object(
+  {
+    kind: Type.Literal('reference-promotion'),
+    ...base,
+    fromRung: Count,
+    toRung: Count,
+    fromEpochs: Count,
+    toEpochs: Count,
+    member: DecisionMemberSchema,
+  },
+  { additionalProperties: false },
+);
+
 /** Successive halving: no rung had an unpromoted result in its top 1/eta, so a new configuration starts at rung 0. */
 export const NoPromotionDecisionSchema = Type.Object(
   {
@@ -181,6 +200,7 @@ export const SearchDecisionSchema = Type.Union([
   MutationDecisionSchema,
   MutationImpossibleDecisionSchema,
   PromotionDecisionSchema,
+  ReferencePromotionDecisionSchema,
   NoPromotionDecisionSchema,
   MemberAddedDecisionSchema,
   MemberRemovedDecisionSchema,
