@@ -122,37 +122,11 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       for (let place = 0; place < quota; place++) {
         const m = rung[order[place]!]!;
         if (m.promoted) continue;
-        m.promoted = true;
-        this.promotions++;
         const reason =
           `promotion from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs): ` +
           `${shortHash(m.genomeHash)} from evaluation ${m.evaluationId} (fitness ${m.fitness.toFixed(4)}) ranks ${place + 1} of ${rung.length}, ` +
           `in the top floor(${rung.length}/${eta}) = ${quota} not yet promoted`;
-        return {
-          genome: structuredClone(m.genome),
-          genomeHash: m.genomeHash,
-          parentHashes: [],
-          mutation: null,
-          budgetEpochs: this.budgets[k + 1]!,
-          promotedFrom: m.evaluationId,
-          reason,
-          decisions: [
-            {
-              kind: 'promotion',
-              version: SEARCH_DECISION_VERSION,
-              reason,
-              fromRung: k,
-              toRung: k + 1,
-              fromEpochs: this.budgets[k]!,
-              toEpochs: this.budgets[k + 1]!,
-              rank: place + 1,
-              rungSize: rung.length,
-              quota,
-              threshold: threshold!,
-              member: decisionMember(m),
-            },
-          ],
-        };
+        return this.promote(m, k, reason, { kind: 'promotion', rank: place + 1, rungSize: rung.length, quota, threshold: threshold! });
       }
     }
     const fresh = this.source.propose();
@@ -171,23 +145,34 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     for (let k = this.budgets.length - 2; k >= 0; k--) {
       const m = this.rungs[k]!.find((r) => r.genomeHash === this.climbing && !r.promoted);
       if (!m) continue;
-      m.promoted = true;
-      this.promotions++;
       const reason =
         `the reference network moves up from rung ${k} (${this.budgets[k]} epochs) to rung ${k + 1} (${this.budgets[k + 1]} epochs) whatever its rank ` +
         `(fitness ${m.fitness.toFixed(4)}), so the champion's choice has it at the longest training`;
-      return {
-        genome: structuredClone(m.genome),
-        genomeHash: m.genomeHash,
-        parentHashes: [],
-        mutation: null,
-        budgetEpochs: this.budgets[k + 1]!,
-        promotedFrom: m.evaluationId,
-        reason,
-        decisions: [{ kind: 'reference-promotion', version: SEARCH_DECISION_VERSION, reason, fromRung: k, toRung: k + 1, fromEpochs: this.budgets[k]!, toEpochs: this.budgets[k + 1]!, member: decisionMember(m) }],
-      };
+      return this.promote(m, k, reason, { kind: 'reference-promotion' });
     }
     return null;
+  }
+
+  /** Marks `m` of rung `k` promoted and proposes its genome again at rung k+1, continuing from its result. */
+  private promote(
+    m: AshaRungMember<G>,
+    k: number,
+    reason: string,
+    how: { kind: 'promotion'; rank: number; rungSize: number; quota: number; threshold: number } | { kind: 'reference-promotion' },
+  ): Proposal<G> {
+    m.promoted = true;
+    this.promotions++;
+    const moves: Omit<Extract<SearchDecision, { kind: 'reference-promotion' }>, 'kind'> = { version: SEARCH_DECISION_VERSION, reason, fromRung: k, toRung: k + 1, fromEpochs: this.budgets[k]!, toEpochs: this.budgets[k + 1]!, member: decisionMember(m) };
+    return {
+      genome: structuredClone(m.genome),
+      genomeHash: m.genomeHash,
+      parentHashes: [],
+      mutation: null,
+      budgetEpochs: this.budgets[k + 1]!,
+      promotedFrom: m.evaluationId,
+      reason,
+      decisions: [{ ...how, ...moves }],
+    };
   }
 
   observe(o: Observation<G>): SearchDecision[] {
