@@ -160,7 +160,7 @@ describe('GET /metrics with a real run', () => {
     expect(sample(m, 'netbreeder_evaluations', { kind: 'search', state: 'done' }) + sample(m, 'netbreeder_evaluations', { kind: 'search', state: 'failed' })).toBeGreaterThanOrEqual(EVALUATIONS);
     expect(sample(m, 'netbreeder_best_validation_accuracy', { run: run.id })).toBe(store.topEvaluations(run.id, 1)[0]!.valAccuracy);
     expect(sample(m, 'netbreeder_reissues_total', { run: run.id })).toBe(store.events(run.id, 'reissued').length);
-    const rejected = (kind: string) => store.events(null, kind).length + store.events(run.id, kind).length;
+    const rejected = (kind: 'rejected-request' | 'rejected-result') => store.events(null, kind).length + store.events(run.id, kind).length;
     expect(sample(m, 'netbreeder_rejected_inputs_total', { kind: 'request' })).toBe(rejected('rejected-request'));
     expect(sample(m, 'netbreeder_rejected_inputs_total', { kind: 'request' })).toBeGreaterThanOrEqual(1);
     expect(sample(m, 'netbreeder_rejected_inputs_total', { kind: 'result' })).toBe(rejected('rejected-result'));

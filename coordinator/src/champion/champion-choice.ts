@@ -8,10 +8,8 @@ import { rankByValidation } from './validation-evidence.js';
  * `champion.rule`, or (neither given) the best of the search. The champion phase records the
  * choice with its candidates, so the report says which one chose it.
  */
-export type ChampionChoice =
-  | { by: 'pick'; genomeHash: string; evaluationId: string; valAccuracy: number }
-  | { by: 'rule'; rule: ChampionRule }
-  | { by: 'best'; note?: string };
+import type { ChampionChoice } from '@netbreeder/shared-types';
+export type { ChampionChoice };
 
 /** Why a pick or an ensemble request was refused: the run's state does not allow it, or the run has no such finished search result. */
 export class ChampionChoiceError extends Error {
@@ -54,13 +52,13 @@ export function describeChoice(choice: ChampionChoice): string {
 /** How the champion of `runId` was chosen, as recorded when its champion phase began (runs from before this record: the best). */
 export function recordedChoice(store: RunStore, runId: string): ChampionChoice {
   const ev = store.events(runId, 'champion-candidates').at(-1);
-  return (ev?.detail as { choice?: ChampionChoice } | undefined)?.choice ?? { by: 'best' };
+  return ev?.detail.choice ?? { by: 'best' };
 }
 
 /** The choice in force for `run`: its latest pick, else its rule, else the best. */
 export function championChoice(store: RunStore, run: RunRecord): ChampionChoice {
   const pick = store.events(run.id, 'champion-picked').at(-1);
-  if (pick) return { by: 'pick', ...(pick.detail as { genomeHash: string; evaluationId: string; valAccuracy: number }) };
+  if (pick) return { by: 'pick', ...pick.detail };
   return run.config.champion.rule ? { by: 'rule', rule: run.config.champion.rule } : { by: 'best' };
 }
 

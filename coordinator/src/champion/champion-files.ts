@@ -9,8 +9,7 @@ import { inheritanceSummary } from './inheritance-summary.js';
 import { describeChoice, recordedChoice } from './champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
-import { referenceComparison, type ConsideredGenome } from './reference-comparison.js';
-import type { FinalLength } from './final-length.js';
+import { referenceComparison } from './reference-comparison.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -43,10 +42,10 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const champion = store.getChampion(run.id);
   if (!champion) return null;
   const testLabels = testLabelsOf(run);
-  const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail as { evaluationId: string; latencyMsPerSample?: number; backend?: string });
+  const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail);
   const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
-  const championsRound = (scored.find((d) => d.evaluationId === champion.evaluationId) as { round?: number } | undefined)?.round ?? 0;
+  const championsRound = own?.round ?? 0;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   return {
     runId: run.id,
@@ -74,7 +73,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
       workerId: champion.result.workerId,
       data: 'train + validation',
       /** Which rule set the epochs (run file, learning curve, the search training's budget), in words; null for runs from before the record. */
-      length: (store.events(run.id, 'champion-training-length').map((e) => e.detail as FinalLength & { genomeHash: string }).filter((d) => d.genomeHash === champion.genomeHash).at(-1) ?? null) as (FinalLength & { genomeHash: string }) | null,
+      length: store.events(run.id, 'champion-training-length').map((e) => e.detail).filter((d) => d.genomeHash === champion.genomeHash).at(-1) ?? null,
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
     /** How the champion was chosen: a user's pick, the run's rule, or the best; `sentence` says it in words. */
@@ -97,16 +96,14 @@ export function championSummary(store: RunStore, run: RunRecord) {
       };
     })(),
     /** The best `champion.topK` genomes by validation evidence, as the choice saw them (the round that made the champion). */
-    considered: ((store.events(run.id, 'champion-candidates')[championsRound]?.detail as { considered?: ConsideredGenome[] } | undefined)?.considered ?? []).map((k) => ({
+    considered: (store.events(run.id, 'champion-candidates')[championsRound]?.detail.considered ?? []).map((k) => ({
       ...k,
       summary: store.getGenome(k.genomeHash)?.summary ?? '',
     })),
     /** The champion's test score beside the run's reference network's, and the plain line that compares them. */
     reference: referenceComparison(store, run.id),
     /** Every genome that got the final training, with its validation (search) and test scores. */
-    candidates: store
-      .events(run.id, 'champion-candidate-scored')
-      .map((e) => e.detail as { evaluationId: string; sourceEvaluationId: string; genomeHash: string; valAccuracy: number; testAccuracy: number; latencyMsPerSample?: number; backend?: string; champion?: boolean; ensemblePosition?: number; round?: number })
+    candidates: scored
       // Only the round that made the champion (a pick after the run finished starts a new one).
       .filter((d) => (d.round ?? 0) === championsRound)
       .map((d) => ({ ...d, summary: store.getGenome(d.genomeHash)?.summary ?? '' })),

@@ -5,27 +5,14 @@ import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.j
 import { scoreChampion } from './score-champion.js';
 import { exportChampion } from './export-champion.js';
 import { scoreEnsemble } from './score-ensemble.js';
-import type { EnsembleSettings } from '@netbreeder/shared-types';
 import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, type ChampionChoice } from './champion-choice.js';
 import { finalTrainingLength } from './final-length.js';
 import { referenceSource, type ConsideredGenome } from './reference-comparison.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
-export interface ChampionCandidate {
-  sourceEvaluationId: string;
-  genomeHash: string;
-  /** Key of its final training's evaluation ids: the source's proposal number (past every proposal for a pick after the run finished). */
-  seq: number;
-  valAccuracy: number;
-  /** Whether it competes to be the champion (absent in runs recorded before ensembles: it does). */
-  champion?: boolean;
-  /** Its 0-based place in the run's averaging ensemble, when it is a member. */
-  ensemblePosition?: number;
-  /** Ensemble members: the largest architecture similarity to a member chosen before it (0 for the first). */
-  ensembleSimilarity?: number;
-  /** The run's reference network: its final training gives the test score the champion is compared with (it may be the champion too). */
-  reference?: boolean;
-}
+/** A genome the champion phase trains again (the `champion-candidates` event's schema). */
+import type { ChampionCandidate } from '@netbreeder/shared-types';
+export type { ChampionCandidate };
 
 export interface ChampionPhaseOptions {
   store: RunStore;
@@ -109,7 +96,7 @@ export class ChampionPhase {
 
   candidates(runId: string): ChampionCandidate[] {
     const ev = this.o.store.events(runId, 'champion-candidates').at(-1);
-    return ev ? (ev.detail as { candidates: ChampionCandidate[] }).candidates : [];
+    return ev ? ev.detail.candidates : [];
   }
 
   /** Queues each candidate's final training once (idempotent across restarts). */
@@ -201,8 +188,8 @@ export class ChampionPhase {
    */
   private async scoreEnsembleOnce(run: RunRecord): Promise<void> {
     const round = championRound(this.o.store, run.id);
-    const settings = (this.o.store.events(run.id, 'champion-candidates').at(-1)?.detail as { ensemble?: EnsembleSettings } | undefined)?.ensemble;
-    if (!settings || this.o.store.events(run.id, 'ensemble-scored').some((e) => ((e.detail as { round?: number }).round ?? 0) === round)) return;
+    const settings = this.o.store.events(run.id, 'champion-candidates').at(-1)?.detail.ensemble;
+    if (!settings || this.o.store.events(run.id, 'ensemble-scored').some((e) => (e.detail.round ?? 0) === round)) return;
     const members = this.o.store.ensembleMembers(run.id);
     if (members.length < 2) {
       this.o.store.logEvent(run.id, 'ensemble-skipped', { reason: `only ${members.length} member(s) finished their final training; an ensemble needs two` });

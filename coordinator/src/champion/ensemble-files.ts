@@ -1,21 +1,11 @@
-import type { ModelArtifactsMessage } from '@netbreeder/shared-types';
+import type { ModelArtifactsMessage, RunEventDetail } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 
 /** Names the ensemble's files may have: its manifest and each member's model and weights. */
 export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|member-[0-9]{1,2}\\.(model\\.json|weights\\.bin))$';
 
 /** What the `ensemble-scored` event holds. */
-export interface EnsembleScore {
-  testAccuracy: number;
-  /** The champion round that trained it (0: the run's own end), and the selection settings used (absent in older records: the run file's). */
-  round?: number;
-  size?: number;
-  diversityPenalty?: number;
-  backend: string;
-  averaging: string;
-  /** `similarity`: the largest architecture similarity to a member chosen before it (0 for the first; null in older records). */
-  members: Array<{ position: number; genomeHash: string; evaluationId: string; testAccuracy: number; similarity?: number | null }>;
-}
+export type EnsembleScore = RunEventDetail<'ensemble-scored'>;
 
 /** The names of the ensemble's files for members at these positions. */
 export const ensembleFileNames = (positions: readonly number[]): string[] => ['ensemble.json', ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
@@ -23,7 +13,7 @@ export const ensembleFileNames = (positions: readonly number[]): string[] => ['e
 /** The run's scored ensemble, or null when it has none. */
 export function ensembleScore(store: RunStore, runId: string): EnsembleScore | null {
   const ev = store.events(runId, 'ensemble-scored').at(-1);
-  return ev ? (ev.detail as EnsembleScore) : null;
+  return ev ? ev.detail : null;
 }
 
 /**

@@ -2,17 +2,8 @@ import { genomeHash } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { runReference } from './reference-network.js';
 
-/** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it. */
-export interface ConsideredGenome {
-  genomeHash: string;
-  /** Its best result at its largest budget (the source of its final training, were it chosen). */
-  evaluationId: string;
-  /** Mean validation accuracy of its results at that budget. */
-  valAccuracy: number;
-  results: number;
-  budgetEpochs: number;
-  params: number;
-}
+/** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it (the `champion-candidates` event's schema). */
+export type { ConsideredGenome } from '@netbreeder/shared-types';
 
 /**
  * The search result a reference network's final training starts from (its seed, its learning
@@ -76,11 +67,11 @@ export function comparisonLine(champion: { genomeHash: string; testAccuracy: num
 /** The comparison of `runId` as the store has it now. */
 export function referenceComparison(store: RunStore, runId: string): ReferenceComparison {
   const none = { referenceGenomeHash: null, championTestAccuracy: null, referenceTestAccuracy: null, points: null, championIsReference: false };
-  const skipped = store.events(runId, 'reference-skipped').at(-1)?.detail as { reason: string } | undefined;
+  const skipped = store.events(runId, 'reference-skipped').at(-1)?.detail;
   if (skipped) return { ...none, state: 'skipped', line: `no reference network in this run: ${skipped.reason}` };
-  const planned = store.events(runId, 'reference-network').at(-1)?.detail as { genomeHash: string } | undefined;
+  const planned = store.events(runId, 'reference-network').at(-1)?.detail;
   if (!planned) return { ...none, state: 'off', line: 'no reference network in this run (search.reference is off)' };
-  const scored = store.events(runId, 'reference-scored').at(-1)?.detail as { genomeHash: string; testAccuracy: number } | undefined;
+  const scored = store.events(runId, 'reference-scored').at(-1)?.detail;
   const champion = store.getChampion(runId);
   if (!scored && champion && store.getRun(runId)?.state === 'finished') {
     return { ...none, state: 'skipped', referenceGenomeHash: planned.genomeHash, championTestAccuracy: champion.testAccuracy, line: 'no comparison with the reference network: its final training failed (see the events)' };

@@ -13,6 +13,7 @@ import {
   type EvaluationResult,
   type LabelledSamples,
   type RunConfig,
+  type RunEventKind,
   type SearchSpace,
 } from '@netbreeder/shared-types';
 import type { FinishedJob } from '../queue/evaluation-queue.js';
@@ -39,6 +40,9 @@ import { newSamples } from './sample-budget.js';
 
 export { DISCARDED_AT_FINISH, GenomeRejectedError, RunStateError, type RunControl, type RunManagerEvents, type RunManagerOptions } from './run-manager-options.js';
 export { evaluationSeed } from './proposal-recorder.js';
+
+/** The event each control logs. */
+const CONTROL_EVENTS = { pause: 'run-paused', resume: 'run-searching', stop: 'run-stopped', finish: 'run-finish-requested' } as const satisfies Record<RunControl, RunEventKind>;
 
 
 /**
@@ -263,7 +267,7 @@ export class RunManager {
     if (!next) throw new RunStateError(`cannot ${action} run ${runId} while it is ${run.state}`);
     this.store.transaction(() => {
       if (next !== run.state) this.store.setRunState(runId, next, { now: this.now() });
-      this.store.logEvent(runId, action === 'finish' ? 'run-finish-requested' : `run-${next}`, { from: run.state, action, ...(opts.discardInFlight ? { discardInFlight: true } : {}) });
+      this.store.logEvent(runId, CONTROL_EVENTS[action], { from: run.state, action, ...(opts.discardInFlight ? { discardInFlight: true } : {}) });
     });
     if (action === 'finish' && runId === this.run?.id) this.finishRequested = true;
     this.opts.log.info({ runId, from: run.state, to: next }, `run ${action}`);

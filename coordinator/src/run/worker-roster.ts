@@ -47,7 +47,7 @@ export class WorkerRoster {
 
   /** The workers whose results and heartbeats are refused (read from the event log once). */
   revokedIds(): Set<string> {
-    this.revoked ??= new Set(this.o.store.events(null, 'worker-revoked').map((e) => (e.detail as { workerId: string }).workerId));
+    this.revoked ??= new Set(this.o.store.events(null, 'worker-revoked').map((e) => e.detail.workerId));
     return this.revoked;
   }
 

@@ -1,3 +1,4 @@
+import type { RunEventDetail, RunEventKind } from '@netbreeder/shared-types';
 import type { DatasetManifest, EvaluationJob, EvaluationResult, Genome, RunConfig, RunState, WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { DatasetPreparation } from '../datasets/index.js';
 
@@ -132,11 +133,8 @@ export interface CheckpointRecord {
 }
 
 /** One entry of the event log. */
-export interface EventRecord {
-  at: number;
-  kind: string;
-  detail: unknown;
-}
+/** One event of the log; `K`: its kind when known, which types its detail (see `RUN_EVENT_SCHEMAS`). */
+export type EventRecord<K extends RunEventKind = RunEventKind> = { [P in K]: { at: number; kind: P; detail: RunEventDetail<P> } }[K];
 
 /** Why a result is re-run: a random spot check, or because it is about to give a champion candidate. */
 export const VERIFICATION_PURPOSES = ['spot-check', 'champion-candidate'] as const;

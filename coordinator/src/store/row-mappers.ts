@@ -134,7 +134,8 @@ export const checkpointFromRow = (r: Row): CheckpointRecord => ({
   createdAt: num(r, 'created_at'),
 });
 
-export const eventFromRow = (r: Row): EventRecord => ({ at: num(r, 'at'), kind: text(r, 'kind'), detail: json<unknown>(r, 'detail_json') });
+/** An event as it was written (its detail was checked against its kind's schema then). */
+export const eventFromRow = (r: Row): EventRecord => ({ at: num(r, 'at'), kind: text(r, 'kind'), detail: json<unknown>(r, 'detail_json') }) as EventRecord;
 
 export const verificationFromRow = (r: Row): VerificationRecord => ({
   id: text(r, 'id'),

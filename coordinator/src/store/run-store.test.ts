@@ -28,7 +28,7 @@ describe('RunStore', () => {
     store.takeHeartbeat(heartbeat('b'), 10_000);
     expect(() =>
       store.transaction(() => {
-        store.logEvent('r1', 'test', {});
+        store.logEvent('r1', 'run-resumed', { proposals: 0 });
         throw new Error('boom');
       }),
     ).toThrow('boom');
@@ -121,6 +121,16 @@ describe('RunStore', () => {
     expect(store.getEvaluation('r1-s0-a1')!.state).toBe('queued');
   });
 
+  it('checks every event against its kind when it is written: a bad detail throws and nothing is stored', () => {
+    const store = new RunStore(':memory:');
+    store.logEvent(null, 'worker-revoked', { workerId: 'w1', reason: 'left the office' });
+    // A detail that breaks the kind's schema (a bug in the caller), typed around the check on purpose.
+    expect(() => store.logEvent(null, 'worker-revoked', { workerId: 'w2' } as never)).toThrow(/invalid 'worker-revoked' event: \/reason/);
+    const events = store.events(null, 'worker-revoked');
+    expect(events.map((e) => e.detail.workerId)).toEqual(['w1']);
+    store.close();
+  });
+
   it('holds the write lock from the start of a transaction, so a write after a read cannot find the store locked', () => {
     const dir = mkdtempSync(join(tmpdir(), 'nb-tx-'));
     const store = new RunStore(join(dir, 'store.sqlite'));
@@ -133,7 +143,7 @@ describe('RunStore', () => {
         // Between the read and the write another connection cannot take the lock (the checkpoint
         // thread's RESTART waits for it), so the write that follows cannot fail with "locked".
         expect(() => other.exec('BEGIN IMMEDIATE')).toThrow(/database is locked/);
-        store.logEvent(null, 'test', {});
+        store.logEvent(null, 'worker-revoked', { workerId: 'w', reason: 'a test' });
       });
       other.exec('BEGIN IMMEDIATE; ROLLBACK');
     } finally {

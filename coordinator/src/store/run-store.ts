@@ -1,3 +1,4 @@
+import { runEventValidator, type RunEventDetail, type RunEventKind } from '@netbreeder/shared-types';
 import type Database from 'better-sqlite3';
 import type { EvaluationJob, EvaluationResult, RunConfig, RunState, SearchStep, WorkerHeartbeat } from '@netbreeder/shared-types';
 import { ChampionsTable } from './champions-table.js';
@@ -294,19 +295,24 @@ export class RunStore {
   // ---- events (./event-log.ts) ---------------------------------------------------------------
 
   /** Appends to the run's event log (rejections, reissues, state changes). */
-  logEvent(runId: string | null, kind: string, detail: unknown, now = Date.now()): void {
-    this.eventLog.log(runId, kind, detail, now);
+  /** Appends an event, its detail checked against the kind's schema (`RUN_EVENT_SCHEMAS`); a detail that breaks it is a bug and throws. */
+  logEvent<K extends RunEventKind>(runId: string | null, kind: K, detail: RunEventDetail<K>, now = Date.now()): void {
+    this.eventLog.log(runId, kind, runEventValidator(kind).parse(detail), now);
   }
 
-  countEventsNaming(runId: string | null, kind: string, evaluationId: string): number {
+  countEventsNaming(runId: string | null, kind: RunEventKind, evaluationId: string): number {
     return this.eventLog.countNaming(runId, kind, evaluationId);
   }
 
-  events(runId: string | null, kind?: string): EventRecord[] {
+  /** A run's events of one kind, oldest first, their detail typed by the kind (events are checked when written). */
+  events<K extends RunEventKind>(runId: string | null, kind: K): Array<EventRecord<K>>;
+  /** All of a run's events, oldest first. */
+  events(runId: string | null): EventRecord[];
+  events(runId: string | null, kind?: RunEventKind): EventRecord[] {
     return this.eventLog.list(runId, kind);
   }
 
-  countEvents(kind: string, runId?: string | null): number {
+  countEvents(kind: RunEventKind, runId?: string | null): number {
     return this.eventLog.count(kind, runId);
   }
 }

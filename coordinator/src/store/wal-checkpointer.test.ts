@@ -24,16 +24,16 @@ describe('background WAL checkpoints', () => {
       expect(store.statement('PRAGMA wal_autocheckpoint').get()).toEqual({ wal_autocheckpoint: 0 });
       const before = statSync(path).size;
       // About 4 MB of events: over SQLite's own threshold (1,000 pages), which this connection no longer acts on.
-      const detail = { text: 'x'.repeat(4000) };
+      const detail = { method: 'PUT', url: '/filler', reason: 'x'.repeat(4000) };
       store.transaction(() => {
-        for (let i = 0; i < 1000; i++) store.logEvent(null, 'filler', detail);
+        for (let i = 0; i < 1000; i++) store.logEvent(null, 'rejected-request', detail);
       });
       // Only a checkpoint writes pages into the database file itself.
       await until('a complete checkpoint', () => reports.some((r) => r.log > 1000 && r.checkpointed === r.log));
       expect(statSync(path).size).toBeGreaterThan(before + 4_000_000);
       store.close();
       const reopened = new Database(path, { readonly: true });
-      expect((reopened.prepare("SELECT COUNT(*) AS n FROM events WHERE kind = 'filler'").get() as { n: number }).n).toBe(1000);
+      expect((reopened.prepare("SELECT COUNT(*) AS n FROM events WHERE kind = 'rejected-request'").get() as { n: number }).n).toBe(1000);
       reopened.close();
     } finally {
       rmSync(dir, { recursive: true, force: true });
@@ -45,7 +45,7 @@ describe('background WAL checkpoints', () => {
     const path = join(dir, 'store.sqlite');
     try {
       const store = new RunStore(path, { backgroundCheckpoints: { intervalMs: 50 } });
-      const detail = { text: 'x'.repeat(8000) };
+      const detail = { method: 'PUT', url: '/filler', reason: 'x'.repeat(8000) };
       // Small commits, as fast as they go, letting the event loop turn every 20 of them, until four
       // times as much has been written as the log has ever held. Without restarts the log holds
       // every commit and never gets there (the deadline fails the test); with them it holds at
@@ -56,8 +56,8 @@ describe('background WAL checkpoints', () => {
       let largestLog = 0;
       let commits = 0;
       while (Date.now() < deadline && (written < 4_000_000 || written < 4 * largestLog)) {
-        store.logEvent(null, 'filler', detail);
-        written += detail.text.length;
+        store.logEvent(null, 'rejected-request', detail);
+        written += detail.reason.length;
         if (++commits % 20 === 0) {
           await new Promise((r) => setTimeout(r, 1));
           largestLog = Math.max(largestLog, statSync(`${path}-wal`).size);
