@@ -27,3 +27,4 @@ export * from './checkpoint/checkpoint-ref.js';
 export * from './checkpoint/checkpoint-codec.js';
 export * from './messages/search-decision.js';
 export * from './messages/champion-choice.js';
+export * from './messages/preprocessing-file.js';

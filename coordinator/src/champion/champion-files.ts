@@ -6,6 +6,7 @@ import { championReportHtml } from './champion-report-html.js';
 import { championTrust } from '../trust/champion-trust.js';
 import { describePreprocessing } from '../datasets/index.js';
 import { inheritanceSummary } from './inheritance-summary.js';
+import { preprocessingFileOf } from './preprocessing-file.js';
 import { describeChoice, recordedChoice } from '../run/champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
@@ -35,7 +36,7 @@ export function confusionMatrix(labels: ArrayLike<number>, predictions: readonly
 }
 
 /** Names of the files a champion export holds, in the order they are written. */
-export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'champion.json', 'report.md', 'report.html'] as const;
+export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'preprocessing.json', 'champion.json', 'report.md', 'report.html'] as const;
 export type ChampionFileName = (typeof CHAMPION_FILES)[number];
 
 /** What GET /runs/:id/champion returns, and champion.json holds. */
@@ -125,8 +126,8 @@ export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSumm
 
 /**
  * The content of every file of a champion export: the genome, the trained model in TensorFlow.js
- * layers format (`model.json` with a weights manifest pointing at `weights.bin`), the scores and a
- * short report. Null when the run has no champion yet.
+ * layers format (`model.json` with a weights manifest pointing at `weights.bin`), how raw input
+ * becomes model input (`preprocessing.json`), the scores and a short report. Null when the run has no champion yet.
  */
 export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFileName, Buffer> | null {
   const summary = championSummary(store, run);
@@ -146,6 +147,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
+    ['preprocessing.json', json(preprocessingFileOf(run))],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : []))],
