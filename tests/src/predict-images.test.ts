@@ -1,13 +1,13 @@
 import { mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Writable } from 'node:stream';
 import { PNG } from 'pngjs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import { evaluateModel, initBackend, loadModelFromMessage } from '@netbreeder/worker';
 import { exportChampion, predictCommand, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
+import { textSink as sink } from './support/text-sink.js';
 import { smallRunConfig } from './support/small-run.js';
 
 /**
@@ -17,13 +17,6 @@ import { smallRunConfig } from './support/small-run.js';
  * which scores every champion) of the same byte-rounded tiles; a damaged file and a tile of the
  * wrong size are named and skipped, the rest predicted, and the exit code is 1.
  */
-function sink(): Writable & { text: () => string } {
-  const parts: string[] = [];
-  const w = new Writable({ write: (chunk, _enc, done) => (parts.push(String(chunk)), done()) }) as Writable & { text: () => string };
-  w.text = () => parts.join('');
-  return w;
-}
-
 function grayPng(width: number, height: number, bytes: ArrayLike<number>): Buffer {
   const png = new PNG({ width, height });
   for (let p = 0; p < width * height; p++) {

@@ -94,7 +94,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
         testAccuracy: score.testAccuracy,
         championTestAccuracy: champion.testAccuracy,
         members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
-        files: ensembleFileNames(score.members.map((m) => m.position)),
+        files: ensembleFileNames(score.members.map((m) => m.position), preprocessingFileOf(run) !== null),
       };
     })(),
     /** The best `champion.topK` genomes by validation evidence, as the choice saw them (the round that made the champion). */
@@ -119,7 +119,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     inheritance: inheritanceSummary(store, run, champion.sourceEvaluationId),
     /** Verification of the champion's search result, quarantined workers, and the run's CPU time and energy. */
     trust: championTrust(store, run, champion),
-    files: [...CHAMPION_FILES],
+    /** The export's files; `preprocessing.json` is absent for a run from before its import was recorded. */
+    files: CHAMPION_FILES.filter((f) => f !== 'preprocessing.json' || preprocessingFileOf(run) !== null),
   };
 }
 export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
@@ -143,13 +144,16 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     weightsManifest: [{ paths: ['weights.bin'], weights: artifacts.weightSpecs }],
   };
   const json = (v: unknown) => Buffer.from(`${JSON.stringify(v, null, 2)}\n`);
-  return new Map<ChampionFileName, Buffer>([
+  const preprocessing = preprocessingFileOf(run);
+  const files = new Map<ChampionFileName, Buffer>([
     ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
-    ['preprocessing.json', json(preprocessingFileOf(run))],
+    ['preprocessing.json', json(preprocessing)],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : []))],
   ]);
+  if (!preprocessing) files.delete('preprocessing.json');
+  return files;
 }

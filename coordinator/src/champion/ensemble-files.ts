@@ -18,8 +18,8 @@ export interface EnsembleScore {
   members: Array<{ position: number; genomeHash: string; evaluationId: string; testAccuracy: number; similarity?: number | null }>;
 }
 
-/** The names of the ensemble's files for members at these positions. */
-export const ensembleFileNames = (positions: readonly number[]): string[] => ['ensemble.json', 'preprocessing.json', ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
+/** The names of the ensemble's files for members at these positions (`preprocessing.json` only for runs that recorded it). */
+export const ensembleFileNames = (positions: readonly number[], withPreprocessing: boolean): string[] => ['ensemble.json', ...(withPreprocessing ? ['preprocessing.json'] : []), ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
 
 /** The run's scored ensemble, or null when it has none. */
 export function ensembleScore(store: RunStore, runId: string): EnsembleScore | null {
@@ -72,7 +72,8 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
     }),
   };
   files.set('ensemble.json', json(manifest));
-  files.set('preprocessing.json', json(preprocessingFileOf(run)));
+  const preprocessing = preprocessingFileOf(run);
+  if (preprocessing) files.set('preprocessing.json', json(preprocessing));
   for (const mem of members) {
     const artifacts = JSON.parse(mem.artifactsJson) as ModelArtifactsMessage;
     const name = `member-${mem.position + 1}`;

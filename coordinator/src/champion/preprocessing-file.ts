@@ -5,12 +5,12 @@ import { DEMO_TILE_SIZE } from '../datasets/demo-tiles.js';
 /**
  * The `preprocessing.json` of a run's exports, from what its import recorded (means and standard
  * deviations as fitted, at full precision). A run from before the record, on demo tiles, is
- * described by the tiles' fixed form. Pure; throws when a file-based run lacks its record.
+ * described by the tiles' fixed form; another run from before the record has none (null). Pure.
  */
-export function preprocessingFileOf(run: Pick<RunRecord, 'id' | 'config' | 'dataset'>): PreprocessingFile {
+export function preprocessingFileOf(run: Pick<RunRecord, 'config' | 'dataset'>): PreprocessingFile | null {
   const { inputShape, classNames } = run.dataset.manifest;
   const p = run.dataset.preparation?.preprocessing ?? (run.config.dataset.kind === 'demo-tiles' ? { kind: 'demo-tiles' as const, inputShape } : null);
-  if (!p) throw new Error(`run ${run.id} has no record of its preprocessing (it predates it); re-run the search to get a preprocessing.json`);
+  if (!p) return null;
   const file = (steps: PreprocessingFile['steps']): PreprocessingFile =>
     preprocessingFileValidator.parse({ format: 'netbreeder-preprocessing', version: PREPROCESSING_FILE_VERSION, inputShape, classNames, steps });
   switch (p.kind) {

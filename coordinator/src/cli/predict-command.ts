@@ -1,5 +1,6 @@
 import { stat } from 'node:fs/promises';
 import { parseArgs } from 'node:util';
+import { initBackend } from '@netbreeder/worker';
 import { loadChampion } from '../predict/load-champion.js';
 import { predictFile } from '../predict/predict-file.js';
 
@@ -30,6 +31,8 @@ export async function predictCommand(argv: string[], out: NodeJS.WritableStream 
   await stat(values.input).catch(() => {
     throw new Error(`${values.input} does not exist; give --input the CSV file, image folder or IDX file to predict`);
   });
+  // The backend the coordinator scores champions on (wasm, or the native one where it installs).
+  await initBackend();
   const model = await loadChampion(values.model);
   try {
     let reported = 0;

@@ -28,11 +28,10 @@ function imported(text: string) {
   const table = parseCsvTable(text, 'kiln.csv', csvOptions);
   const encoded = encodeTable(table, { fractions: { validation: 0.2, test: 0.2 }, seed: 4, standardize: true, maxDatasetMb: 100, missing: 'fill', missingValues: csvOptions.missingValues });
   const run = {
-    id: 'r-test',
     config: { dataset: { kind: 'csv', delimiter: ',' } },
     dataset: { manifest: { inputShape: encoded.dataset.inputShape, classNames: encoded.dataset.classNames }, preparation: { preprocessing: encoded.preprocessing } },
-  } as unknown as Pick<RunRecord, 'id' | 'config' | 'dataset'>;
-  const file = preprocessingFileOf(run);
+  } as unknown as Pick<RunRecord, 'config' | 'dataset'>;
+  const file = preprocessingFileOf(run)!;
   return { table, encoded, file, steps: file.steps as TableSteps };
 }
 
