@@ -28,3 +28,4 @@ export * from './checkpoint/checkpoint-codec.js';
 export * from './messages/search-decision.js';
 export * from './messages/champion-choice.js';
 export * from './messages/run-events.js';
+export * from './messages/preprocessing-file.js';

@@ -6,6 +6,7 @@ import { championReportHtml } from './champion-report-html.js';
 import { championTrust } from './champion-trust.js';
 import { describePreprocessing } from '../datasets/index.js';
 import { inheritanceSummary } from './inheritance-summary.js';
+import { preprocessingFileOf } from './preprocessing-file.js';
 import { describeChoice, recordedChoice } from './champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
@@ -34,7 +35,7 @@ export function confusionMatrix(labels: ArrayLike<number>, predictions: readonly
 }
 
 /** Names of the files a champion export holds, in the order they are written. */
-export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'champion.json', 'report.md', 'report.html'] as const;
+export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'preprocessing.json', 'champion.json', 'report.md', 'report.html'] as const;
 export type ChampionFileName = (typeof CHAMPION_FILES)[number];
 
 /** What GET /runs/:id/champion returns, and champion.json holds. */
@@ -92,7 +93,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
         testAccuracy: score.testAccuracy,
         championTestAccuracy: champion.testAccuracy,
         members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
-        files: ensembleFileNames(score.members.map((m) => m.position)),
+        files: ensembleFileNames(score.members.map((m) => m.position), preprocessingFileOf(run) !== null),
       };
     })(),
     /** The best `champion.topK` genomes by validation evidence, as the choice saw them (the round that made the champion). */
@@ -115,15 +116,16 @@ export function championSummary(store: RunStore, run: RunRecord) {
     inheritance: inheritanceSummary(store, run, champion.sourceEvaluationId),
     /** Verification of the champion's search result, quarantined workers, and the run's CPU time and energy. */
     trust: championTrust(store, run, champion),
-    files: [...CHAMPION_FILES],
+    /** The export's files; `preprocessing.json` is absent for a run from before its import was recorded. */
+    files: CHAMPION_FILES.filter((f) => f !== 'preprocessing.json' || preprocessingFileOf(run) !== null),
   };
 }
 export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
 
 /**
  * The content of every file of a champion export: the genome, the trained model in TensorFlow.js
- * layers format (`model.json` with a weights manifest pointing at `weights.bin`), the scores and a
- * short report. Null when the run has no champion yet.
+ * layers format (`model.json` with a weights manifest pointing at `weights.bin`), how raw input
+ * becomes model input (`preprocessing.json`), the scores and a short report. Null when the run has no champion yet.
  */
 export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFileName, Buffer> | null {
   const summary = championSummary(store, run);
@@ -139,12 +141,16 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     weightsManifest: [{ paths: ['weights.bin'], weights: artifacts.weightSpecs }],
   };
   const json = (v: unknown) => Buffer.from(`${JSON.stringify(v, null, 2)}\n`);
-  return new Map<ChampionFileName, Buffer>([
+  const preprocessing = preprocessingFileOf(run);
+  const files = new Map<ChampionFileName, Buffer>([
     ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
+    ['preprocessing.json', json(preprocessing)],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : []))],
   ]);
+  if (!preprocessing) files.delete('preprocessing.json');
+  return files;
 }

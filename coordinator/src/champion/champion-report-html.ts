@@ -3,6 +3,7 @@ import type { ChampionSummaryDocument } from './champion-files.js';
 import { describeStart } from './inheritance-summary.js';
 import { championTrustHtml } from './champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
+import { howToUseHtml } from './how-to-use.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
@@ -140,7 +141,8 @@ ${sectionHtml(ensembleLines(c))}
 <h2>Checkpoints and weight inheritance</h2>
 <p>Weight inheritance ${c.inheritance.weightInheritance ? 'on' : 'off'}. Finished search trainings: ${Object.entries(c.inheritance.byKind).filter(([, n]) => n > 0).map(([k, n]) => `${n} ${esc(k)}`).join(', ')}; ${c.inheritance.epochsReused} epoch(s) not trained again. The champion's search evaluation: ${esc(describeStart(c.inheritance.champion))}.</p>
 <h2>Feeding the model</h2>
-<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}. Load <code>model.json</code> + <code>weights.bin</code> with <code>tf.loadLayersModel</code>.</p>
+<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}. <code>preprocessing.json</code> says exactly how to prepare an input.</p>
+${howToUseHtml(c.ensemble !== null)}
 ${championTrustHtml(c.trust, esc)}<h2>Reproduce</h2>
 <p>Search ${esc(c.settings.config.search.algorithm)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>
 </body></html>

@@ -2,6 +2,7 @@ import type { NodeAnalysis } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
 import { championTrustMarkdown } from './champion-trust.js';
+import { howToUseLines } from './how-to-use.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
@@ -51,6 +52,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     `Input shape [${c.settings.dataset.inputShape.join(', ')}] (after the batch axis); ${c.input}.`,
     `Output: ${c.settings.dataset.numClasses} softmax probabilities, in the class order ${c.settings.dataset.classNames.map((n) => `\`${n}\``).join(', ')}.`,
     '',
+    ...howToUseLines(c.ensemble !== null),
     '## Training genes',
     '',
     ...Object.entries(c.genome.training).map(([k, v]) => `- ${k}: ${v}`),
@@ -73,7 +75,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     `Search algorithm ${c.settings.config.search.algorithm}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,
     '',
-    'Files: `model.json` + `weights.bin` (TensorFlow.js layers model; load with `tf.loadLayersModel`), `genome.json`, `champion.json`.',
+    'Files: `model.json` + `weights.bin` (TensorFlow.js layers model; load as "How to use it" shows), `preprocessing.json`, `genome.json`, `champion.json`.',
     '',
   ];
   return lines.join('\n');

@@ -10,6 +10,7 @@ import { statusTable } from './format.js';
 import { downloadChampion, requestEnsembleAndWait } from './export-command.js';
 import { replayCommand } from './replay-command.js';
 import { pickCommand } from './pick-command.js';
+import { predictCommand } from './predict-command.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
@@ -19,6 +20,7 @@ Commands:
   demo          evolve a network for invented demo data on this machine, about 3 minutes
   status        show a coordinator's status
   export        download a run's champion (genome, TensorFlow.js model, report)
+  predict       run an exported champion on new data (CSV, images, IDX) and write its predictions
   runs          list the runs a coordinator holds
   replay        re-run a stored run's search and check it decides exactly as recorded
   pick          choose a run's champion yourself (a genome of its front; admin token)
@@ -297,6 +299,7 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   export: exportCommand,
   replay: (argv) => replayCommand(argv),
   pick: (argv) => pickCommand(argv),
+  predict: (argv) => predictCommand(argv),
 };
 
 export async function main(argv: string[]): Promise<number> {

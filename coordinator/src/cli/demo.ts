@@ -106,7 +106,8 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
     const reference = final.reference;
     if (reference?.referenceTestAccuracy != null) out.write(`  reference:   ${pct(reference.referenceTestAccuracy)} on the same held-out tiles (the hand-made network, trained the same way)\n`);
     if (reference) out.write(`  ${reference.line}\n`);
-    out.write(`  exported to: ${exportDir} (model.json + weights.bin, genome.json, report.md, report.html)\n`);
+    out.write(`  exported to: ${exportDir} (model.json + weights.bin, preprocessing.json, genome.json, report.md, report.html)\n`);
+    out.write(`  predict:     netbreeder predict --model ${exportDir} --input FOLDER_OF_16x16_TILE_PNGS\n`);
     return 0;
   } finally {
     process.off('SIGINT', onSigint);

@@ -25,7 +25,7 @@ export {
   type SplitIndices,
 } from './split.js';
 export { prepareDataset } from './prepare-dataset.js';
-export { encodeTable, type EncodedTable, type TableEncodingOptions } from './table-encoding.js';
+export { encodeTable, encodeColumns, type EncodedTable, type TableEncodingOptions } from './table-encoding.js';
 export type { RawTable, RawColumn, RawNumericColumn, RawCategoricalColumn } from './raw-table.js';
 export { checkShardSize, shardBytes } from './shard-size.js';
 export {

@@ -108,9 +108,20 @@ function fitColumn(col: RawColumn, train: Int32Array, offset: number, standardiz
 }
 
 function encodeRows(table: RawTable, encodings: ColumnEncoding[], width: number, standardize: boolean, indices: Int32Array): LabelledSamples {
-  const features = new Float32Array(indices.length * width);
   const labels = new Int32Array(indices.length);
-  table.columns.forEach((col, c) => {
+  for (let k = 0; k < indices.length; k++) labels[k] = table.labels[indices[k]!]!;
+  return { features: encodeColumns(table.columns, encodings, width, standardize, indices), labels, count: indices.length };
+}
+
+/**
+ * The table transform, the one both the importer and the predictor use: rows `indices` of typed
+ * columns (in `encodings` order) to `width` model values per row. A numeric value becomes
+ * `(value - mean) / std` when `standardize` (a missing one, NaN, the training mean first); a
+ * category sets its one-hot slot, an unseen or missing one (code -1) leaves the block at zero. Pure.
+ */
+export function encodeColumns(columns: readonly RawColumn[], encodings: readonly ColumnEncoding[], width: number, standardize: boolean, indices: Int32Array): Float32Array {
+  const features = new Float32Array(indices.length * width);
+  columns.forEach((col, c) => {
     const enc = encodings[c]!;
     if (col.kind === 'numeric' && enc.kind === 'numeric') {
       // A missing value takes the training mean (0 once standardised).
@@ -129,8 +140,9 @@ function encodeRows(table: RawTable, encodings: ColumnEncoding[], width: number,
         const p = code >= 0 ? slot[code]! : -1;
         if (p >= 0) features[k * width + enc.offset + p] = 1;
       }
+    } else {
+      throw new Error(`column "${col.name}" is ${col.kind} but its encoding is ${enc.kind}`);
     }
   });
-  for (let k = 0; k < indices.length; k++) labels[k] = table.labels[indices[k]!]!;
-  return { features, labels, count: indices.length };
+  return features;
 }

@@ -11,7 +11,8 @@ export type CsvTableOptions = Pick<CsvSource, 'labelColumn' | 'delimiter' | 'cat
 /** Share of numeric cells above which, under `categoricalColumns: "auto"`, a column is taken as numeric with typos. */
 export const AUTO_NUMERIC_SHARE = 0.95;
 
-const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+/** A cell the CSV importer reads as a number (after trimming spaces). */
+export const NUMERIC_CELL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 const collator = new Intl.Collator('en', { numeric: true });
 
 interface ColumnStats {
@@ -67,7 +68,7 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
       if (missingTokens.has(cell)) {
         s.missing++;
         if (!s.firstMissingLine) s.firstMissingLine = line;
-      } else if (NUMBER.test(cell)) s.numbers++;
+      } else if (NUMERIC_CELL.test(cell)) s.numbers++;
       else {
         s.others++;
         if (!s.firstOther) s.firstOther = { line, text: cell };

@@ -121,7 +121,7 @@ export class RunStore {
     return this.runs.unfinished();
   }
 
-  /** Moves a run to `state`; throws `IllegalRunTransitionError` (../run/run-lifecycle.ts) for a change its lifecycle does not allow. */
+  /** Moves a run to `state`; throws `IllegalRunTransitionError` (./run-lifecycle.ts) for a change its lifecycle does not allow. */
   setRunState(id: string, state: RunState, opts: { now?: number; failure?: string } = {}): void {
     this.runs.setState(id, state, opts);
   }

@@ -6,7 +6,7 @@ import type { RunRecord, StoredDataset } from './records.js';
 import { withMemberGenomes, withoutMemberGenomes } from './snapshot-genomes.js';
 import type { StoreDatabase } from './store-database.js';
 
-/** The lifecycle's open states as SQL (../run/run-lifecycle.ts). */
+/** The lifecycle's open states as SQL (./run-lifecycle.ts). */
 const OPEN_STATES = sqlStateList(OPEN_RUN_STATES);
 
 /** Runs (`runs`) and their search algorithm's saved state (`search_snapshots`). */
@@ -38,7 +38,7 @@ export class RunsTable {
   }
 
   /**
-   * Moves a run to `state` when its lifecycle (../run/run-lifecycle.ts) allows that from the state
+   * Moves a run to `state` when its lifecycle (./run-lifecycle.ts) allows that from the state
    * it is in; else throws `IllegalRunTransitionError` and changes nothing. A state that ends the
    * run sets its end time.
    */
