@@ -15,7 +15,7 @@ const LAYERS: string[][] = [
   ['store'],
   ['checkpoints', 'trust'],
   ['champion'],
-  ['run'],
+  ['run', 'predict'],
   ['http'],
   ['cli'],
 ];
