@@ -6,7 +6,7 @@ import { TestCluster, waitFor } from './support/harness.js';
 /**
  * Asynchronous successive halving through the real coordinator, queue and workers: the run file's
  * rung settings reach the algorithm, low rungs train briefly, and promoted genomes come back with
- * the next rung's budget.
+ * the next rung's budget; the reference network climbs to the top rung.
  */
 describe('a run with asha-evolution', () => {
   let cluster: TestCluster;
@@ -42,7 +42,11 @@ describe('a run with asha-evolution', () => {
     expect(new Set(search.filter((e) => e.state === 'done').map((e) => e.seq)).size).toBe(16);
     // Every promotion and non-promotion was recorded and the search replays exactly from the store.
     const decisions = store.searchSteps(run.id).flatMap((s) => s.decisions);
-    expect(decisions.filter((d) => d.kind === 'promotion')).toHaveLength(promoted.length);
+    // The reference network (proposal 0) climbs every rung whatever its rank (search.promoteReference); the others by rank.
+    const climbs = decisions.filter((d) => d.kind === 'reference-promotion');
+    expect(climbs.map((d) => [d.fromEpochs, d.toEpochs])).toEqual([[1, 2], [2, 4]]);
+    expect(search.filter((e) => e.genomeHash === search.find((s) => s.seq === 0)!.genomeHash).map((e) => e.job.budget.epochs)).toEqual([1, 2, 4]);
+    expect(decisions.filter((d) => d.kind === 'promotion').length + climbs.length).toBe(promoted.length);
     expect(decisions.some((d) => d.kind === 'no-promotion')).toBe(true);
     expect(replayRun(store, run.id)).toMatchObject({ agree: true, disagreement: null });
   }, 240_000);
