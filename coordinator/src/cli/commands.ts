@@ -1,10 +1,12 @@
 /** The `netbreeder` command's sub-commands: coordinator, worker, demo, status, export. */
 import { parseArgs } from 'node:util';
-import { runWorkerCli, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
+import { runWorkerCli, takeLogFormatOption, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
 import { statusResponseValidator } from '@netbreeder/shared-types';
 import { Coordinator, DEFAULT_PORT } from '../coordinator.js';
 import type { RunRecord } from '../store/run-store.js';
 import { readRunConfigFile } from '../config/run-config.js';
+import { prepareRun } from '../run/prepare-run.js';
+import { createLogger } from '../logger.js';
 import { runDemo, defaultDemoWorkers } from './demo.js';
 import { statusTable } from './format.js';
 import { downloadChampion, requestEnsembleAndWait } from './export-command.js';
@@ -25,7 +27,8 @@ Commands:
   pause, resume, stop, finish
                 control a coordinator's run (needs the admin token)
 
-'netbreeder <command> --help' shows each command's options and examples.
+'netbreeder <command> --help' shows each command's options and examples. Every command takes
+--log-format pretty|json (default: readable lines on a terminal, JSON lines otherwise).
 `;
 
 const COORDINATOR_HELP = `netbreeder coordinator: keep the population, queue training jobs, record results.
@@ -127,8 +130,11 @@ export const COORDINATOR_OPTIONS = {
 async function coordinatorCommand(argv: string[]): Promise<number> {
   const { values } = parseArgs({ args: argv, options: COORDINATOR_OPTIONS, strict: true });
   if (values.help) return void process.stdout.write(COORDINATOR_HELP), 0;
-  const config = values.run ? await readRunConfigFile(values.run) : null;
+  const log = createLogger('coordinator');
+  // The run file and its data are checked before anything is created on disk or listens.
+  const prepared = values.run ? await prepareRun(await readRunConfigFile(values.run), log) : null;
   const coordinator = await Coordinator.start({
+    logger: log,
     dataDir: values['data-dir'],
     port: numberOption('port', values.port, 0, 65535),
     host: values.host,
@@ -140,9 +146,9 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
     stalledIntervalMs: numberOption('stalled-check-ms', values['stalled-check-ms'], 500, 3_600_000),
   });
   const active = coordinator.store.unfinishedRun();
-  if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${config ? '; --run ignored until it ends' : ''}\n`);
-  else if (config) {
-    const run = await coordinator.startRun(config);
+  if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${prepared ? '; --run ignored until it ends' : ''}\n`);
+  else if (prepared) {
+    const run = await coordinator.startRun(prepared);
     process.stdout.write(`started run ${run.id}\n${describePreparation(run)}`);
   }
   else process.stdout.write('no run yet: restart with --run FILE to start one\n');
@@ -299,8 +305,8 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   pick: (argv) => pickCommand(argv),
 };
 
-export async function main(argv: string[]): Promise<number> {
-  const [command, ...rest] = argv;
+export async function main(given: string[]): Promise<number> {
+  const [command, ...rest] = takeLogFormatOption(given);
   if (!command || command === '--help' || command === '-h' || command === 'help') {
     process.stdout.write(HELP);
     return command ? 0 : 2;

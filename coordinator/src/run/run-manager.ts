@@ -12,8 +12,6 @@ import {
   defaultSearchSpace,
   describeGenome,
   evaluationResultValidator,
-  spaceIssuesForData,
-  ValidationError,
   type DataShape,
   type EvaluationJob,
   type EvaluationResult,
@@ -28,7 +26,7 @@ import type { EvaluationQueue, FinishedJob } from '../queue/evaluation-queue.js'
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { createSearchAlgorithm, forgetResults, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
-import { loadDataset } from '../importers/index.js';
+import { prepareRun, type PreparedRun } from './prepare-run.js';
 import { ChampionPhase } from './champion-phase.js';
 import { controlTarget, type RunControl } from './run-lifecycle.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
@@ -179,11 +177,10 @@ export class RunManager {
   }
 
   /** Prepares the dataset, records a new run and starts searching. */
-  async startRun(config: RunConfig): Promise<RunRecord> {
+  async startRun(given: RunConfig | PreparedRun): Promise<RunRecord> {
     // Reads, splits and encodes the data (nothing is written if that fails), then stores it.
-    const { dataset: prepared, preparation } = await loadDataset(config, { log: this.opts.log });
-    const spaceIssues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), { inputShape: prepared.inputShape, numClasses: prepared.classNames.length });
-    if (spaceIssues.length) throw new ValidationError('run configuration', spaceIssues.map((message) => ({ path: '/searchSpace', message })));
+    const { config, loaded } = 'loaded' in given ? given : await prepareRun(given, this.opts.log);
+    const { dataset: prepared, preparation } = loaded;
     const dataset = await storeDataset(prepared, this.opts.dataDir, preparation);
     const id = `r${this.now().toString(36)}${randomBytes(3).toString('hex')}`;
     this.store.transaction(() => {
