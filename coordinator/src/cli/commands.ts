@@ -2,7 +2,9 @@
 import { parseArgs } from 'node:util';
 import { runWorkerCli, takeLogFormatOption, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
 import { statusResponseValidator } from '@netbreeder/shared-types';
-import { Coordinator, DEFAULT_PORT } from '../coordinator.js';
+import { Coordinator, COORDINATOR_VERSION, DEFAULT_PORT } from '../coordinator.js';
+import { buildStatus } from '../run/status-report.js';
+import { runSummary } from './run-summary.js';
 import type { RunRecord } from '../store/run-store.js';
 import { readRunConfigFile } from '../config/run-config.js';
 import { prepareRun } from '../run/prepare-run.js';
@@ -12,10 +14,12 @@ import { statusTable } from './format.js';
 import { downloadChampion, requestEnsembleAndWait } from './export-command.js';
 import { replayCommand } from './replay-command.js';
 import { pickCommand } from './pick-command.js';
+import { runCommand } from './run-command.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
 Commands:
+  run FILE      a whole run on this machine: coordinator, local workers, summary, export
   coordinator   run the coordinator (store, queue, HTTP API) and drive a run
   worker        join a coordinator and train candidates on this PC
   demo          evolve a network for invented demo data on this machine, about 3 minutes
@@ -54,7 +58,7 @@ Options:
   -h, --help        this text
 
 Examples:
-  netbreeder coordinator --run examples/demo-run.json
+  netbreeder coordinator --run examples/tiles-run.json
   netbreeder coordinator --data-dir /srv/netbreeder --redis redis://127.0.0.1:6379
 `;
 
@@ -133,7 +137,9 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
   const log = createLogger('coordinator');
   // The run file and its data are checked before anything is created on disk or listens.
   const prepared = values.run ? await prepareRun(await readRunConfigFile(values.run), log) : null;
-  const coordinator = await Coordinator.start({
+  const startedAt = Date.now();
+  let coordinator: Coordinator | null = null;
+  coordinator = await Coordinator.start({
     logger: log,
     dataDir: values['data-dir'],
     port: numberOption('port', values.port, 0, 65535),
@@ -144,6 +150,12 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
     publicStatus: !values['private-status'],
     lockDurationMs: numberOption('lock-ms', values['lock-ms'], 1000, 3_600_000),
     stalledIntervalMs: numberOption('stalled-check-ms', values['stalled-check-ms'], 500, 3_600_000),
+  }, {
+    runFinished: (run) => {
+      if (!coordinator) return;
+      const summary = runSummary(coordinator, run.id, buildStatus(coordinator.manager, { version: COORDINATOR_VERSION, startedAt }));
+      if (summary) process.stdout.write(`\n${summary}`);
+    },
   });
   const active = coordinator.store.unfinishedRun();
   if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${prepared ? '; --run ignored until it ends' : ''}\n`);
@@ -299,6 +311,7 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   coordinator: coordinatorCommand,
   worker: runWorkerCli,
   demo: demoCommand,
+  run: runCommand,
   status: statusCommand,
   export: exportCommand,
   replay: (argv) => replayCommand(argv),
