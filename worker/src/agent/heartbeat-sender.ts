@@ -122,7 +122,7 @@ export class HeartbeatSender {
         this.onRefused(
           res.status === 401
             ? `the coordinator at ${this.coordinatorUrl} refused this worker's join token (HTTP 401): pass the token from the coordinator's secrets.json with --join-token or NETBREEDER_JOIN_TOKEN`
-            : `the coordinator at ${this.coordinatorUrl} revoked this worker id (HTTP 403): ask its admin, or start the worker under another --id once they allow it`,
+            : `the coordinator at ${this.coordinatorUrl} revoked this worker id (HTTP 403): ask the coordinator's admin why; this PC takes no more jobs until they allow it again`,
         );
         return;
       }

@@ -17,5 +17,6 @@ describe('log format', () => {
     expect(takeLogFormatOption(['--log-format=pretty', 'demo'], env)).toEqual(['demo']);
     expect(env.NETBREEDER_LOG_FORMAT).toBe('pretty');
     expect(() => takeLogFormatOption(['--log-format', 'fancy'], env)).toThrow(/got 'fancy'/);
+    expect(() => takeLogFormatOption(['demo', '--log-format'], env)).toThrow(/--log-format must be pretty or json, got ''/);
   });
 });

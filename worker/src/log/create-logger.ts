@@ -29,7 +29,7 @@ export function takeLogFormatOption(argv: string[], env: NodeJS.ProcessEnv = pro
       rest.push(arg);
       continue;
     }
-    if (!FORMATS.includes(env.NETBREEDER_LOG_FORMAT as LogFormat)) logFormat(env); // refuses a wrong value now
+    if (!FORMATS.includes(env.NETBREEDER_LOG_FORMAT as LogFormat)) throw new Error(`--log-format must be ${FORMATS.join(' or ')}, got '${env.NETBREEDER_LOG_FORMAT}'`);
   }
   return rest;
 }
