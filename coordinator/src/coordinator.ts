@@ -3,6 +3,7 @@ import { join, resolve } from 'node:path';
 import type { FastifyInstance } from 'fastify';
 import { DEFAULT_QUEUE_LOCATION, type QueueLocation } from '@netbreeder/worker';
 import type { RunConfig } from '@netbreeder/shared-types';
+import type { PreparedRun } from './run/prepare-run.js';
 import { createLogger, type Logger } from './logger.js';
 import { RunStore } from './store/run-store.js';
 import { EvaluationQueue } from './queue/evaluation-queue.js';
@@ -109,8 +110,8 @@ export class Coordinator {
     return new Coordinator(options, store, queue, manager, http, url, secrets, stallChecker);
   }
 
-  /** Starts a new run (the previous one must have ended). */
-  async startRun(config: RunConfig) {
+  /** Starts a new run (the previous one must have ended), from a run file or its {@link prepareRun} result. */
+  async startRun(config: RunConfig | PreparedRun) {
     const active = this.store.unfinishedRun();
     if (active) throw new Error(`run ${active.id} is still ${active.state}; one run at a time per coordinator`);
     const run = await this.manager.startRun(config);

@@ -4,6 +4,7 @@ export { WorkerAgent, WORKER_VERSION } from './agent/worker-agent.js';
 export { resolveWorkerOptions, defaultCacheDir, type WorkerOptions } from './agent/worker-options.js';
 export { DatasetCache, type DatasetCacheOptions } from './agent/dataset-cache.js';
 export { openRedis, DEFAULT_QUEUE_LOCATION, type QueueLocation } from './agent/redis-connection.js';
+export { createLogger as createProcessLogger, logFormat, takeLogFormatOption, type LogFormat } from './log/create-logger.js';
 export { msUntilClockTime } from './agent/stop-time.js';
 export { runWorkerCli, parseWorkerArgs, parseSimulationArgs, WORKER_HELP } from './worker-cli.js';
 export type { Trainer } from './agent/trainer.js';

@@ -1,5 +1,6 @@
 import { parseArgs } from 'node:util';
-import { pino } from 'pino';
+import type { Logger } from 'pino';
+import { createLogger, takeLogFormatOption } from './log/create-logger.js';
 import { WorkerAgent } from './agent/worker-agent.js';
 import { assertTestModeAllowed, resolveWorkerOptions, type WorkerOptions } from './agent/worker-options.js';
 import { msUntilClockTime } from './agent/stop-time.js';
@@ -26,6 +27,7 @@ Options:
                       for example 0.3; checked every 15 s
   --lock-ms MS        job lock length; a vanished worker's job returns after it (default 30000)
   --stalled-check-ms MS  how often this worker looks for stalled jobs   (default 15000)
+  --log-format F      pretty (readable) or json lines     (default pretty on a terminal, else json)
   --watts W           watts one busy core of this PC draws, for the coordinator's energy
                       estimate (default 15: an assumption, shown as such)
   -h, --help          this text
@@ -144,13 +146,14 @@ function fraction(name: string, v: string | undefined): number | null {
 }
 
 /** Runs `netbreeder worker …` until the worker stops; returns the process exit code. */
-export async function runWorkerCli(argv: string[]): Promise<number> {
+export async function runWorkerCli(given: string[]): Promise<number> {
+  const argv = takeLogFormatOption(given);
   const options = parseWorkerArgs(argv);
   if (options === 'help') {
     process.stdout.write(WORKER_HELP);
     return 0;
   }
-  const log = pino({ level: process.env.NETBREEDER_LOG_LEVEL ?? 'info', base: { component: 'worker', workerId: options.workerId } }, pino.destination(2));
+  const log = createLogger({ component: 'worker', workerId: options.workerId });
   const simulation = parseSimulationArgs(argv);
   if (simulation) return runSimulatedFleet(options, simulation, log);
   const agent = new WorkerAgent(options, log);
@@ -164,11 +167,12 @@ export async function runWorkerCli(argv: string[]): Promise<number> {
   process.on('SIGTERM', onSignal);
   await agent.start();
   await agent.stopped;
+  if (agent.fatal) throw new Error(agent.fatal);
   return 0;
 }
 
 /** Runs `--simulate` workers until a signal (test and benchmark only). Prints one JSON line of fleet stats to stdout when stopped. */
-async function runSimulatedFleet(options: WorkerOptions, simulation: SimulationSettings & { count: number }, log: pino.Logger): Promise<number> {
+async function runSimulatedFleet(options: WorkerOptions, simulation: SimulationSettings & { count: number }, log: Logger): Promise<number> {
   const fleet = new SimulatedFleet({ worker: options, simulation, count: simulation.count }, log);
   const stopped = new Promise<void>((resolve) => {
     process.once('SIGINT', () => resolve());

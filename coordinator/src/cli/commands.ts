@@ -1,20 +1,26 @@
 /** The `netbreeder` command's sub-commands: coordinator, worker, demo, status, export. */
 import { parseArgs } from 'node:util';
-import { runWorkerCli, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
+import { runWorkerCli, takeLogFormatOption, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
 import { statusResponseValidator } from '@netbreeder/shared-types';
-import { Coordinator, DEFAULT_PORT } from '../coordinator.js';
+import { Coordinator, COORDINATOR_VERSION, DEFAULT_PORT } from '../coordinator.js';
+import { buildStatus } from '../run/status-report.js';
+import { runSummary } from './run-summary.js';
 import type { RunRecord } from '../store/run-store.js';
 import { readRunConfigFile } from '../config/run-config.js';
+import { prepareRun } from '../run/prepare-run.js';
+import { createLogger } from '../logger.js';
 import { runDemo, defaultDemoWorkers } from './demo.js';
 import { statusTable } from './format.js';
 import { downloadChampion, requestEnsembleAndWait } from './export-command.js';
 import { replayCommand } from './replay-command.js';
 import { pickCommand } from './pick-command.js';
 import { predictCommand } from './predict-command.js';
+import { runCommand } from './run-command.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
 Commands:
+  run FILE      a whole run on this machine: coordinator, local workers, summary, export
   coordinator   run the coordinator (store, queue, HTTP API) and drive a run
   worker        join a coordinator and train candidates on this PC
   demo          evolve a network for invented demo data on this machine, about 3 minutes
@@ -27,7 +33,8 @@ Commands:
   pause, resume, stop, finish
                 control a coordinator's run (needs the admin token)
 
-'netbreeder <command> --help' shows each command's options and examples.
+'netbreeder <command> --help' shows each command's options and examples. Every command takes
+--log-format pretty|json (default: readable lines on a terminal, JSON lines otherwise).
 `;
 
 const COORDINATOR_HELP = `netbreeder coordinator: keep the population, queue training jobs, record results.
@@ -53,7 +60,7 @@ Options:
   -h, --help        this text
 
 Examples:
-  netbreeder coordinator --run examples/demo-run.json
+  netbreeder coordinator --run examples/tiles-run.json
   netbreeder coordinator --data-dir /srv/netbreeder --redis redis://127.0.0.1:6379
 `;
 
@@ -129,8 +136,13 @@ export const COORDINATOR_OPTIONS = {
 async function coordinatorCommand(argv: string[]): Promise<number> {
   const { values } = parseArgs({ args: argv, options: COORDINATOR_OPTIONS, strict: true });
   if (values.help) return void process.stdout.write(COORDINATOR_HELP), 0;
-  const config = values.run ? await readRunConfigFile(values.run) : null;
-  const coordinator = await Coordinator.start({
+  const log = createLogger('coordinator');
+  // The run file and its data are checked before anything is created on disk or listens.
+  const prepared = values.run ? await prepareRun(await readRunConfigFile(values.run), log) : null;
+  const startedAt = Date.now();
+  let coordinator: Coordinator | null = null;
+  coordinator = await Coordinator.start({
+    logger: log,
     dataDir: values['data-dir'],
     port: numberOption('port', values.port, 0, 65535),
     host: values.host,
@@ -140,11 +152,17 @@ async function coordinatorCommand(argv: string[]): Promise<number> {
     publicStatus: !values['private-status'],
     lockDurationMs: numberOption('lock-ms', values['lock-ms'], 1000, 3_600_000),
     stalledIntervalMs: numberOption('stalled-check-ms', values['stalled-check-ms'], 500, 3_600_000),
+  }, {
+    runFinished: (run) => {
+      if (!coordinator) return;
+      const summary = runSummary(coordinator, run.id, buildStatus(coordinator.manager, { version: COORDINATOR_VERSION, startedAt }));
+      if (summary) process.stdout.write(`\n${summary}`);
+    },
   });
   const active = coordinator.store.unfinishedRun();
-  if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${config ? '; --run ignored until it ends' : ''}\n`);
-  else if (config) {
-    const run = await coordinator.startRun(config);
+  if (active) process.stdout.write(`resumed run ${active.id} (${active.state})${prepared ? '; --run ignored until it ends' : ''}\n`);
+  else if (prepared) {
+    const run = await coordinator.startRun(prepared);
     process.stdout.write(`started run ${run.id}\n${describePreparation(run)}`);
   }
   else process.stdout.write('no run yet: restart with --run FILE to start one\n');
@@ -295,6 +313,7 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   coordinator: coordinatorCommand,
   worker: runWorkerCli,
   demo: demoCommand,
+  run: runCommand,
   status: statusCommand,
   export: exportCommand,
   replay: (argv) => replayCommand(argv),
@@ -302,8 +321,8 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   predict: (argv) => predictCommand(argv),
 };
 
-export async function main(argv: string[]): Promise<number> {
-  const [command, ...rest] = argv;
+export async function main(given: string[]): Promise<number> {
+  const [command, ...rest] = takeLogFormatOption(given);
   if (!command || command === '--help' || command === '-h' || command === 'help') {
     process.stdout.write(HELP);
     return command ? 0 : 2;

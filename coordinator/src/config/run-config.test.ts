@@ -30,6 +30,11 @@ describe('parseRunConfig', () => {
     expect(() => parseRunConfig([])).toThrow(/must be a JSON object/);
   });
 
+  it('takes a $schema reference (for editors) as no setting', () => {
+    const plain = parseRunConfig({ dataset: { kind: 'demo-tiles' } });
+    expect(parseRunConfig({ $schema: '../run-file.schema.json', dataset: { kind: 'demo-tiles' } })).toEqual(plain);
+  });
+
   it('does not change the object it was given', () => {
     const input = { dataset: { kind: 'demo-tiles' } };
     parseRunConfig(input);

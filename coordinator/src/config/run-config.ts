@@ -18,7 +18,9 @@ export function parseRunConfig(input: unknown): RunConfig {
   if (input === null || typeof input !== 'object' || Array.isArray(input)) {
     throw new ValidationError('run configuration', [{ path: '', message: 'must be a JSON object' }]);
   }
-  const withDefaults = Value.Default(RunConfigSchema, structuredClone(input)) as Record<string, unknown>;
+  // A run file may name its JSON Schema (run-file.schema.json) for editors; it is no setting.
+  const { $schema: _schemaReference, ...settings } = input as Record<string, unknown>;
+  const withDefaults = Value.Default(RunConfigSchema, structuredClone(settings)) as Record<string, unknown>;
   const dataset = withDefaults.dataset as { kind?: unknown } | undefined;
   const kind = dataset && typeof dataset === 'object' ? dataset.kind : undefined;
   const issues: ValidationIssue[] = [];

@@ -7,8 +7,6 @@ import {
   genomeHash,
   decodeShard,
   defaultSearchSpace,
-  spaceIssuesForData,
-  ValidationError,
   type DataShape,
   type EvaluationResult,
   type LabelledSamples,
@@ -20,7 +18,7 @@ import type { FinishedJob } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { createSearchAlgorithm, type Proposal, type SearchAlgorithm } from '../search/index.js';
 import { storeDataset } from './store-dataset.js';
-import { loadDataset } from '../importers/index.js';
+import { prepareRun, type PreparedRun } from './prepare-run.js';
 import { ChampionPhase } from '../champion/champion-phase.js';
 import { controlTarget, type RunControl } from '../store/run-lifecycle.js';
 import { CheckpointFiles } from '../checkpoints/checkpoint-files.js';
@@ -118,11 +116,10 @@ export class RunManager {
   }
 
   /** Prepares the dataset, records a new run and starts searching. */
-  async startRun(config: RunConfig): Promise<RunRecord> {
+  async startRun(given: RunConfig | PreparedRun): Promise<RunRecord> {
     // Reads, splits and encodes the data (nothing is written if that fails), then stores it.
-    const { dataset: prepared, preparation } = await loadDataset(config, { log: this.opts.log });
-    const spaceIssues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), { inputShape: prepared.inputShape, numClasses: prepared.classNames.length });
-    if (spaceIssues.length) throw new ValidationError('run configuration', spaceIssues.map((message) => ({ path: '/searchSpace', message })));
+    const { config, loaded } = 'loaded' in given ? given : await prepareRun(given, this.opts.log);
+    const { dataset: prepared, preparation } = loaded;
     const dataset = await storeDataset(prepared, this.opts.dataDir, preparation);
     const id = `r${this.now().toString(36)}${randomBytes(3).toString('hex')}`;
     this.store.transaction(() => {

@@ -6,10 +6,15 @@ import { authHeader } from './auth-header.js';
  * Posts the worker's heartbeat to the coordinator: when the worker's state changes, and otherwise
  * `intervalMs` after the last one, so two are never further apart than that and a busy worker,
  * whose state changes tell the coordinator it lives, sends no extra ones. While the coordinator
- * cannot be reached it keeps trying at the same pace, logging the first failure and then every
- * tenth, so a worker never spins or floods its log.
+ * cannot be reached (it may be restarting) it keeps trying with backoff, up to
+ * {@link MAX_RETRY_MS} apart; it says so at the first failure, with the URL and the cause, and then
+ * about once a minute, so a worker never spins or floods its log. A refused token (401) or a
+ * revoked worker id (403) cannot be fixed by retrying: `onRefused` gets one sentence saying what to do.
  */
 export class HeartbeatSender {
+  private refused = false;
+  private firstFailureAt = 0;
+  private lastWarnedAt = 0;
   private timer: NodeJS.Timeout | null = null;
   private started = false;
   private stopped = false;
@@ -25,8 +30,8 @@ export class HeartbeatSender {
     private readonly snapshot: () => WorkerHeartbeat,
     private readonly log: Logger,
     private readonly joinToken: string | null = null,
-    /** Called when the coordinator answers that this worker id is revoked. */
-    private readonly onRevoked: () => void = () => {},
+    /** Called, with a sentence naming the fix, when the coordinator refuses this worker's token (401) or id (403). */
+    private readonly onRefused: (sentence: string) => void = () => {},
     /** Called with the coordinator's reply when it sends one (a quarantine). */
     private readonly onReply: (reply: HeartbeatReply) => void = () => {},
     /** State changes closer together than this are sent as one heartbeat (very short jobs). @default 1000 */
@@ -76,6 +81,7 @@ export class HeartbeatSender {
 
   /** Sends a heartbeat now; while one is on its way, one more follows it with the newest state. */
   send(): Promise<void> {
+    if (this.refused) return Promise.resolve();
     if (this.inFlight) {
       this.again = true;
       return this.inFlight;
@@ -92,11 +98,12 @@ export class HeartbeatSender {
     return this.inFlight;
   }
 
-  /** The next periodic heartbeat, `intervalMs` after the one just sent (or tried). */
+  /** The next periodic heartbeat, `intervalMs` after the one just sent; after failures, doubling up to {@link MAX_RETRY_MS}. */
   private scheduleNext(): void {
     if (!this.started || this.stopped) return;
     if (this.timer) clearTimeout(this.timer);
-    this.timer = setTimeout(() => void this.send(), this.intervalMs);
+    const delay = this.failures === 0 ? this.intervalMs : Math.min(this.intervalMs * 2 ** (this.failures - 1), Math.max(this.intervalMs, MAX_RETRY_MS));
+    this.timer = setTimeout(() => void this.send(), delay);
     this.timer.unref();
   }
 
@@ -109,9 +116,14 @@ export class HeartbeatSender {
         body: JSON.stringify(body),
         signal: AbortSignal.timeout(Math.max(2000, this.intervalMs)),
       });
-      if (res.status === 403) {
-        this.log.error('the coordinator revoked this worker; stopping');
-        this.onRevoked();
+      if (res.status === 401 || res.status === 403) {
+        await res.body?.cancel();
+        this.refused = true;
+        this.onRefused(
+          res.status === 401
+            ? `the coordinator at ${this.coordinatorUrl} refused this worker's join token (HTTP 401): pass the token from the coordinator's secrets.json with --join-token or NETBREEDER_JOIN_TOKEN`
+            : `the coordinator at ${this.coordinatorUrl} revoked this worker id (HTTP 403): ask the coordinator's admin why; this PC takes no more jobs until they allow it again`,
+        );
         return;
       }
       if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
@@ -123,12 +135,19 @@ export class HeartbeatSender {
       } else {
         await res.body?.cancel();
       }
-      if (this.failures > 0) this.log.info({ after: this.failures }, 'coordinator reachable again');
+      if (this.failures > 0) this.log.info({ coordinatorUrl: this.coordinatorUrl, after: this.failures }, 'coordinator reachable again');
       this.failures = 0;
     } catch (err) {
       this.failures++;
-      if (this.failures === 1 || this.failures % 10 === 0) {
-        this.log.warn({ failures: this.failures, coordinatorUrl: this.coordinatorUrl, err: (err as Error).message }, 'cannot reach the coordinator; will keep trying');
+      const now = Date.now();
+      const cause = causeOf(err);
+      if (this.failures === 1) {
+        this.firstFailureAt = this.lastWarnedAt = now;
+        this.log.warn({ coordinatorUrl: this.coordinatorUrl, err: cause }, `cannot reach the coordinator at ${this.coordinatorUrl} (${cause}); retrying with backoff`);
+      } else if (now - this.lastWarnedAt >= WARN_EVERY_MS) {
+        this.lastWarnedAt = now;
+        const seconds = Math.round((now - this.firstFailureAt) / 1000);
+        this.log.warn({ coordinatorUrl: this.coordinatorUrl, err: cause, failures: this.failures, seconds }, `still cannot reach the coordinator at ${this.coordinatorUrl} after ${seconds} s (${cause}); still retrying`);
       }
     }
   }
@@ -141,4 +160,16 @@ export class HeartbeatSender {
     this.trailing = null;
     await this.inFlight;
   }
+}
+
+/** Longest wait between two tries while the coordinator cannot be reached. */
+export const MAX_RETRY_MS = 30_000;
+/** How often a worker that still cannot reach the coordinator says so. */
+const WARN_EVERY_MS = 60_000;
+
+/** What went wrong, with fetch's underlying reason (`fetch failed` alone says nothing). */
+function causeOf(err: unknown): string {
+  const e = err as Error & { cause?: { code?: string; message?: string } };
+  const inner = e.cause?.code ?? e.cause?.message;
+  return inner && !e.message.includes(inner) ? `${e.message}: ${inner}` : e.message;
 }

@@ -24,6 +24,7 @@ import { assertTestModeAllowed, coreCount, type WorkerOptions } from './worker-o
 import { inflateOutcome } from './lying-worker.js';
 import { msUntilClockTime } from './stop-time.js';
 import type { Trainer } from './trainer.js';
+import { backendSentence } from '../training/backend.js';
 
 /** Parts a {@link WorkerAgent} can be given instead of building its own. */
 export interface WorkerAgentParts {
@@ -63,6 +64,8 @@ export class WorkerAgent {
   private readonly host = hostname();
   /** Set once the coordinator says this worker is quarantined: it then takes no more jobs. */
   private quarantined = false;
+  /** Why the worker stopped on its own when retrying cannot help (a refused token), as one sentence; else null. */
+  fatal: string | null = null;
   private markStopped: () => void = () => {};
   /** Settles once the worker has stopped (after `stop()`, a stop time, or a fatal error). */
   readonly stopped: Promise<void> = new Promise((resolve) => (this.markStopped = resolve));
@@ -91,8 +94,9 @@ export class WorkerAgent {
       () => this.heartbeatMessage(),
       log,
       options.joinToken,
-      () => {
+      (sentence) => {
         // Its results would be refused: give the current job back at once and leave.
+        this.fatal = sentence;
         void this.stop({ force: true });
       },
       (reply) => this.onQuarantine(reply.reason),
@@ -111,10 +115,17 @@ export class WorkerAgent {
       this.log.warn({ nice: this.options.nice, err: (err as Error).message }, 'cannot lower scheduling priority; running at normal priority');
     }
     this.heartbeat.start();
-    const choice = await this.training.start();
+    // A refused token stops the worker while its training child starts: that start's failure is no news.
+    const choice = await this.training.start().catch((err: unknown) => {
+      if (this.stopping) return null;
+      throw err;
+    });
+    if (!choice) return;
     this.backend = choice.backend;
     this.backendReason = choice.reason;
-    this.log.info({ workerId: this.options.workerId, backend: choice.backend, reason: choice.reason }, 'training backend ready');
+    this.log.info({ backend: choice.backend }, backendSentence(choice));
+    this.log.debug({ reason: choice.reason }, 'backends tried');
+    if (this.stopping) return; // refused while the training child started
 
     this.connection = openRedis(this.options.redisUrl, (attempt, delayMs) =>
       this.log.warn({ attempt, delayMs }, 'cannot reach Redis; retrying with backoff'),
@@ -315,7 +326,7 @@ export class WorkerAgent {
    */
   stop(opts: { force?: boolean } = {}): Promise<void> {
     if (opts.force) {
-      this.log.warn('forced stop: abandoning the current job; another worker will take it over');
+      if (this.current) this.log.warn('forced stop: abandoning the current job; another worker will take it over');
       this.training.kill();
     }
     if (this.stopping) return this.stopping;

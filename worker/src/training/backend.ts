@@ -67,6 +67,8 @@ async function choose(order: BackendName[]): Promise<BackendChoice> {
  */
 export function initBackend(options: InitBackendOptions = {}): Promise<BackendChoice> {
   if (!chosen) {
+    // TensorFlow.js's own notes (in Node, a banner urging the native backend) stay off our output.
+    tf.env().set('PROD', true);
     chosen = choose(options.prefer?.length ? options.prefer : DEFAULT_ORDER);
     chosen.catch(() => {
       chosen = null;
@@ -80,4 +82,16 @@ export function currentBackend(): BackendName {
   const name = tf.getBackend();
   if (name === 'tensorflow' || name === 'wasm' || name === 'cpu') return name;
   throw new Error(`TensorFlow.js is on backend '${name}', which training does not support; call initBackend() first`);
+}
+
+/**
+ * The backend choice as one informative line: the native binding is optional (its install script
+ * downloads), so its absence is normal and said as such, not as an error.
+ */
+export function backendSentence(choice: BackendChoice): string {
+  const detail = choice.reason.match(/using \w+( \(.*\))?/)?.[1] ?? '';
+  const nativeMissing = /tensorflow unavailable: Cannot find (package|module) '@tensorflow\/tfjs-node'/.test(choice.reason);
+  if (choice.backend === 'tensorflow') return 'training on the native TensorFlow backend';
+  if (nativeMissing && choice.backend === 'wasm') return `training on the wasm backend${detail}; the optional native backend (@tensorflow/tfjs-node) is not installed, which is fine`;
+  return `training on the ${choice.backend} backend: ${choice.reason}`;
 }

@@ -79,7 +79,7 @@ export class TrainingProcess {
       const onMessage = (message: ChildMessage) => {
         if (message.type === 'ready') {
           this.choice = { backend: message.backend, reason: message.reason };
-          this.options.log?.info({ pid: child.pid, backend: message.backend, reason: message.reason }, 'training child ready');
+          this.options.log?.debug({ pid: child.pid, backend: message.backend, reason: message.reason }, 'training child ready');
           resolve(this.choice);
         } else if (message.type === 'init-failed') {
           reject(new TrainingProcessError(`the training child could not initialise a backend: ${message.message}`));

@@ -1,0 +1,22 @@
+import { defaultSearchSpace, spaceIssuesForData, ValidationError, type RunConfig } from '@netbreeder/shared-types';
+import type { Logger } from '../logger.js';
+import { loadDataset, type LoadedDataset } from '../importers/index.js';
+
+/** A run file's data, read, split, encoded and checked against its search space; nothing written yet. */
+export interface PreparedRun {
+  config: RunConfig;
+  loaded: LoadedDataset;
+}
+
+/**
+ * Everything a new run needs that can fail on the user's input: reads the dataset and checks the
+ * search space fits it. Writes nothing, so a coordinator can do it before it creates its store,
+ * its tokens or its HTTP server, and a bad run file leaves nothing behind.
+ */
+export async function prepareRun(config: RunConfig, log: Logger): Promise<PreparedRun> {
+  const loaded = await loadDataset(config, { log });
+  const data = { inputShape: loaded.dataset.inputShape, numClasses: loaded.dataset.classNames.length };
+  const issues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), data);
+  if (issues.length) throw new ValidationError('run configuration', issues.map((message) => ({ path: '/searchSpace', message })));
+  return { config, loaded };
+}
