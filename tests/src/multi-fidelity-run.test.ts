@@ -23,7 +23,7 @@ describe('a run with asha-evolution', () => {
       name: 'asha',
       seed: 8,
       dataset: { kind: 'demo-tiles', samplesPerClass: 60, seed: 8 },
-      search: { algorithm: 'asha-evolution', populationSize: 6, sampleSize: 2, eta: 2, minEpochs: 1, maxEpochs: 4 },
+      search: { algorithm: 'asha-evolution', populationSize: 6, sampleSize: 2, eta: 2, minEpochs: 1, maxEpochs: 4, promoteReference: true },
       budget: { maxEvaluations: 16, maxMinutes: 10 },
       champion: { epochs: 3, topK: 1 },
       searchSpace: { ...defaultSearchSpace(), maxFlops: 1_000_000, filters: { min: 4, max: 8 }, units: { min: 8, max: 32 } },
@@ -42,7 +42,7 @@ describe('a run with asha-evolution', () => {
     expect(new Set(search.filter((e) => e.state === 'done').map((e) => e.seq)).size).toBe(16);
     // Every promotion and non-promotion was recorded and the search replays exactly from the store.
     const decisions = store.searchSteps(run.id).flatMap((s) => s.decisions);
-    // The reference network (proposal 0) climbs every rung whatever its rank (search.promoteReference); the others by rank.
+    // The reference network (proposal 0) climbs every rung whatever its rank (search.promoteReference, set above); the others by rank.
     const climbs = decisions.filter((d) => d.kind === 'reference-promotion');
     expect(climbs.map((d) => [d.fromEpochs, d.toEpochs])).toEqual([[1, 2], [2, 4]]);
     expect(search.filter((e) => e.genomeHash === search.find((s) => s.seq === 0)!.genomeHash).map((e) => e.job.budget.epochs)).toEqual([1, 2, 4]);

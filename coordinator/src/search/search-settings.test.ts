@@ -19,9 +19,7 @@ describe('resolveSearchSettings', () => {
     // the setting predates it and started from minimal genomes.
     expect(search.start.default).toBe('family');
     expect(SEARCH_SETTING_DEFAULTS.start).toBe('minimal');
-    // Likewise the reference network climbs every rung in a new run, not in one stored before.
-    expect(search.promoteReference.default).toBe(true);
-    expect(SEARCH_SETTING_DEFAULTS.promoteReference).toBe(false);
+    expect(search.promoteReference.default).toBe(SEARCH_SETTING_DEFAULTS.promoteReference);
   });
 
   it('names the bad value', () => {

@@ -35,8 +35,7 @@ export interface SearchSettings {
    * @default 'minimal' */
   start?: StartKind;
   /** Successive halving: the run's reference network moves up every rung whatever its rank, so the
-   * champion's choice always has it at the top rung's budget. A run file gets `true` from its
-   * schema; absent here means a run stored before the setting existed, which must replay as it ran.
+   * champion's choice always has it at the top rung's budget (the run file's `search.promoteReference`).
    * @default false */
   promoteReference?: boolean;
 }
