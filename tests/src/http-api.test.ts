@@ -1,11 +1,13 @@
 import type { InjectOptions } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { statusResponseValidator, type WorkerHeartbeat } from '@netbreeder/shared-types';
-import { TestCluster } from './support/harness.js';
+import { statusResponseValidator, WORKER_PROTOCOL_VERSION, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import pino from 'pino';
+import { HeartbeatSender } from '@netbreeder/worker';
+import { TestCluster, waitFor } from './support/harness.js';
 
 const heartbeat = (over: Partial<WorkerHeartbeat> = {}): WorkerHeartbeat => ({
   schemaVersion: 1, workerId: 'pc-7', host: 'pc-7', pid: 123, cores: 4, backend: 'wasm', backendReason: 'test', state: 'idle',
-  currentEvaluationId: null, evaluationsDone: 0, evaluationsFailed: 0, samplesPerSecond: 0, rssBytes: 1000, memoryCapMb: 1024, version: '0.1.0', ...over,
+  currentEvaluationId: null, evaluationsDone: 0, evaluationsFailed: 0, samplesPerSecond: 0, rssBytes: 1000, memoryCapMb: 1024, version: '0.1.0', protocol: WORKER_PROTOCOL_VERSION, ...over,
 });
 
 describe('coordinator HTTP API', () => {
@@ -47,6 +49,26 @@ describe('coordinator HTTP API', () => {
     expect(res.statusCode).toBe(400);
     expect(res.json().error.code).toBe('NB_BAD_REQUEST');
     expect(cluster.coordinator.store.listWorkers().length).toBe(before);
+  });
+
+  it('refuses a worker of another protocol version at its heartbeat with one sentence naming the version to install, and records nothing', async () => {
+    const before = cluster.coordinator.store.listWorkers().length;
+    for (const old of [heartbeat({ workerId: 'pc-old', protocol: 1 }), (({ protocol: _p, ...rest }) => rest)(heartbeat({ workerId: 'pc-older' }))]) {
+      const res = await inject({ method: 'POST', url: '/workers/heartbeat', payload: old });
+      expect(res.statusCode).toBe(409);
+      expect(res.json().error).toMatchObject({ code: 'NB_WORKER_INCOMPATIBLE', message: expect.stringMatching(/speaks protocol 1 and this coordinator \(netbreeder [^)]+\) speaks \d+: upgrade this worker to netbreeder /) });
+    }
+    expect(cluster.coordinator.store.listWorkers().length).toBe(before);
+  });
+
+  it("ends the heartbeats of a worker of another version with the coordinator's sentence, for the worker to print before it exits", async () => {
+    const refusals: string[] = [];
+    const snapshot = () => heartbeat({ workerId: 'pc-old-agent', protocol: 1 });
+    const sender = new HeartbeatSender(cluster.coordinator.url, 60_000, snapshot, pino({ level: 'silent' }), cluster.coordinator.secrets.joinToken, (s) => refusals.push(s));
+    sender.start();
+    await waitFor('the refusal', () => refusals.length > 0, 10_000, 20);
+    await sender.stop();
+    expect(refusals).toEqual([expect.stringMatching(/^the coordinator at http:\S+ refused this worker: worker pc-old-agent .* upgrade this worker to netbreeder \S+$/)]);
   });
 
   it('logs every rejected request', () => {

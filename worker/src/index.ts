@@ -1,6 +1,7 @@
 /** @netbreeder/worker: the training engine and the agent that pulls jobs and trains them. */
 export * from './training/index.js';
 export { WorkerAgent, WORKER_VERSION } from './agent/worker-agent.js';
+export { HeartbeatSender } from './agent/heartbeat-sender.js';
 export { resolveWorkerOptions, defaultCacheDir, type WorkerOptions } from './agent/worker-options.js';
 export { DatasetCache, type DatasetCacheOptions } from './agent/dataset-cache.js';
 export { openRedis, DEFAULT_QUEUE_LOCATION, type QueueLocation } from './agent/redis-connection.js';

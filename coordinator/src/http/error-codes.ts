@@ -10,6 +10,7 @@ export const HTTP_ERRORS = {
   NB_UNKNOWN_DATASET: { status: 404, fix: 'the dataset hash is not one of this coordinator; check the job payload' },
   NB_UNAUTHORIZED: { status: 401, fix: 'pass the join token (workers) or the admin token (run control, export)' },
   NB_WORKER_REVOKED: { status: 403, fix: 'this worker id was revoked by an admin; ask them, or stop this worker' },
+  NB_WORKER_INCOMPATIBLE: { status: 409, fix: 'install the same netbreeder version on the worker as on the coordinator, then start the worker again' },
   NB_RUN_STATE: { status: 409, fix: "check the run's state in GET /status; the action does not apply to it" },
   NB_GENOME_REJECTED: { status: 400, fix: "change the genome as the issues say; it must obey the run's search space" },
   NB_CHECKPOINT_HASH_MISMATCH: { status: 400, fix: 'the body is not the checkpoint its sha256 names (corrupted on the way or in memory); nothing was stored, upload it again' },

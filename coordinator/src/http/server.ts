@@ -1,7 +1,7 @@
 import { createReadStream, existsSync } from 'node:fs';
 import Fastify, { LogController, type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { Type } from '@sinclair/typebox';
-import { StatusResponseSchema, WorkerHeartbeatSchema, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { StatusResponseSchema, WORKER_PROTOCOL_VERSION, WorkerHeartbeatSchema, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import { GenomeRejectedError, RunStateError, type RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
@@ -145,6 +145,15 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     if (manager.workers.isRevoked(hb.workerId)) {
       reject(req, `revoked worker ${hb.workerId}`);
       return send(reply, 'NB_WORKER_REVOKED', `worker ${hb.workerId} is revoked`);
+    }
+    const protocol = hb.protocol ?? 1;
+    if (protocol !== WORKER_PROTOCOL_VERSION) {
+      reject(req, `worker ${hb.workerId} speaks protocol ${protocol}, not ${WORKER_PROTOCOL_VERSION}`);
+      return send(
+        reply,
+        'NB_WORKER_INCOMPATIBLE',
+        `worker ${hb.workerId} (netbreeder ${hb.version}) speaks protocol ${protocol} and this coordinator (netbreeder ${opts.version}) speaks ${WORKER_PROTOCOL_VERSION}: upgrade this worker to netbreeder ${opts.version}`,
+      );
     }
     manager.workers.recordHeartbeat(hb);
     if (manager.isQuarantined(hb.workerId)) {

@@ -5,6 +5,17 @@ import { BackendNameSchema } from './evaluation-result.js';
 export const WorkerStateSchema = Type.Union([Type.Literal('starting'), Type.Literal('idle'), Type.Literal('training'), Type.Literal('draining'), Type.Literal('stopped')]);
 export type WorkerState = Static<typeof WorkerStateSchema>;
 
+/**
+ * The version of what a worker and a coordinator say to each other (jobs, results, heartbeats,
+ * checkpoints): one more whenever one of those messages gains or changes something the other side
+ * must understand. A worker sends it in every heartbeat; the coordinator refuses a worker whose
+ * version differs from its own at its first heartbeat, with a sentence saying which version to
+ * install, instead of letting it fail job after job on a schema it does not know.
+ * 1: workers that sent none; 2: jobs may carry schedules, augmentation, label smoothing, patience
+ * and repeated motifs.
+ */
+export const WORKER_PROTOCOL_VERSION = 2;
+
 /** Sent by every worker to the coordinator every few seconds (POST /workers/heartbeat). */
 export const WorkerHeartbeatSchema = Type.Object(
   {
@@ -25,6 +36,8 @@ export const WorkerHeartbeatSchema = Type.Object(
     rssBytes: Type.Integer({ minimum: 0 }),
     memoryCapMb: Type.Integer({ minimum: 1 }),
     version: Type.String({ maxLength: 40 }),
+    /** {@link WORKER_PROTOCOL_VERSION} of the worker; absent: 1 (a worker from before it was sent). */
+    protocol: Type.Optional(Type.Integer({ minimum: 1, maximum: 1000 })),
     /** Watts one busy core of this PC draws (the worker's `--watts`), for the energy estimate. */
     watts: Type.Optional(Type.Number({ exclusiveMinimum: 0, maximum: 10_000 })),
     /** True when `watts` is the default assumption, not a figure the PC's owner set. */

@@ -9,7 +9,9 @@ import { authHeader } from './auth-header.js';
  * cannot be reached (it may be restarting) it keeps trying with backoff, up to
  * {@link MAX_RETRY_MS} apart; it says so at the first failure, with the URL and the cause, and then
  * about once a minute, so a worker never spins or floods its log. A refused token (401) or a
- * revoked worker id (403) cannot be fixed by retrying: `onRefused` gets one sentence saying what to do.
+ * revoked worker id (403), a coordinator of another netbreeder version (409 `NB_WORKER_INCOMPATIBLE`,
+ * or 400 from one that does not understand the heartbeat) cannot be fixed by retrying: `onRefused`
+ * gets one sentence saying what to do.
  */
 export class HeartbeatSender {
   private refused = false;
@@ -30,7 +32,7 @@ export class HeartbeatSender {
     private readonly snapshot: () => WorkerHeartbeat,
     private readonly log: Logger,
     private readonly joinToken: string | null = null,
-    /** Called, with a sentence naming the fix, when the coordinator refuses this worker's token (401) or id (403). */
+    /** Called, with a sentence naming the fix, when the coordinator refuses this worker for good (token, id or version). */
     private readonly onRefused: (sentence: string) => void = () => {},
     /** Called with the coordinator's reply when it sends one (a quarantine). */
     private readonly onReply: (reply: HeartbeatReply) => void = () => {},
@@ -107,6 +109,12 @@ export class HeartbeatSender {
     this.timer.unref();
   }
 
+  /** A refusal retrying cannot fix: no more heartbeats, and `onRefused` gets the sentence. */
+  private refuse(sentence: string): void {
+    this.refused = true;
+    this.onRefused(sentence);
+  }
+
   private async post(): Promise<void> {
     const body = workerHeartbeatValidator.parse(this.snapshot());
     try {
@@ -118,13 +126,24 @@ export class HeartbeatSender {
       });
       if (res.status === 401 || res.status === 403) {
         await res.body?.cancel();
-        this.refused = true;
-        this.onRefused(
+        return this.refuse(
           res.status === 401
             ? `the coordinator at ${this.coordinatorUrl} refused this worker's join token (HTTP 401): pass the token from the coordinator's secrets.json with --join-token or NETBREEDER_JOIN_TOKEN`
             : `the coordinator at ${this.coordinatorUrl} revoked this worker id (HTTP 403): ask the coordinator's admin why; this PC takes no more jobs until they allow it again`,
         );
-        return;
+      }
+      if (res.status === 409 || res.status === 400) {
+        // Another version of netbreeder: the coordinator says which (409), or an older one refuses a
+        // heartbeat it does not understand (400). Retrying cannot help.
+        const text = await res.text();
+        const error = errorOf(text);
+        if (res.status === 409 && error?.code === 'NB_WORKER_INCOMPATIBLE') return this.refuse(`the coordinator at ${this.coordinatorUrl} refused this worker: ${error.message}`);
+        if (res.status === 400) {
+          return this.refuse(
+            `the coordinator at ${this.coordinatorUrl} does not understand this worker's heartbeat (HTTP 400: ${error?.message ?? text.slice(0, 200)}); it is probably another netbreeder version: install the same version on both`,
+          );
+        }
+        throw new Error(`HTTP ${res.status}: ${text.slice(0, 300)}`);
       }
       if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
       if (res.status === 200) {
@@ -172,4 +191,14 @@ function causeOf(err: unknown): string {
   const e = err as Error & { cause?: { code?: string; message?: string } };
   const inner = e.cause?.code ?? e.cause?.message;
   return inner && !e.message.includes(inner) ? `${e.message}: ${inner}` : e.message;
+}
+
+/** The `{ error: { code, message } }` of a coordinator's error reply, or null when the body is not one. */
+function errorOf(text: string): { code: string; message: string } | null {
+  try {
+    const e = (JSON.parse(text) as { error?: { code?: unknown; message?: unknown } }).error;
+    return typeof e?.code === 'string' && typeof e.message === 'string' ? { code: e.code, message: e.message } : null;
+  } catch {
+    return null;
+  }
 }

@@ -5,6 +5,7 @@ import type { Logger } from 'pino';
 import {
   DO_NOT_RETRY_PREFIX,
   EVALUATION_RESULT_VERSION,
+  WORKER_PROTOCOL_VERSION,
   evaluationJobValidator,
   evaluationResultValidator,
   type BackendName,
@@ -205,6 +206,7 @@ export class WorkerAgent {
       rssBytes: process.memoryUsage.rss(),
       memoryCapMb: this.options.memoryCapMb,
       version: WORKER_VERSION,
+      protocol: WORKER_PROTOCOL_VERSION,
       watts: this.options.watts,
       wattsAssumed: this.options.wattsAssumed,
     };
