@@ -1,5 +1,8 @@
 import { DatasetError } from '../datasets/dataset-error.js';
 
+/** A cell that reads as a number: optional sign, digits with an optional point, optional exponent. */
+export const NUMBER_CELL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+
 /**
  * Splits CSV text into records (RFC 4180): fields separated by `delimiter`, records by LF or CRLF,
  * fields in double quotes may hold delimiters, line breaks and doubled quotes (`""`). A leading
