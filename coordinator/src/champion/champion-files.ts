@@ -1,5 +1,5 @@
 import { readFileSync } from 'node:fs';
-import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { analyzeGenome, canonicalGenome, dataShapeOf, decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
@@ -133,7 +133,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
   const artifactsJson = store.getChampionArtifactsJson(run.id);
   if (!summary || !artifactsJson) return null;
   const artifacts = JSON.parse(artifactsJson) as ModelArtifactsMessage;
-  const analysis = analyzeGenome(summary.genome, { inputShape: run.dataset.manifest.inputShape, numClasses: run.dataset.manifest.numClasses });
+  const analysis = analyzeGenome(summary.genome, dataShapeOf(run.dataset.manifest));
   const modelJson = {
     format: 'layers-model',
     generatedBy: 'netbreeder',

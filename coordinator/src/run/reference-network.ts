@@ -1,4 +1,4 @@
-import { defaultSearchSpace, fitReferenceNetwork, genomeHash, type FittedReference, type RunConfig } from '@netbreeder/shared-types';
+import { dataShapeOf, defaultSearchSpace, fitReferenceNetwork, genomeHash, type FittedReference, type RunConfig } from '@netbreeder/shared-types';
 import type { SearchContext } from '../search/index.js';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 
@@ -12,7 +12,7 @@ type RunLike = Pick<RunRecord, 'config' | 'seed' | 'dataset'>;
 export function runReference(run: RunLike): FittedReference | null {
   if ((run.config.search as Partial<RunConfig['search']>).reference !== true) return null;
   const m = run.dataset.manifest;
-  return fitReferenceNetwork({ inputShape: m.inputShape, numClasses: m.numClasses }, run.config.searchSpace ?? defaultSearchSpace());
+  return fitReferenceNetwork(dataShapeOf(m), run.config.searchSpace ?? defaultSearchSpace());
 }
 
 /** What the search algorithm of `run` is made with: the space, the data's shape, the seed and the fitted reference network (if it has one that fits). */
@@ -21,7 +21,7 @@ export function searchContextOf(run: RunLike): SearchContext {
   const reference = runReference(run);
   return {
     space: run.config.searchSpace ?? defaultSearchSpace(),
-    data: { inputShape: m.inputShape, numClasses: m.numClasses },
+    data: dataShapeOf(m),
     seed: run.seed,
     ...(reference?.ok ? { reference: { genome: reference.genome, description: reference.description, adjustments: reference.adjustments } } : {}),
   };

@@ -182,7 +182,7 @@ export class RunManager {
   async startRun(config: RunConfig): Promise<RunRecord> {
     // Reads, splits and encodes the data (nothing is written if that fails), then stores it.
     const { dataset: prepared, preparation } = await loadDataset(config, { log: this.opts.log });
-    const spaceIssues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), { inputShape: prepared.inputShape, numClasses: prepared.classNames.length });
+    const spaceIssues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), { inputShape: prepared.inputShape, numClasses: prepared.classNames.length, ...(prepared.target ? { target: prepared.target } : {}) });
     if (spaceIssues.length) throw new ValidationError('run configuration', spaceIssues.map((message) => ({ path: '/searchSpace', message })));
     const dataset = await storeDataset(prepared, this.opts.dataDir, preparation);
     const id = `r${this.now().toString(36)}${randomBytes(3).toString('hex')}`;

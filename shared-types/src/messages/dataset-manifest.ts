@@ -44,3 +44,7 @@ export const DatasetManifestSchema = Type.Object(
   { additionalProperties: false },
 );
 export type DatasetManifest = Static<typeof DatasetManifestSchema>;
+
+/** The data shape every genome of a run is built for, as its dataset manifest fixes it. */
+export const dataShapeOf = (m: DatasetManifest): { inputShape: number[]; numClasses: number; target?: TargetScaling } =>
+  m.target ? { inputShape: m.inputShape, numClasses: m.numClasses, target: m.target } : { inputShape: m.inputShape, numClasses: m.numClasses };
