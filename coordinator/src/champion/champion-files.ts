@@ -11,6 +11,7 @@ import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison, type ConsideredGenome } from './reference-comparison.js';
 import type { FinalLength } from './final-length.js';
+import { championTestRegression } from './regression-scores.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -58,13 +59,17 @@ export function championSummary(store: RunStore, run: RunRecord) {
     flops: genome.flops,
     /** Median time to classify one sample alone, measured on the coordinator's CPU when it was scored. */
     latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null },
-    validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId },
+    /** Regression runs: the predicted column and its training-split scaling (then `accuracy` fields hold the search fitness, and `regression` the scores to show). */
+    target: run.dataset.manifest.target ?? null,
+    validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
     test: {
       accuracy: champion.testAccuracy,
       loss: champion.testLoss,
       samples: champion.testPredictions.length,
-      /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). */
-      confusion: confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses),
+      /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). Empty for regression. */
+      confusion: run.dataset.manifest.target ? [] : confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses),
+      /** Regression: RMSE, MAE, R² in the target's units and the RMSE of always predicting the training mean. */
+      regression: championTestRegression(store, run.id, champion.evaluationId).testRegression ?? null,
     },
     finalTraining: {
       evaluationId: champion.evaluationId,

@@ -149,7 +149,7 @@ export class ChampionPhase {
   async recordResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
-    const score = await scoreChampion(result.model!, this.o.testSplit());
+    const score = await scoreChampion(result.model!, this.o.testSplit(), this.o.store.getRun(ev.runId)?.dataset.manifest.target);
     const isChampion = candidate.champion !== false;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
@@ -160,6 +160,7 @@ export class ChampionPhase {
         valAccuracy: candidate.valAccuracy,
         testAccuracy: score.accuracy,
         testLoss: score.loss,
+        ...(score.regression ? { testRegression: score.regression } : {}),
       };
       this.o.store.logEvent(ev.runId, 'champion-candidate-scored', {
         ...scored,

@@ -52,6 +52,22 @@ export const RegressionScoresSchema = Type.Object(
 export type RegressionScores = Static<typeof RegressionScoresSchema>;
 
 /**
+ * A regression champion's one score on the held-out test split, in the target's units, with the
+ * RMSE of always predicting the training split's mean target beside it: the baseline any regressor
+ * must beat.
+ */
+export const RegressionTestScoresSchema = Type.Object(
+  {
+    rmse: Finite({ minimum: 0 }),
+    mae: Finite({ minimum: 0 }),
+    r2: Type.Number(),
+    baselineRmse: Finite({ minimum: 0 }),
+  },
+  { additionalProperties: false },
+);
+export type RegressionTestScores = Static<typeof RegressionTestScoresSchema>;
+
+/**
  * What a worker returns for one evaluation (the BullMQ job's return value). Validation figures are
  * null only for champion trainings, whose validation split is part of their training data.
  */
