@@ -1,3 +1,4 @@
+import { rmseFromFitness } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 
 /**
@@ -5,6 +6,10 @@ import type { ChampionSummaryDocument } from './champion-files.js';
  * and the ensemble, as Markdown lines; the HTML report renders the same lines.
  */
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
+const num = (v: number) => String(Number(v.toPrecision(4)));
+
+/** A validation or test score as the report shows it: an accuracy, or for a regression run the RMSE in the target's units its fitness stands for. */
+const score = (c: ChampionSummaryDocument, v: number | null | undefined) => (v == null ? 'n/a' : c.target ? `RMSE ${num(rmseFromFitness(v) * c.target.std)}` : pct(v));
 
 /** The final trainings of the champion's round that competed to be champion (runs from before issue 20 trained several and kept the best on test). */
 const contenders = (c: ChampionSummaryDocument) => c.candidates.filter((k) => k.champion !== false);
@@ -19,7 +24,7 @@ export function choiceParagraph(c: ChampionSummaryDocument): string {
   if (c.choice.by === 'pick') return `${c.choice.sentence}${final}`;
   const k = c.considered.length;
   const among = k > 1 ? ` It leads the ${k} best distinct genomes by validation evidence (below).` : '';
-  return `${c.choice.sentence}${among} The choice read validation scores only: each genome's results at its largest training budget, their mean validation accuracy, then fewer parameters.${final}`;
+  return `${c.choice.sentence}${among} The choice read validation scores only: each genome's results at its largest training budget, their mean validation ${c.target ? 'RMSE' : 'accuracy'}, then fewer parameters.${final}`;
 }
 
 export function choiceTable(c: ChampionSummaryDocument): string[] {
@@ -27,14 +32,14 @@ export function choiceTable(c: ChampionSummaryDocument): string[] {
     return [
       '| genome | validation (search) | test |',
       '|---|---|---|',
-      ...contenders(c).map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${pct(k.testAccuracy)} |`),
+      ...contenders(c).map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${score(c, k.valAccuracy)} | ${score(c, k.testAccuracy)} |`),
     ];
   }
   return [
     '| genome | validation (mean of results at its largest budget) | results | budget | parameters |',
     '|---|---|---|---|---|',
     ...c.considered.map(
-      (k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${k.results} | ${k.budgetEpochs} epochs | ${k.params.toLocaleString('en-US')} |`,
+      (k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${score(c, k.valAccuracy)} | ${k.results} | ${k.budgetEpochs} epochs | ${k.params.toLocaleString('en-US')} |`,
     ),
   ];
 }
@@ -48,10 +53,9 @@ export function referenceLines(c: ChampionSummaryDocument): string[] {
     ...lines,
     'The reference network is the one a careful practitioner writes by hand for this kind of data (see docs/reference-networks.md); it was trained in the search like any genome, then again exactly as the champion (train + validation, length from its own learning curve, the seed of its search result) and scored once on the held-out test split.',
     '',
-    '| | held-out test accuracy |',
-    '|---|---|',
-    `| champion | ${pct(r.championTestAccuracy)} |`,
-    `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${pct(r.referenceTestAccuracy)} |`,
+    ...(c.target
+      ? ['| | held-out test RMSE |', '|---|---|', `| champion | ${r.championTestRmse == null ? 'n/a' : num(r.championTestRmse)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${r.referenceTestRmse == null ? 'n/a' : num(r.referenceTestRmse)} |`]
+      : ['| | held-out test accuracy |', '|---|---|', `| champion | ${pct(r.championTestAccuracy)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${pct(r.referenceTestAccuracy)} |`]),
     '',
   ];
 }

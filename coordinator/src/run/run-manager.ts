@@ -11,6 +11,7 @@ import {
   decodeShard,
   defaultSearchSpace,
   describeGenome,
+  headUnits,
   evaluationResultValidator,
   spaceIssuesForData,
   ValidationError,
@@ -506,7 +507,7 @@ export class RunManager {
       genome: proposal.genome,
       params: analysis.params,
       flops: analysis.flops,
-      summary: describeGenome(proposal.genome, this.data!.numClasses),
+      summary: describeGenome(proposal.genome, headUnits(this.data!)),
     });
     this.store.addEvaluation(job, seq, this.now(), true);
     this.store.addSearchStep(proposalStep(run.id, step, job.evaluationId, proposal, this.now()));
