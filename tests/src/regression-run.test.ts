@@ -1,4 +1,4 @@
-import { mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
+import { mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { createRequire } from 'node:module';
@@ -100,5 +100,39 @@ describe('a regression run on the Auto MPG table', () => {
     const html = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('report.html')!.toString();
     expect(html).toContain('Held-out test RMSE');
     expect(html).not.toMatch(/accuracy|\d\.\d+%/);
+  });
+});
+
+describe('regression tables that cannot be used are refused, and nothing is stored', () => {
+  let cluster: TestCluster;
+  let dir: string;
+
+  beforeAll(async () => {
+    cluster = await TestCluster.start('badregression');
+    dir = await mkdtemp(join(tmpdir(), 'nb-badregression-'));
+  });
+
+  afterAll(async () => {
+    await cluster?.stop();
+    await rm(dir, { recursive: true, force: true });
+  });
+
+  it('starts no run and writes no shard for each', async () => {
+    // An invented piece log: wall thickness, peak temperature, shrinkage in percent.
+    const rows = (shrink: (i: number) => string) => ['wall_mm,peak_c,shrink_pct', ...Array.from({ length: 60 }, (_, i) => `${4 + (i % 9)},${1180 + i},${shrink(i)}`)].join('\n');
+    const cases: Array<[string, string, Record<string, unknown>, string, RegExp]> = [
+      ['untasked.csv', rows((i) => (8 + i * 0.071).toFixed(3)), {}, 'NB_DATASET_NUMERIC_LABEL', /60 distinct numbers: to predict the number, set "task": "regression"/],
+      ['flat.csv', rows(() => '9.5'), { task: 'regression' }, 'NB_DATASET_CONSTANT_TARGET', /nothing to learn/],
+      ['gap.csv', rows((i) => (i === 7 ? '' : (8 + i * 0.07).toFixed(2))), { task: 'regression' }, 'NB_DATASET_MISSING_VALUE', /line 9: .* never filled/],
+      ['word.csv', rows((i) => (i === 3 ? 'cracked' : (8 + i * 0.07).toFixed(2))), { task: 'regression' }, 'NB_DATASET_NOT_A_NUMBER', /line 5: .*"cracked", not a number/],
+    ];
+    for (const [name, text, extra, code, message] of cases) {
+      await writeFile(join(dir, name), text);
+      const err = (await cluster.coordinator.startRun(parseRunConfig({ dataset: { kind: 'csv', path: join(dir, name), labelColumn: 'shrink_pct', ...extra } })).catch((e: unknown) => e)) as Error & { code?: string };
+      expect(err.code, name).toBe(code);
+      expect(err.message, name).toMatch(message);
+    }
+    expect(cluster.coordinator.store.listRuns()).toEqual([]);
+    expect(await readdir(join(cluster.dataDir, 'datasets')).catch(() => [])).toEqual([]);
   });
 });
