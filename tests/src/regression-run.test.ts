@@ -4,7 +4,7 @@ import { dirname, join } from 'node:path';
 import { createRequire } from 'node:module';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { concatSamples, defaultSearchSpace, regressionMetrics, type StatusResponse } from '@netbreeder/shared-types';
-import { championFiles, loadDataset, parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
+import { championFiles, ensembleFiles, loadDataset, parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
 import { fitLeastSquares } from './support/least-squares.js';
 
@@ -43,7 +43,7 @@ describe('a regression run on the Auto MPG table', () => {
       search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2 },
       budget: { maxEvaluations: 8, maxMinutes: 10 },
       evaluation: { maxSeconds: 60 },
-      champion: { epochs: 100, maxSeconds: 120, topK: 2 },
+      champion: { epochs: 100, maxSeconds: 120, topK: 2, ensemble: { size: 2 } },
       verification: { championCandidates: false, spotCheckFraction: 0 },
       searchSpace: space,
     });
@@ -100,6 +100,16 @@ describe('a regression run on the Auto MPG table', () => {
     const html = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('report.html')!.toString();
     expect(html).toContain('Held-out test RMSE');
     expect(html).not.toMatch(/accuracy|\d\.\d+%/);
+  });
+
+  it('averages the predicted numbers of an ensemble and scores it like the champion', async () => {
+    const scored = cluster.coordinator.store.events(run.id, 'ensemble-scored').at(-1)?.detail as { testRegression: { rmse: number; baselineRmse: number }; members: unknown[]; averaging: string };
+    expect(scored.members.length).toBe(2);
+    expect(scored.averaging).toContain('predicted numbers');
+    expect(scored.testRegression.rmse).toBeLessThan(0.5 * scored.testRegression.baselineRmse);
+    const manifest = JSON.parse(ensembleFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('ensemble.json')!.toString()) as { how: string; test: { regression?: unknown; accuracy?: unknown } };
+    expect(manifest.how).toContain('as mpg');
+    expect(manifest.test.accuracy).toBeUndefined();
   });
 });
 

@@ -1,4 +1,4 @@
-import type { ModelArtifactsMessage } from '@netbreeder/shared-types';
+import type { ModelArtifactsMessage, RegressionTestScores } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 
 /** Names the ensemble's files may have: its manifest and each member's model and weights. */
@@ -6,7 +6,9 @@ export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|member-[0-9]{1,2}\\.(mod
 
 /** What the `ensemble-scored` event holds. */
 export interface EnsembleScore {
+  /** Regression runs: the fitness 1 / (1 + standardised test RMSE); `testRegression` holds the scores to show. */
   testAccuracy: number;
+  testRegression?: RegressionTestScores;
   /** The champion round that trained it (0: the run's own end), and the selection settings used (absent in older records: the run file's). */
   round?: number;
   size?: number;
@@ -43,7 +45,9 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
     kind: 'netbreeder averaging ensemble',
     version: 1,
     runId: run.id,
-    how: 'Feed every member the same input, prepared as for the champion (see its champion.json); average the members\' softmax outputs class by class; the predicted class is the one with the highest mean.',
+    how: m.target
+      ? `Feed every member the same input, prepared as for the champion (see its champion.json); average the members' outputs; multiply the mean by ${m.target.std} and add ${m.target.mean} to read it as ${m.target.column}.`
+      : 'Feed every member the same input, prepared as for the champion (see its champion.json); average the members\' softmax outputs class by class; the predicted class is the one with the highest mean.',
     inputShape: m.inputShape,
     classNames: m.classNames,
     selection: {
@@ -51,7 +55,7 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
       diversityPenalty: score.diversityPenalty ?? run.config.champion.ensemble?.diversityPenalty ?? null,
       rule: 'greedy: the most accurate genome first, then each time the highest validation accuracy minus diversityPenalty times its largest architecture similarity (multiset Jaccard of layer kinds and sizes) to a member already chosen',
     },
-    test: { accuracy: score.testAccuracy, samples: champion?.testPredictions.length ?? null, backend: score.backend },
+    test: { ...(score.testRegression ? { regression: score.testRegression } : { accuracy: score.testAccuracy }), samples: champion?.testPredictions.length ?? null, backend: score.backend },
     champion: champion ? { genomeHash: champion.genomeHash, testAccuracy: champion.testAccuracy } : null,
     members: members.map((mem) => {
       const g = store.getGenome(mem.genomeHash);

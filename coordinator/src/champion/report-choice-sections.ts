@@ -78,16 +78,16 @@ export function ensembleLines(c: ChampionSummaryDocument): string[] {
   return [
     '## Averaging ensemble',
     '',
-    `${e.members.length} genomes chosen for accuracy and for differing from each other (the most accurate first, then each time the best validation accuracy minus a penalty for architecture similarity to a member already chosen), each trained again like a champion candidate; their softmax outputs are averaged (files in \`ensemble/\`, with \`ensemble.json\` saying how).`,
+    `${e.members.length} genomes chosen for ${c.target ? 'low validation error' : 'accuracy'} and for differing from each other (the best first, then each time the best validation ${c.target ? 'fitness' : 'accuracy'} minus a penalty for architecture similarity to a member already chosen), each trained again like a champion candidate; their ${c.target ? 'predicted numbers' : 'softmax outputs'} are averaged (files in \`ensemble/\`, with \`ensemble.json\` saying how).`,
     '',
-    '| | held-out test accuracy |',
+    `| | held-out test ${c.target ? 'RMSE' : 'accuracy'} |`,
     '|---|---|',
-    `| ensemble of ${e.members.length} | ${pct(e.testAccuracy)} |`,
-    `| single champion | ${pct(e.championTestAccuracy)} |`,
+    `| ensemble of ${e.members.length} | ${score(c, e.testAccuracy)} |`,
+    `| single champion | ${score(c, e.championTestAccuracy)} |`,
     '',
     '| member | genome | similarity to earlier members | test alone |',
     '|---|---|---|---|',
-    ...e.members.map((m) => `| ${m.position + 1} | \`${m.genomeHash.slice(0, 12)}\` ${m.summary} | ${m.similarity == null ? 'n/a' : m.similarity.toFixed(2)} | ${pct(m.testAccuracy)} |`),
+    ...e.members.map((m) => `| ${m.position + 1} | \`${m.genomeHash.slice(0, 12)}\` ${m.summary} | ${m.similarity == null ? 'n/a' : m.similarity.toFixed(2)} | ${score(c, m.testAccuracy)} |`),
     '',
   ];
 }

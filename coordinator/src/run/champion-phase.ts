@@ -206,11 +206,13 @@ export class ChampionPhase {
       this.o.store.logEvent(run.id, 'ensemble-skipped', { reason: `only ${members.length} member(s) finished their final training; an ensemble needs two` });
       return;
     }
-    const score = await scoreEnsemble(members.map((m) => JSON.parse(m.artifactsJson)), this.o.testSplit(), run.dataset.manifest.numClasses);
+    const target = run.dataset.manifest.target;
+    const score = await scoreEnsemble(members.map((m) => JSON.parse(m.artifactsJson)), this.o.testSplit(), run.dataset.manifest.numClasses, target);
     this.o.store.logEvent(run.id, 'ensemble-scored', {
       testAccuracy: score.accuracy,
+      ...(score.regression ? { testRegression: score.regression } : {}),
       backend: score.backend,
-      averaging: 'mean of the members\' softmax probabilities',
+      averaging: target ? 'mean of the members\' predicted numbers' : 'mean of the members\' softmax probabilities',
       round,
       size: settings.size,
       diversityPenalty: settings.diversityPenalty,
