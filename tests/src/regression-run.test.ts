@@ -93,6 +93,9 @@ describe('a regression run on the Auto MPG table', () => {
     expect(status.best?.valRegression?.rmse).toBeGreaterThan(0);
     expect(status.champion?.testRegression?.baselineRmse).toBeGreaterThan(status.champion!.testRegression!.rmse);
     expect(status.reference?.line).toMatch(/RMSE/);
+    const metrics = await (await fetch(`${cluster.coordinator.url}/metrics`)).text();
+    expect(metrics).toMatch(new RegExp(`^netbreeder_best_validation_rmse\\{run="${run.id}"\\} [0-9.]+$`, 'm'));
+    expect(metrics).not.toMatch(/^netbreeder_best_validation_accuracy\{/m);
     const report = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('report.md')!.toString();
     expect(report).toContain('held-out test RMSE (mpg)');
     expect(report).toContain('always predicting the training mean');
