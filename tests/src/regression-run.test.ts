@@ -102,6 +102,9 @@ describe('a regression run on the Auto MPG table', () => {
     expect(report).not.toMatch(/accuracy|\d\.\d+%/);
     const html = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('report.html')!.toString();
     expect(html).toContain('Held-out test RMSE');
+    // Predicted against actual: one dot per test row; the residual histogram beside it.
+    expect(html.match(/<circle /g)?.length).toBe(cluster.coordinator.store.getChampion(run.id)!.testPredictions.length);
+    expect(html).toContain('aria-label="residual histogram"');
     expect(html).not.toMatch(/accuracy|\d\.\d+%/);
   });
 

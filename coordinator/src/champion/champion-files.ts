@@ -25,6 +25,15 @@ function testLabelsOf(run: RunRecord): Int32Array {
   return labels;
 }
 
+/** A regression champion's test targets and predictions, both in the target's units (for the report's plots); undefined for a classifier. */
+function regressionTestOf(store: RunStore, run: RunRecord): { actual: Float64Array; predicted: readonly number[] } | undefined {
+  const target = run.dataset.manifest.target;
+  const champion = store.getChampion(run.id);
+  if (!target || !champion) return undefined;
+  const standardized = decodeShard(readFileSync(run.dataset.testPath)).train.targets;
+  return standardized ? { actual: Float64Array.from(standardized, (v) => v * target.std + target.mean), predicted: champion.testPredictions } : undefined;
+}
+
 /** counts[true][predicted] over the test split. */
 export function confusionMatrix(labels: ArrayLike<number>, predictions: readonly number[], numClasses: number): number[][] {
   const m = Array.from({ length: numClasses }, () => new Array<number>(numClasses).fill(0));
@@ -153,6 +162,6 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
-    ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : []))],
+    ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : [], regressionTestOf(store, run)))],
   ]);
 }

@@ -4,6 +4,8 @@ import { describeStart } from './inheritance-summary.js';
 import { championTrustHtml } from '../trust/champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 
+import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
+
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 const num = (v: number) => String(Number(v.toPrecision(4)));
@@ -96,7 +98,7 @@ function curveSvg(c: ChampionSummaryDocument): string {
  * architecture drawn, the scores, the confusion matrix, the final training curve, how the
  * champion was chosen and found, and the settings to reproduce it. Prints on A4.
  */
-export function championReportHtml(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
+export function championReportHtml(c: ChampionSummaryDocument, layers: NodeAnalysis[], regressionTest?: { actual: ArrayLike<number>; predicted: ArrayLike<number> }): string {
   const names = c.settings.dataset.classNames;
   const reg = c.test.regression;
   const maxCell = Math.max(1, ...c.test.confusion.flat());
@@ -113,7 +115,7 @@ table { border-collapse: collapse; margin: .5rem 0; } th, td { border: 1px solid
 svg text { font: 11px system-ui, sans-serif; fill: #1d2430; } svg .kind { font-weight: 700; } svg .shape { fill: #5b6675; }
 .layer rect { fill: #f3efe7; stroke: #b5542b; } .edge { stroke: #1f6f66; stroke-width: 1.4; } marker path { fill: #1f6f66; }
 .axis { stroke: #8a94a3; } .loss { fill: none; stroke: #b5542b; stroke-width: 2; } .acc { fill: none; stroke: #1f6f66; stroke-width: 2; }
-.loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
+.dot { fill: #1f6f66; opacity: .6; } .diag { stroke: #b5542b; stroke-dasharray: 4 3; } .bar { fill: #1f6f66; opacity: .75; } .loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
 @media print { body { margin: 0; max-width: none; } .diagram { overflow: visible; } h2 { break-after: avoid; } table, svg { break-inside: avoid; } }
 </style></head><body>
 <h1>Champion of run ${esc(c.runName)} <small>(${esc(c.runId)})</small></h1>
@@ -138,7 +140,13 @@ ${
   ])}</table>
 <h2>Architecture</h2>
 <div class="diagram">${architectureSvg(c, layers)}</div>
-${reg ? '' : `<h2>Test split: confusion matrix</h2>\n${confusion}`}
+${
+  reg
+    ? regressionTest
+      ? `<h2>Test split: predicted against actual, and residuals</h2>\n<div class="diagram">${predictedActualSvg(regressionTest.actual, regressionTest.predicted, c.target!.column)} ${residualHistogramSvg(regressionTest.actual, regressionTest.predicted)}</div>`
+      : ''
+    : `<h2>Test split: confusion matrix</h2>\n${confusion}`
+}
 <h2>Final training</h2>
 ${curveSvg(c)}
 <h2>How it was chosen</h2>
