@@ -5,11 +5,10 @@ import { championTrustHtml } from '../trust/champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 
 import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
+import { fourDigits } from './regression-scores.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
-const num = (v: number) => String(Number(v.toPrecision(4)));
-
 /**
  * The architecture as an SVG: one box per layer (with its output shape), laid out in columns by
  * depth from the input, arrows along every connection, so skip connections show as long edges.
@@ -121,15 +120,15 @@ svg text { font: 11px system-ui, sans-serif; fill: #1d2430; } svg .kind { font-w
 <h1>Champion of run ${esc(c.runName)} <small>(${esc(c.runId)})</small></h1>
 ${
     reg
-      ? `<p class="big">Held-out test RMSE ${num(reg.rmse)} ${esc(c.target!.column)} on ${c.test.samples} rows never used in the search or its training; always predicting the training mean scores RMSE ${num(reg.baselineRmse)}.</p>`
+      ? `<p class="big">Held-out test RMSE ${fourDigits(reg.rmse)} ${esc(c.target!.column)} on ${c.test.samples} rows never used in the search or its training; always predicting the training mean scores RMSE ${fourDigits(reg.baselineRmse)}.</p>`
       : `<p class="big">Held-out test accuracy ${pct(c.test.accuracy)} on ${c.test.samples} samples never used in the search or its training.</p>`
   }
 <table>${rows([
     ['architecture', esc(c.summary)],
     ...((reg
       ? [
-          ['test MAE / R²', `${num(reg.mae)} / ${reg.r2.toFixed(3)}`],
-          ['validation RMSE (during search)', c.validation.regression ? num(c.validation.regression.rmse) : 'n/a'],
+          ['test MAE / R²', `${fourDigits(reg.mae)} / ${reg.r2.toFixed(3)}`],
+          ['validation RMSE (during search)', c.validation.regression ? fourDigits(c.validation.regression.rmse) : 'n/a'],
         ]
       : [['validation accuracy (during search)', pct(c.validation.accuracy)]]) as Array<[string, string]>),
     ['parameters', c.paramCount.toLocaleString('en-US')],
@@ -158,7 +157,7 @@ ${sectionHtml(ensembleLines(c))}
 <h2>Checkpoints and weight inheritance</h2>
 <p>Weight inheritance ${c.inheritance.weightInheritance ? 'on' : 'off'}. Finished search trainings: ${Object.entries(c.inheritance.byKind).filter(([, n]) => n > 0).map(([k, n]) => `${n} ${esc(k)}`).join(', ')}; ${c.inheritance.epochsReused} epoch(s) not trained again. The champion's search evaluation: ${esc(describeStart(c.inheritance.champion))}.</p>
 <h2>Feeding the model</h2>
-<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. ${c.target ? `Output: one number, the standardised ${esc(c.target.column)}; multiply it by ${num(c.target.std)} and add ${num(c.target.mean)}.` : `Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}.`} Load <code>model.json</code> + <code>weights.bin</code> with <code>tf.loadLayersModel</code>.</p>
+<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. ${c.target ? `Output: one number, the standardised ${esc(c.target.column)}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)}.` : `Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}.`} Load <code>model.json</code> + <code>weights.bin</code> with <code>tf.loadLayersModel</code>.</p>
 ${championTrustHtml(c.trust, esc)}<h2>Reproduce</h2>
 <p>Search ${esc(c.settings.config.search.algorithm)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>
 </body></html>

@@ -3,21 +3,20 @@ import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
 import { championTrustMarkdown } from '../trust/champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
+import { fourDigits } from './regression-scores.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
-
-const num = (v: number) => String(Number(v.toPrecision(4)));
 
 /** The score rows of a regression champion: errors in the target's units beside the predict-the-mean baseline. */
 function regressionRows(c: ChampionSummaryDocument): string[] {
   const t = c.test.regression!;
   const unit = c.target ? ` (${c.target.column})` : '';
   return [
-    `| held-out test RMSE${unit} | ${num(t.rmse)} on ${c.test.samples} rows never seen in search or training |`,
-    `| always predicting the training mean (test RMSE) | ${num(t.baselineRmse)}: the baseline any regressor must beat |`,
-    `| held-out test MAE / R² | ${num(t.mae)} / ${t.r2.toFixed(3)} |`,
-    `| reference network (test RMSE) | ${c.reference.referenceTestRmse == null ? 'n/a' : num(c.reference.referenceTestRmse)} |`,
-    `| validation RMSE (during search) | ${c.validation.regression ? num(c.validation.regression.rmse) : 'n/a'} |`,
+    `| held-out test RMSE${unit} | ${fourDigits(t.rmse)} on ${c.test.samples} rows never seen in search or training |`,
+    `| always predicting the training mean (test RMSE) | ${fourDigits(t.baselineRmse)}: the baseline any regressor must beat |`,
+    `| held-out test MAE / R² | ${fourDigits(t.mae)} / ${t.r2.toFixed(3)} |`,
+    `| reference network (test RMSE) | ${c.reference.referenceTestRmse == null ? 'n/a' : fourDigits(c.reference.referenceTestRmse)} |`,
+    `| validation RMSE (during search) | ${c.validation.regression ? fourDigits(c.validation.regression.rmse) : 'n/a'} |`,
   ];
 }
 
@@ -74,7 +73,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     `Input shape [${c.settings.dataset.inputShape.join(', ')}] (after the batch axis); ${c.input}.`,
     c.target
-      ? `Output: one number, the standardised ${c.target.column}; multiply it by ${num(c.target.std)} and add ${num(c.target.mean)} to read it in ${c.target.column}'s units.`
+      ? `Output: one number, the standardised ${c.target.column}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)} to read it in ${c.target.column}'s units.`
       : `Output: ${c.settings.dataset.numClasses} softmax probabilities, in the class order ${c.settings.dataset.classNames.map((n) => `\`${n}\``).join(', ')}.`,
     '',
     '## Training genes',

@@ -1,6 +1,7 @@
 import { genomeHash, type RegressionTestScores } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { runReference } from '../run/reference-network.js';
+import { fourDigits } from './regression-scores.js';
 
 /** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it. */
 export interface ConsideredGenome {
@@ -52,16 +53,14 @@ const pct = (v: number) => `${(v * 100).toFixed(2)}%`;
 
 type ScoredOnTest = { genomeHash: string; testAccuracy: number; testRegression?: RegressionTestScores };
 
-const num = (v: number) => String(Number(v.toPrecision(4)));
-
 /** The plain line for a regression champion and reference, by test RMSE in the target's units (smaller is better). Pure. */
 export function regressionComparisonLine(champion: ScoredOnTest & { testRegression: RegressionTestScores }, reference: ScoredOnTest & { testRegression: RegressionTestScores }): string {
   const c = champion.testRegression.rmse;
   const r = reference.testRegression.rmse;
-  if (champion.genomeHash === reference.genomeHash) return `the search did not beat the reference network; it is exported as the champion (test RMSE ${num(r)})`;
-  const scores = `test RMSE ${num(c)} against ${num(r)}`;
+  if (champion.genomeHash === reference.genomeHash) return `the search did not beat the reference network; it is exported as the champion (test RMSE ${fourDigits(r)})`;
+  const scores = `test RMSE ${fourDigits(c)} against ${fourDigits(r)}`;
   if (c < r) return `the search's champion beats the reference network: ${((1 - c / r) * 100).toFixed(1)}% lower error (${scores})`;
-  if (c === r) return `the search's champion ties the reference network on the test split (test RMSE ${num(c)})`;
+  if (c === r) return `the search's champion ties the reference network on the test split (test RMSE ${fourDigits(c)})`;
   return `the champion, chosen on validation, has a ${((c / r - 1) * 100).toFixed(1)}% higher error than the reference network on the test split (${scores}); it stays the exported champion, since no choice is made on test scores`;
 }
 

@@ -6,3 +6,6 @@ export function championTestRegression(store: RunStore, runId: string, evaluatio
   const own = store.events(runId, 'champion-candidate-scored').map((e) => e.detail as { evaluationId: string; testRegression?: RegressionTestScores }).find((d) => d.evaluationId === evaluationId);
   return own?.testRegression ? { testRegression: own.testRegression } : {};
 }
+
+/** A regression figure as reports show it: 4 significant digits, no trailing zeros. */
+export const fourDigits = (v: number): string => String(Number(v.toPrecision(4)));

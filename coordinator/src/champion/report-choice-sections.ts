@@ -1,15 +1,14 @@
 import { rmseFromFitness } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
+import { fourDigits } from './regression-scores.js';
 
 /**
  * The report's sections on how the champion was chosen, how it was found (from the decision log)
  * and the ensemble, as Markdown lines; the HTML report renders the same lines.
  */
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
-const num = (v: number) => String(Number(v.toPrecision(4)));
-
 /** A validation or test score as the report shows it: an accuracy, or for a regression run the RMSE in the target's units its fitness stands for. */
-const score = (c: ChampionSummaryDocument, v: number | null | undefined) => (v == null ? 'n/a' : c.target ? `RMSE ${num(rmseFromFitness(v) * c.target.std)}` : pct(v));
+const score = (c: ChampionSummaryDocument, v: number | null | undefined) => (v == null ? 'n/a' : c.target ? `RMSE ${fourDigits(rmseFromFitness(v) * c.target.std)}` : pct(v));
 
 /** The final trainings of the champion's round that competed to be champion (runs from before issue 20 trained several and kept the best on test). */
 const contenders = (c: ChampionSummaryDocument) => c.candidates.filter((k) => k.champion !== false);
@@ -54,7 +53,7 @@ export function referenceLines(c: ChampionSummaryDocument): string[] {
     'The reference network is the one a careful practitioner writes by hand for this kind of data (see docs/reference-networks.md); it was trained in the search like any genome, then again exactly as the champion (train + validation, length from its own learning curve, the seed of its search result) and scored once on the held-out test split.',
     '',
     ...(c.target
-      ? ['| | held-out test RMSE |', '|---|---|', `| champion | ${r.championTestRmse == null ? 'n/a' : num(r.championTestRmse)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${r.referenceTestRmse == null ? 'n/a' : num(r.referenceTestRmse)} |`]
+      ? ['| | held-out test RMSE |', '|---|---|', `| champion | ${r.championTestRmse == null ? 'n/a' : fourDigits(r.championTestRmse)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${r.referenceTestRmse == null ? 'n/a' : fourDigits(r.referenceTestRmse)} |`]
       : ['| | held-out test accuracy |', '|---|---|', `| champion | ${pct(r.championTestAccuracy)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${pct(r.referenceTestAccuracy)} |`]),
     '',
   ];

@@ -1,4 +1,5 @@
 import type { StatusResponse } from '@netbreeder/shared-types';
+import { fourDigits } from '../champion/regression-scores.js';
 
 export const pct = (v: number | null | undefined): string => (v == null ? '–' : `${(v * 100).toFixed(1)}%`);
 
@@ -7,17 +8,15 @@ export const clock = (seconds: number): string => {
   return `${String(Math.floor(s / 60)).padStart(2, '0')}:${String(s % 60).padStart(2, '0')}`;
 };
 
-const num = (v: number): string => String(Number(v.toPrecision(4)));
-
 /** The best validation score so far: an accuracy, or for a regression run its RMSE in the target's units. */
 export const bestScore = (s: StatusResponse): string =>
-  s.best?.valRegression ? `best val RMSE ${num(s.best.valRegression.rmse)} ${s.run?.target ?? ''}`.trimEnd() : `best val ${pct(s.best?.valAccuracy)}`;
+  s.best?.valRegression ? `best val RMSE ${fourDigits(s.best.valRegression.rmse)} ${s.run?.target ?? ''}`.trimEnd() : `best val ${pct(s.best?.valAccuracy)}`;
 
 /** A champion's test score in words: accuracy, or RMSE · MAE · R² beside the predict-the-mean baseline. */
 export function championScore(c: NonNullable<StatusResponse['champion']>): string {
   const r = c.testRegression;
   if (!r) return `${pct(c.testAccuracy)} test · ${pct(c.valAccuracy)} val`;
-  return `test RMSE ${num(r.rmse)} · MAE ${num(r.mae)} · R² ${r.r2.toFixed(3)} (predicting the training mean: RMSE ${num(r.baselineRmse)})`;
+  return `test RMSE ${fourDigits(r.rmse)} · MAE ${fourDigits(r.mae)} · R² ${r.r2.toFixed(3)} (predicting the training mean: RMSE ${fourDigits(r.baselineRmse)})`;
 }
 
 /** One live progress line: `[02:10] 41 done · 2 running · 0 failed · best 91.2% · 18.5/min · 2 workers`. */
@@ -41,7 +40,7 @@ export function statusTable(s: StatusResponse): string {
   const lines = [progressLine(s)];
   if (s.run) lines.push(`run ${s.run.id} "${s.run.name}" · ${s.run.algorithm} · seed ${s.run.seed} · budget ${s.run.maxEvaluations} evaluations / ${s.run.maxMinutes} min`);
   if (s.run?.target) lines.push(`regression: predicts "${s.run.target}"; RMSE and MAE are in its units`);
-  if (s.best) lines.push(`best so far: ${s.best.valRegression ? `val RMSE ${num(s.best.valRegression.rmse)} · R² ${s.best.valRegression.r2.toFixed(3)}` : `${pct(s.best.valAccuracy)} val`} · ${s.best.paramCount} params · ${s.best.summary}`);
+  if (s.best) lines.push(`best so far: ${s.best.valRegression ? `val RMSE ${fourDigits(s.best.valRegression.rmse)} · R² ${s.best.valRegression.r2.toFixed(3)}` : `${pct(s.best.valAccuracy)} val`} · ${s.best.paramCount} params · ${s.best.summary}`);
   if (s.champion) lines.push(`champion: ${championScore(s.champion)} · ${s.champion.paramCount} params · ${s.champion.summary}`);
   if (s.accounting) {
     const a = s.accounting.total;
