@@ -26,6 +26,10 @@ describe('example run files for one\'s own data', () => {
     expect(preparation.preprocessing.kind === 'table' && preparation.preprocessing.target).toEqual(dataset.target);
     expect(dataset.train.targets!.length + dataset.val.targets!.length + dataset.test.targets!.length).toBe(500);
     expect(preparation.warnings).toEqual([]);
+    expect(dataset.target!.loss).toBeUndefined();
+    // The Huber loss travels with the target's scaling, to the workers.
+    const huber = await loadDataset({ ...config, dataset: { ...config.dataset, regressionLoss: 'huber' } as typeof config.dataset });
+    expect(huber.dataset.target!.loss).toBe('huber');
     // The same file without a task is refused with the suggestion, before anything is stored.
     const { task: _task, ...untasked } = config.dataset as typeof config.dataset & { task?: string };
     await expect(loadDataset({ ...config, dataset: untasked })).rejects.toThrow(/distinct numbers: to predict the number, set "task": "regression"/);

@@ -15,7 +15,7 @@ export interface PreparedDataset {
   val: LabelledSamples;
   test: LabelledSamples;
   /** Regression only: the target column and its training-split scaling. */
-  target?: { column: string; mean: number; std: number };
+  target?: { column: string; mean: number; std: number; loss?: 'huber' };
 }
 
 export const sampleSize = (inputShape: readonly number[]): number => inputShape.reduce((a, b) => a * b, 1);

@@ -12,6 +12,8 @@ export const TargetScalingSchema = Type.Object(
     column: Type.String({ minLength: 1, maxLength: 200 }),
     mean: Type.Number(),
     std: Type.Number({ exclusiveMinimum: 0 }),
+    /** Training loss on the standardised target (the run file's `regressionLoss`); absent: mean squared error. */
+    loss: Type.Optional(Type.Literal('huber')),
   },
   { additionalProperties: false },
 );

@@ -65,6 +65,12 @@ export const CsvSourceSchema = Type.Object(
      * {@link MAX_AUTO_NUMERIC_CLASSES} distinct values is refused, suggesting `"regression"`.
      */
     task: Type.Optional(Type.Union([Type.Literal('classification'), Type.Literal('regression')])),
+    /**
+     * Regression only: what training minimises on the standardised target. `mean-squared-error`;
+     * `huber`, squared below one standard deviation of the target and linear above it, so a few
+     * outlying rows pull less. Scores are RMSE, MAE and R² either way. @default "mean-squared-error"
+     */
+    regressionLoss: Type.Optional(Type.Union([Type.Literal('mean-squared-error'), Type.Literal('huber')])),
   },
   { additionalProperties: false },
 );

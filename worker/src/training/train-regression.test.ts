@@ -54,4 +54,16 @@ describe('a regression training', () => {
     expect(out.valLoss).toBeCloseTo((scores.rmse / std) ** 2, 4);
     expect(out.history.at(-1)!.trainAccuracy).toBeGreaterThan(0.5);
   }, 120_000);
+
+  it('with the Huber loss, a few gross outliers in training pull the network less than with mean squared error', async () => {
+    // 30 of 600 training targets moved 8 standard deviations up (a logging slip); validation stays clean.
+    const dirty = standardize(train);
+    const targets = Float32Array.from(dirty.targets!, (v, i) => (i % 20 === 0 ? v + 8 : v));
+    const genome = { ...referenceGenome(DATA), training: { ...referenceGenome(DATA).training, epochs: 20 } };
+    const run = (data: DataShape) => trainGenome({ genome, data, train: { ...dirty, targets }, val: standardize(val), budget: { epochs: 20, maxSeconds: 120 }, seed: 4 });
+    const squared = await run(DATA);
+    const huber = await run({ ...DATA, target: { ...DATA.target!, loss: 'huber' } });
+    // The Huber loss is linear beyond its threshold, so outliers weigh less (from memory: Huber 1964, robust estimation).
+    expect(huber.valRegression!.rmse).toBeLessThan(squared.valRegression!.rmse);
+  }, 180_000);
 });
