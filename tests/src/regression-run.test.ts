@@ -4,7 +4,7 @@ import { dirname, join } from 'node:path';
 import { createRequire } from 'node:module';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { concatSamples, defaultSearchSpace, regressionMetrics, type StatusResponse } from '@netbreeder/shared-types';
-import { championFiles, ensembleFiles, loadDataset, parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
+import { championFiles, championSummary, ensembleFiles, loadDataset, parseRunConfig, readRunConfigFile, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
 import { fitLeastSquares } from './support/least-squares.js';
 
@@ -150,5 +150,46 @@ describe('regression tables that cannot be used are refused, and nothing is stor
     }
     expect(cluster.coordinator.store.listRuns()).toEqual([]);
     expect(await readdir(join(cluster.dataDir, 'datasets')).catch(() => [])).toEqual([]);
+  });
+});
+
+describe('a regression run on the invented kiln-shrinkage example', () => {
+  let cluster: TestCluster;
+  let run: RunRecord;
+
+  beforeAll(async () => {
+    const file = join(import.meta.dirname, '..', '..', 'examples', 'kiln-shrinkage-run.json');
+    const config = await readRunConfigFile(file);
+    cluster = await TestCluster.start('shrinkage');
+    cluster.spawnWorker('w1');
+    await cluster.waitForReadyWorkers(1);
+    // The example's run file with a budget a test can afford.
+    run = await cluster.coordinator.startRun(
+      parseRunConfig({
+        ...config,
+        budget: { maxEvaluations: 6, maxMinutes: 10 },
+        search: { algorithm: 'aging-evolution', populationSize: 3, sampleSize: 2 },
+        champion: { epochs: 60, maxSeconds: 120, topK: 1 },
+        verification: { championCandidates: false, spotCheckFraction: 0 },
+        searchSpace: { ...defaultSearchSpace(), optimizers: ['adam'], epochs: { min: 20, max: 40 }, learningRate: { min: 3e-3, max: 2e-2 }, units: { min: 8, max: 64 }, batchSizes: [16, 32] },
+      }),
+    );
+    await waitFor('the kiln-shrinkage run to finish', () => {
+      const r = cluster.coordinator.store.getRun(run.id);
+      return r && (r.state === 'finished' || r.state === 'failed') ? r : null;
+    }, 400_000, 500);
+  }, 460_000);
+
+  afterAll(async () => {
+    await cluster?.stop();
+  });
+
+  it('finishes with a champion whose test RMSE beats always predicting the training mean', () => {
+    const finished = cluster.coordinator.store.getRun(run.id)!;
+    expect(finished.state, finished.failure ?? '').toBe('finished');
+    const champion = championSummary(cluster.coordinator.store, finished)!;
+    expect(champion.target?.column).toBe('shrinkage_pct');
+    // The invented shrinkage follows the clay body, the peak, the hold, the water and the wall: far from constant.
+    expect(champion.test.regression!.rmse).toBeLessThan(0.5 * champion.test.regression!.baselineRmse);
   });
 });
