@@ -2,6 +2,7 @@
  * Writes the invented example data the example run files point at, from a fixed seed:
  *
  *   data/kiln-firings.csv        a pottery workshop's kiln log: one firing per row, outcome as label
+ *   data/kiln-shrinkage.csv      the same workshop's piece log: one fired piece per row, its shrinkage in % as the target
  *   data/glaze-crops/<class>/    16×16 PNG crops of glazed surfaces: glossy, pinholed, crawled
  *   data/shelf-heat-*-ubyte      IDX files of 8×8 thermal maps of a kiln shelf: even, hot-front, hot-back
  *
@@ -33,6 +34,30 @@ function kilnCsv(r: Random, rows: number): string {
     const heat = peak + hold * 0.8;
     const outcome = heat < lo ? 'underfired' : heat > hi + 25 ? 'bloated' : cooling > 200 && r.chance(0.85) ? 'crazed' : 'sound';
     lines.push(`F${String(i + 1).padStart(4, '0')},${kiln},${body},${peak},${ramp},${hold},${cooling},${humidity},${outcome}`);
+  }
+  return `${lines.join('\n')}\n`;
+}
+
+/**
+ * Fired pieces: shrinkage (wet to fired size, %) grows with the clay body's base shrinkage, how far
+ * the peak goes past the body's range start, the hold, the throwing water and thin walls; invented.
+ */
+function shrinkageCsv(r: Random, rows: number): string {
+  const bodies = { earthenware: [5.5, 1000], stoneware: [10.5, 1200], porcelain: [13, 1240] } as const;
+  const lines = ['piece_id,kiln,clay_body,wall_mm,water_pct,peak_c,hold_min,ramp_c_per_h,shrinkage_pct'];
+  for (let i = 0; i < rows; i++) {
+    const kiln = r.pick(['north', 'south', 'test-kiln']);
+    const body = r.pick(Object.keys(bodies) as Array<keyof typeof bodies>);
+    const [base, start] = bodies[body];
+    const wall = r.uniform(3, 12);
+    const water = r.uniform(18, 28);
+    const peak = Math.round(r.uniform(start - 20, start + 110) + (kiln === 'south' ? 10 : 0));
+    const hold = Math.round(r.uniform(0, 40));
+    const ramp = Math.round(r.uniform(60, 220));
+    const vitrified = Math.max(0, peak - start) / 100;
+    const shrink = base + 2.2 * vitrified * vitrified + 0.03 * hold + 0.18 * (water - 23) - 0.08 * (wall - 7) + 0.25 * r.normal();
+    const rampCell = r.chance(0.03) ? 'NA' : String(ramp);
+    lines.push(`P${String(i + 1).padStart(4, '0')},${kiln},${body},${wall.toFixed(1)},${water.toFixed(1)},${peak},${hold},${rampCell},${shrink.toFixed(2)}`);
   }
   return `${lines.join('\n')}\n`;
 }
@@ -99,4 +124,6 @@ for (let i = 0; i < 300; i++) {
 }
 await writeFile(join(out, 'shelf-heat-images-idx3-ubyte'), idx([0x00000803, 300, 8, 8], maps));
 await writeFile(join(out, 'shelf-heat-labels-idx1-ubyte'), idx([0x00000801, 300], labels));
+// Its own random stream, so the files above stay as they were.
+await writeFile(join(out, 'kiln-shrinkage.csv'), shrinkageCsv(createRandom('netbreeder example shrinkage v1'), 500));
 process.stdout.write(`wrote example data to ${out}\n`);

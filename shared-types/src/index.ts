@@ -22,6 +22,7 @@ export * from './messages/trust-status.js';
 export * from './messages/validators.js';
 export * from './dataset/labelled-samples.js';
 export * from './dataset/shard-codec.js';
+export * from './dataset/regression-metrics.js';
 export * from './messages/dashboard-responses.js';
 export * from './checkpoint/checkpoint-header.js';
 export * from './checkpoint/checkpoint-ref.js';

@@ -16,4 +16,22 @@ describe('example run files for one\'s own data', () => {
     expect(dataset.classNames).toEqual(classes);
     expect(preparation.warnings).toEqual([]);
   });
+
+  it('kiln-shrinkage-run.json loads as a regression table, its shrinkage standardised with the training split\'s scaling', async () => {
+    const config = await readRunConfigFile(join(examples, 'kiln-shrinkage-run.json'));
+    const { dataset, preparation } = await loadDataset(config);
+    // 5 numeric columns + kiln (3) + clay body (3) one-hot.
+    expect(dataset.inputShape).toEqual([11]);
+    expect(dataset.target!.column).toBe('shrinkage_pct');
+    expect(preparation.preprocessing.kind === 'table' && preparation.preprocessing.target).toEqual(dataset.target);
+    expect(dataset.train.targets!.length + dataset.val.targets!.length + dataset.test.targets!.length).toBe(500);
+    expect(preparation.warnings).toEqual([]);
+    expect(dataset.target!.loss).toBeUndefined();
+    // The Huber loss travels with the target's scaling, to the workers.
+    const huber = await loadDataset({ ...config, dataset: { ...config.dataset, regressionLoss: 'huber' } as typeof config.dataset });
+    expect(huber.dataset.target!.loss).toBe('huber');
+    // The same file without a task is refused with the suggestion, before anything is stored.
+    const { task: _task, ...untasked } = config.dataset as typeof config.dataset & { task?: string };
+    await expect(loadDataset({ ...config, dataset: untasked })).rejects.toThrow(/distinct numbers: to predict the number, set "task": "regression"/);
+  });
 });

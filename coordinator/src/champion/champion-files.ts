@@ -1,5 +1,5 @@
 import { readFileSync } from 'node:fs';
-import { analyzeGenome, canonicalGenome, decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { analyzeGenome, canonicalGenome, dataShapeOf, decodeShard, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { championReport } from './champion-report.js';
 import { championReportHtml } from './champion-report-html.js';
@@ -11,6 +11,7 @@ import { describeChoice, recordedChoice } from './champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison } from './reference-comparison.js';
+import { championTestRegression } from './regression-scores.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -22,6 +23,15 @@ function testLabelsOf(run: RunRecord): Int32Array {
     labelCache.set(run.dataset.testPath, labels);
   }
   return labels;
+}
+
+/** A regression champion's test targets and predictions, both in the target's units (for the report's plots); undefined for a classifier. */
+function regressionTestOf(store: RunStore, run: RunRecord): { actual: Float64Array; predicted: readonly number[] } | undefined {
+  const target = run.dataset.manifest.target;
+  const champion = store.getChampion(run.id);
+  if (!target || !champion) return undefined;
+  const standardized = decodeShard(readFileSync(run.dataset.testPath)).train.targets;
+  return standardized ? { actual: Float64Array.from(standardized, (v) => v * target.std + target.mean), predicted: champion.testPredictions } : undefined;
 }
 
 /** counts[true][predicted] over the test split. */
@@ -58,13 +68,17 @@ export function championSummary(store: RunStore, run: RunRecord) {
     flops: genome.flops,
     /** Median time to classify one sample alone, measured on the coordinator's CPU when it was scored. */
     latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null },
-    validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId },
+    /** Regression runs: the predicted column and its training-split scaling (then `accuracy` fields hold the search fitness, and `regression` the scores to show). */
+    target: run.dataset.manifest.target ?? null,
+    validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
     test: {
       accuracy: champion.testAccuracy,
       loss: champion.testLoss,
       samples: champion.testPredictions.length,
-      /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). */
-      confusion: confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses),
+      /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). Empty for regression. */
+      confusion: run.dataset.manifest.target ? [] : confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses),
+      /** Regression: RMSE, MAE, R² in the target's units and the RMSE of always predicting the training mean. */
+      regression: championTestRegression(store, run.id, champion.evaluationId).testRegression ?? null,
     },
     finalTraining: {
       evaluationId: champion.evaluationId,
@@ -132,7 +146,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
   const artifactsJson = store.getChampionArtifactsJson(run.id);
   if (!summary || !artifactsJson) return null;
   const artifacts = JSON.parse(artifactsJson) as ModelArtifactsMessage;
-  const analysis = analyzeGenome(summary.genome, { inputShape: run.dataset.manifest.inputShape, numClasses: run.dataset.manifest.numClasses });
+  const analysis = analyzeGenome(summary.genome, dataShapeOf(run.dataset.manifest));
   const modelJson = {
     format: 'layers-model',
     generatedBy: 'netbreeder',
@@ -149,7 +163,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['preprocessing.json', json(preprocessing)],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
-    ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : []))],
+    ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : [], regressionTestOf(store, run)))],
   ]);
   if (!preprocessing) files.delete('preprocessing.json');
   return files;

@@ -139,7 +139,7 @@ export class ChampionPhase {
   async recordResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
-    const score = await scoreChampion(result.model!, this.o.testSplit());
+    const score = await scoreChampion(result.model!, this.o.testSplit(), this.o.store.getRun(ev.runId)?.dataset.manifest.target);
     const isChampion = candidate.champion !== false;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
@@ -150,6 +150,7 @@ export class ChampionPhase {
         valAccuracy: candidate.valAccuracy,
         testAccuracy: score.accuracy,
         testLoss: score.loss,
+        ...(score.regression ? { testRegression: score.regression } : {}),
       };
       this.o.store.logEvent(ev.runId, 'champion-candidate-scored', {
         ...scored,
@@ -195,11 +196,13 @@ export class ChampionPhase {
       this.o.store.logEvent(run.id, 'ensemble-skipped', { reason: `only ${members.length} member(s) finished their final training; an ensemble needs two` });
       return;
     }
-    const score = await scoreEnsemble(members.map((m) => JSON.parse(m.artifactsJson)), this.o.testSplit(), run.dataset.manifest.numClasses);
+    const target = run.dataset.manifest.target;
+    const score = await scoreEnsemble(members.map((m) => JSON.parse(m.artifactsJson)), this.o.testSplit(), run.dataset.manifest.numClasses, target);
     this.o.store.logEvent(run.id, 'ensemble-scored', {
       testAccuracy: score.accuracy,
+      ...(score.regression ? { testRegression: score.regression } : {}),
       backend: score.backend,
-      averaging: 'mean of the members\' softmax probabilities',
+      averaging: target ? 'mean of the members\' predicted numbers' : 'mean of the members\' softmax probabilities',
       round,
       size: settings.size,
       diversityPenalty: settings.diversityPenalty,

@@ -5,9 +5,11 @@ import { championTrustHtml } from './champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 import { howToUseHtml } from './how-to-use.js';
 
+import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
+import { fourDigits } from './regression-scores.js';
+
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
-
 /**
  * The architecture as an SVG: one box per layer (with its output shape), laid out in columns by
  * depth from the input, arrows along every connection, so skip connections show as long edges.
@@ -22,7 +24,7 @@ export function architectureSvg(c: ChampionSummaryDocument, layers: NodeAnalysis
   const all = [
     { id: INPUT_ID, label: 'input', inputs: [] as string[] },
     ...nodes.map((n) => ({ id: n.id, label: n.kind, inputs: n.inputs })),
-    { id: 'head', label: `head: dense ${c.settings.dataset.numClasses} softmax`, inputs: [c.genome.output] },
+    { id: 'head', label: c.target ? 'head: dense 1 linear' : `head: dense ${c.settings.dataset.numClasses} softmax`, inputs: [c.genome.output] },
   ];
   depth.set('head', headDepth);
   const columns = new Map<number, string[]>();
@@ -58,7 +60,7 @@ export function architectureSvg(c: ChampionSummaryDocument, layers: NodeAnalysis
   );
   const boxes = all.map((n) => {
     const p = pos.get(n.id)!;
-    const shape = n.id === INPUT_ID ? c.settings.dataset.inputShape : n.id === 'head' ? [c.settings.dataset.numClasses] : shapes.get(n.id);
+    const shape = n.id === INPUT_ID ? c.settings.dataset.inputShape : n.id === 'head' ? [c.target ? 1 : c.settings.dataset.numClasses] : shapes.get(n.id);
     return `<g class="layer"><rect x="${p.x}" y="${p.y}" width="${W}" height="${H}" rx="6"/>
 <text x="${p.x + 8}" y="${p.y + 18}" class="kind">${esc(n.label)}</text>
 <text x="${p.x + 8}" y="${p.y + 34}">${esc(detail(n.id))}</text>
@@ -85,9 +87,9 @@ function curveSvg(c: ChampionSummaryDocument): string {
   const line = (f: (e: (typeof h)[number]) => number, scale: (v: number) => number) => h.map((e, i) => `${i ? 'L' : 'M'}${x(i).toFixed(1)},${scale(f(e)).toFixed(1)}`).join(' ');
   return `<svg xmlns="http://www.w3.org/2000/svg" width="${W}" height="${H}" role="img" aria-label="training curve">
 <line x1="40" y1="${H - 30}" x2="${W - 20}" y2="${H - 30}" class="axis"/><line x1="40" y1="10" x2="40" y2="${H - 30}" class="axis"/>
-<path d="${line((e) => e.trainLoss, y)}" class="loss"/><path d="${line((e) => e.trainAccuracy, ya)}" class="acc"/>
+<path d="${line((e) => e.trainLoss, y)}" class="loss"/>${c.target ? '' : `<path d="${line((e) => e.trainAccuracy, ya)}" class="acc"/>`}
 <text x="44" y="${H - 12}">epoch 1</text><text x="${W - 70}" y="${H - 12}">epoch ${h.length}</text>
-<text x="${W - 150}" y="22" class="loss-label">loss (max ${maxLoss.toFixed(3)})</text><text x="${W - 150}" y="38" class="acc-label">train accuracy (0–100%)</text>
+<text x="${W - 150}" y="22" class="loss-label">loss (max ${maxLoss.toFixed(3)})</text>${c.target ? '' : `<text x="${W - 150}" y="38" class="acc-label">train accuracy (0–100%)</text>`}
 </svg>`;
 }
 
@@ -96,8 +98,9 @@ function curveSvg(c: ChampionSummaryDocument): string {
  * architecture drawn, the scores, the confusion matrix, the final training curve, how the
  * champion was chosen and found, and the settings to reproduce it. Prints on A4.
  */
-export function championReportHtml(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
+export function championReportHtml(c: ChampionSummaryDocument, layers: NodeAnalysis[], regressionTest?: { actual: ArrayLike<number>; predicted: ArrayLike<number> }): string {
   const names = c.settings.dataset.classNames;
+  const reg = c.test.regression;
   const maxCell = Math.max(1, ...c.test.confusion.flat());
   const confusion = `<table class="confusion"><tr><th>true \\ predicted</th>${names.map((n) => `<th>${esc(n)}</th>`).join('')}</tr>
 ${c.test.confusion.map((row, i) => `<tr><th>${esc(names[i]!)}</th>${row.map((v, j) => `<td style="background: rgba(${i === j ? '31,120,110' : '176,80,40'}, ${(0.08 + 0.6 * (v / maxCell)).toFixed(2)})">${v}</td>`).join('')}</tr>`).join('\n')}</table>`;
@@ -112,14 +115,23 @@ table { border-collapse: collapse; margin: .5rem 0; } th, td { border: 1px solid
 svg text { font: 11px system-ui, sans-serif; fill: #1d2430; } svg .kind { font-weight: 700; } svg .shape { fill: #5b6675; }
 .layer rect { fill: #f3efe7; stroke: #b5542b; } .edge { stroke: #1f6f66; stroke-width: 1.4; } marker path { fill: #1f6f66; }
 .axis { stroke: #8a94a3; } .loss { fill: none; stroke: #b5542b; stroke-width: 2; } .acc { fill: none; stroke: #1f6f66; stroke-width: 2; }
-.loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
+.dot { fill: #1f6f66; opacity: .6; } .diag { stroke: #b5542b; stroke-dasharray: 4 3; } .bar { fill: #1f6f66; opacity: .75; } .loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
 @media print { body { margin: 0; max-width: none; } .diagram { overflow: visible; } h2 { break-after: avoid; } table, svg { break-inside: avoid; } }
 </style></head><body>
 <h1>Champion of run ${esc(c.runName)} <small>(${esc(c.runId)})</small></h1>
-<p class="big">Held-out test accuracy ${pct(c.test.accuracy)} on ${c.test.samples} samples never used in the search or its training.</p>
+${
+    reg
+      ? `<p class="big">Held-out test RMSE ${fourDigits(reg.rmse)} ${esc(c.target!.column)} on ${c.test.samples} rows never used in the search or its training; always predicting the training mean scores RMSE ${fourDigits(reg.baselineRmse)}.</p>`
+      : `<p class="big">Held-out test accuracy ${pct(c.test.accuracy)} on ${c.test.samples} samples never used in the search or its training.</p>`
+  }
 <table>${rows([
     ['architecture', esc(c.summary)],
-    ['validation accuracy (during search)', pct(c.validation.accuracy)],
+    ...((reg
+      ? [
+          ['test MAE / R²', `${fourDigits(reg.mae)} / ${reg.r2.toFixed(3)}`],
+          ['validation RMSE (during search)', c.validation.regression ? fourDigits(c.validation.regression.rmse) : 'n/a'],
+        ]
+      : [['validation accuracy (during search)', pct(c.validation.accuracy)]]) as Array<[string, string]>),
     ['parameters', c.paramCount.toLocaleString('en-US')],
     ['forward FLOPs per sample', c.flops.toLocaleString('en-US')],
     ['CPU latency per sample', c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median; ${esc(String(c.latency.backend))} backend, coordinator's CPU)`],
@@ -128,8 +140,13 @@ svg text { font: 11px system-ui, sans-serif; fill: #1d2430; } svg .kind { font-w
   ])}</table>
 <h2>Architecture</h2>
 <div class="diagram">${architectureSvg(c, layers)}</div>
-<h2>Test split: confusion matrix</h2>
-${confusion}
+${
+  reg
+    ? regressionTest
+      ? `<h2>Test split: predicted against actual, and residuals</h2>\n<div class="diagram">${predictedActualSvg(regressionTest.actual, regressionTest.predicted, c.target!.column)} ${residualHistogramSvg(regressionTest.actual, regressionTest.predicted)}</div>`
+      : ''
+    : `<h2>Test split: confusion matrix</h2>\n${confusion}`
+}
 <h2>Final training</h2>
 ${curveSvg(c)}
 <h2>How it was chosen</h2>
@@ -141,7 +158,7 @@ ${sectionHtml(ensembleLines(c))}
 <h2>Checkpoints and weight inheritance</h2>
 <p>Weight inheritance ${c.inheritance.weightInheritance ? 'on' : 'off'}. Finished search trainings: ${Object.entries(c.inheritance.byKind).filter(([, n]) => n > 0).map(([k, n]) => `${n} ${esc(k)}`).join(', ')}; ${c.inheritance.epochsReused} epoch(s) not trained again. The champion's search evaluation: ${esc(describeStart(c.inheritance.champion))}.</p>
 <h2>Feeding the model</h2>
-<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}. <code>preprocessing.json</code> says exactly how to prepare an input.</p>
+<p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. ${c.target ? `Output: one number, the standardised ${esc(c.target.column)}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)}.` : `Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}.`} <code>preprocessing.json</code> says exactly how to prepare an input.</p>
 ${howToUseHtml(c.ensemble !== null)}
 ${championTrustHtml(c.trust, esc)}<h2>Reproduce</h2>
 <p>Search ${esc(c.settings.config.search.algorithm)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>

@@ -4,11 +4,26 @@ import { inheritanceMarkdown } from './inheritance-summary.js';
 import { championTrustMarkdown } from './champion-trust.js';
 import { howToUseLines } from './how-to-use.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
+import { fourDigits } from './regression-scores.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 
+/** The score rows of a regression champion: errors in the target's units beside the predict-the-mean baseline. */
+function regressionRows(c: ChampionSummaryDocument): string[] {
+  const t = c.test.regression!;
+  const unit = c.target ? ` (${c.target.column})` : '';
+  return [
+    `| held-out test RMSE${unit} | ${fourDigits(t.rmse)} on ${c.test.samples} rows never seen in search or training |`,
+    `| always predicting the training mean (test RMSE) | ${fourDigits(t.baselineRmse)}: the baseline any regressor must beat |`,
+    `| held-out test MAE / R² | ${fourDigits(t.mae)} / ${t.r2.toFixed(3)} |`,
+    `| reference network (test RMSE) | ${c.reference.referenceTestRmse == null ? 'n/a' : fourDigits(c.reference.referenceTestRmse)} |`,
+    `| validation RMSE (during search) | ${c.validation.regression ? fourDigits(c.validation.regression.rmse) : 'n/a'} |`,
+  ];
+}
+
 /** A short Markdown report of a champion: what it is, how well it does, how it was found. */
 export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
+  const regression = c.test.regression !== null;
   const lines = [
     `# Champion of run ${c.runName} (${c.runId})`,
     '',
@@ -18,9 +33,13 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     `| measure | value |`,
     `|---|---|`,
-    `| held-out test accuracy | ${pct(c.test.accuracy)} on ${c.test.samples} samples never seen in search or training |`,
-    `| reference network (test) | ${c.reference.referenceTestAccuracy === null ? 'n/a' : pct(c.reference.referenceTestAccuracy)} |`,
-    `| validation accuracy (during search) | ${pct(c.validation.accuracy)} |`,
+    ...(regression
+      ? regressionRows(c)
+      : [
+          `| held-out test accuracy | ${pct(c.test.accuracy)} on ${c.test.samples} samples never seen in search or training |`,
+          `| reference network (test) | ${c.reference.referenceTestAccuracy === null ? 'n/a' : pct(c.reference.referenceTestAccuracy)} |`,
+          `| validation accuracy (during search) | ${pct(c.validation.accuracy)} |`,
+        ]),
     `| parameters | ${c.paramCount.toLocaleString('en-US')} |`,
     `| forward FLOPs per sample | ${c.flops.toLocaleString('en-US')} |`,
     `| CPU latency per sample | ${c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median, ${c.latency.backend} backend on the coordinator)`} |`,
@@ -33,24 +52,30 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '|---|---|---|---|---|',
     ...layers.map((n) => `| ${n.id} | ${n.kind} | ${n.outputShape.join('×')} | ${n.params} | ${n.flops} |`),
     '',
-    '## Test split: confusion matrix',
-    '',
-    'Rows are the true class, columns the predicted class.',
-    '',
-    `| true \\ predicted | ${c.settings.dataset.classNames.join(' | ')} |`,
-    `|---|${c.settings.dataset.classNames.map(() => '---').join('|')}|`,
-    ...c.test.confusion.map((row, i) => `| ${c.settings.dataset.classNames[i]} | ${row.join(' | ')} |`),
-    '',
+    ...(regression
+      ? []
+      : [
+          '## Test split: confusion matrix',
+          '',
+          'Rows are the true class, columns the predicted class.',
+          '',
+          `| true \\ predicted | ${c.settings.dataset.classNames.join(' | ')} |`,
+          `|---|${c.settings.dataset.classNames.map(() => '---').join('|')}|`,
+          ...c.test.confusion.map((row, i) => `| ${c.settings.dataset.classNames[i]} | ${row.join(' | ')} |`),
+          '',
+        ]),
     '## Final training curve',
     '',
-    '| epoch | train loss | train accuracy |',
-    '|---|---|---|',
-    ...c.trainingCurve.map((h) => `| ${h.epoch} | ${h.trainLoss.toFixed(4)} | ${pct(h.trainAccuracy)} |`),
+    ...(regression
+      ? ['| epoch | train loss (mean squared error, standardised target) |', '|---|---|', ...c.trainingCurve.map((h) => `| ${h.epoch} | ${h.trainLoss.toFixed(4)} |`)]
+      : ['| epoch | train loss | train accuracy |', '|---|---|---|', ...c.trainingCurve.map((h) => `| ${h.epoch} | ${h.trainLoss.toFixed(4)} | ${pct(h.trainAccuracy)} |`)]),
     '',
     '## Feeding the model',
     '',
     `Input shape [${c.settings.dataset.inputShape.join(', ')}] (after the batch axis); ${c.input}.`,
-    `Output: ${c.settings.dataset.numClasses} softmax probabilities, in the class order ${c.settings.dataset.classNames.map((n) => `\`${n}\``).join(', ')}.`,
+    c.target
+      ? `Output: one number, the standardised ${c.target.column}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)} to read it in ${c.target.column}'s units.`
+      : `Output: ${c.settings.dataset.numClasses} softmax probabilities, in the class order ${c.settings.dataset.classNames.map((n) => `\`${n}\``).join(', ')}.`,
     '',
     ...howToUseLines(c.ensemble !== null),
     '## Training genes',

@@ -6,6 +6,7 @@ import { preprocessingFileOf } from './preprocessing-file.js';
 export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|preprocessing\\.json|member-[0-9]{1,2}\\.(model\\.json|weights\\.bin))$';
 
 /** What the `ensemble-scored` event holds. */
+/** What the `ensemble-scored` event holds (regression runs: `testAccuracy` is the fitness 1 / (1 + standardised test RMSE), `testRegression` the scores to show). */
 export type EnsembleScore = RunEventDetail<'ensemble-scored'>;
 
 /** The names of the ensemble's files for members at these positions (`preprocessing.json` only for runs that recorded it). */
@@ -34,7 +35,9 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
     kind: 'netbreeder averaging ensemble',
     version: 1,
     runId: run.id,
-    how: 'Feed every member the same input, prepared as preprocessing.json says; average the members\' softmax outputs class by class; the predicted class is the one with the highest mean.',
+    how: m.target
+      ? `Feed every member the same input, prepared as preprocessing.json says; average the members' outputs; multiply the mean by ${m.target.std} and add ${m.target.mean} to read it as ${m.target.column}.`
+      : 'Feed every member the same input, prepared as preprocessing.json says; average the members\' softmax outputs class by class; the predicted class is the one with the highest mean.',
     inputShape: m.inputShape,
     classNames: m.classNames,
     selection: {
@@ -42,7 +45,7 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
       diversityPenalty: score.diversityPenalty ?? run.config.champion.ensemble?.diversityPenalty ?? null,
       rule: 'greedy: the most accurate genome first, then each time the highest validation accuracy minus diversityPenalty times its largest architecture similarity (multiset Jaccard of layer kinds and sizes) to a member already chosen',
     },
-    test: { accuracy: score.testAccuracy, samples: champion?.testPredictions.length ?? null, backend: score.backend },
+    test: { ...(score.testRegression ? { regression: score.testRegression } : { accuracy: score.testAccuracy }), samples: champion?.testPredictions.length ?? null, backend: score.backend },
     champion: champion ? { genomeHash: champion.genomeHash, testAccuracy: champion.testAccuracy } : null,
     members: members.map((mem) => {
       const g = store.getGenome(mem.genomeHash);

@@ -1,6 +1,7 @@
-import { genomeHash } from '@netbreeder/shared-types';
+import { genomeHash, type RegressionTestScores } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { runReference } from './reference-network.js';
+import { fourDigits } from './regression-scores.js';
 
 /** One of the best `champion.topK` genomes by validation evidence, as the champion phase considered it (the `champion-candidates` event's schema). */
 export type { ConsideredGenome } from '@netbreeder/shared-types';
@@ -40,14 +41,30 @@ export interface ReferenceComparison {
   referenceGenomeHash: string | null;
   championTestAccuracy: number | null;
   referenceTestAccuracy: number | null;
-  /** Champion minus reference, in percentage points of test accuracy. */
+  /** Champion minus reference, in percentage points of test accuracy (regression: null; see the RMSEs). */
   points: number | null;
+  /** Regression runs: the test RMSE of each, in the target's units. */
+  championTestRmse?: number | null;
+  referenceTestRmse?: number | null;
   /** True when the champion is the reference network itself. */
   championIsReference: boolean;
   line: string;
 }
 
 const pct = (v: number) => `${(v * 100).toFixed(2)}%`;
+
+type ScoredOnTest = { genomeHash: string; testAccuracy: number; testRegression?: RegressionTestScores };
+
+/** The plain line for a regression champion and reference, by test RMSE in the target's units (smaller is better). Pure. */
+export function regressionComparisonLine(champion: ScoredOnTest & { testRegression: RegressionTestScores }, reference: ScoredOnTest & { testRegression: RegressionTestScores }): string {
+  const c = champion.testRegression.rmse;
+  const r = reference.testRegression.rmse;
+  if (champion.genomeHash === reference.genomeHash) return `the search did not beat the reference network; it is exported as the champion (test RMSE ${fourDigits(r)})`;
+  const scores = `test RMSE ${fourDigits(c)} against ${fourDigits(r)}`;
+  if (c < r) return `the search's champion beats the reference network: ${((1 - c / r) * 100).toFixed(1)}% lower error (${scores})`;
+  if (c === r) return `the search's champion ties the reference network on the test split (test RMSE ${fourDigits(c)})`;
+  return `the champion, chosen on validation, has a ${((c / r - 1) * 100).toFixed(1)}% higher error than the reference network on the test split (${scores}); it stays the exported champion, since no choice is made on test scores`;
+}
 
 /** The plain line for a champion and a reference both scored once on the test split. Pure. */
 export function comparisonLine(champion: { genomeHash: string; testAccuracy: number }, reference: { genomeHash: string; testAccuracy: number }): string {
@@ -78,6 +95,21 @@ export function referenceComparison(store: RunStore, runId: string): ReferenceCo
   }
   if (!scored || !champion) {
     return { ...none, state: 'pending', referenceGenomeHash: planned.genomeHash, championTestAccuracy: champion?.testAccuracy ?? null, referenceTestAccuracy: scored?.testAccuracy ?? null, line: 'the reference network is compared with the champion once both finished their final training' };
+  }
+  const own = store.events(runId, 'champion-candidate-scored').map((e) => e.detail).find((d) => d.evaluationId === champion.evaluationId);
+  if (own?.testRegression && scored.testRegression) {
+    const mine = { ...own, testRegression: own.testRegression };
+    return {
+      state: 'scored',
+      referenceGenomeHash: scored.genomeHash,
+      championTestAccuracy: null,
+      referenceTestAccuracy: null,
+      points: null,
+      championTestRmse: own.testRegression.rmse,
+      referenceTestRmse: scored.testRegression.rmse,
+      championIsReference: champion.genomeHash === scored.genomeHash,
+      line: regressionComparisonLine(mine, { ...scored, testRegression: scored.testRegression }),
+    };
   }
   return {
     state: 'scored',

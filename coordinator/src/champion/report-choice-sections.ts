@@ -1,10 +1,14 @@
+import { rmseFromFitness } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
+import { fourDigits } from './regression-scores.js';
 
 /**
  * The report's sections on how the champion was chosen, how it was found (from the decision log)
  * and the ensemble, as Markdown lines; the HTML report renders the same lines.
  */
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
+/** A validation or test score as the report shows it: an accuracy, or for a regression run the RMSE in the target's units its fitness stands for. */
+const score = (c: ChampionSummaryDocument, v: number | null | undefined) => (v == null ? 'n/a' : c.target ? `RMSE ${fourDigits(rmseFromFitness(v) * c.target.std)}` : pct(v));
 
 /** The final trainings of the champion's round that competed to be champion (runs from before issue 20 trained several and kept the best on test). */
 const contenders = (c: ChampionSummaryDocument) => c.candidates.filter((k) => k.champion !== false);
@@ -19,7 +23,7 @@ export function choiceParagraph(c: ChampionSummaryDocument): string {
   if (c.choice.by === 'pick') return `${c.choice.sentence}${final}`;
   const k = c.considered.length;
   const among = k > 1 ? ` It leads the ${k} best distinct genomes by validation evidence (below).` : '';
-  return `${c.choice.sentence}${among} The choice read validation scores only: each genome's results at its largest training budget, their mean validation accuracy, then fewer parameters.${final}`;
+  return `${c.choice.sentence}${among} The choice read validation scores only: each genome's results at its largest training budget, their mean validation ${c.target ? 'RMSE' : 'accuracy'}, then fewer parameters.${final}`;
 }
 
 export function choiceTable(c: ChampionSummaryDocument): string[] {
@@ -27,14 +31,14 @@ export function choiceTable(c: ChampionSummaryDocument): string[] {
     return [
       '| genome | validation (search) | test |',
       '|---|---|---|',
-      ...contenders(c).map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${pct(k.testAccuracy)} |`),
+      ...contenders(c).map((k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${score(c, k.valAccuracy)} | ${score(c, k.testAccuracy)} |`),
     ];
   }
   return [
     '| genome | validation (mean of results at its largest budget) | results | budget | parameters |',
     '|---|---|---|---|---|',
     ...c.considered.map(
-      (k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${pct(k.valAccuracy)} | ${k.results} | ${k.budgetEpochs} epochs | ${k.params.toLocaleString('en-US')} |`,
+      (k) => `| ${k.genomeHash === c.genomeHash ? '**champion** ' : ''}\`${k.genomeHash.slice(0, 12)}\` ${k.summary} | ${score(c, k.valAccuracy)} | ${k.results} | ${k.budgetEpochs} epochs | ${k.params.toLocaleString('en-US')} |`,
     ),
   ];
 }
@@ -48,10 +52,9 @@ export function referenceLines(c: ChampionSummaryDocument): string[] {
     ...lines,
     'The reference network is the one a careful practitioner writes by hand for this kind of data (see docs/reference-networks.md); it was trained in the search like any genome, then again exactly as the champion (train + validation, length from its own learning curve, the seed of its search result) and scored once on the held-out test split.',
     '',
-    '| | held-out test accuracy |',
-    '|---|---|',
-    `| champion | ${pct(r.championTestAccuracy)} |`,
-    `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${pct(r.referenceTestAccuracy)} |`,
+    ...(c.target
+      ? ['| | held-out test RMSE |', '|---|---|', `| champion | ${r.championTestRmse == null ? 'n/a' : fourDigits(r.championTestRmse)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${r.referenceTestRmse == null ? 'n/a' : fourDigits(r.referenceTestRmse)} |`]
+      : ['| | held-out test accuracy |', '|---|---|', `| champion | ${pct(r.championTestAccuracy)} |`, `| reference network \`${r.referenceGenomeHash!.slice(0, 12)}\` | ${pct(r.referenceTestAccuracy)} |`]),
     '',
   ];
 }
@@ -74,16 +77,16 @@ export function ensembleLines(c: ChampionSummaryDocument): string[] {
   return [
     '## Averaging ensemble',
     '',
-    `${e.members.length} genomes chosen for accuracy and for differing from each other (the most accurate first, then each time the best validation accuracy minus a penalty for architecture similarity to a member already chosen), each trained again like a champion candidate; their softmax outputs are averaged (files in \`ensemble/\`, with \`ensemble.json\` saying how).`,
+    `${e.members.length} genomes chosen for ${c.target ? 'low validation error' : 'accuracy'} and for differing from each other (the best first, then each time the best validation ${c.target ? 'fitness' : 'accuracy'} minus a penalty for architecture similarity to a member already chosen), each trained again like a champion candidate; their ${c.target ? 'predicted numbers' : 'softmax outputs'} are averaged (files in \`ensemble/\`, with \`ensemble.json\` saying how).`,
     '',
-    '| | held-out test accuracy |',
+    `| | held-out test ${c.target ? 'RMSE' : 'accuracy'} |`,
     '|---|---|',
-    `| ensemble of ${e.members.length} | ${pct(e.testAccuracy)} |`,
-    `| single champion | ${pct(e.championTestAccuracy)} |`,
+    `| ensemble of ${e.members.length} | ${score(c, e.testAccuracy)} |`,
+    `| single champion | ${score(c, e.championTestAccuracy)} |`,
     '',
     '| member | genome | similarity to earlier members | test alone |',
     '|---|---|---|---|',
-    ...e.members.map((m) => `| ${m.position + 1} | \`${m.genomeHash.slice(0, 12)}\` ${m.summary} | ${m.similarity == null ? 'n/a' : m.similarity.toFixed(2)} | ${pct(m.testAccuracy)} |`),
+    ...e.members.map((m) => `| ${m.position + 1} | \`${m.genomeHash.slice(0, 12)}\` ${m.summary} | ${m.similarity == null ? 'n/a' : m.similarity.toFixed(2)} | ${score(c, m.testAccuracy)} |`),
     '',
   ];
 }

@@ -1,7 +1,8 @@
 import * as tf from '@tensorflow/tfjs';
-import type { LabelledSamples, ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { regressionFitness, type LabelledSamples, type ModelArtifactsMessage, type RegressionTestScores, type TargetScaling } from '@netbreeder/shared-types';
 import { initBackend, loadModelFromMessage } from '@netbreeder/worker';
 import { accuracyOf, averagePredictions } from './ensemble-average.js';
+import { regressionTestScores } from './score-champion.js';
 
 /** Softmax probabilities of one trained model on every sample, [samples × classes] row by row, in batches of 256. */
 async function probabilitiesOf(message: ModelArtifactsMessage, samples: LabelledSamples): Promise<Float32Array> {
@@ -24,12 +25,25 @@ async function probabilitiesOf(message: ModelArtifactsMessage, samples: Labelled
 
 /**
  * Scores an averaging ensemble on the held-out test split (on the coordinator, which alone has
- * it): each member's softmax probabilities, their mean, its most probable class.
+ * it): each member's softmax probabilities, their mean, its most probable class. For a regression
+ * run (`target`), the mean of the members' predicted numbers, scored like a regression champion
+ * (`accuracy` then holds the fitness 1 / (1 + standardised RMSE)).
  */
-export async function scoreEnsemble(members: readonly ModelArtifactsMessage[], test: LabelledSamples, numClasses: number): Promise<{ accuracy: number; predictions: Int32Array; backend: string }> {
+export async function scoreEnsemble(
+  members: readonly ModelArtifactsMessage[],
+  test: LabelledSamples,
+  numClasses: number,
+  target?: TargetScaling,
+): Promise<{ accuracy: number; predictions: Int32Array; backend: string; regression?: RegressionTestScores }> {
   const { backend } = await initBackend();
   const probabilities: Float32Array[] = [];
   for (const m of members) probabilities.push(await probabilitiesOf(m, test));
+  if (target) {
+    const mean = new Float32Array(test.count);
+    for (const p of probabilities) for (let i = 0; i < test.count; i++) mean[i]! += p[i]! / probabilities.length;
+    const regression = regressionTestScores(test.targets!, mean, target);
+    return { accuracy: regressionFitness(regression.rmse / target.std), predictions: new Int32Array(0), backend, regression };
+  }
   const { predictions } = averagePredictions(probabilities, numClasses);
   return { accuracy: accuracyOf(predictions, test.labels), predictions, backend };
 }

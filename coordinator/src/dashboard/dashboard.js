@@ -77,7 +77,9 @@
     text($('tile-done-note'), `of ${run.maxEvaluations} planned${e.failed ? ` · ${e.failed} failed` : ''}`);
     text($('tile-flight'), String(e.running + e.queued));
     text($('tile-flight-note'), `${e.running} training · ${e.queued} queued`);
-    text($('tile-best'), s.best ? pct(s.best.valAccuracy) : '–');
+    // A regression run shows errors in the target's units, never its fitness as an accuracy.
+    const rmse = (v) => `RMSE ${Number(v.toPrecision(4))}`;
+    text($('tile-best'), s.best ? (s.best.valRegression ? rmse(s.best.valRegression.rmse) : pct(s.best.valAccuracy)) : '–');
     text($('tile-best-note'), s.best ? `${compact(s.best.paramCount)} params · ${compact(s.best.flops)} FLOPs` : 'no result yet');
     text($('tile-rate'), s.throughput.perMinuteLastMinute.toFixed(0));
     text($('tile-rate-note'), `last minute · ${s.throughput.perMinuteSinceStart.toFixed(1)} since start`);
@@ -85,8 +87,9 @@
     text($('tile-workers'), String(alive.length));
     const training = alive.filter((w) => w.state === 'training');
     text($('tile-workers-note'), `${s.workers.length} seen · ${training.length ? `${compact(training.reduce((t, w) => t + w.samplesPerSecond, 0))} samples/s now` : 'none training'}`);
-    text($('tile-champion'), s.champion ? pct(s.champion.testAccuracy) : '–');
-    text($('tile-champion-note'), s.champion ? `validation ${pct(s.champion.valAccuracy)}` : run.state === 'training-champion' ? 'training now…' : 'after the search');
+    const reg = s.champion?.testRegression;
+    text($('tile-champion'), s.champion ? (reg ? rmse(reg.rmse) : pct(s.champion.testAccuracy)) : '–');
+    text($('tile-champion-note'), s.champion ? (reg ? `test · predicting the mean: ${rmse(reg.baselineRmse)}` : `validation ${pct(s.champion.valAccuracy)}`) : run.state === 'training-champion' ? 'training now…' : 'after the search');
     showReference(s.reference);
     showWorkers(s.workers);
     showTrust(s);

@@ -19,6 +19,8 @@
  * | `NB_DATASET_MIXED_IMAGE_SIZES` | images differ in size and the run file sets no `imageSize` | set `dataset.imageSize` so every image is resized |
  * | `NB_DATASET_BAD_IDX` | an IDX file has a wrong magic number, an unknown type or a length that does not match its header | use the IDX file itself (not an archive of it), whole |
  * | `NB_DATASET_COUNT_MISMATCH` | the IDX sample and label files hold different counts | pair the images file with its own labels file |
+ * | `NB_DATASET_NUMERIC_LABEL` | the run file names no `task` and the label column holds many distinct numbers: a number to predict, not classes | set `dataset.task` to `"regression"` (or `"classification"` if the numbers are class codes) |
+ * | `NB_DATASET_CONSTANT_TARGET` | a regression target has a single value (or too few rows to split): there is nothing to learn | point `labelColumn` at a column whose values vary |
  * | `NB_DATASET_TOO_LARGE` | the training shard would exceed the run's `maxDatasetMb` | use fewer or smaller samples (a smaller `imageSize`), or raise `maxDatasetMb` if every worker's `--memory-cap` allows |
  */
 export type DatasetErrorCode =
@@ -38,6 +40,8 @@ export type DatasetErrorCode =
   | 'NB_DATASET_MIXED_IMAGE_SIZES'
   | 'NB_DATASET_BAD_IDX'
   | 'NB_DATASET_COUNT_MISMATCH'
+  | 'NB_DATASET_NUMERIC_LABEL'
+  | 'NB_DATASET_CONSTANT_TARGET'
   | 'NB_DATASET_TOO_LARGE';
 
 /** Where in the user's input the problem is; every part the error can name. */

@@ -48,6 +48,8 @@ export interface TablePreprocessing {
   droppedRows: number;
   standardized: boolean;
   ignoredColumns: string[];
+  /** Regression only: the network predicts `(target - mean) / std`; multiply by `std` and add `mean` to read it. */
+  target?: { column: string; mean: number; std: number };
 }
 
 export interface ImagePreprocessing {
@@ -91,7 +93,8 @@ export function describePreprocessing(p: DatasetPreprocessing): string {
             : `${c.name}: as is`
           : `${c.name}: one-hot over [${c.categories.join(', ')}]`,
       );
-      return `CSV row → ${p.featureCount} values in this order: ${parts.join('; ')}; missing numeric → training mean, unseen or missing category → all zeros`;
+      const output = p.target ? `; output × ${round(p.target.std)} + ${round(p.target.mean)} = ${p.target.column}` : '';
+      return `CSV row → ${p.featureCount} values in this order: ${parts.join('; ')}; missing numeric → training mean, unseen or missing category → all zeros${output}`;
     }
     case 'images':
       return `image → ${p.width}×${p.height}, ${p.channels === 1 ? 'grayscale (BT.601 luma)' : 'RGB'}, resize ${p.resize}, pixel / 255, shape [${p.height}, ${p.width}, ${p.channels}]`;

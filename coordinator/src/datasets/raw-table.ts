@@ -24,13 +24,15 @@ export interface RawTable {
   rowCount: number;
   /** Line of the file each row starts on (for messages). */
   lines: Int32Array;
-  /** Class index of each row, into `classNames`. */
+  /** Class index of each row, into `classNames` (regression: its target quantile bin). */
   labels: Int32Array;
-  /** Distinct labels, sorted (numbers by value, then text). */
+  /** Distinct labels, sorted (numbers by value, then text); regression: the quantile bins' names. */
   classNames: string[];
+  /** Regression only: the target of each row, in its own units. */
+  targets?: Float64Array;
   /** Feature columns in header order. */
   columns: RawColumn[];
-  /** Rows left out for a missing feature (under `missing: "drop-row"`). */
+  /** Rows left out for a missing feature or target (under `missing: "drop-row"`). */
   droppedRows: number;
   ignoredColumns: string[];
 }

@@ -1,4 +1,5 @@
-import type { LabelledSamples, PreparedDataset } from '@netbreeder/shared-types';
+import type { LabelledSamples, PreparedDataset, TargetScaling } from '@netbreeder/shared-types';
+import { DatasetError } from './dataset-error.js';
 import type { ColumnEncoding, TablePreprocessing } from './preprocessing.js';
 import type { RawColumn, RawTable } from './raw-table.js';
 import { checkShardSize } from './shard-size.js';
@@ -29,11 +30,12 @@ export interface EncodedTable {
 const collator = new Intl.Collator('en', { numeric: true });
 
 /**
- * Splits a table's rows three ways (stratified by class, seeded) and only then fits the encoding
+ * Splits a table's rows three ways (stratified by class, or by target quantile bin for a
+ * regression table, seeded) and only then fits the encoding
  * on the training rows: numeric columns' mean and standard deviation, categorical columns' list of
  * categories. The same encoding is applied to all three splits, so nothing from validation or test
  * leaks into it; a category seen only outside training encodes as all zeros, like a missing one.
- * Pure.
+ * A regression target is standardised with its training mean and standard deviation. Pure.
  */
 export function encodeTable(table: RawTable, options: TableEncodingOptions): EncodedTable {
   const split = stratifiedSplitIndices(table.labels, table.classNames, options.fractions, options.seed);
@@ -47,7 +49,11 @@ export function encodeTable(table: RawTable, options: TableEncodingOptions): Enc
   });
   const featureCount = offset;
   checkShardSize(split.train.length + split.val.length, Math.max(1, featureCount), options.maxDatasetMb, table.file);
-  const encode = (indices: Int32Array): LabelledSamples => encodeRows(table, encodings, featureCount, options.standardize, indices);
+  const target = table.targets ? fitTargetScaling(table.targets, split.train, table.labelColumn) : undefined;
+  const encode = (indices: Int32Array): LabelledSamples => {
+    const samples = encodeRows(table, encodings, featureCount, options.standardize, indices);
+    return target ? { ...samples, targets: standardizeTargets(table.targets!, indices, target) } : samples;
+  };
   const preprocessing: TablePreprocessing = {
     kind: 'table',
     file: table.file,
@@ -59,6 +65,7 @@ export function encodeTable(table: RawTable, options: TableEncodingOptions): Enc
     droppedRows: table.droppedRows,
     standardized: options.standardize,
     ignoredColumns: table.ignoredColumns,
+    ...(target ? { target } : {}),
   };
   return {
     dataset: {
@@ -67,12 +74,35 @@ export function encodeTable(table: RawTable, options: TableEncodingOptions): Enc
       train: encode(split.train),
       val: encode(split.val),
       test: encode(split.test),
+      ...(target ? { target } : {}),
     },
     preprocessing,
     split,
     constantColumns,
   };
 }
+
+/** The training rows' mean and (population) standard deviation of a regression target; a constant training target is refused. */
+export function fitTargetScaling(targets: Float64Array, train: Int32Array, column: string): TargetScaling {
+  let sum = 0;
+  for (const i of train) sum += targets[i]!;
+  const mean = sum / train.length;
+  let squares = 0;
+  for (const i of train) squares += (targets[i]! - mean) ** 2;
+  const std = Math.sqrt(squares / train.length);
+  if (!(std > 0)) {
+    throw new DatasetError('NB_DATASET_CONSTANT_TARGET', `the target column "${column}" has the single value ${mean} in every training row; there is nothing to learn: use a column whose values vary`, { field: column });
+  }
+  return { column, mean, std };
+}
+
+/** `(value - mean) / std` of the rows at `indices`. */
+export function standardizeTargets(targets: Float64Array, indices: Int32Array, scaling: TargetScaling): Float32Array {
+  return Float32Array.from(indices, (i) => (targets[i]! - scaling.mean) / scaling.std);
+}
+
+/** A standardised target back in the target's own units. */
+export const unstandardizeTarget = (value: number, scaling: TargetScaling): number => value * scaling.std + scaling.mean;
 
 function fitColumn(col: RawColumn, train: Int32Array, offset: number, standardize: boolean): { encoding: ColumnEncoding; constant: boolean } {
   if (col.kind === 'numeric') {

@@ -31,7 +31,8 @@ const EVALUATION_STATES = ['queued', 'running', 'done', 'failed'] as const;
  * | netbreeder_queue_jobs | gauge | state | BullMQ jobs by state (waiting, prioritized, active, completed, failed, delayed) |
  * | netbreeder_workers_alive | gauge | | workers with a recent heartbeat that have not stopped |
  * | netbreeder_workers_known | gauge | | workers the store has ever heard from |
- * | netbreeder_best_validation_accuracy | gauge | run | best validation accuracy of the run's search so far |
+ * | netbreeder_best_validation_accuracy | gauge | run | best validation accuracy of the run's search so far (classification runs) |
+ * | netbreeder_best_validation_rmse | gauge | run | regression runs: validation RMSE of the best result so far, in the target's units |
  * | netbreeder_reissues_total | counter | run | failed attempts given to a new evaluation ('reissued' events) |
  * | netbreeder_rejected_inputs_total | counter | kind | results (`result`) and HTTP requests (`request`) refused, over the whole store |
  */
@@ -113,7 +114,17 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     { name: 'netbreeder_best_validation_accuracy', help: "Best validation accuracy of the run's search so far, among the results that count (as /status).", labelNames: ['run'] },
     (g, run) => {
       const best = manager.verifier.bestResult(run.id);
-      if (best?.valAccuracy != null) g.set({ run: run.id }, best.valAccuracy);
+      if (best?.valAccuracy != null && !run.dataset.manifest.target) g.set({ run: run.id }, best.valAccuracy);
+    },
+  );
+
+  runGauge(
+    registers,
+    currentRun,
+    { name: 'netbreeder_best_validation_rmse', help: "Regression runs: validation RMSE, in the target's units, of the best result of the run's search so far (as /status).", labelNames: ['run'] },
+    (g, run) => {
+      const rmse = manager.verifier.bestResult(run.id)?.result?.valRegression?.rmse;
+      if (rmse != null) g.set({ run: run.id }, rmse);
     },
   );
 

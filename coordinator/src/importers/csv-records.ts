@@ -1,5 +1,7 @@
 import { DatasetError } from '../datasets/dataset-error.js';
 
+export { NUMBER_CELL } from '../datasets/number-cell.js';
+
 /**
  * Splits CSV text into records (RFC 4180): fields separated by `delimiter`, records by LF or CRLF,
  * fields in double quotes may hold delimiters, line breaks and doubled quotes (`""`). A leading

@@ -1,18 +1,17 @@
 import type { CsvSource } from '@netbreeder/shared-types';
 import { DatasetError } from '../datasets/dataset-error.js';
-import { forEachCsvRecord } from './csv-records.js';
+import { forEachCsvRecord, NUMBER_CELL } from './csv-records.js';
 import type { RawColumn, RawTable } from '../datasets/raw-table.js';
+import { checkLabelTask, checkTargetCell, quantileBins } from '../datasets/regression-target.js';
 
 export type { RawColumn, RawNumericColumn, RawCategoricalColumn, RawTable } from '../datasets/raw-table.js';
 
 /** The CSV settings {@link parseCsvTable} needs, as the run file's `csv` source gives them (defaults filled in). */
-export type CsvTableOptions = Pick<CsvSource, 'labelColumn' | 'delimiter' | 'categoricalColumns' | 'ignoreColumns' | 'missingValues' | 'missing'>;
+export type CsvTableOptions = Pick<CsvSource, 'labelColumn' | 'delimiter' | 'categoricalColumns' | 'ignoreColumns' | 'missingValues' | 'missing' | 'task'>;
 
 /** Share of numeric cells above which, under `categoricalColumns: "auto"`, a column is taken as numeric with typos. */
 export const AUTO_NUMERIC_SHARE = 0.95;
 
-/** A cell the CSV importer reads as a number (after trimming spaces). */
-export const NUMERIC_CELL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 const collator = new Intl.Collator('en', { numeric: true });
 
 interface ColumnStats {
@@ -37,6 +36,7 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
   let labelIndex = -1;
   const ignored = new Set(options.ignoreColumns);
   const labelCounts = new Map<string, number>();
+  const regression = options.task === 'regression';
 
   forEachCsvRecord(text, options.delimiter, file, (fields, line) => {
     if (!header) {
@@ -58,7 +58,10 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
     for (let c = 0; c < fields.length; c++) {
       const cell = fields[c]!.trim();
       if (c === labelIndex) {
-        if (missingTokens.has(cell)) {
+        if (regression) {
+          checkTargetCell(cell, missingTokens.has(cell), line, file, options);
+          if (missingTokens.has(cell)) continue;
+        } else if (missingTokens.has(cell)) {
           throw new DatasetError('NB_DATASET_MISSING_VALUE', `${file}: line ${line}: the label column "${options.labelColumn}" is empty or missing ("${cell}"); every row needs a class`, { file, line, field: options.labelColumn });
         }
         labelCounts.set(cell, (labelCounts.get(cell) ?? 0) + 1);
@@ -68,7 +71,7 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
       if (missingTokens.has(cell)) {
         s.missing++;
         if (!s.firstMissingLine) s.firstMissingLine = line;
-      } else if (NUMERIC_CELL.test(cell)) s.numbers++;
+      } else if (NUMBER_CELL.test(cell)) s.numbers++;
       else {
         s.others++;
         if (!s.firstOther) s.firstOther = { line, text: cell };
@@ -80,6 +83,7 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
   const names: string[] = header;
   if (rows === 0) throw new DatasetError('NB_DATASET_EMPTY', `${file} has a header but no data rows`, { file });
 
+  checkLabelTask([...labelCounts.keys()], file, options);
   const kinds = names.map((name, c) => (c === labelIndex || ignored.has(name) ? null : columnKind(name, stats[c]!, file, options)));
   if (options.missing === 'error') {
     const first = names
@@ -111,6 +115,7 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
   const dictionaries = columnOf.map((col) => (col?.kind === 'categorical' ? new Map<string, number>() : null));
   const lines = new Int32Array(rows);
   const labels = new Int32Array(rows);
+  const targets = regression ? new Float64Array(rows) : null;
   const dropRows = options.missing === 'drop-row';
   let kept = 0;
   let first = true;
@@ -120,12 +125,13 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
       return;
     }
     if (dropRows) {
-      for (let c = 0; c < fields.length; c++) if (columnOf[c] && missingTokens.has(fields[c]!.trim())) return;
+      for (let c = 0; c < fields.length; c++) if ((columnOf[c] || c === labelIndex) && missingTokens.has(fields[c]!.trim())) return;
     }
     for (let c = 0; c < fields.length; c++) {
       const cell = fields[c]!.trim();
       if (c === labelIndex) {
-        labels[kept] = classIndex.get(cell)!;
+        if (targets) targets[kept] = Number(cell);
+        else labels[kept] = classIndex.get(cell)!;
         continue;
       }
       const col = columnOf[c];
@@ -154,6 +160,11 @@ export function parseCsvTable(text: string, file: string, options: CsvTableOptio
     else col.codes = trim(col.codes);
   }
   if (kept === 0) throw new DatasetError('NB_DATASET_EMPTY', `${file}: every one of its ${rows} rows has a missing feature and missing: "drop-row" dropped them all`, { file });
+  if (targets) {
+    const keptTargets = trim(targets);
+    const bins = quantileBins(keptTargets, file, options.labelColumn);
+    return { file, labelColumn: options.labelColumn, rowCount: kept, lines: trim(lines), labels: bins.labels, classNames: bins.names, targets: keptTargets, columns, droppedRows: rows - kept, ignoredColumns: options.ignoreColumns };
+  }
   const keptLabels = trim(labels);
   // Dropping rows may have removed every row of a class.
   const present = new Set(keptLabels);

@@ -90,7 +90,9 @@ async function importSource(source: DatasetSource, settings: DatasetRunSettings)
       text = '';
       checkClasses(table.classNames, `${source.path}: label column "${source.labelColumn}"`, source.path);
       const encoded = encodeTable(table, { fractions, seed, standardize: source.standardize, maxDatasetMb, missing: source.missing, missingValues: source.missingValues });
-      return { dataset: encoded.dataset, preprocessing: encoded.preprocessing, constantColumns: encoded.constantColumns };
+      const { target } = encoded.dataset;
+      const dataset = target && source.regressionLoss === 'huber' ? { ...encoded.dataset, target: { ...target, loss: 'huber' as const } } : encoded.dataset;
+      return { dataset, preprocessing: encoded.preprocessing, constantColumns: encoded.constantColumns };
     }
     case 'image-folder': {
       const listing = await listImageFolder(source.path);

@@ -1,7 +1,7 @@
 import type { TableSteps } from '@netbreeder/shared-types';
 import type { RawColumn } from '../datasets/raw-table.js';
 import { encodeColumns } from '../datasets/table-encoding.js';
-import { NUMERIC_CELL } from '../importers/csv-table.js';
+import { NUMBER_CELL } from '../importers/csv-records.js';
 import { PredictError } from './predict-error.js';
 
 /** Turns CSV records of new data (fields in `header` order) into model input, `featureCount` values per record. */
@@ -39,7 +39,7 @@ export function tableRowsEncoder(steps: TableSteps, header: readonly string[], f
         for (let k = 0; k < count; k++) {
           const cell = records[k]![at]!.trim();
           if (tokens.has(cell)) values[k] = Number.NaN;
-          else if (NUMERIC_CELL.test(cell)) values[k] = Number(cell);
+          else if (NUMBER_CELL.test(cell)) values[k] = Number(cell);
           else {
             throw new PredictError(
               'NB_PREDICT_BAD_CELL',

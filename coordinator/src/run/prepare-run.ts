@@ -15,7 +15,8 @@ export interface PreparedRun {
  */
 export async function prepareRun(config: RunConfig, log: Logger): Promise<PreparedRun> {
   const loaded = await loadDataset(config, { log });
-  const data = { inputShape: loaded.dataset.inputShape, numClasses: loaded.dataset.classNames.length };
+  const prepared = loaded.dataset;
+  const data = { inputShape: prepared.inputShape, numClasses: prepared.classNames.length, ...(prepared.target ? { target: prepared.target } : {}) };
   const issues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), data);
   if (issues.length) throw new ValidationError('run configuration', issues.map((message) => ({ path: '/searchSpace', message })));
   return { config, loaded };

@@ -1,4 +1,4 @@
-import { EVALUATION_JOB_VERSION, analyzeGenome, createRandom, describeGenome, type DataShape, type EvaluationJob, type GenomeAnalysis } from '@netbreeder/shared-types';
+import { EVALUATION_JOB_VERSION, analyzeGenome, createRandom, dataShapeOf, describeGenome, headUnits, type DataShape, type EvaluationJob, type GenomeAnalysis } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import type { Proposal, SearchAlgorithm } from '../search/index.js';
 import type { RunRecord, RunStore } from '../store/run-store.js';
@@ -41,7 +41,7 @@ export function recordProposal(store: RunStore, run: RunRecord, proposal: Propos
     genome: proposal.genome,
     params: analysis.params,
     flops: analysis.flops,
-    summary: describeGenome(proposal.genome, run.dataset.manifest.numClasses),
+    summary: describeGenome(proposal.genome, headUnits(dataShapeOf(run.dataset.manifest))),
   });
   store.addEvaluation(job, seq, now, true);
   store.addSearchStep(proposalStep(run.id, step, job.evaluationId, proposal, now));

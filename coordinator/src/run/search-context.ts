@@ -1,4 +1,4 @@
-import { defaultSearchSpace } from '@netbreeder/shared-types';
+import { dataShapeOf, defaultSearchSpace } from '@netbreeder/shared-types';
 import type { SearchContext } from '../search/index.js';
 import { runReference, type RunLike } from '../champion/reference-network.js';
 
@@ -8,7 +8,7 @@ export function searchContextOf(run: RunLike): SearchContext {
   const reference = runReference(run);
   return {
     space: run.config.searchSpace ?? defaultSearchSpace(),
-    data: { inputShape: m.inputShape, numClasses: m.numClasses },
+    data: dataShapeOf(m),
     seed: run.seed,
     ...(reference?.ok ? { reference: { genome: reference.genome, description: reference.description, adjustments: reference.adjustments } } : {}),
   };

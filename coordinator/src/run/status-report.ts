@@ -2,6 +2,7 @@ import type { StatusResponse } from '@netbreeder/shared-types';
 import type { RunManager } from './run-manager.js';
 import { trustStatus } from '../trust/trust-status.js';
 import { referenceComparison } from '../champion/reference-comparison.js';
+import { championTestRegression } from '../champion/regression-scores.js';
 
 const iso = (ms: number) => new Date(ms).toISOString();
 
@@ -39,6 +40,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
           maxEvaluations: run.config.budget.maxEvaluations,
           maxMinutes: run.config.budget.maxMinutes,
           elapsedSeconds: (end - start) / 1000,
+          ...(run.dataset.manifest.target ? { target: run.dataset.manifest.target.column } : {}),
         }
       : null,
     evaluations: counts,
@@ -66,6 +68,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
           evaluationId: best.id,
           valAccuracy: best.valAccuracy!,
           valLoss: best.result?.valLoss ?? 0,
+          ...(best.result?.valRegression ? { valRegression: best.result.valRegression } : {}),
           paramCount: best.params,
           flops: best.flops,
           summary: best.summary,
@@ -80,6 +83,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
             valAccuracy: champion.valAccuracy,
             testAccuracy: champion.testAccuracy,
             testLoss: champion.testLoss,
+            ...championTestRegression(store, run!.id, champion.evaluationId),
             paramCount: championGenome.params,
             flops: championGenome.flops,
             summary: championGenome.summary,

@@ -50,6 +50,7 @@ export async function storeDataset(dataset: PreparedDataset, dataDir: string, pr
     classNames: dataset.classNames,
     trainCount: dataset.train.count,
     valCount: dataset.val.count,
+    ...(dataset.target ? { target: dataset.target } : {}),
   };
   return preparation ? { manifest, shardPath, testPath, preparation } : { manifest, shardPath, testPath };
 }

@@ -3,6 +3,8 @@ export interface LabelledSamples {
   features: Float32Array;
   labels: Int32Array;
   count: number;
+  /** Regression only: the standardised target of each sample (then `labels` are only its quantile bin). */
+  targets?: Float32Array;
 }
 
 /** A dataset ready to train on, split three ways. The test split never leaves the coordinator. */
@@ -12,6 +14,8 @@ export interface PreparedDataset {
   train: LabelledSamples;
   val: LabelledSamples;
   test: LabelledSamples;
+  /** Regression only: the target column and its training-split scaling. */
+  target?: { column: string; mean: number; std: number; loss?: 'huber' };
 }
 
 export const sampleSize = (inputShape: readonly number[]): number => inputShape.reduce((a, b) => a * b, 1);
@@ -24,5 +28,9 @@ export function concatSamples(a: LabelledSamples, b: LabelledSamples): LabelledS
   const labels = new Int32Array(a.count + b.count);
   labels.set(a.labels, 0);
   labels.set(b.labels, a.count);
-  return { features, labels, count: a.count + b.count };
+  if (!a.targets || !b.targets) return { features, labels, count: a.count + b.count };
+  const targets = new Float32Array(a.count + b.count);
+  targets.set(a.targets, 0);
+  targets.set(b.targets, a.count);
+  return { features, labels, count: a.count + b.count, targets };
 }

@@ -1,6 +1,7 @@
 import { INPUT_ID, type Genome, type LayerNode } from './genome-schema.js';
 import { topologicalOrder, type GenomeIssue } from './graph-order.js';
 import { expandMotifs, issueInGenomeTerms, motifAsGenome, motifIssues, motifsById } from './motifs.js';
+import type { TargetScaling } from '../messages/dataset-manifest.js';
 
 export { topologicalOrder, type GenomeIssue } from './graph-order.js';
 
@@ -10,8 +11,14 @@ export type SampleShape = readonly number[];
 /** What the dataset fixes for every genome of a run. */
 export interface DataShape {
   inputShape: SampleShape;
+  /** Classes of a classifier; of a regression run, the target quantile bins its split was stratified by. */
   numClasses: number;
+  /** Present for a regression run: the head is one linear unit predicting the target standardised with this scaling. */
+  target?: TargetScaling;
 }
+
+/** Units of the implicit head: one per class, or one linear unit for a regression target. */
+export const headUnits = (data: DataShape): number => (data.target ? 1 : data.numClasses);
 
 export interface NodeAnalysis {
   id: string;
@@ -190,9 +197,9 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
   nodes.push({
     id: 'head-dense',
     kind: 'head-dense',
-    outputShape: [data.numClasses],
-    params: fin * data.numClasses + data.numClasses,
-    flops: 2 * fin * data.numClasses,
+    outputShape: [headUnits(data)],
+    params: fin * headUnits(data) + headUnits(data),
+    flops: 2 * fin * headUnits(data),
   });
   return {
     ok: true,

@@ -10,8 +10,8 @@ import type { DataShape } from './analyze.js';
  * docs/reference-networks.md explains the choices; this file is the only place they are made.
  */
 
-/** Image samples (`[height, width, channels]`) or flat feature vectors. */
-export type ReferenceDataKind = 'image' | 'flat';
+/** Image samples (`[height, width, channels]`), flat feature vectors of a classifier, or flat feature vectors with a numeric target. */
+export type ReferenceDataKind = 'image' | 'flat' | 'regression';
 
 /**
  * The training recipe of each reference network (common practice: Adam at 0.001 without weight
@@ -21,6 +21,7 @@ export type ReferenceDataKind = 'image' | 'flat';
 export const REFERENCE_RECIPES: Readonly<Record<ReferenceDataKind, TrainingGenes>> = {
   image: { optimizer: 'adam', learningRate: 0.001, batchSize: 64, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
   flat: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
+  regression: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
 };
 
 /** One line per data kind, for reports and logs. */
@@ -28,12 +29,13 @@ export const REFERENCE_DESCRIPTIONS: Readonly<Record<ReferenceDataKind, string>>
   image:
     'hand-made conv net: conv 3×3 16 → batch-norm → relu → max-pool 2 → conv 3×3 32 → batch-norm → relu → max-pool 2 → dropout 0.25 → flatten → dense softmax; Adam 0.001 with cosine decay, batch 64',
   flat: 'hand-made dense net: dense 128 relu → dropout 0.2 → dense 64 relu → dropout 0.2 → dense softmax; Adam 0.001 with cosine decay, batch 32',
+  regression: 'hand-made dense regressor: dense 128 relu → dense 64 relu → dense 1 linear, mean squared error on the standardised target; Adam 0.001 with cosine decay, batch 32',
 };
 
-export const referenceDataKind = (data: DataShape): ReferenceDataKind => (data.inputShape.length === 3 ? 'image' : 'flat');
+export const referenceDataKind = (data: DataShape): ReferenceDataKind => (data.inputShape.length === 3 ? 'image' : data.target ? 'regression' : 'flat');
 
 /** Widths of the hidden layers in order (filters of each conv, units of each dense). */
-const WIDTHS: Readonly<Record<ReferenceDataKind, readonly number[]>> = { image: [16, 32], flat: [128, 64] };
+const WIDTHS: Readonly<Record<ReferenceDataKind, readonly number[]>> = { image: [16, 32], flat: [128, 64], regression: [128, 64] };
 
 /** A layer without its inputs (the reference is a chain: each layer takes the one before). */
 type ChainLayer = LayerNode extends infer N ? (N extends LayerNode ? Omit<N, 'inputs'> : never) : never;
@@ -42,10 +44,11 @@ type ChainLayer = LayerNode extends infer N ? (N extends LayerNode ? Omit<N, 'in
 function layers(kind: ReferenceDataKind, widths: readonly number[], act: Activation, linearConv: boolean): LayerNode[] {
   const nodes: LayerNode[] = [];
   const add = (n: ChainLayer) => nodes.push({ ...n, inputs: [nodes.at(-1)?.id ?? INPUT_ID] } as LayerNode);
-  if (kind === 'flat') {
+  if (kind !== 'image') {
+    // No dropout before a regression head: its noise goes straight into the predicted number (common practice).
     widths.forEach((units, i) => {
       add({ id: `dense${i + 1}`, kind: 'dense', units, activation: act });
-      add({ id: `drop${i + 1}`, kind: 'dropout', rate: 0.2 });
+      if (kind === 'flat') add({ id: `drop${i + 1}`, kind: 'dropout', rate: 0.2 });
     });
     return nodes;
   }

@@ -37,6 +37,37 @@ export const ModelArtifactsSchema = Type.Object(
 export type ModelArtifactsMessage = Static<typeof ModelArtifactsSchema>;
 
 /**
+ * A regression network's validation scores in the target's own units (RMSE and MAE multiplied back
+ * by the target's training standard deviation; R² has no units). In a regression result
+ * `valAccuracy` holds the search's fitness 1 / (1 + standardised RMSE), never shown as an accuracy.
+ */
+export const RegressionScoresSchema = Type.Object(
+  {
+    rmse: Finite({ minimum: 0 }),
+    mae: Finite({ minimum: 0 }),
+    r2: Type.Number(),
+  },
+  { additionalProperties: false },
+);
+export type RegressionScores = Static<typeof RegressionScoresSchema>;
+
+/**
+ * A regression champion's one score on the held-out test split, in the target's units, with the
+ * RMSE of always predicting the training split's mean target beside it: the baseline any regressor
+ * must beat.
+ */
+export const RegressionTestScoresSchema = Type.Object(
+  {
+    rmse: Finite({ minimum: 0 }),
+    mae: Finite({ minimum: 0 }),
+    r2: Type.Number(),
+    baselineRmse: Finite({ minimum: 0 }),
+  },
+  { additionalProperties: false },
+);
+export type RegressionTestScores = Static<typeof RegressionTestScoresSchema>;
+
+/**
  * What a worker returns for one evaluation (the BullMQ job's return value). Validation figures are
  * null only for champion trainings, whose validation split is part of their training data.
  */
@@ -72,6 +103,8 @@ export const EvaluationResultSchema = Type.Object(
     /** Median ms to classify one sample alone on the worker's CPU after training (absent from workers older than this field). */
     latencyMsPerSample: Type.Optional(Finite({ minimum: 0 })),
     model: Type.Optional(ModelArtifactsSchema),
+    /** Regression runs only: validation RMSE, MAE and R² in the target's units (absent for champion trainings). */
+    valRegression: Type.Optional(RegressionScoresSchema),
     /** How the training started (fresh, resumed from a checkpoint, inherited weights); absent in results of workers before checkpoints. */
     start: Type.Optional(TrainingStartSchema),
   },

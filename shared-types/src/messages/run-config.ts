@@ -14,6 +14,9 @@ export const DemoTilesSourceSchema = Type.Object(
 /** Cell texts that mean "no value" in a CSV table, unless the run file lists its own. */
 export const DEFAULT_MISSING_VALUE_TOKENS = ['', 'NA', 'N/A', 'NaN', 'nan', 'null', 'NULL', '?'] as const;
 
+/** Distinct numbers a label column may hold before a run file without `task` is asked to say which task it means. */
+export const MAX_AUTO_NUMERIC_CLASSES = 20;
+
 /**
  * A CSV table with a header row: one sample per row, one column holds the class label, the other
  * columns are features. Paths in a run file are relative to the run file's folder.
@@ -53,6 +56,21 @@ export const CsvSourceSchema = Type.Object(
     missing: Type.Union([Type.Literal('fill'), Type.Literal('drop-row'), Type.Literal('error')], { default: 'fill' }),
     /** Standardise numeric columns with the training split's mean and standard deviation. @default true */
     standardize: Type.Boolean({ default: true }),
+    /**
+     * What the label column holds: `classification`, one class per distinct value; `regression`, a
+     * number to predict (the head is one linear unit trained on mean squared error; the target is
+     * standardised with the training split's mean and standard deviation and the splits are
+     * stratified by target quantile bins). A missing target follows `missing` (`drop-row` or
+     * `error`; a target is never filled). When absent, a numeric label column with more than
+     * {@link MAX_AUTO_NUMERIC_CLASSES} distinct values is refused, suggesting `"regression"`.
+     */
+    task: Type.Optional(Type.Union([Type.Literal('classification'), Type.Literal('regression')])),
+    /**
+     * Regression only: what training minimises on the standardised target. `mean-squared-error`;
+     * `huber`, squared below one standard deviation of the target and linear above it, so a few
+     * outlying rows pull less. Scores are RMSE, MAE and R² either way. @default "mean-squared-error"
+     */
+    regressionLoss: Type.Optional(Type.Union([Type.Literal('mean-squared-error'), Type.Literal('huber')])),
   },
   { additionalProperties: false },
 );

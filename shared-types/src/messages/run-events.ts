@@ -1,6 +1,6 @@
 import { Type, type Static, type TLiteral, type TSchema, type TUnion } from '@sinclair/typebox';
 import { createValidator, type Validator } from '../validation.js';
-import { BackendNameSchema } from './evaluation-result.js';
+import { BackendNameSchema, RegressionTestScoresSchema } from './evaluation-result.js';
 import { ChampionRuleSchema, EnsembleSettingsSchema } from './run-config.js';
 
 /**
@@ -64,8 +64,10 @@ const Scored = {
   sourceEvaluationId: Id,
   genomeHash: Hash,
   valAccuracy: Share,
+  /** Regression runs: the fitness 1 / (1 + standardised test RMSE); `testRegression` holds the scores to show. */
   testAccuracy: Share,
   testLoss: Type.Number(),
+  testRegression: Type.Optional(RegressionTestScoresSchema),
 };
 
 const RunControlled = Strict({ from: RunState, action: OneOf('pause', 'resume', 'stop', 'finish'), discardInFlight: Type.Optional(Type.Literal(true)) });
@@ -144,6 +146,7 @@ export const RUN_EVENT_SCHEMAS = {
   /** The averaging ensemble scored once on the test split. `round`, `size`, `diversityPenalty` and the members' `similarity` are absent in records older than them. */
   'ensemble-scored': Strict({
     testAccuracy: Share,
+    testRegression: Type.Optional(RegressionTestScoresSchema),
     backend: Type.String({ maxLength: 40 }),
     averaging: Text,
     /** The champion round that trained it (0: the run's own end). */

@@ -1,6 +1,6 @@
 import { Type, type Static } from '@sinclair/typebox';
 import { GenomeSchema } from '../genome/genome-schema.js';
-import { BackendNameSchema } from './evaluation-result.js';
+import { BackendNameSchema, RegressionScoresSchema, RegressionTestScoresSchema } from './evaluation-result.js';
 import { WorkerStateSchema } from './worker-heartbeat.js';
 import { AccountingStatusSchema, CpuFiguresSchema, VerificationStatusSchema, WorkerTrustStatusSchema } from './trust-status.js';
 
@@ -10,11 +10,14 @@ export type RunState = Static<typeof RunStateSchema>;
 
 const Nullable = <T extends import('@sinclair/typebox').TSchema>(t: T) => Type.Union([t, Type.Null()]);
 
+/** In a regression run `valAccuracy` and `testAccuracy` hold the search fitness 1 / (1 + standardised RMSE); show the `…Regression` scores instead. */
 export const ScoredGenomeSchema = Type.Object({
   genomeHash: Type.String(),
   evaluationId: Type.String(),
   valAccuracy: Type.Number(),
   valLoss: Type.Number(),
+  /** Regression runs: validation RMSE, MAE and R² in the target's units. */
+  valRegression: Type.Optional(RegressionScoresSchema),
   paramCount: Type.Integer(),
   flops: Type.Integer(),
   summary: Type.String(),
@@ -50,6 +53,8 @@ export const ChampionSummarySchema = Type.Object({
   valAccuracy: Type.Number(),
   testAccuracy: Type.Number(),
   testLoss: Type.Number(),
+  /** Regression runs: test RMSE, MAE, R² in the target's units and the RMSE of predicting the training mean. */
+  testRegression: Type.Optional(RegressionTestScoresSchema),
   paramCount: Type.Integer(),
   flops: Type.Integer(),
   summary: Type.String(),
@@ -66,8 +71,11 @@ export const ReferenceComparisonSchema = Type.Object({
   referenceGenomeHash: Nullable(Type.String()),
   championTestAccuracy: Nullable(Type.Number()),
   referenceTestAccuracy: Nullable(Type.Number()),
-  /** Champion minus reference, in percentage points of test accuracy. */
+  /** Champion minus reference, in percentage points of test accuracy (null for regression). */
   points: Nullable(Type.Number()),
+  /** Regression runs: each one's test RMSE in the target's units. */
+  championTestRmse: Type.Optional(Nullable(Type.Number())),
+  referenceTestRmse: Type.Optional(Nullable(Type.Number())),
   championIsReference: Type.Boolean(),
   line: Type.String(),
 });
@@ -87,6 +95,8 @@ export const StatusResponseSchema = Type.Object({
       maxEvaluations: Type.Integer(),
       maxMinutes: Type.Number(),
       elapsedSeconds: Type.Number(),
+      /** Present for a regression run: the column it predicts (RMSE and MAE are in its units). */
+      target: Type.Optional(Type.String()),
     }),
   ),
   evaluations: Type.Object({

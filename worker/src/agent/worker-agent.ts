@@ -3,6 +3,7 @@ import { UnrecoverableError, WaitingError, Worker, type Job } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import {
+  dataShapeOf,
   DO_NOT_RETRY_PREFIX,
   EVALUATION_RESULT_VERSION,
   WORKER_PROTOCOL_VERSION,
@@ -238,7 +239,7 @@ export class WorkerAgent {
       const outcome = await this.training.train(
         {
           genome: payload.genome,
-          data: { inputShape: payload.dataset.inputShape, numClasses: payload.dataset.numClasses },
+          data: dataShapeOf(payload.dataset),
           shardPath,
           splits: payload.kind === 'champion' ? 'train+val' : 'train',
           budget: payload.budget,

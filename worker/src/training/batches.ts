@@ -14,12 +14,14 @@ export function shuffleInPlace(order: Int32Array, random: Random): Int32Array {
 /** 0, 1, …, count − 1. */
 export const identityOrder = (count: number): Int32Array => Int32Array.from({ length: count }, (_, i) => i);
 
-/** One batch copied out of a split: features row-major, one-hot targets, class indices. */
+/** One batch copied out of a split: features row-major, one-hot targets, class indices (and regression targets). */
 export interface Batch {
   size: number;
   features: Float32Array;
   oneHot: Float32Array;
   labels: Int32Array;
+  /** The standardised regression target of each sample; empty for a classification split. */
+  targets: Float32Array;
 }
 
 /**
@@ -30,6 +32,7 @@ export class BatchAssembler {
   private readonly features: Float32Array;
   private readonly oneHot: Float32Array;
   private readonly labels: Int32Array;
+  private readonly targets: Float32Array;
 
   constructor(
     private readonly samples: LabelledSamples,
@@ -40,6 +43,7 @@ export class BatchAssembler {
     this.features = new Float32Array(maxBatch * sampleLength);
     this.oneHot = new Float32Array(maxBatch * numClasses);
     this.labels = new Int32Array(maxBatch);
+    this.targets = new Float32Array(samples.targets ? maxBatch : 0);
   }
 
   batch(order: Int32Array, start: number, size: number): Batch {
@@ -51,18 +55,23 @@ export class BatchAssembler {
       const label = this.samples.labels[i]!;
       this.labels[b] = label;
       this.oneHot[b * numClasses + label] = 1;
+      if (this.samples.targets) this.targets[b] = this.samples.targets[i]!;
     }
     return {
       size,
       features: this.features.subarray(0, size * len),
       oneHot: this.oneHot.subarray(0, size * numClasses),
       labels: this.labels.subarray(0, size),
+      targets: this.targets.subarray(0, this.samples.targets ? size : 0),
     };
   }
 }
 
 /** Checks that a split is consistent with the data shape; throws an error saying what to fix. */
-export function checkSamples(samples: LabelledSamples, sampleLength: number, numClasses: number, splitName: string): void {
+export function checkSamples(samples: LabelledSamples, sampleLength: number, numClasses: number, splitName: string, regression = false): void {
+  if (regression && samples.targets?.length !== samples.count) {
+    throw new Error(`${splitName} split has ${samples.targets?.length ?? 'no'} regression targets for ${samples.count} samples; the shard is not a regression shard, re-export the dataset`);
+  }
   if (samples.features.length !== samples.count * sampleLength) {
     throw new Error(`${splitName} split has ${samples.features.length} feature values for ${samples.count} samples of ${sampleLength}; re-export the dataset`);
   }

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import { analyzeGenome, createRandom, expandMotifs, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
+import { analyzeGenome, createRandom, expandMotifs, headUnits, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
 import { InvalidGenomeError } from './errors.js';
 import { ChannelBatchNorm } from './channel-batch-norm.js';
 import { SeededDropout } from './seeded-dropout.js';
@@ -25,7 +25,8 @@ type Sym = tf.SymbolicTensor;
  * Builds the TensorFlow.js functional model of a genome: one layer per node (named by the node's
  * id; a repeat's layers are its motif's nodes once per application, named `r.k.c` by
  * `expandMotifs`), then the implicit head that `analyzeGenome` describes (flatten when the output is still
- * spatial, then a dense softmax with one unit per class). Initialisers and dropout masks are
+ * spatial, then a dense softmax with one unit per class, or one linear unit for a regression
+ * target). Initialisers and dropout masks are
  * seeded from `seed`, one derived seed per layer, so the same genome and seed give the same model.
  * Throws {@link InvalidGenomeError} when the genome does not fit the data shape.
  */
@@ -116,7 +117,7 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
   let last = tensors.get(layers.output)!;
   if (last.shape.length !== 2) last = tf.layers.flatten({ name: HEAD_FLATTEN_NAME }).apply(last) as Sym;
   const output = tf.layers
-    .dense({ name: HEAD_DENSE_NAME, units: data.numClasses, activation: 'softmax', kernelInitializer: glorot(), kernelRegularizer: regularizer() })
+    .dense({ name: HEAD_DENSE_NAME, units: headUnits(data), activation: data.target ? 'linear' : 'softmax', kernelInitializer: glorot(), kernelRegularizer: regularizer() })
     .apply(last) as Sym;
   return tf.model({ inputs: input, outputs: output, name: 'genome' });
 }

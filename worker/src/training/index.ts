@@ -6,6 +6,7 @@ export { SeededDropout, type SeededDropoutArgs } from './seeded-dropout.js';
 export { ChannelBatchNorm, type ChannelBatchNormArgs } from './channel-batch-norm.js';
 export { trainGenome, DIVERGED_LOSS, type TrainRequest, type TrainOutcome } from './train-genome.js';
 export { evaluateModel, crossEntropy, type ModelEvaluation } from './evaluate-model.js';
+export { evaluateRegression, meanSquaredError, type RegressionEvaluation } from './evaluate-regression.js';
 export { singleSampleLatencyMs } from './measure-latency.js';
 export { modelToMessage, artifactsFromMessage, loadModelFromMessage } from './model-artifacts.js';
 export { estimateTrainingBytes, type TrainingMemoryEstimate } from './memory-estimate.js';

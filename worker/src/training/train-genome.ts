@@ -4,6 +4,7 @@ import {
   createRandom,
   genomeHash,
   learningRateAt,
+  regressionFitness,
   restoreRandom,
   sampleSize,
   type DataShape,
@@ -24,6 +25,7 @@ import { estimateTrainingBytes } from './memory-estimate.js';
 import { modelToMessage } from './model-artifacts.js';
 import { applyStart, captureCheckpoint, type StartCheckpoint } from './training-checkpoint.js';
 import { augmentBatch, smoothLabels } from './augment.js';
+import { evaluateRegression, meanSquaredError } from './evaluate-regression.js';
 
 /** One training of one genome. */
 export interface TrainRequest {
@@ -117,8 +119,11 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     if (estimate.total > cap) throw new GenomeTooLargeError(estimate.total, cap);
   }
   const sampleLength = sampleSize(data.inputShape);
-  checkSamples(train, sampleLength, data.numClasses, 'train');
-  if (val) checkSamples(val, sampleLength, data.numClasses, 'validation');
+  const target = data.target;
+  checkSamples(train, sampleLength, data.numClasses, 'train', !!target);
+  if (val) checkSamples(val, sampleLength, data.numClasses, 'validation', !!target);
+  // Regression: accuracy is the fitness 1 / (1 + standardised RMSE) and loss the mean squared error.
+  const score = (samples: LabelledSamples) => (target ? evaluateRegression(model, samples) : evaluateModel(model, samples));
   if (train.count === 0) throw new Error('the train split is empty; a dataset needs training samples');
   const backend = currentBackend();
 
@@ -162,18 +167,19 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   const stepBatch = (start: number, size: number, sums: { loss: tf.Scalar; correct: tf.Scalar }) => {
     const batch = assembler.batch(order, start, size);
     if (augmenting) augmentBatch(batch.features, size, data.inputShape, augmenting, random, scratch!);
-    if (labelSmoothing) smoothLabels(batch.oneHot, size, data.numClasses, labelSmoothing);
+    if (labelSmoothing && !target) smoothLabels(batch.oneHot, size, data.numClasses, labelSmoothing);
     setLearningRate(optimizer, learningRateAt(learningRate, schedule, { step, totalSteps, stepsPerEpoch }));
     step++;
     const kept: { correct?: tf.Scalar } = {};
     const x = tf.tensor(batch.features, [size, ...data.inputShape]);
-    const y = tf.tensor2d(batch.oneHot, [size, data.numClasses]);
+    const y = target ? tf.tensor2d(batch.targets, [size, 1]) : tf.tensor2d(batch.oneHot, [size, data.numClasses]);
     const labels = tf.tensor1d(batch.labels, 'int32');
     try {
       const cost = optimizer.minimize(() => {
-        const probs = model.apply(x, { training: true }) as tf.Tensor;
-        kept.correct = tf.keep(tf.sum(tf.cast(tf.equal(tf.argMax(probs, -1), labels), 'float32')) as tf.Scalar);
-        let loss = crossEntropy(probs, y);
+        const out = model.apply(x, { training: true }) as tf.Tensor;
+        // Regression sums squared errors where classification counts correct answers.
+        kept.correct = tf.keep(target ? (tf.sum(tf.square(tf.sub(out, y))) as tf.Scalar) : (tf.sum(tf.cast(tf.equal(tf.argMax(out, -1), labels), 'float32')) as tf.Scalar));
+        let loss = !target ? crossEntropy(out, y) : target.loss === 'huber' ? (tf.losses.huberLoss(y, out, undefined, 1) as tf.Scalar) : meanSquaredError(out, y);
         for (const penalty of model.calculateLosses()) loss = tf.add(loss, penalty) as tf.Scalar;
         return loss;
       }, true)!;
@@ -225,13 +231,14 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
         }
         if (epochSamples > 0) {
           trainLoss = finiteLoss(sums.loss.dataSync()[0]! / epochSamples);
-          trainAccuracy = sums.correct.dataSync()[0]! / epochSamples;
+          const perSample = sums.correct.dataSync()[0]! / epochSamples;
+          trainAccuracy = target ? regressionFitness(Math.sqrt(perSample)) : perSample;
         }
       } finally {
         tf.dispose([sums.loss, sums.correct]);
       }
       if (epochSamples > 0) {
-        const scored = val ? evaluateModel(model, val) : null;
+        const scored = val ? score(val) : null;
         peakRss = Math.max(peakRss, process.memoryUsage.rss());
         const record: EpochRecord = {
           epoch,
@@ -282,9 +289,13 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     };
     if (val && !last) {
       // The budget ended before the first batch: score the untrained model so the result is honest.
-      const scored = evaluateModel(model, val);
+      const scored = score(val);
       outcome.valAccuracy = scored.accuracy;
       outcome.valLoss = finiteLoss(scored.loss);
+    }
+    if (val && target) {
+      const { rmse, mae, r2 } = evaluateRegression(model, val).metrics;
+      outcome.valRegression = Number.isFinite(rmse) ? { rmse: rmse * target.std, mae: mae * target.std, r2 } : { rmse: DIVERGED_LOSS, mae: DIVERGED_LOSS, r2: -DIVERGED_LOSS };
     }
     // Measured after the training time was taken, so it does not count towards it.
     outcome.latencyMsPerSample = singleSampleLatencyMs(model, val ?? train);
