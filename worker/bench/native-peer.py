@@ -40,6 +40,11 @@ def same_pads(size, kernel, stride):
     return total // 2, total - total // 2, out
 
 
+def slot(node_id):
+    """A module name for a node id: a repeat's layers are named `r.k.c`, and torch refuses dots."""
+    return node_id.replace(".", ":")
+
+
 class GenomeNet(nn.Module):
     """A genome's layers in NCHW; shapes are tracked as (C, H, W) or (F,)."""
 
@@ -98,7 +103,7 @@ class GenomeNet(nn.Module):
             else:
                 raise ValueError(f"native peer: layer kind {kind!r} is not mirrored; add it to worker/bench/native-peer.py")
             if layer is not None:
-                self.layers[key] = layer
+                self.layers[slot(key)] = layer
         last = shape[output]
         self.flatten_head = len(last) == 3
         features = last[0] * last[1] * last[2] if self.flatten_head else last[0]
@@ -112,8 +117,8 @@ class GenomeNet(nn.Module):
             v = values[n["inputs"][0]]
             if key in self.pads:
                 v = F.pad(v, self.pads[key])
-            if key in self.layers:
-                v = self.layers[key](v)
+            if slot(key) in self.layers:
+                v = self.layers[slot(key)](v)
             if kind == "flatten":
                 # NHWC order, as the library flattens: matters for weight layout, not for speed.
                 v = v.permute(0, 2, 3, 1).flatten(1)
