@@ -21,7 +21,7 @@ import { initBackend } from '../src/training/backend.js';
 import { refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
 import { syntheticSamples } from '../src/training/synthetic-samples.js';
 import { trainGenome } from '../src/training/train-genome.js';
-import { checkSameNetworks, nativePeerAvailability, runNativePeer, type PeerNetwork, type PeerRun } from './native-peer.js';
+import { checkSameNetworks, nativePeerAvailability, runNativePeer, type PeerNetwork } from './native-peer.js';
 
 const quick = process.argv.includes('--quick');
 const only = process.argv.find((a) => a.startsWith('--backends='))?.slice('--backends='.length).split(',');
@@ -37,8 +37,15 @@ const GENOMES: Array<{ name: string; genome: Genome; data: DataShape }> = [
  * Batches measured per backend. wasm and tensorflow get one warm-up batch first (operator set-up,
  * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
  */
-const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 60, wasm: 60, cpu: 2 };
+const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 20, wasm: 20, cpu: 2 };
 const CPU_MLP_BATCHES = quick ? 3 : 20;
+/**
+ * Rounds per network for the native peer, wasm and tensorflow, interleaved (peer, ours, peer,
+ * ours, …); each side keeps its best round. On a shared machine a burst of others' load can halve
+ * one round of either side (even per CPU-second: this VM's CPU time includes time the hypervisor
+ * gives away); the best round is the least disturbed. The cpu backend is measured once.
+ */
+const ROUNDS = quick ? 1 : 3;
 
 interface Row {
   genome: string;
@@ -101,29 +108,49 @@ async function measure(name: string, genome: Genome, data: DataShape, backend: B
 const backends = await available();
 const pad = (s: string, n: number) => s.padEnd(n);
 
-/** The native peer: parameter counts compared (and printed) before anything is timed, then its own timing. */
-async function nativePeer(): Promise<{ run: PeerRun | null; note: string }> {
+/** The native peer, if one runs here: parameter counts compared (and printed) before anything is timed. */
+async function preparePeer(): Promise<{ python: string | null; version: string | null; threads: number | null; note: string }> {
   const availability = nativePeerAvailability();
-  if (!availability.ok) return { run: null, note: `no native peer here: ${availability.reason}` };
-  const networks: PeerNetwork[] = GENOMES.map((g) => ({ name: g.name, genome: g.genome, data: g.data, batches: BATCHES.wasm }));
+  if (!availability.ok) return { python: null, version: null, threads: null, note: `no native peer here: ${availability.reason}` };
   await tf.setBackend(backends.includes('wasm') ? 'wasm' : backends[0]!);
-  const counted = checkSameNetworks(networks, runNativePeer(availability.python, 'count', networks));
-  console.log('parameters (trainable + moving statistics), ours and the native peer\'s:');
+  const counts = runNativePeer(availability.python, 'count', GENOMES.map(peerNetwork));
+  const counted = checkSameNetworks(GENOMES.map(peerNetwork), counts);
+  console.log("parameters (trainable + moving statistics), ours and the native peer's:");
   for (const c of counted) console.log(`  ${pad(c.name, 9)} ${c.engine.trainable} + ${c.engine.nonTrainable}   ${c.peer.trainable} + ${c.peer.nonTrainable}   equal`);
-  const run = runNativePeer(availability.python, 'time', networks);
-  return { run, note: `native peer: PyTorch ${run.torch}, ${run.threads} thread, same networks, batch and optimizer` };
+  return { python: availability.python, version: counts.torch, threads: counts.threads, note: `native peer: PyTorch ${counts.torch}, ${counts.threads} thread(s), same networks, batch and optimizer, timed just before ours for each network` };
 }
 
-const peer = await nativePeer();
-console.log(peer.note);
-const rows: Row[] = [];
-for (const r of peer.run?.results ?? []) {
-  const g = GENOMES.find((x) => x.name === r.name)!;
+const peerNetwork = (g: (typeof GENOMES)[number]): PeerNetwork => ({ name: g.name, genome: g.genome, data: g.data, batches: BATCHES.wasm });
+
+function measurePeer(python: string, g: (typeof GENOMES)[number]): Row {
+  const r = runNativePeer(python, 'time', [peerNetwork(g)]).results[0]!;
   const analysis = analyzeGenome(g.genome, g.data);
   const trainFlops = analysis.ok ? 3 * analysis.analysis.flops : NaN;
-  rows.push({ genome: r.name, backend: 'pytorch', batchSize: g.genome.training.batchSize, samples: r.samples!, samplesPerSecond: r.samplesPerSecond!, samplesPerCpuSecond: r.samplesPerCpuSecond!, gflopsPerSecond: (r.samplesPerSecond! * trainFlops) / 1e9, trainMflopsPerSample: trainFlops / 1e6 });
+  return { genome: g.name, backend: 'pytorch', batchSize: g.genome.training.batchSize, samples: r.samples!, samplesPerSecond: r.samplesPerSecond!, samplesPerCpuSecond: r.samplesPerCpuSecond!, gflopsPerSecond: (r.samplesPerSecond! * trainFlops) / 1e9, trainMflopsPerSample: trainFlops / 1e6 };
 }
-for (const backend of backends) for (const g of GENOMES) rows.push(await measure(g.name, g.genome, g.data, backend));
+
+/** Each figure's best over the rounds (samples add up). */
+function best(rounds: Row[]): Row {
+  const top = (key: 'samplesPerSecond' | 'samplesPerCpuSecond') => Math.max(...rounds.map((r) => r[key]));
+  const first = rounds[0]!;
+  const samplesPerSecond = top('samplesPerSecond');
+  return { ...first, samples: rounds.reduce((a, r) => a + r.samples, 0), samplesPerSecond, samplesPerCpuSecond: top('samplesPerCpuSecond'), gflopsPerSecond: (samplesPerSecond * first.trainMflopsPerSample) / 1e3 };
+}
+
+const peer = await preparePeer();
+console.log(peer.note);
+const rows: Row[] = [];
+// Network by network, the peer right before our backends, so that the load others put on a
+// shared machine changes as little as possible between the two sides of a ratio.
+for (const g of GENOMES) {
+  const rounds: Row[] = [];
+  for (let round = 0; round < ROUNDS; round++) {
+    if (peer.python) rounds.push(measurePeer(peer.python, g));
+    for (const backend of backends) if (backend !== 'cpu') rounds.push(await measure(g.name, g.genome, g.data, backend));
+  }
+  if (backends.includes('cpu')) rounds.push(await measure(g.name, g.genome, g.data, 'cpu'));
+  for (const backend of [...new Set(rounds.map((r) => r.backend))]) rows.push(best(rounds.filter((r) => r.backend === backend)));
+}
 
 const ratioTo = (row: Row, backend: Row['backend'], key: 'samplesPerSecond' | 'samplesPerCpuSecond' = 'samplesPerSecond') => {
   const base = rows.find((r) => r.genome === row.genome && r.backend === backend);
@@ -146,7 +173,7 @@ console.log(
     node: process.version,
     quick,
     loadAverage: loadavg(),
-    nativePeer: peer.run ? { framework: 'pytorch', version: peer.run.torch, threads: peer.run.threads } : null,
+    nativePeer: peer.python ? { framework: 'pytorch', version: peer.version, threads: peer.threads } : null,
     nativePeerNote: peer.note,
     results: rows.map((r) => ({
       ...r,
