@@ -34,7 +34,7 @@ const GENOMES: Array<{ name: string; genome: Genome; data: DataShape }> = [
   { name: 'cnn-bn', genome: refCnnBn(), data: IMAGE },
 ];
 /**
- * Batches measured per backend. wasm and tensorflow get one warm-up batch first (operator set-up,
+ * Batches measured per backend and round. wasm and tensorflow get one warm-up batch first (operator set-up,
  * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
  */
 const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 20, wasm: 20, cpu: 2 };
@@ -113,11 +113,12 @@ async function preparePeer(): Promise<{ python: string | null; version: string |
   const availability = nativePeerAvailability();
   if (!availability.ok) return { python: null, version: null, threads: null, note: `no native peer here: ${availability.reason}` };
   await tf.setBackend(backends.includes('wasm') ? 'wasm' : backends[0]!);
-  const counts = runNativePeer(availability.python, 'count', GENOMES.map(peerNetwork));
-  const counted = checkSameNetworks(GENOMES.map(peerNetwork), counts);
+  const networks = GENOMES.map(peerNetwork);
+  const counts = runNativePeer(availability.python, 'count', networks);
+  const counted = checkSameNetworks(networks, counts);
   console.log("parameters (trainable + moving statistics), ours and the native peer's:");
   for (const c of counted) console.log(`  ${pad(c.name, 9)} ${c.engine.trainable} + ${c.engine.nonTrainable}   ${c.peer.trainable} + ${c.peer.nonTrainable}   equal`);
-  return { python: availability.python, version: counts.torch, threads: counts.threads, note: `native peer: PyTorch ${counts.torch}, ${counts.threads} thread(s), same networks, batch and optimizer, timed just before ours for each network` };
+  return { python: availability.python, version: counts.torch, threads: counts.threads, note: `native peer: PyTorch ${counts.torch}, ${counts.threads} thread(s), same networks, batch and optimizer, timed in rounds interleaved with ours, best round kept` };
 }
 
 const peerNetwork = (g: (typeof GENOMES)[number]): PeerNetwork => ({ name: g.name, genome: g.genome, data: g.data, batches: BATCHES.wasm });
