@@ -11,9 +11,11 @@ interface HeapBackend {
  * kernel (tfjs-backend-wasm 4.22) gives wrong gradients for 2×2 windows (found by our cpu-reference
  * test) and is slow; this one routes each output gradient to the first maximum of its window in
  * row-major order, as the cpu backend does, so ties (common after relu) resolve the same way.
+ * The common 2×2/2 window reads the forward pass's output (each window's maximum) instead of
+ * searching for it, without branches (ENGINE.md: branches on real activations mispredict).
  */
 export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {
-  const { dy, input } = args.inputs as { dy: tf.TensorInfo; input: tf.TensorInfo };
+  const { dy, input, output } = args.inputs as { dy: tf.TensorInfo; input: tf.TensorInfo; output?: tf.TensorInfo };
   const attrs = (args.attrs ?? {}) as Record<string, unknown>;
   const info = tf.backend_util.computePool2DInfo(
     input.shape as [number, number, number, number],
@@ -29,16 +31,18 @@ export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unkn
   const x = backend.typedArrayFromHeap(input);
   const g = backend.typedArrayFromHeap(dy);
   const dx = backend.typedArrayFromHeap(out);
-  dx.fill(0);
   const { batchSize: n, inHeight: h, inWidth: w, inChannels: c, outHeight: oh, outWidth: ow, strideHeight: sh, strideWidth: sw } = info;
   const fh = info.filterHeight;
   const fw = info.filterWidth;
   const top = info.padInfo.top;
   const left = info.padInfo.left;
-  if (fh === 2 && fw === 2 && sh === 2 && sw === 2 && top === 0 && left === 0 && oh * 2 <= h && ow * 2 <= w) {
-    windows2x2(x, g, dx, n, h, w, c, oh, ow);
+  if (output && fh === 2 && fw === 2 && sh === 2 && sw === 2 && top === 0 && left === 0 && oh * 2 <= h && ow * 2 <= w) {
+    // Every window position is written; an odd last row or column lies outside all windows.
+    if (oh * 2 !== h || ow * 2 !== w) dx.fill(0);
+    windows2x2(x, backend.typedArrayFromHeap(output), g, dx, n, h, w, c, oh, ow);
     return out;
   }
+  dx.fill(0);
   for (let b = 0; b < n; b++) {
     for (let r = 0; r < oh; r++) {
       const r0 = r * sh - top;
@@ -71,8 +75,14 @@ export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unkn
   return out;
 }
 
-/** The common 2×2, stride-2, unpadded case, unrolled (windows do not overlap). Same tie rule. */
-function windows2x2(x: Float32Array, g: Float32Array, dx: Float32Array, n: number, h: number, w: number, c: number, oh: number, ow: number): void {
+/**
+ * The common 2×2, stride-2, unpadded case (windows do not overlap), given the forward output y.
+ * Same tie rule: e0..e3 are 1 for the first position in row-major order that equals the window's
+ * maximum (the last one when none does, which an exact max never allows) and 0 elsewhere. Unlike
+ * the search, a non-finite gradient reaches all four positions (0 × ∞ is NaN); training has
+ * diverged by then anyway.
+ */
+function windows2x2(x: Float32Array, y: Float32Array, g: Float32Array, dx: Float32Array, n: number, h: number, w: number, c: number, oh: number, ow: number): void {
   const row = w * c;
   for (let b = 0; b < n; b++) {
     for (let r = 0; r < oh; r++) {
@@ -84,18 +94,15 @@ function windows2x2(x: Float32Array, g: Float32Array, dx: Float32Array, n: numbe
           const i1 = i0 + c;
           const i2 = i0 + row;
           const i3 = i2 + c;
-          let at = i0;
-          let best = x[i0]!;
-          if (x[i1]! > best) {
-            best = x[i1]!;
-            at = i1;
-          }
-          if (x[i2]! > best) {
-            best = x[i2]!;
-            at = i2;
-          }
-          if (x[i3]! > best) at = i3;
-          dx[at] = dx[at]! + g[gBase + k]!;
+          const max = y[gBase + k]!;
+          const grad = g[gBase + k]!;
+          const e0 = +(x[i0] === max);
+          const e1 = +(x[i1] === max) * (1 - e0);
+          const e2 = +(x[i2] === max) * (1 - e0 - e1);
+          dx[i0] = e0 * grad;
+          dx[i1] = e1 * grad;
+          dx[i2] = e2 * grad;
+          dx[i3] = (1 - e0 - e1 - e2) * grad;
         }
       }
     }
