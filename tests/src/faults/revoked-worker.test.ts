@@ -31,8 +31,9 @@ describe('a revoked worker', () => {
     expect(res.status).toBe(200);
     const revokedAt = Date.now();
     const exit = await new Promise<number | null>((r) => (suspect.exitCode !== null ? r(suspect.exitCode) : suspect.once('exit', (code) => r(code))));
-    expect(exit).toBe(0);
-    expect(cluster.workerLogs.join('')).toContain('the coordinator revoked this worker');
+    // It ends with a non-zero code and one sentence: retrying cannot undo the admin's decision.
+    expect(exit).toBe(1);
+    expect(cluster.workerLogs.join('')).toMatch(/revoked this worker id \(HTTP 403\): ask the coordinator's admin why/);
 
     await waitFor('the run to finish', () => store.getRun(run.id)!.state === 'finished', 180_000, 250);
     const late = store.evaluations(run.id).filter((e) => e.state === 'done' && e.result!.workerId === 'suspect' && e.finishedAt! > revokedAt + 1000);
