@@ -31,9 +31,7 @@
  *   NB_COORDINATOR_PROF=/tmp/prof npm run bench:scale -- --only store   (a CPU profile of this process over each measured window)
  */
 import { cpus } from 'node:os';
-import { join } from 'node:path';
 import { parseArgs } from 'node:util';
-
 import { cpuSplit, round } from './scale-bench-support.js';
 import { endToEnd, queueProtocol, rawBullmq, storeGrowth } from './scale-bench-phases.js';
 
