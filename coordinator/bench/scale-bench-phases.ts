@@ -9,7 +9,7 @@ import { EVALUATION_JOB_VERSION, createRandom, defaultSearchSpace, genomeHash, t
 import { openRedis, type SimulationSettings } from '@netbreeder/worker';
 import { EvaluationQueue } from '../src/queue/evaluation-queue.js';
 import { minimalGenome } from '../src/search/index.js';
-import { Coordinator } from '../src/coordinator.js';
+import { type Coordinator } from '../src/coordinator.js';
 import { createLogger } from '../src/logger.js';
 import { prefillFinishedEvaluations } from '../src/store/prefill.js';
 import { Fleet, QUEUE, REDIS_URL, cpuSplit, obliterate, percentile, prefix, redisCpuSeconds, round, runConfig, sleep, startCoordinator, statusTimes, window } from './scale-bench-support.js';
@@ -146,7 +146,19 @@ export async function endToEnd(name: string, workers: number, simulation: Simula
   await rm(dataDir, { recursive: true, force: true });
   const { cpuSeconds, redisSeconds, ...shown } = figures;
   const cpuPerEvaluation = cpuSplit(figures.results, { coordinator: cpuSeconds, workers: f.cpuSeconds, redis: redisSeconds });
-  return { workers, aliveWorkers: alive, fleetStartSeconds: round(fleetStartSeconds), ...shown, cpuPerEvaluation, waitP50Ms: round(f.waitP50Ms, 0), waitP99Ms: round(f.waitP99Ms, 0), waits: f.waits, fleetRssMb: round(f.rssMb, 0), storeEvaluations: size.evaluations, storeKbPerEvaluation: round(size.bytes / 1024 / size.evaluations, 1) };
+  return {
+    workers,
+    aliveWorkers: alive,
+    fleetStartSeconds: round(fleetStartSeconds),
+    ...shown,
+    cpuPerEvaluation,
+    waitP50Ms: round(f.waitP50Ms, 0),
+    waitP99Ms: round(f.waitP99Ms, 0),
+    waits: f.waits,
+    fleetRssMb: round(f.rssMb, 0),
+    storeEvaluations: size.evaluations,
+    storeKbPerEvaluation: round(size.bytes / 1024 / size.evaluations, 1),
+  };
 }
 
 // ---- 4. a store holding many finished evaluations ---------------------------------------------

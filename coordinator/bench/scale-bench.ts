@@ -32,7 +32,7 @@
  */
 import { cpus } from 'node:os';
 import { parseArgs } from 'node:util';
-import { cpuSplit, round } from './scale-bench-support.js';
+import { type cpuSplit, round } from './scale-bench-support.js';
 import { endToEnd, queueProtocol, rawBullmq, storeGrowth } from './scale-bench-phases.js';
 
 const { values: args } = parseArgs({ options: { quick: { type: 'boolean' }, only: { type: 'string' }, sizes: { type: 'string' } } });
