@@ -123,7 +123,16 @@ async function main(): Promise<void> {
     process.stdout.write(
       `${JSON.stringify({
         bench: 'data-import',
-        csv: { rows, columns: 50, fileMb: Number((csvStat.size / 2 ** 20).toFixed(1)), seconds: Number(csv.seconds.toFixed(2)), rowsPerSecond: Math.round(rows / csv.seconds), peakRssMb: Math.round(csv.peakRssMb), baselineRssMb: Math.round(csv.baselineRssMb), features: csv.inputShape[0] },
+        csv: {
+          rows,
+          columns: 50,
+          fileMb: Number((csvStat.size / 2 ** 20).toFixed(1)),
+          seconds: Number(csv.seconds.toFixed(2)),
+          rowsPerSecond: Math.round(rows / csv.seconds),
+          peakRssMb: Math.round(csv.peakRssMb),
+          baselineRssMb: Math.round(csv.baselineRssMb),
+          features: csv.inputShape[0],
+        },
         png: { images, size: '16x16', seconds: Number(png.seconds.toFixed(2)), imagesPerSecond: Math.round(images / png.seconds), peakRssMb: Math.round(png.peakRssMb), baselineRssMb: Math.round(png.baselineRssMb) },
         node: process.version,
       })}\n`,

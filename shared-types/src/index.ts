@@ -31,3 +31,4 @@ export * from './messages/search-decision.js';
 export * from './messages/champion-choice.js';
 export * from './messages/run-events.js';
 export * from './messages/preprocessing-file.js';
+export * from './messages/coordinator-replies.js';

@@ -225,7 +225,8 @@ describe('the dashboard page, live, in headless chromium', () => {
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-laptop.png') });
 
     await page.emulateMedia({ media: 'print' });
-    const background = await page.evaluate(() => (globalThis as unknown as { getComputedStyle(e: unknown): { backgroundColor: string }; document: { body: unknown } }).getComputedStyle((globalThis as unknown as { document: { body: unknown } }).document.body).backgroundColor);
+    type Page = { getComputedStyle(e: unknown): { backgroundColor: string }; document: { body: unknown } };
+    const background = await page.evaluate(() => (globalThis as unknown as Page).getComputedStyle((globalThis as unknown as Page).document.body).backgroundColor);
     expect(background).toBe('rgb(255, 255, 255)');
     await page.setViewportSize({ width: 794, height: 1123 }); // A4 at 96 dpi
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-print.png'), fullPage: true });

@@ -5,7 +5,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
-import * as tf from '@tensorflow/tfjs';
+import type * as tf from '@tensorflow/tfjs';
 import { expandMotifs, topologicalOrder, type DataShape, type Genome } from '@netbreeder/shared-types';
 import { buildModel } from '../src/training/build-model.js';
 

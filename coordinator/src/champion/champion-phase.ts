@@ -111,7 +111,9 @@ export class ChampionPhase {
       // A learning curve that does not count (a quarantined worker's: only the reference network
       // can have one here) says nothing about the length.
       const history = this.o.eligible && !this.o.eligible(source) ? [] : (source.result?.history ?? []);
-      const length = finalTrainingLength(run.config.champion.epochs, history, source.job.budget.epochs, budgetMaxEpochs);
+      // A regression run's fitness is no accuracy: its curve is read without the noise rule.
+      const valCount = run.dataset.manifest.target ? undefined : run.dataset.manifest.valCount;
+      const length = finalTrainingLength(run.config.champion.epochs, history, source.job.budget.epochs, budgetMaxEpochs, valCount);
       const job: EvaluationJob = {
         ...source.job,
         kind: 'champion',

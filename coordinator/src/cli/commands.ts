@@ -16,6 +16,7 @@ import { replayCommand } from './replay-command.js';
 import { pickCommand } from './pick-command.js';
 import { predictCommand } from './predict-command.js';
 import { runCommand } from './run-command.js';
+import { CoordinatorClient } from './coordinator-client.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
@@ -276,14 +277,9 @@ function controlCommand(action: 'pause' | 'resume' | 'stop' | 'finish') {
     const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, run: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
     if (values.help) return void process.stdout.write(CONTROL_HELP), 0;
     if (!values.run) throw new Error(`${action} needs --run ID (netbreeder runs lists them)`);
-    const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN;
-    const res = await fetch(new URL(`/runs/${encodeURIComponent(values.run)}/${action}`, values.coordinator ?? coordinatorDefault()), {
-      method: 'POST',
-      headers: token ? { authorization: `Bearer ${token}` } : {},
-    });
-    const body = (await res.json()) as { state?: string; error?: { message: string; fix: string } };
-    if (!res.ok) throw new Error(`${action} refused (${res.status}): ${body.error?.message}; ${body.error?.fix}`);
-    process.stdout.write(`run ${values.run} is now ${body.state}\n`);
+    const client = new CoordinatorClient(values.coordinator ?? coordinatorDefault(), values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN);
+    const reply = await client.control(values.run, action);
+    process.stdout.write(`run ${reply.id} is now ${reply.state}\n`);
     return 0;
   };
 }
@@ -297,9 +293,7 @@ async function runsCommand(argv: string[]): Promise<number> {
   const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, token: { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
   if (values.help) return void process.stdout.write(RUNS_HELP), 0;
   const token = values.token ?? process.env.NETBREEDER_ADMIN_TOKEN ?? process.env.NETBREEDER_JOIN_TOKEN;
-  const res = await fetch(new URL('/runs', values.coordinator ?? coordinatorDefault()), { headers: token ? { authorization: `Bearer ${token}` } : {} });
-  if (!res.ok) throw new Error(`coordinator answered ${res.status}: ${await res.text()}`);
-  const runs = (await res.json()) as Array<{ id: string; name: string; state: string; createdAt: string; proposals: number }>;
+  const runs = await new CoordinatorClient(values.coordinator ?? coordinatorDefault(), token).runs();
   process.stdout.write(runs.length ? `${runs.map((r) => `${r.id.padEnd(20)} ${r.state.padEnd(18)} ${String(r.proposals).padStart(6)} evaluations  ${r.createdAt}  ${r.name}`).join('\n')}\n` : 'no runs\n');
   return 0;
 }

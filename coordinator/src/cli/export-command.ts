@@ -1,6 +1,7 @@
 import { mkdir, writeFile } from 'node:fs/promises';
-import { join, resolve } from 'node:path';
-import { ensembleRequestResponseValidator, type EnsembleRequestResponse } from '@netbreeder/shared-types';
+import { dirname, join, resolve } from 'node:path';
+import type { EnsembleRequestResponse } from '@netbreeder/shared-types';
+import { CoordinatorClient } from './coordinator-client.js';
 
 /** Downloads a run's champion export from a coordinator into `outDir` (its averaging ensemble, if any, into `outDir/ensemble/`); returns the files written. */
 export async function downloadChampion(
@@ -10,33 +11,21 @@ export async function downloadChampion(
   adminToken: string | null,
   onFile?: (name: string, bytes: number) => void,
 ): Promise<string[]> {
-  const headers = adminToken ? { authorization: `Bearer ${adminToken}` } : undefined;
-  const base = new URL(`/runs/${encodeURIComponent(runId)}/champion`, coordinatorUrl);
-  const res = await fetch(base, { headers });
-  if (!res.ok) {
-    const body = (await res.json().catch(() => null)) as { error?: { message?: string; fix?: string } } | null;
-    throw new Error(`coordinator answered ${res.status} for run ${runId}: ${body?.error?.message ?? res.statusText}${body?.error?.fix ? ` (${body.error.fix})` : ''}`);
-  }
-  const summary = (await res.json()) as { files: string[]; ensemble?: { files: string[] } | null };
-  await mkdir(outDir, { recursive: true });
-  const written: string[] = [];
-  for (const name of summary.files) {
-    const fileRes = await fetch(`${base.toString()}/files/${encodeURIComponent(name)}`, { headers });
-    if (!fileRes.ok) throw new Error(`cannot download ${name}: HTTP ${fileRes.status}${fileRes.status === 401 ? ' (export needs the admin token: --admin-token or NETBREEDER_ADMIN_TOKEN)' : ''}`);
-    const bytes = Buffer.from(await fileRes.arrayBuffer());
-    await writeFile(join(outDir, name), bytes);
-    onFile?.(name, bytes.length);
-    written.push(resolve(outDir, name));
-  }
+  const client = new CoordinatorClient(coordinatorUrl, adminToken);
+  const summary = await client.champion(runId);
+  const run = `/runs/${encodeURIComponent(runId)}`;
   // The averaging ensemble, when the run has one, goes into its own folder.
-  for (const name of summary.ensemble?.files ?? []) {
-    const fileRes = await fetch(new URL(`/runs/${encodeURIComponent(runId)}/ensemble/files/${encodeURIComponent(name)}`, coordinatorUrl), { headers });
-    if (!fileRes.ok) throw new Error(`cannot download ensemble file ${name}: HTTP ${fileRes.status}`);
-    const bytes = Buffer.from(await fileRes.arrayBuffer());
-    await mkdir(join(outDir, 'ensemble'), { recursive: true });
-    await writeFile(join(outDir, 'ensemble', name), bytes);
-    onFile?.(`ensemble/${name}`, bytes.length);
-    written.push(resolve(outDir, 'ensemble', name));
+  const files = [
+    ...summary.files.map((name) => ({ path: `${run}/champion/files/${encodeURIComponent(name)}`, to: name })),
+    ...(summary.ensemble?.files ?? []).map((name) => ({ path: `${run}/ensemble/files/${encodeURIComponent(name)}`, to: join('ensemble', name) })),
+  ];
+  const written: string[] = [];
+  for (const f of files) {
+    const bytes = await client.file(f.path);
+    await mkdir(join(outDir, dirname(f.to)), { recursive: true });
+    await writeFile(join(outDir, f.to), bytes);
+    onFile?.(f.to, bytes.length);
+    written.push(resolve(outDir, f.to));
   }
   return written;
 }
@@ -55,19 +44,15 @@ export async function requestEnsembleAndWait(
   onAccepted?: (answer: EnsembleRequestResponse) => void,
   pollMs = 2000,
 ): Promise<EnsembleRequestResponse> {
-  const auth: Record<string, string> = adminToken ? { authorization: `Bearer ${adminToken}` } : {};
-  const res = await fetch(new URL(`/runs/${encodeURIComponent(runId)}/ensemble`, coordinatorUrl), { method: 'POST', headers: { ...auth, 'content-type': 'application/json' }, body: JSON.stringify(settings) });
-  const body = (await res.json()) as { error?: { code: string; message: string; fix: string } };
-  if (res.status !== 202) throw new Error(`ensemble refused (${res.status} ${body.error?.code}): ${body.error?.message}; ${body.error?.fix}`);
-  const answer = ensembleRequestResponseValidator.parse(body);
+  const client = new CoordinatorClient(coordinatorUrl, adminToken);
+  const answer = await client.requestEnsemble(runId, settings);
   onAccepted?.(answer);
   for (;;) {
     await new Promise((r) => setTimeout(r, pollMs));
-    const runs = (await (await fetch(new URL('/runs', coordinatorUrl), { headers: auth })).json()) as Array<{ id: string; state: string }>;
-    const state = runs.find((r) => r.id === runId)?.state;
+    const state = (await client.runs()).find((r) => r.id === runId)?.state;
     if (state === 'failed' || state === 'stopped') throw new Error(`run ${runId} ended ${state} while its ensemble trained; see the coordinator's events`);
     if (state !== 'finished') continue;
-    const summary = (await (await fetch(new URL(`/runs/${encodeURIComponent(runId)}/champion`, coordinatorUrl), { headers: auth })).json()) as { ensemble?: { round: number } | null };
+    const summary = await client.champion(runId);
     if (summary.ensemble?.round === answer.round) return answer;
     throw new Error(`run ${runId} finished its ensemble round ${answer.round} without scoring an ensemble (fewer than two members trained); see the coordinator's events`);
   }

@@ -1,5 +1,5 @@
 import { parseArgs } from 'node:util';
-import { championPickResponseValidator } from '@netbreeder/shared-types';
+import { CoordinatorClient } from './coordinator-client.js';
 import { DEFAULT_PORT } from '../coordinator.js';
 
 export const PICK_HELP = `netbreeder pick: choose a run's champion yourself, such as a genome of its accuracy-against-size front.
@@ -28,14 +28,7 @@ export async function pickCommand(argv: string[], out: NodeJS.WritableStream = p
   if (!runId || !genomeHash || positionals.length > 2) throw new Error('pick needs a run id and a genome hash: netbreeder pick RUN_ID GENOME_HASH');
   const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN;
   const base = values.coordinator ?? process.env.NETBREEDER_COORDINATOR_URL ?? `http://127.0.0.1:${DEFAULT_PORT}`;
-  const res = await fetch(new URL(`/runs/${encodeURIComponent(runId)}/champion/pick`, base), {
-    method: 'POST',
-    headers: { 'content-type': 'application/json', ...(token ? { authorization: `Bearer ${token}` } : {}) },
-    body: JSON.stringify({ genomeHash }),
-  });
-  const body = (await res.json()) as { error?: { code: string; message: string; fix: string } };
-  if (!res.ok) throw new Error(`pick refused (${res.status} ${body.error?.code}): ${body.error?.message}; ${body.error?.fix}`);
-  const picked = championPickResponseValidator.parse(body);
+  const picked = await new CoordinatorClient(base, token).pick(runId, genomeHash);
   const when = picked.retraining ? 'is being trained again and will replace the champion' : 'will be the champion when the search ends';
   out.write(`run ${picked.runId}: ${picked.genomeHash.slice(0, 12)} (evaluation ${picked.evaluationId}, validation ${(picked.valAccuracy * 100).toFixed(2)}%) ${when}\n`);
   return 0;

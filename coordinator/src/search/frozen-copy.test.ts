@@ -3,7 +3,7 @@ import { defaultSearchSpace } from '@netbreeder/shared-types';
 import { createSearchAlgorithm } from './search-algorithm.js';
 import { AgingEvolution } from './aging-evolution.js';
 import { ParetoEvolution } from './pareto-evolution.js';
-import { SuccessiveHalving } from './successive-halving.js';
+import { type SuccessiveHalving } from './successive-halving.js';
 import { IMAGE } from './test-fixtures.js';
 
 /**

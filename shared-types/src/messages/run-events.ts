@@ -128,7 +128,7 @@ export const RUN_EVENT_SCHEMAS = {
     genomeHash: Hash,
     sourceEvaluationId: Id,
     epochs: Type.Integer({ minimum: 1 }),
-    rule: OneOf('run-file', 'learning-curve', 'genome-epochs', 'still-rising'),
+    rule: OneOf('run-file', 'learning-curve', 'genome-epochs', 'still-rising', 'within-noise'),
     detail: Text,
   }),
   /** A final training scored once on the test split. `backend`, `latencyMsPerSample`, `champion` and `round` are absent in records older than them. */

@@ -170,7 +170,7 @@ export class WorkerAgent {
         void this.worker.pause(true);
       } else if (load <= threshold && this.worker.isPaused() && !this.quarantined) {
         this.log.info({ load: Number(load.toFixed(2)), threshold }, 'the PC is idle again: taking jobs');
-        this.worker.resume();
+        void this.worker.resume();
       }
     };
     this.idleTimer = setInterval(check, this.options.idleCheckMs);

@@ -1,4 +1,4 @@
-import * as tf from '@tensorflow/tfjs';
+import type * as tf from '@tensorflow/tfjs';
 import { assertNhwc, filterGradPads, geometry, type ConvGeometry } from './conv-gradients.js';
 import { pair, type KernelBackendLike, WasmOpRunner } from './wasm-op-runner.js';
 
