@@ -38,8 +38,13 @@ export async function predictFile(model: LoadedChampion, input: string, options:
   const { classNames, steps } = model.preprocessing;
   const tmp = options.out ? `${options.out}.partial-${process.pid}` : null;
   const stream: WriteStream | null = tmp ? createWriteStream(tmp) : null;
+  // A write that fails (a full disk), or one still in flight when a bad input destroys the stream,
+  // is an 'error' event: kept here and thrown from the next write, never left unhandled.
+  let streamError: Error | null = null;
+  stream?.on('error', (err) => void (streamError ??= err));
   const emit = async (text: string): Promise<void> => {
     if (!stream) return void options.write?.(text);
+    if (streamError) throw streamError;
     if (!stream.write(text)) await once(stream, 'drain');
   };
   const outcome: PredictOutcome = { predicted: 0, failed: [] };
@@ -98,12 +103,15 @@ export async function predictFile(model: LoadedChampion, input: string, options:
     if (stream && tmp && options.out) {
       stream.end();
       await once(stream, 'finish');
+      if (streamError) throw streamError;
       await rename(tmp, options.out);
     }
     return outcome;
   } catch (err) {
     if (stream && tmp) {
       stream.destroy();
+      // Not events.once: it would reject on the error of a write still in flight, hiding the input's.
+      if (!stream.closed) await new Promise<void>((resolve) => stream.once('close', () => resolve()));
       await rm(tmp, { force: true });
     }
     throw err;
