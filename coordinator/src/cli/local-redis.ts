@@ -61,7 +61,8 @@ function stopChild(child: ChildProcess): Promise<void> {
   });
 }
 
-function freeLoopbackPort(): Promise<number> {
+/** A free TCP port on the loopback interface. */
+export function freeLoopbackPort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const srv = createServer();
     srv.once('error', reject);

@@ -1,23 +1,13 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { readFileSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { join } from 'node:path';
 import { tsxNodeArgs } from '@netbreeder/coordinator';
 import { waitFor } from './harness.js';
 
 const root = join(import.meta.dirname, '..', '..', '..');
 
-/** A free TCP port on the loopback interface. */
-export function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as { port: number };
-      srv.close(() => resolve(port));
-    });
-  });
-}
+/** A free TCP port on the loopback interface (the one `netbreeder run` takes for a private Redis). */
+export { freeLoopbackPort as freePort } from '@netbreeder/coordinator';
 
 /** A process with its stderr kept for failure messages. */
 export interface Managed {
