@@ -1,4 +1,4 @@
-/** The `netbreeder` command's sub-commands: coordinator, worker, demo, status, export. */
+/** The `netbreeder` command's sub-commands: init, run, coordinator, worker, demo, status, export, … */
 import { parseArgs } from 'node:util';
 import { runWorkerCli, takeLogFormatOption, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
 import { statusResponseValidator } from '@netbreeder/shared-types';
@@ -16,11 +16,13 @@ import { replayCommand } from './replay-command.js';
 import { pickCommand } from './pick-command.js';
 import { predictCommand } from './predict-command.js';
 import { runCommand } from './run-command.js';
+import { initCommand } from './init-command.js';
 import { CoordinatorClient } from './coordinator-client.js';
 
 export const HELP = `netbreeder: evolve a small neural network for your data on the spare CPUs of an office.
 
 Commands:
+  init DATA     look at a CSV table or image folder and write a run file for it
   run FILE      a whole run on this machine: coordinator, local workers, summary, export
   coordinator   run the coordinator (store, queue, HTTP API) and drive a run
   worker        join a coordinator and train candidates on this PC
@@ -308,6 +310,7 @@ export const COMMANDS: Record<string, (argv: string[]) => Promise<number>> = {
   worker: runWorkerCli,
   demo: demoCommand,
   run: runCommand,
+  init: (argv) => initCommand(argv),
   status: statusCommand,
   export: exportCommand,
   replay: (argv) => replayCommand(argv),

@@ -53,6 +53,11 @@ export async function readRunConfigFile(path: string): Promise<RunConfig> {
   } catch (err) {
     throw new Error(`cannot read run file ${path}: ${(err as Error).message}`);
   }
+  return runConfigFromText(text, path);
+}
+
+/** Parses the text of a run file that is (or will be) at `path`, as {@link readRunConfigFile} does. */
+export function runConfigFromText(text: string, path: string): RunConfig {
   let json: unknown;
   try {
     json = JSON.parse(text);
