@@ -214,15 +214,35 @@ describe('the dashboard page, live, in headless chromium', () => {
     expect((await drawnCharts(page)).scatter[0]!.drawn).toBe(store.counts(run.id).done);
     await page.click('#size-params');
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-finished.png'), fullPage: true });
-    // A laptop screen: nothing wider than the window.
-    await page.setViewportSize({ width: 1280, height: 800 });
-    await page.waitForTimeout(300);
-    const overflow = await page.evaluate(() => {
-      const root = (globalThis as unknown as { document: { documentElement: { scrollWidth: number; clientWidth: number } } }).document.documentElement;
-      return root.scrollWidth - root.clientWidth;
+    // A laptop and a desktop screen: nothing wider than the window, and no tile cuts its text.
+    for (const width of [1280, 1920]) {
+      await page.setViewportSize({ width, height: 900 });
+      await page.waitForTimeout(300);
+      const layout = await page.evaluate(() => {
+        type Box = { scrollWidth: number; clientWidth: number; id: string; textContent: string | null };
+        const doc = (globalThis as unknown as { document: { documentElement: Box; querySelectorAll(s: string): ArrayLike<Box> } }).document;
+        const cut = Array.from(doc.querySelectorAll('.tile-label, .tile-value, .tile-note'))
+          .filter((e) => e.scrollWidth > e.clientWidth)
+          .map((e) => `${e.id || 'a label'}: "${e.textContent ?? ''}"`);
+        return { overflow: doc.documentElement.scrollWidth - doc.documentElement.clientWidth, cut, notes: Array.from(doc.querySelectorAll('.tile-note')).filter((e) => e.textContent).length };
+      });
+      expect(layout.overflow, `at ${width} px`).toBe(0);
+      expect(layout.notes).toBeGreaterThanOrEqual(6); // the check looked at filled tiles
+      expect(layout.cut, `tiles that cut their text at ${width} px`).toEqual([]);
+      await page.screenshot({ path: join(ARTIFACTS, `dashboard-${width}.png`) });
+    }
+
+    // The pill shows the phase the coordinator reports: here the real status of this run, with the
+    // phase a searching run has while its done search waits for open verifications (when the
+    // coordinator says so is checked in run-lifecycle.test.ts).
+    const statusUrl = (url: URL) => url.pathname === '/status';
+    await page.route(statusUrl, async (route) => {
+      const real = (await (await route.fetch()).json()) as { run: Record<string, unknown> };
+      await route.fulfill({ json: { ...real, run: { ...real.run, state: 'searching', phase: 'verifying' } } });
     });
-    expect(overflow).toBe(0);
-    await page.screenshot({ path: join(ARTIFACTS, 'dashboard-laptop.png') });
+    await waitFor('the page to show the run verifying', async () => ((await page.textContent('#run-state')) === 'verifying' ? true : null), 20_000, 250);
+    await page.unroute(statusUrl);
+    await waitFor('the page to show the run finished again', async () => ((await page.textContent('#run-state')) === 'finished' ? true : null), 20_000, 250);
 
     await page.emulateMedia({ media: 'print' });
     type Page = { getComputedStyle(e: unknown): { backgroundColor: string }; document: { body: unknown } };

@@ -24,7 +24,7 @@ export function progressLine(s: StatusResponse): string {
   const alive = s.workers.filter((w) => w.alive).length;
   const e = s.evaluations;
   return [
-    `[${clock(s.run?.elapsedSeconds ?? 0)}] ${s.run?.state ?? 'no run'}`,
+    `[${clock(s.run?.elapsedSeconds ?? 0)}] ${s.run?.phase ?? s.run?.state ?? 'no run'}`,
     `${e.done} done`,
     `${e.running} running`,
     `${e.queued} queued`,

@@ -64,13 +64,15 @@
     text($('foot-coordinator'), `coordinator ${s.coordinator.version}, up ${duration(s.coordinator.uptimeSeconds)}`);
     if (!run) return;
     text($('run-name'), run.name);
+    // The phase says 'verifying' while a done search waits for open verifications (older coordinators send only the state).
+    const phase = run.phase ?? run.state;
     const pill = $('run-state');
-    pill.className = `pill pill-${run.state}`;
-    text(pill, run.state.replace('-', ' '));
+    pill.className = `pill pill-${phase}`;
+    text(pill, phase.replace('-', ' '));
     text($('run-id'), run.id);
     text($('run-algorithm'), `${run.algorithm} · seed ${run.seed}`);
     text($('run-elapsed'), `${duration(run.elapsedSeconds)} of at most ${run.maxMinutes} min`);
-    document.title = `${run.name} · ${run.state} · netbreeder`;
+    document.title = `${run.name} · ${phase} · netbreeder`;
 
     const e = s.evaluations;
     text($('tile-done'), String(e.done));
@@ -89,7 +91,7 @@
     text($('tile-workers-note'), `${s.workers.length} seen · ${training.length ? `${compact(training.reduce((t, w) => t + w.samplesPerSecond, 0))} samples/s now` : 'none training'}`);
     const reg = s.champion?.testRegression;
     text($('tile-champion'), s.champion ? (reg ? rmse(reg.rmse) : pct(s.champion.testAccuracy)) : '–');
-    text($('tile-champion-note'), s.champion ? (reg ? `test · predicting the mean: ${rmse(reg.baselineRmse)}` : `validation ${pct(s.champion.valAccuracy)}`) : run.state === 'training-champion' ? 'training now…' : 'after the search');
+    text($('tile-champion-note'), s.champion ? (reg ? `test · predicting the mean: ${rmse(reg.baselineRmse)}` : `validation ${pct(s.champion.valAccuracy)}`) : run.state === 'training-champion' ? 'training now…' : phase === 'verifying' ? 'once verifications are in' : 'after the search');
     showReference(s.reference);
     showWorkers(s.workers);
     showTrust(s);

@@ -318,7 +318,8 @@ export class RunManager {
     return limit !== undefined && this.samplesSpent >= limit;
   }
 
-  private searchBudgetSpent(run: RunRecord): boolean {
+  /** True once the run's search is done: its budget spent, or a finish asked. */
+  searchBudgetSpent(run: RunRecord): boolean {
     if (this.finishRequested || this.sampleBudgetReached(run.id)) return true;
     const elapsedMin = (this.now() - (run.searchStartedAt ?? run.createdAt)) / 60_000;
     return run.proposals >= run.config.budget.maxEvaluations || elapsedMin >= run.config.budget.maxMinutes;

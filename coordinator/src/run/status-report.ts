@@ -3,6 +3,7 @@ import type { RunManager } from './run-manager.js';
 import { trustStatus } from '../trust/trust-status.js';
 import { referenceComparison } from '../champion/reference-comparison.js';
 import { championTestRegression } from '../champion/regression-scores.js';
+import { runPhase } from '../store/run-lifecycle.js';
 
 const iso = (ms: number) => new Date(ms).toISOString();
 
@@ -34,6 +35,7 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
           id: run.id,
           name: run.name,
           state: run.state,
+          phase: runPhase(run.state, manager.searchBudgetSpent(run), trust.run.verification?.open ?? 0),
           algorithm: run.config.search.algorithm,
           seed: run.seed,
           createdAt: iso(run.createdAt),

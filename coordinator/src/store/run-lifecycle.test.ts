@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { RunState } from '@netbreeder/shared-types';
-import { ENDED_RUN_STATES, IllegalRunTransitionError, OPEN_RUN_STATES, RUN_CONTROLS, RUN_STATES, assertTransition, controlTarget, isLegalTransition } from './run-lifecycle.js';
+import { ENDED_RUN_STATES, IllegalRunTransitionError, OPEN_RUN_STATES, RUN_CONTROLS, RUN_STATES, assertTransition, controlTarget, isLegalTransition, runPhase } from './run-lifecycle.js';
 
 /** The legal changes, written out by hand from what the coordinator does (the run manager's controls, the champion phase, a later champion round). */
 const LEGAL = new Set([
@@ -55,5 +55,12 @@ describe('run lifecycle', () => {
     expect(controlTarget('finish', 'training-champion')).toBeNull();
     expect(controlTarget('stop', 'training-champion')).toBe('stopped');
     expect(controlTarget('stop', 'finished')).toBeNull();
+  });
+
+  it('is shown as verifying only while a done search waits for open verifications', () => {
+    expect(runPhase('searching', true, 2)).toBe('verifying');
+    expect(runPhase('searching', true, 0)).toBe('searching'); // the champion phase starts at the next pass
+    expect(runPhase('searching', false, 2)).toBe('searching'); // spot checks while the search goes on
+    for (const state of RUN_STATES.filter((s) => s !== 'searching')) expect(runPhase(state, true, 3)).toBe(state);
   });
 });

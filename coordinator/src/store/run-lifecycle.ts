@@ -1,4 +1,4 @@
-import type { RunState } from '@netbreeder/shared-types';
+import type { RunPhase, RunState } from '@netbreeder/shared-types';
 
 /**
  * A run's lifecycle: its states, the changes of state that are legal, and which states end it.
@@ -41,6 +41,15 @@ export const OPEN_RUN_STATES: readonly RunState[] = RUN_STATES.filter((s) => !EN
 export const sqlStateList = (states: readonly RunState[]): string => states.map((s) => `'${s}'`).join(', ');
 
 export const isRunEnded = (state: RunState): boolean => ENDED_RUN_STATES.includes(state);
+
+/**
+ * What a run is doing, as people are shown it: `verifying` while it is still `searching` but its
+ * search is done (budget spent or finish asked) and verifications are open, which the champion
+ * phase waits for; otherwise its state.
+ */
+export function runPhase(state: RunState, searchDone: boolean, openVerifications: number): RunPhase {
+  return state === 'searching' && searchDone && openVerifications > 0 ? 'verifying' : state;
+}
 
 /** True when a run may go from `from` to `to` (staying in the same state is not a change). */
 export const isLegalTransition = (from: RunState, to: RunState): boolean => TRANSITIONS[from].includes(to);

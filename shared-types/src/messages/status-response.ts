@@ -8,6 +8,14 @@ import { AccountingStatusSchema, CpuFiguresSchema, VerificationStatusSchema, Wor
 export const RunStateSchema = Type.Union([Type.Literal('preparing'), Type.Literal('searching'), Type.Literal('paused'), Type.Literal('training-champion'), Type.Literal('finished'), Type.Literal('failed'), Type.Literal('stopped')]);
 export type RunState = Static<typeof RunStateSchema>;
 
+/**
+ * What a run is doing now, for the people watching it: its state, except `verifying` while a
+ * searching run has spent its budget (or was asked to finish) and waits for open verifications
+ * before it trains the champion.
+ */
+export const RunPhaseSchema = Type.Union([RunStateSchema, Type.Literal('verifying')]);
+export type RunPhase = Static<typeof RunPhaseSchema>;
+
 const Nullable = <T extends import('@sinclair/typebox').TSchema>(t: T) => Type.Union([t, Type.Null()]);
 
 /** In a regression run `valAccuracy` and `testAccuracy` hold the search fitness 1 / (1 + standardised RMSE); show the `…Regression` scores instead. */
@@ -89,6 +97,8 @@ export const StatusResponseSchema = Type.Object({
       id: Type.String(),
       name: Type.String(),
       state: RunStateSchema,
+      /** The state as the dashboard and the CLI show it (see {@link RunPhaseSchema}); absent from coordinators before it. */
+      phase: Type.Optional(RunPhaseSchema),
       algorithm: Type.String(),
       seed: Type.Integer(),
       createdAt: Type.String(),
