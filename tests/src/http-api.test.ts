@@ -1,9 +1,28 @@
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
 import type { InjectOptions } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { statusResponseValidator, WORKER_PROTOCOL_VERSION, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import pino from 'pino';
 import { HeartbeatSender } from '@netbreeder/worker';
 import { TestCluster, waitFor } from './support/harness.js';
+
+/** `METHOD /path` of every route in fastify's route tree (`printRoutes({ commonPrefix: false })`), HEAD left out. */
+function routesOfTree(tree: string): string[] {
+  const stack: string[] = [];
+  const routes: string[] = [];
+  for (const line of tree.split('\n')) {
+    const at = line.indexOf('── ');
+    if (at < 0) continue;
+    const m = /^(\S+)(?: \(([^)]*)\))?/.exec(line.slice(at + 3))!;
+    const depth = Math.round(at / 4);
+    const parent = depth === 0 ? '' : stack[depth - 1]!;
+    const path = parent === '/' ? `/${m[1]!.replace(/^\//, '')}` : parent + m[1]!;
+    stack[depth] = path;
+    for (const method of (m[2] ?? '').split(', ').filter((x) => x && x !== 'HEAD')) routes.push(`${method} ${path}`);
+  }
+  return routes;
+}
 
 const heartbeat = (over: Partial<WorkerHeartbeat> = {}): WorkerHeartbeat => ({
   schemaVersion: 1, workerId: 'pc-7', host: 'pc-7', pid: 123, cores: 4, backend: 'wasm', backendReason: 'test', state: 'idle',
@@ -21,6 +40,19 @@ describe('coordinator HTTP API', () => {
   /** Requests as a worker would send them, with the join token. */
   const inject = (opts: InjectOptions) =>
     cluster.coordinator.http.inject({ ...opts, headers: { authorization: `Bearer ${cluster.coordinator.secrets.joinToken}`, ...opts.headers } });
+
+  it('serves exactly the routes docs/http-api.md lists, each with the access it names', async () => {
+    const doc = readFileSync(join(import.meta.dirname, '..', '..', 'docs', 'http-api.md'), 'utf8');
+    const documented = [...doc.matchAll(/^\| `(GET|POST|PUT|DELETE) ([^`?\s]+)[^`]*` \| (public|status|join|admin) \|/gm)].map((m) => ({ route: `${m[1]} ${m[2]}`, access: m[3]! }));
+    expect(documented.length, 'routes found in the table').toBeGreaterThan(20);
+    expect(documented.map((d) => d.route).sort()).toEqual(routesOfTree(cluster.coordinator.http.printRoutes({ commonPrefix: false })).sort());
+    // Without a token, exactly the join and admin routes refuse (this coordinator's status is public).
+    for (const { route, access } of documented) {
+      const [method, path] = route.split(' ') as ['GET' | 'POST' | 'PUT', string];
+      const res = await cluster.coordinator.http.inject({ method, url: path.replace(':sha256', '0'.repeat(64)).replace(/:\w+/g, 'x') });
+      expect(res.statusCode === 401, `${route} without a token answered ${res.statusCode}`).toBe(access === 'join' || access === 'admin');
+    }
+  });
 
   it('answers GET /status with a valid status before any run exists', async () => {
     const res = await inject({ method: 'GET', url: '/status' });

@@ -7,7 +7,7 @@ import { REDIS_URL, TestCluster, waitFor } from './support/harness.js';
 import { workerAclRules } from './support/worker-acl.js';
 
 /**
- * Workers on office PCs should not hold Redis's admin password. README.md documents a Redis ACL
+ * Workers on office PCs should not hold Redis's admin password. docs/operating.md documents a Redis ACL
  * user limited to the search's key prefix and the commands BullMQ needs; this test creates exactly
  * that user on the real Redis, runs a worker with it through a real run, and checks what the user
  * may not do.

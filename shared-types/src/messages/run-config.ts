@@ -263,8 +263,7 @@ export const RunConfigSchema = Type.Object(
          * `asha` and `asha-evolution`: the reference network moves up every rung whatever its rank,
          * so the champion's choice always has it trained for the top rung's budget (at the cost of
          * that training). Off by default: on the MNIST benchmark it did not change the champions'
-         * test error beyond the spread between seeds (README, "Does the search beat a hand-made
-         * network?"). @default false
+         * test error beyond the spread between seeds (docs/search-benchmark.md). @default false
          */
         promoteReference: Type.Boolean({ default: false }),
       },

@@ -7,7 +7,7 @@ import { FAULT_LOCK_MS, FAULT_STALLED_CHECK_MS, faultWorkerArgs, writeFaultRunFi
 /**
  * A worker killed with SIGKILL mid-training (a PC switched off): its job goes back to the queue
  * when its lock runs out, another worker trains it, and it is recorded once. Bound: lock length
- * plus one stalled-check interval, plus the retraining (README "When PCs vanish").
+ * plus one stalled-check interval, plus the retraining (docs/operating.md, "When PCs vanish").
  */
 describe('a worker killed mid-job', () => {
   let cluster: TestCluster;

@@ -1,5 +1,5 @@
 /**
- * The ACL rules of a worker's Redis user, as README.md documents them (keep the two in step):
+ * The ACL rules of a worker's Redis user, as docs/operating.md documents them (keep the two in step):
  * keys and channels under the search's prefix only; the command groups BullMQ's worker uses
  * (reading and writing its keys, its Lua scripts, blocking pops, streams for events, pub/sub),
  * INFO (BullMQ checks the server version) and CLIENT (it names its connections); nothing else.
