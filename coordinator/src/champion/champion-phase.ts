@@ -110,7 +110,8 @@ export class ChampionPhase {
       if (existing.has(c.seq)) continue;
       const source = this.o.store.getEvaluation(c.sourceEvaluationId)!;
       const { maxSamples } = run.config.champion;
-      const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount;
+      const holdout = heldBack && (c.seq === pair!.champion.seq || c.seq === pair!.reference.seq) ? heldBack : 0;
+      const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount - holdout;
       const budgetMaxEpochs = maxSamples === undefined ? undefined : Math.max(1, Math.min(1000, Math.floor(maxSamples / trainAndVal)));
       // A learning curve that does not count (a quarantined worker's: only the reference network
       // can have one here) says nothing about the length.
@@ -128,7 +129,7 @@ export class ChampionPhase {
         seed: source.job.seed,
         budget: { epochs: length.epochs, maxSeconds: run.config.champion.maxSeconds, ...(maxSamples === undefined ? {} : { maxSamples }) },
         // The champion and the reference leave the same validation samples out, for the held-back check.
-        ...(heldBack && (c.seq === pair!.champion.seq || c.seq === pair!.reference.seq) ? { selectionHoldout: heldBack } : {}),
+        ...(holdout ? { selectionHoldout: holdout } : {}),
       };
       this.o.store.transaction(() => {
         this.o.store.addEvaluation(job, c.seq, this.o.now(), false);
