@@ -95,6 +95,10 @@ export class ChampionPhase {
     return { candidates: out, choice, considered };
   }
 
+  private roundChoice(runId: string): ChampionChoice | undefined {
+    return this.o.store.events(runId, 'champion-candidates').at(-1)?.detail.choice;
+  }
+
   candidates(runId: string): ChampionCandidate[] {
     const ev = this.o.store.events(runId, 'champion-candidates').at(-1);
     return ev ? ev.detail.candidates : [];
@@ -104,7 +108,8 @@ export class ChampionPhase {
   async ensureJobs(run: RunRecord): Promise<void> {
     const existing = new Set(this.o.store.evaluations(run.id, 'champion').map((e) => e.seq));
     const candidates = this.candidates(run.id);
-    const pair = heldBackPair(candidates);
+    // A user's pick is exported as picked: no check may replace it.
+    const pair = this.roundChoice(run.id)?.by === 'pick' ? null : heldBackPair(candidates);
     const heldBack = pair ? heldBackCount(run.dataset.manifest.valCount, run.config.champion.selectionShare) : 0;
     for (const c of candidates) {
       if (existing.has(c.seq)) continue;
