@@ -2,7 +2,10 @@ import { defineConfig } from 'vitest/config';
 
 /**
  * Two projects: `unit` (pure logic, fast, beside the code it checks) and
- * `integration` (real Redis, real worker processes, real training; in tests/).
+ * `integration` (real Redis, real worker processes, real training; in tests/). Two integration
+ * files run at a time: one alone keeps about two thirds of one core busy (process start-ups,
+ * lock expiries, HTTP round trips), so on a 2-core machine the pair roughly fills it. Each file
+ * has its own queue prefix, ports (port 0), folders and private Redis servers, so they never meet.
  * Run one file with `npx vitest run path/to/file.test.ts`.
  */
 export default defineConfig({
@@ -21,7 +24,7 @@ export default defineConfig({
           include: ['tests/src/**/*.test.ts'],
           testTimeout: 300_000,
           hookTimeout: 120_000,
-          fileParallelism: false,
+          maxWorkers: 2,
         },
       },
     ],

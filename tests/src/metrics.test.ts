@@ -171,9 +171,16 @@ describe('GET /metrics with a real run', () => {
     expect(sample(m, 'netbreeder_training_samples_per_second')).toBeCloseTo(trainingNow, 6);
     // throughput since start agrees with GET /status (both from the store)
     expect(sample(m, 'netbreeder_throughput_evaluations_per_minute', { window: 'since_start' })).toBeCloseTo(status.throughput.perMinuteSinceStart, 6);
-    // queue depth straight from BullMQ's job counts
-    const jobs = await cluster.coordinator.queue.counts();
-    for (const [state, n] of Object.entries(jobs)) expect(sample(m, 'netbreeder_queue_jobs', { state }), state).toBe(n);
+    // queue depth straight from BullMQ's job counts, read while the queue stands still (the
+    // coordinator removes finished jobs, which may happen between a scrape and a count)
+    const queue = cluster.coordinator.queue;
+    const settled = await waitFor('a scrape between two equal queue counts', async () => {
+      const before = JSON.stringify(await queue.counts());
+      const scraped = parseStrict(await scrape(url));
+      const after = await queue.counts();
+      return before === JSON.stringify(after) ? { scraped, jobs: after } : null;
+    }, 20_000, 200);
+    for (const [state, n] of Object.entries(settled.jobs)) expect(sample(settled.scraped, 'netbreeder_queue_jobs', { state }), state).toBe(n);
   });
 
   it('reads the same after a coordinator restart: nothing is counted only in memory', async () => {

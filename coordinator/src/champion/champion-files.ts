@@ -58,6 +58,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const genome = store.getGenome(champion.genomeHash)!;
   const championsRound = own?.round ?? 0;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
+  const heldBack = store.getEvaluation(champion.evaluationId)?.job.selectionHoldout;
   return {
     runId: run.id,
     runName: run.name,
@@ -86,7 +87,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
       seconds: champion.result.trainSeconds,
       backend: champion.result.backend,
       workerId: champion.result.workerId,
-      data: 'train + validation',
+      data: heldBack ? `train + validation, less the ${heldBack} validation samples held back for the check against the reference network` : 'train + validation',
       /** Which rule set the epochs (run file, learning curve, the search training's budget), in words; null for runs from before the record. */
       length: store.events(run.id, 'champion-training-length').map((e) => e.detail).filter((d) => d.genomeHash === champion.genomeHash).at(-1) ?? null,
     },
@@ -117,6 +118,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
     })),
     /** The champion's test score beside the run's reference network's, and the plain line that compares them. */
     reference: referenceComparison(store, run.id),
+    /** The held-back check of the champion's round (`champion.selectionShare`): which of the search's champion and the reference network was exported, and their scores on the held-back samples; null when there was none. */
+    heldBackCheck: store.events(run.id, 'champion-held-back-check').map((e) => e.detail).filter((d) => d.round === championsRound).at(-1) ?? null,
     /** Every genome that got the final training, with its validation (search) and test scores. */
     candidates: scored
       // Only the round that made the champion (a pick after the run finished starts a new one).

@@ -8,6 +8,7 @@ import { scoreEnsemble } from './score-ensemble.js';
 import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, type ChampionChoice } from './champion-choice.js';
 import { finalTrainingLength } from './final-length.js';
 import { referenceSource, type ConsideredGenome } from './reference-comparison.js';
+import { heldBackCount, heldBackPair, heldBackWinner } from './held-back-check.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 /** A genome the champion phase trains again (the `champion-candidates` event's schema). */
@@ -94,6 +95,10 @@ export class ChampionPhase {
     return { candidates: out, choice, considered };
   }
 
+  private roundChoice(runId: string): ChampionChoice | undefined {
+    return this.o.store.events(runId, 'champion-candidates').at(-1)?.detail.choice;
+  }
+
   candidates(runId: string): ChampionCandidate[] {
     const ev = this.o.store.events(runId, 'champion-candidates').at(-1);
     return ev ? ev.detail.candidates : [];
@@ -102,11 +107,16 @@ export class ChampionPhase {
   /** Queues each candidate's final training once (idempotent across restarts). */
   async ensureJobs(run: RunRecord): Promise<void> {
     const existing = new Set(this.o.store.evaluations(run.id, 'champion').map((e) => e.seq));
-    for (const c of this.candidates(run.id)) {
+    const candidates = this.candidates(run.id);
+    // A user's pick is exported as picked: no check may replace it.
+    const pair = this.roundChoice(run.id)?.by === 'pick' ? null : heldBackPair(candidates);
+    const heldBack = pair ? heldBackCount(run.dataset.manifest.valCount, run.config.champion.selectionShare) : 0;
+    for (const c of candidates) {
       if (existing.has(c.seq)) continue;
       const source = this.o.store.getEvaluation(c.sourceEvaluationId)!;
       const { maxSamples } = run.config.champion;
-      const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount;
+      const holdout = heldBack && (c.seq === pair!.champion.seq || c.seq === pair!.reference.seq) ? heldBack : 0;
+      const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount - holdout;
       const budgetMaxEpochs = maxSamples === undefined ? undefined : Math.max(1, Math.min(1000, Math.floor(maxSamples / trainAndVal)));
       // A learning curve that does not count (a quarantined worker's: only the reference network
       // can have one here) says nothing about the length.
@@ -123,6 +133,8 @@ export class ChampionPhase {
         // validation) and the budget change. The reference network follows the same rules.
         seed: source.job.seed,
         budget: { epochs: length.epochs, maxSeconds: run.config.champion.maxSeconds, ...(maxSamples === undefined ? {} : { maxSamples }) },
+        // The champion and the reference leave the same validation samples out, for the held-back check.
+        ...(holdout ? { selectionHoldout: holdout } : {}),
       };
       this.o.store.transaction(() => {
         this.o.store.addEvaluation(job, c.seq, this.o.now(), false);
@@ -143,6 +155,7 @@ export class ChampionPhase {
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit(), this.o.store.getRun(ev.runId)?.dataset.manifest.target);
     const isChampion = candidate.champion !== false;
+    const exportIt = this.exportsThis(ev, candidate, result);
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
       const scored = {
@@ -171,7 +184,7 @@ export class ChampionPhase {
       if (candidate.reference) {
         this.o.store.logEvent(ev.runId, 'reference-scored', { ...scored, champion: isChampion, round: championRound(this.o.store, ev.runId) });
       }
-      if (isChampion) {
+      if (exportIt) {
         this.o.store.saveChampion(
           { runId: ev.runId, ...scored, testPredictions: Array.from(score.predictions), result: { ...result, model: undefined }, createdAt: this.o.now() },
           JSON.stringify(result.model),
@@ -180,8 +193,46 @@ export class ChampionPhase {
       return true;
     });
     if (!recorded) return;
-    this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, champion: isChampion, reference: candidate.reference === true }, 'champion candidate scored on the held-out test split');
+    this.o.log.info({ evaluationId: ev.id, testAccuracy: score.accuracy, champion: isChampion, exported: exportIt, reference: candidate.reference === true }, 'champion candidate scored on the held-out test split');
     await this.finishIfComplete(ev.runId);
+  }
+
+  /**
+   * Whether this final training becomes the run's champion (the model exported). Without the
+   * held-back check: the search's champion. With it (the job held validation samples back), the
+   * better of the champion and the reference network on those samples, decided as their results
+   * arrive: the first of the two is stored as the champion, the second replaces it only if it
+   * wins (a tie keeps the search's champion; see `heldBackWinner`). The test split plays no part.
+   */
+  private exportsThis(ev: EvaluationRecord, candidate: ChampionCandidate, result: EvaluationResult): boolean {
+    const pair = heldBackPair(this.candidates(ev.runId));
+    if (ev.job.selectionHoldout === undefined || !pair || (ev.seq !== pair.champion.seq && ev.seq !== pair.reference.seq)) return candidate.champion !== false;
+    const other = ev.seq === pair.champion.seq ? pair.reference : pair.champion;
+    const current = this.o.store.getChampion(ev.runId);
+    if (!current || current.genomeHash !== other.genomeHash) return true;
+    const mine = result.valAccuracy;
+    const theirs = current.result.valAccuracy;
+    return ev.seq === pair.champion.seq ? heldBackWinner(mine, theirs) === 'search' : heldBackWinner(theirs, mine) === 'reference';
+  }
+
+  /** Records the held-back check once both of its final trainings are done (a `champion-held-back-check` event). */
+  private logHeldBackCheck(runId: string): void {
+    const pair = heldBackPair(this.candidates(runId));
+    const round = championRound(this.o.store, runId);
+    if (!pair || this.o.store.events(runId, 'champion-held-back-check').some((e) => e.detail.round === round)) return;
+    const done = this.o.store.evaluations(runId, 'champion').filter((e) => e.state === 'done' && e.job.selectionHoldout !== undefined);
+    const champion = done.find((e) => e.seq === pair.champion.seq);
+    const reference = done.find((e) => e.seq === pair.reference.seq);
+    const exported = this.o.store.getChampion(runId);
+    if (!champion || !reference || !exported) return;
+    const side = (e: EvaluationRecord) => ({ evaluationId: e.id, genomeHash: e.genomeHash, valAccuracy: e.result?.valAccuracy ?? null });
+    this.o.store.logEvent(runId, 'champion-held-back-check', {
+      heldBack: champion.job.selectionHoldout!,
+      champion: side(champion),
+      reference: side(reference),
+      exported: exported.genomeHash === reference.genomeHash ? 'reference' : 'search',
+      round,
+    });
   }
 
   /**
@@ -239,6 +290,7 @@ export class ChampionPhase {
       this.o.store.setRunState(runId, 'failed', { now: this.o.now(), failure: 'every champion training failed; see the events' });
       return;
     }
+    this.logHeldBackCheck(runId);
     await this.scoreEnsembleOnce(run);
     this.o.store.setRunState(runId, 'finished', { now: this.o.now() });
     const finished = this.o.store.getRun(runId)!;

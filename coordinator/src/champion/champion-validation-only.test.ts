@@ -59,7 +59,10 @@ const SEARCH: Array<[Genome, number]> = [
   [dense(8, 0.005), 0.85],
 ];
 
-async function finishChampionPhase(testSplit: LabelledSamples, searchResults = SEARCH, eligible?: (ev: EvaluationRecord) => boolean) {
+/** Plays the held-back check's worker side: the score a champion job's final weights get on the held-back validation samples. */
+type HeldBackScore = (job: EvaluationJob) => number;
+
+async function finishChampionPhase(testSplit: LabelledSamples, searchResults = SEARCH, eligible?: (ev: EvaluationRecord) => boolean, heldBack?: { score: HeldBackScore; referenceFirst?: boolean }) {
   // The export at the end reads the test labels from the run's test shard, as a real run's does.
   const dataDir = mkdtempSync(join(tmpdir(), 'nb-champion-'));
   const testPath = join(dataDir, 'test.shard');
@@ -84,9 +87,10 @@ async function finishChampionPhase(testSplit: LabelledSamples, searchResults = S
   const phase = new ChampionPhase({ store, queue, log: createLogger('test', 'silent'), dataDir, now: () => 5000, testSplit: () => (testReads++, testSplit), ...(eligible ? { eligible } : {}) });
   await phase.begin(run);
   const readsWhenChosen = testReads;
-  for (const job of queued) {
+  for (const job of heldBack?.referenceFirst ? [...queued].reverse() : queued) {
     const outcome = await trainGenome({ genome: job.genome, data: DATA, train: TRAIN, val: null, budget: job.budget, seed: job.seed, exportModel: true });
-    await phase.recordResult(store.getEvaluation(job.evaluationId)!, { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: job.evaluationId, workerId: 'w1', ...outcome });
+    const valAccuracy = heldBack && job.selectionHoldout ? heldBack.score(job) : outcome.valAccuracy;
+    await phase.recordResult(store.getEvaluation(job.evaluationId)!, { schemaVersion: EVALUATION_RESULT_VERSION, evaluationId: job.evaluationId, workerId: 'w1', ...outcome, valAccuracy });
   }
   return { store, queued, readsWhenChosen, testReads };
 }
@@ -147,5 +151,36 @@ describe('the champion is chosen without the test split', () => {
     const { store, queued } = await finishChampionPhase(TEST, [[reference, 0.95], SEARCH[1]!, SEARCH[2]!]);
     expect(queued.map((j) => j.genomeHash)).toEqual([genomeHash(reference)]);
     expect(referenceComparison(store, 'r1')).toMatchObject({ state: 'scored', championIsReference: true, line: expect.stringMatching(/^the search did not beat the reference network; it is exported as the champion/) });
+  }, 120_000);
+});
+
+describe('the held-back check: the champion against the reference network after equal final trainings', () => {
+  const isReference = (job: EvaluationJob) => job.genomeHash === genomeHash(reference);
+
+  it('holds the same validation samples back from both final trainings, and from nothing else', async () => {
+    const { queued } = await finishChampionPhase(TEST);
+    // champion.selectionShare 0.5 of the fixture's validation split
+    const half = Math.floor(fixtureManifest.valCount * 0.5);
+    expect(queued.map((j) => j.selectionHoldout)).toEqual([half, half]);
+  }, 120_000);
+
+  for (const referenceFirst of [false, true]) {
+    it(`exports the reference network when it scores higher on the held-back samples (${referenceFirst ? 'its' : "the champion's"} result first), and says so`, async () => {
+      const { store } = await finishChampionPhase(TEST, SEARCH, undefined, { score: (job) => (isReference(job) ? 0.9 : 0.6), referenceFirst });
+      expect(store.getChampion('r1')!.genomeHash).toBe(genomeHash(reference));
+      const check = store.events('r1', 'champion-held-back-check').map((e) => e.detail);
+      expect(check).toEqual([expect.objectContaining({ exported: 'reference', round: 0, champion: expect.objectContaining({ valAccuracy: 0.6 }), reference: expect.objectContaining({ valAccuracy: 0.9 }) })]);
+      expect(referenceComparison(store, 'r1')).toMatchObject({ championIsReference: true });
+      const report = championFiles(store, store.getRun('r1')!)!.get('report.md')!.toString();
+      expect(report).toMatch(/so the reference network is exported as the champion/);
+    }, 120_000);
+  }
+
+  it("keeps the search's champion on a tie or a better score, whichever result comes first", async () => {
+    for (const [score, referenceFirst] of [[0.7, false], [0.7, true], [0.5, true]] as const) {
+      const { store } = await finishChampionPhase(TEST, SEARCH, undefined, { score: (job) => (isReference(job) ? score : 0.7), referenceFirst });
+      expect(store.getChampion('r1')!.genomeHash).toBe(genomeHash(SEARCH[1]![0]));
+      expect(store.events('r1', 'champion-held-back-check').map((e) => e.detail.exported)).toEqual(['search']);
+    }
   }, 120_000);
 });

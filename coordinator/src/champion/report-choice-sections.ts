@@ -15,7 +15,9 @@ const contenders = (c: ChampionSummaryDocument) => c.candidates.filter((k) => k.
 
 export function choiceParagraph(c: ChampionSummaryDocument): string {
   const length = c.finalTraining.length ? ` for ${c.finalTraining.length.detail}` : '';
-  const final = ` It was then trained again on train + validation${length} and scored once on the held-out test split, after every choice was made.`;
+  const check = c.heldBackCheck;
+  const data = check ? `train + validation (less ${check.heldBack} validation samples held back)` : 'train + validation';
+  const final = ` It was then trained again on ${data}${length} and scored once on the held-out test split, after every choice was made.${check ? heldBackSentence(c, check) : ''}`;
   if (contenders(c).length > 1) {
     // A run recorded before the choice moved to validation: say what that run did.
     return `${c.choice.sentence} This run predates the validation-only choice: ${contenders(c).length} genomes were trained again and the best on the held-out test split was kept, so its test score is slightly optimistic.`;
@@ -24,6 +26,14 @@ export function choiceParagraph(c: ChampionSummaryDocument): string {
   const k = c.considered.length;
   const among = k > 1 ? ` It leads the ${k} best distinct genomes by validation evidence (below).` : '';
   return `${c.choice.sentence}${among} The choice read validation scores only: each genome's results at its largest training budget, their mean validation ${c.target ? 'RMSE' : 'accuracy'}, then fewer parameters.${final}`;
+}
+
+/** The held-back check in words: the search's champion against the reference network after equal final trainings. */
+function heldBackSentence(c: ChampionSummaryDocument, check: NonNullable<ChampionSummaryDocument['heldBackCheck']>): string {
+  const scores = `the search's choice scored ${score(c, check.champion.valAccuracy)} on them, the reference network ${score(c, check.reference.valAccuracy)}`;
+  return check.exported === 'reference'
+    ? ` The reference network got the same final training, and on the ${check.heldBack} held-back samples, which neither trained on, ${scores}: so the reference network is exported as the champion.`
+    : ` The reference network got the same final training, and on the ${check.heldBack} held-back samples, which neither trained on, ${scores}: so the search's choice stands.`;
 }
 
 export function choiceTable(c: ChampionSummaryDocument): string[] {

@@ -29,7 +29,7 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
     name: 'demo: glaze-line tiles',
     seed: opts.seed,
     dataset: { kind: 'demo-tiles', samplesPerClass: 300, seed: opts.seed },
-    search: { algorithm: 'aging-evolution', populationSize: 12, sampleSize: 4 },
+    // The run file's default search (asynchronous successive halving with evolution), as a user gets it.
     budget: { maxEvaluations: 10_000, maxMinutes: opts.minutes },
     evaluation: { maxSeconds: 25 },
     champion: { epochs: 12, maxSeconds: 120 },
@@ -45,7 +45,7 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
     out: opts.out,
     intro: (url, prefix) =>
       `netbreeder demo · coordinator ${url} · Redis ${opts.redisUrl} (prefix ${prefix})\n` +
-      `data: invented glaze-line tiles, 4 classes × 300 · search: aging evolution for ${opts.minutes} min with ${opts.workers} local worker(s)\n` +
+      `data: invented glaze-line tiles, 4 classes × 300 · search: ${config.search.algorithm} for ${opts.minutes} min with ${opts.workers} local worker(s)\n` +
       `store and exports: ${dataDir}\n\n`,
   });
 }

@@ -34,3 +34,16 @@ export function concatSamples(a: LabelledSamples, b: LabelledSamples): LabelledS
   targets.set(b.targets, a.count);
   return { features, labels, count: a.count + b.count, targets };
 }
+
+/** Samples `start` (inclusive) to `end` (exclusive) of a split, in order (views, not copies). */
+export function sliceSamples(s: LabelledSamples, start: number, end: number): LabelledSamples {
+  const from = Math.max(0, Math.min(start, s.count));
+  const to = Math.max(from, Math.min(end, s.count));
+  const width = s.count ? s.features.length / s.count : 0;
+  return {
+    features: s.features.subarray(from * width, to * width),
+    labels: s.labels.subarray(from, to),
+    count: to - from,
+    ...(s.targets ? { targets: s.targets.subarray(from, to) } : {}),
+  };
+}

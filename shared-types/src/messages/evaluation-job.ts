@@ -81,6 +81,14 @@ export const EvaluationJobSchema = Type.Object(
     excludeWorkers: Type.Optional(Type.Array(Type.String({ pattern: '^[A-Za-z0-9_.:-]{1,128}$' }), { maxItems: 1000 })),
     /** Set on a verification job: the id of the search evaluation whose result it re-runs (same genome, seed and budget). */
     verifies: Type.Optional(Type.String({ pattern: '^[A-Za-z0-9_-]{1,80}$' })),
+    /**
+     * Set on a champion job whose run holds validation data back for the final choice: the first
+     * `selectionHoldout` samples of the validation split are left out of the final training (which
+     * trains on train + the rest of validation, for its whole length: no early stop), and the
+     * result's validation accuracy is the final weights' score on them. Absent: train + all of
+     * validation, no validation score.
+     */
+    selectionHoldout: Type.Optional(Type.Integer({ minimum: 1 })),
   },
   { additionalProperties: false },
 );

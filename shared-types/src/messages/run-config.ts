@@ -213,11 +213,15 @@ export const RunConfigSchema = Type.Object(
     ),
     search: Type.Object(
       {
-        algorithm: Type.Union([SearchAlgorithmNameSchema], { default: 'aging-evolution' }),
-        /** Living genomes the parents are drawn from (P). */
-        populationSize: Type.Integer({ minimum: 2, maximum: 10_000, default: 20 }),
-        /** Members drawn per tournament (S). */
-        sampleSize: Type.Integer({ minimum: 1, maximum: 10_000, default: 5 }),
+        /**
+         * @default "asha-evolution": the search benchmark's best method on real MNIST over five
+         * seeds (coordinator/bench/RESULTS-search.md), ahead of aging evolution and random search.
+         */
+        algorithm: Type.Union([SearchAlgorithmNameSchema], { default: 'asha-evolution' }),
+        /** Living genomes the parents are drawn from (P). @default 8, as measured by the search benchmark */
+        populationSize: Type.Integer({ minimum: 2, maximum: 10_000, default: 8 }),
+        /** Members drawn per tournament (S). @default 3, as measured by the search benchmark */
+        sampleSize: Type.Integer({ minimum: 1, maximum: 10_000, default: 3 }),
         /**
          * Reduction factor of `asha` and `asha-evolution`: each rung trains eta times longer than the
          * one below, and the top 1/eta of a rung is promoted to the next. @default 3
@@ -248,9 +252,10 @@ export const RunConfigSchema = Type.Object(
          * Weight inheritance: a candidate promoted by `asha`/`asha-evolution` continues from its own
          * checkpoint of the lower rung, and a child of evolution starts from its parent's final
          * weights where layer names and shapes match (the rest is freshly initialised). Every search
-         * training then uploads its final checkpoint. @default false
+         * training then uploads its final checkpoint. @default true (every method of the search
+         * benchmark ran with it)
          */
-        weightInheritance: Type.Boolean({ default: false }),
+        weightInheritance: Type.Boolean({ default: true }),
         /**
          * Train the reference network (the one a careful practitioner writes by hand for this data
          * kind; docs/reference-networks.md) as the run's first evaluation. It joins the population
@@ -318,6 +323,15 @@ export const RunConfigSchema = Type.Object(
          * extension.
          */
         maxSamples: Type.Optional(Type.Integer({ minimum: 1 })),
+        /**
+         * Share of the validation split held back from the final trainings of the champion and the
+         * run's reference network, so the two can be compared after equal final trainings on data
+         * neither trained on: the one with the higher accuracy there is exported (a tie keeps the
+         * search's champion). It guards against a network that looked best in short search
+         * trainings and falls behind in a long one. At most 5,000 samples are held back; 0 turns
+         * the check off (both then train on all of train + validation). @default 0.5
+         */
+        selectionShare: Type.Optional(Type.Number({ minimum: 0, maximum: 0.9, default: 0.5 })),
         /**
          * How many of the best distinct genomes by validation evidence the champion phase considers:
          * their search results are verified on another worker first (see `verification`), the

@@ -142,6 +142,19 @@ export const RUN_EVENT_SCHEMAS = {
     ensemblePosition: Type.Optional(Count),
   }),
   'reference-scored': Strict({ ...Scored, champion: Type.Boolean(), round: Count }),
+  /**
+   * The held-back check (`champion.selectionShare`): the search's champion and the reference network
+   * after equal final trainings, scored on validation samples neither trained on; `exported` says
+   * whose model became the run's champion.
+   */
+  'champion-held-back-check': Strict({
+    heldBack: Count,
+    champion: Strict({ evaluationId: Id, genomeHash: Hash, valAccuracy: Type.Union([Share, Type.Null()]) }),
+    reference: Strict({ evaluationId: Id, genomeHash: Hash, valAccuracy: Type.Union([Share, Type.Null()]) }),
+    exported: OneOf('search', 'reference'),
+    /** The champion round that trained them (0: the run's own end). */
+    round: Count,
+  }),
   'ensemble-skipped': Strict({ reason: Text }),
   /** The averaging ensemble scored once on the test split. `round`, `size`, `diversityPenalty` and the members' `similarity` are absent in records older than them. */
   'ensemble-scored': Strict({

@@ -12,9 +12,10 @@ export type WorkerState = Static<typeof WorkerStateSchema>;
  * version differs from its own at its first heartbeat, with a sentence saying which version to
  * install, instead of letting it fail job after job on a schema it does not know.
  * 1: workers that sent none; 2: jobs may carry schedules, augmentation, label smoothing, patience
- * and repeated motifs.
+ * and repeated motifs; 3: a champion job may hold validation samples back for the final choice
+ * (`selectionHoldout`).
  */
-export const WORKER_PROTOCOL_VERSION = 2;
+export const WORKER_PROTOCOL_VERSION = 3;
 
 /** Sent by every worker to the coordinator every few seconds (POST /workers/heartbeat). */
 export const WorkerHeartbeatSchema = Type.Object(

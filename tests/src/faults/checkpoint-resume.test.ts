@@ -25,7 +25,8 @@ const config = (seed: number) =>
     name: `checkpoints ${seed}`,
     seed,
     dataset: { kind: 'demo-tiles', samplesPerClass: 300, seed },
-    search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2 },
+    // No weight inheritance: a search training's final checkpoint would then be kept for children.
+    search: { algorithm: 'aging-evolution', populationSize: 4, sampleSize: 2, weightInheritance: false },
     budget: { maxEvaluations: 1, maxMinutes: 10 },
     evaluation: { maxSeconds: 120, maxAttempts: 4, checkpointEveryEpochs: 1 },
     champion: { epochs: 1, maxSeconds: 60, topK: 1 },

@@ -10,16 +10,16 @@ import { freePort, signalTree, startCoordinatorProcess, startRedisServer, type M
 import { FAULT_LOCK_MS, FAULT_STALLED_CHECK_MS, faultWorkerArgs, writeFaultRunFile } from '../support/fault-run.js';
 
 /**
- * The fault suite: one run of 60 real evaluations on two workers while workers are killed at random moments,
+ * The fault suite: one run of 40 real evaluations on two workers while workers are killed at random moments,
  * the coordinator is killed (SIGKILL) and restarted twice, and Redis is restarted empty once.
  *
  * Fault rates: REFERENCES.md gives an on-fraction of about 0.8 for office hosts and a job-drop rate
  * of 0.001-0.01 per job (from memory, not a published pair). A run that short would see almost no
- * drop at those rates, so this suite kills a worker mid-job every 5 to 9 evaluations instead: far harsher
+ * drop at those rates, so this suite kills a worker mid-job every 4 to 7 evaluations instead: far harsher
  * than an office (measured on-fraction and drops per job are printed with the figures), so that every
  * recovery path is exercised within a bounded run.
  */
-const PLANNED = 60;
+const PLANNED = 40;
 const WORKERS = 2;
 
 interface Figures {
@@ -111,7 +111,7 @@ describe('fault suite: nothing lost, nothing counted twice', () => {
         const done = s?.evaluations.done ?? 0;
         if (s?.run?.state === 'finished' || s?.run?.state === 'failed') break;
 
-        // Kill a live worker mid-job every 5 to 9 recorded evaluations; it comes back after 1-4 s
+        // Kill a live worker mid-job every 4 to 7 recorded evaluations; it comes back after 1-4 s
         // (plus its start-up). One worker always stays up.
         if (s && workers.size >= 2 && done >= nextKillAt) {
           const victim = rng.pick([...workers.keys()]);
@@ -126,7 +126,7 @@ describe('fault suite: nothing lost, nothing counted twice', () => {
             downSince.set(victim, killedAt);
             watchRecovery(killedAt, async () => hasDone(coordinatorOpts.dataDir, heldSeq));
             setTimeout(() => start(victim), 1000 + rng.int(0, 3000));
-            nextKillAt = done + rng.int(5, 9);
+            nextKillAt = done + rng.int(4, 7);
           }
         }
         // Kill the coordinator twice, at about a quarter and at about 60% of the run.

@@ -242,6 +242,7 @@ export class WorkerAgent {
           data: dataShapeOf(payload.dataset),
           shardPath,
           splits: payload.kind === 'champion' ? 'train+val' : 'train',
+          ...(payload.kind === 'champion' && payload.selectionHoldout ? { selectionHoldout: payload.selectionHoldout } : {}),
           budget: payload.budget,
           seed: payload.seed,
           exportModel: payload.kind === 'champion',

@@ -58,6 +58,8 @@ export interface TrainRequest {
    * earliest among equals), and report that epoch's scores. @default false (the last epoch's)
    */
   keepBestWeights?: boolean;
+  /** Train the whole budget: validation only scores, the genome's `patience` stops nothing (a champion's held-back check). @default false */
+  fixedLength?: boolean;
 }
 
 /** What one training yields: an evaluation result without the ids the worker adds. */
@@ -254,7 +256,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
           if (best?.weights) tf.dispose(best.weights);
           best = { epoch, valAccuracy: scored.accuracy, valLoss: record.valLoss, weights: request.keepBestWeights ? model.getWeights().map((w) => w.clone()) : null };
         }
-        if (!cut && patience && val && epoch < budget.epochs && epochsSinceBestLoss(history) >= patience) cut = 'patience';
+        if (!cut && patience && val && !request.fixedLength && epoch < budget.epochs && epochsSinceBestLoss(history) >= patience) cut = 'patience';
         // Let the event loop run (a child process flushes its epoch message to the parent here).
         await new Promise<void>((resolve) => setImmediate(resolve));
         if (trainLoss >= DIVERGED_LOSS) diverged = true;

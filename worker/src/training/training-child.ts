@@ -4,7 +4,7 @@
  * decoded shard in memory, so consecutive jobs on one dataset read the file once.
  */
 import { readFile, stat } from 'node:fs/promises';
-import { concatSamples, decodeShard, sampleSize, type TrainingShard } from '@netbreeder/shared-types';
+import { concatSamples, decodeShard, sampleSize, sliceSamples, type TrainingShard } from '@netbreeder/shared-types';
 import { initBackend } from './backend.js';
 import { TrainingError } from './errors.js';
 import type { ChildMessage, ChildTrainRequest, ParentMessage } from './training-protocol.js';
@@ -52,13 +52,16 @@ async function train(id: number, request: ChildTrainRequest): Promise<void> {
     throw new ShardMismatchError(`the shard holds samples of shape [${shard.inputShape.join(', ')}], the job expects [${request.data.inputShape.join(', ')}]; the dataset manifest and shard disagree`);
   }
   const champion = request.splits === 'train+val';
+  // A champion with a held-back check trains on train + the rest of validation and scores the first `holdout`.
+  const holdout = champion ? Math.min(request.selectionHoldout ?? 0, shard.val.count) : 0;
   // CPU time of this process (every thread, user + system) over the training alone: real work, not wall time.
   const cpuBefore = process.cpuUsage();
   const outcome = await trainGenome({
     genome: request.genome,
     data: request.data,
-    train: champion ? concatSamples(shard.train, shard.val) : shard.train,
-    val: champion ? null : shard.val,
+    train: champion ? concatSamples(shard.train, sliceSamples(shard.val, holdout, shard.val.count)) : shard.train,
+    val: !champion ? shard.val : holdout > 0 ? sliceSamples(shard.val, 0, holdout) : null,
+    fixedLength: champion,
     budget: request.budget,
     seed: request.seed,
     exportModel: request.exportModel,

@@ -58,6 +58,16 @@ describe('TrainingProcess (a real child process)', () => {
     expect(outcome.model?.weightDataBase64.length).toBeGreaterThan(0);
   });
 
+  it('holds the first validation samples back when asked: trains on the rest, the whole budget despite patience, and scores the final weights on them', async () => {
+    const genome = linearGenome({ batchSize: 16, learningRate: 0.05 });
+    const patient = { ...genome, training: { ...genome.training, patience: 1 } };
+    const outcome = await processUnderTest.train(request({ genome: patient, splits: 'train+val', selectionHoldout: 20, exportModel: true, budget: { epochs: 4, maxSeconds: 30 } }));
+    expect(outcome.samplesSeen).toBe(4 * (96 + 48 - 20));
+    expect(outcome.epochsRun).toBe(4);
+    expect(outcome.valAccuracy).toBe(outcome.history.at(-1)!.valAccuracy);
+    expect(outcome.valAccuracy).not.toBeNull();
+  });
+
   it('gives the same result as in-process determinism promises: same job, same scores', async () => {
     const a = await processUnderTest.train(request());
     const b = await processUnderTest.train(request());

@@ -13,6 +13,8 @@ export interface ChildTrainRequest {
   shardPath: string;
   /** `train`: train on the train split, score on validation. `train+val`: train on both, no validation (champions). */
   splits: 'train' | 'train+val';
+  /** With `train+val`: the first this many validation samples are held back and score the final weights (see `EvaluationJob.selectionHoldout`). */
+  selectionHoldout?: number;
   budget: TrainingBudget;
   seed: number;
   exportModel?: boolean;
