@@ -111,7 +111,7 @@ export function draftRunFile(input: { name: string; schemaRef: string | null; da
     name: input.name.slice(0, 120) || 'run',
     seed: 1,
     dataset: input.dataset,
-    search: { algorithm: 'aging-evolution', ...input.budget.search },
+    search: { algorithm: 'asha-evolution', ...input.budget.search },
     budget: input.budget.budget,
     evaluation: input.budget.evaluation,
   };
