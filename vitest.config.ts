@@ -25,6 +25,8 @@ export default defineConfig({
           testTimeout: 300_000,
           hookTimeout: 120_000,
           maxWorkers: 2,
+          // After the unit files (projects with different maxWorkers need their own group).
+          sequence: { groupOrder: 1 },
         },
       },
     ],
