@@ -93,8 +93,10 @@
       const next = regression ? RMSE : ACCURACY;
       if (next === score) return;
       score = next;
-      for (const c of [bestTime, bestCount, scatter]) c.options.scales.y = score.axis();
-      for (const c of [bestTime, bestCount, scatter]) c.update('none');
+      for (const c of [bestTime, bestCount, scatter]) {
+        c.options.scales.y = score.axis();
+        c.update('none');
+      }
     }
     /** Validation RMSE of the evaluations seen, by id: the front route carries only the fitness. */
     const rmseById = new Map();
