@@ -21,6 +21,7 @@ export { COORDINATOR_OPTIONS, COMMANDS, main } from './cli/commands.js';
 export { replayRun } from './run/replay-run.js';
 export { replayCommand } from './cli/replay-command.js';
 export { pickCommand } from './cli/pick-command.js';
+export { runSummary } from './cli/run-summary.js';
 export { ensembleFiles } from './champion/ensemble-files.js';
 export { averagePredictions, accuracyOf } from './champion/ensemble-average.js';
 export { howItWasFound, explainDecision } from './champion/explain-lineage.js';

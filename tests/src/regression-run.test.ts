@@ -2,9 +2,11 @@ import { mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { createRequire } from 'node:module';
+import { existsSync } from 'node:fs';
+import { chromium } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { concatSamples, defaultSearchSpace, regressionMetrics, type StatusResponse } from '@netbreeder/shared-types';
-import { championFiles, championSummary, ensembleFiles, loadDataset, parseRunConfig, readRunConfigFile, type RunRecord } from '@netbreeder/coordinator';
+import { concatSamples, defaultSearchSpace, regressionMetrics, type EvaluationsResponse, type LineageResponse, type StatusResponse, type TopGenomesResponse } from '@netbreeder/shared-types';
+import { championFiles, championSummary, ensembleFiles, loadDataset, parseRunConfig, readRunConfigFile, runSummary, type RunRecord } from '@netbreeder/coordinator';
 import { TestCluster, waitFor } from './support/harness.js';
 import { fitLeastSquares } from './support/least-squares.js';
 
@@ -93,10 +95,37 @@ describe('a regression run on the Auto MPG table', () => {
     expect(status.best?.valRegression?.rmse).toBeGreaterThan(0);
     expect(status.champion?.testRegression?.baselineRmse).toBeGreaterThan(status.champion!.testRegression!.rmse);
     expect(status.reference?.line).toMatch(/RMSE/);
+    // No RMSE-derived value is called an accuracy: the fitness goes by its own name.
+    expect(status.best?.valAccuracy).toBeUndefined();
+    expect(status.best?.valFitness).toBeGreaterThan(0);
+    expect(status.champion?.testAccuracy).toBeUndefined();
+    expect(status.champion?.valAccuracy).toBeUndefined();
+    expect(status.champion?.testFitness).toBeGreaterThan(0);
+    const summary = runSummary(cluster.coordinator, run.id, status)!;
+    expect(summary).toMatch(/test: +RMSE [0-9.]+ \(mpg\)/);
+    expect(summary).toMatch(/baseline: +RMSE [0-9.]+ always predicting the training mean/);
+    expect(summary).not.toMatch(/\d\.\d%/);
+    // The dashboard's routes carry validation RMSE in miles per gallon for its charts, table and lineage.
+    const get = async <T>(path: string) => (await (await fetch(`${cluster.coordinator.url}${path}`)).json()) as T;
+    const points = (await get<EvaluationsResponse>(`/runs/${run.id}/evaluations`)).evaluations.filter((p) => p.state === 'done');
+    expect(points.length).toBeGreaterThan(0);
+    expect(points.every((p) => p.valRmse! > 0)).toBe(true);
+    expect(Math.min(...points.map((p) => p.valRmse!))).toBeCloseTo(status.best!.valRegression!.rmse, 6);
+    const top = await get<TopGenomesResponse>(`/runs/${run.id}/top?limit=3`);
+    expect(top.genomes[0]!.valRmse).toBeCloseTo(status.best!.valRegression!.rmse, 6);
+    const lineage = await get<LineageResponse>(`/runs/${run.id}/lineage/${status.best!.genomeHash}`);
+    // Read back from the fitness, 1 / (1 + RMSE / std): the same RMSE to float precision.
+    expect(lineage.steps.at(-1)?.child.valRmse ?? lineage.ancestor.valRmse).toBeCloseTo(status.best!.valRegression!.rmse, 3);
     const metrics = await (await fetch(`${cluster.coordinator.url}/metrics`)).text();
     expect(metrics).toMatch(new RegExp(`^netbreeder_best_validation_rmse\\{run="${run.id}"\\} [0-9.]+$`, 'm'));
     expect(metrics).not.toMatch(/^netbreeder_best_validation_accuracy\{/m);
+    expect(metrics).toMatch(new RegExp(`^netbreeder_best_validation_mae\\{run="${run.id}"\\} [0-9.]+$`, 'm'));
+    expect(metrics).toMatch(new RegExp(`^netbreeder_best_validation_r2\\{run="${run.id}"\\} -?[0-9.]+$`, 'm'));
     const report = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('report.md')!.toString();
+    const exported = championSummary(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!;
+    expect(exported.test.accuracy).toBeUndefined();
+    expect(exported.test.fitness).toBeGreaterThan(0);
+    expect(exported.validation.accuracy).toBeUndefined();
     expect(report).toContain('held-out test RMSE (mpg)');
     expect(report).toContain('always predicting the training mean');
     expect(report).not.toMatch(/accuracy|\d\.\d+%/);
@@ -106,6 +135,50 @@ describe('a regression run on the Auto MPG table', () => {
     expect(html.match(/<circle /g)?.length).toBe(cluster.coordinator.store.getChampion(run.id)!.testPredictions.length);
     expect(html).toContain('aria-label="residual histogram"');
     expect(html).not.toMatch(/accuracy|\d\.\d+%/);
+  });
+
+  it('draws the dashboard in miles per gallon: RMSE tiles, axes and table, the best-so-far line falling (headless chromium)', async () => {
+    const CHROMIUM = '/usr/bin/chromium';
+    if (!existsSync(CHROMIUM)) throw new Error(`no browser at ${CHROMIUM}: install Debian's chromium (apt-get install chromium); .ci/run does this`);
+    const browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--no-first-run'] });
+    try {
+      const page = await browser.newPage();
+      const errors: string[] = [];
+      page.on('pageerror', (e) => errors.push(e.message));
+      await page.goto(`${cluster.coordinator.url}/?every=1`);
+      type Dash = { netbreederDashboard: { state: { polls: number }; charts: Record<string, { options: { scales: { y: { title: { text: string } } } }; data: { datasets: Array<{ data: Array<{ y: number }> }> } }> } };
+      await waitFor('the dashboard to poll twice', async () => ((await page.evaluate(() => (globalThis as unknown as Dash).netbreederDashboard.state.polls)) >= 2 ? true : null), 20_000, 200);
+      const seen = {
+        ...(await page.evaluate(() => {
+          const { charts } = (globalThis as unknown as Dash).netbreederDashboard;
+          return {
+            yTitles: ['bestTime', 'bestCount', 'scatter'].map((c) => charts[c]!.options.scales.y.title.text),
+            best: charts.bestCount!.data.datasets[0]!.data.map((p) => p.y),
+            dots: charts.scatter!.data.datasets[0]!.data.map((p) => p.y),
+          };
+        })),
+        tiles: await Promise.all(['#tile-best', '#tile-champion', '#tile-champion-note'].map((sel) => page.textContent(sel))),
+        header: await page.textContent('#top-score'),
+        cells: await page.$$eval('#top-table tbody td:nth-child(3)', (tds) => tds.map((td) => (td as unknown as { textContent: string }).textContent)),
+        page: (await page.textContent('main')) ?? '',
+      };
+      expect(errors).toEqual([]);
+      expect(seen.yTitles.every((t) => t.startsWith('validation RMSE'))).toBe(true);
+      expect(seen.tiles[0]).toMatch(/^RMSE [0-9.]+$/);
+      expect(seen.tiles[1]).toMatch(/^RMSE [0-9.]+$/);
+      expect(seen.tiles[2]).toMatch(/predicting the mean: RMSE [0-9.]+/);
+      expect(seen.header).toBe('val. RMSE');
+      expect(seen.cells.length).toBeGreaterThan(0);
+      expect(seen.cells.every((c) => /^RMSE [0-9.]+$/.test(c ?? ''))).toBe(true);
+      // RMSE in miles per gallon, lower is better: the best so far never rises and ends at the lowest dot.
+      expect(seen.dots.length).toBeGreaterThan(0);
+      expect(seen.best.at(-1)).toBeCloseTo(Math.min(...seen.dots), 9);
+      expect(seen.best.every((v, i) => i === 0 || v <= seen.best[i - 1]!)).toBe(true);
+      // (Percentages remain where they are shares, such as the spot-checked fraction of results.)
+      expect(seen.page.match(/.{0,60}accura.{0,40}/i)?.[0]).toBeUndefined();
+    } finally {
+      await browser.close();
+    }
   });
 
   it('averages the predicted numbers of an ensemble and scores it like the champion', async () => {

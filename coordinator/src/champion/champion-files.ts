@@ -59,6 +59,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const championsRound = own?.round ?? 0;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   const heldBack = store.getEvaluation(champion.evaluationId)?.job.selectionHoldout;
+  // A regression run's fitness, 1 / (1 + standardised RMSE), is named so, never an accuracy.
+  const named = (score: number): { accuracy?: number; fitness?: number } => (run.dataset.manifest.target ? { fitness: score } : { accuracy: score });
   return {
     runId: run.id,
     runName: run.name,
@@ -69,11 +71,11 @@ export function championSummary(store: RunStore, run: RunRecord) {
     flops: genome.flops,
     /** Median time to classify one sample alone, measured on the coordinator's CPU when it was scored. */
     latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null },
-    /** Regression runs: the predicted column and its training-split scaling (then `accuracy` fields hold the search fitness, and `regression` the scores to show). */
+    /** Regression runs: the predicted column and its training-split scaling (then `validation` and `test` carry `fitness`, the search fitness 1 / (1 + standardised RMSE), instead of `accuracy`, and `regression` the scores to show). */
     target: run.dataset.manifest.target ?? null,
-    validation: { accuracy: champion.valAccuracy, loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
+    validation: { ...named(champion.valAccuracy), loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
     test: {
-      accuracy: champion.testAccuracy,
+      ...named(champion.testAccuracy),
       loss: champion.testLoss,
       samples: champion.testPredictions.length,
       /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). Empty for regression. */

@@ -7,11 +7,7 @@ export function averagePredictions(probabilities: readonly Float32Array[], numCl
   if (!probabilities.length) throw new RangeError('an ensemble needs at least one member');
   const length = probabilities[0]!.length;
   if (length % numClasses !== 0) throw new RangeError(`${length} probabilities do not split into rows of ${numClasses} classes`);
-  probabilities.forEach((p, m) => {
-    if (p.length !== length) throw new RangeError(`member ${m} gives ${p.length} probabilities, member 0 gives ${length}; score every member on the same samples`);
-  });
-  const mean = new Float32Array(length);
-  for (const p of probabilities) for (let i = 0; i < length; i++) mean[i]! += p[i]! / probabilities.length;
+  const mean = meanOfOutputs(probabilities);
   const predictions = new Int32Array(length / numClasses);
   for (let s = 0; s < predictions.length; s++) {
     let best = 0;
@@ -19,6 +15,21 @@ export function averagePredictions(probabilities: readonly Float32Array[], numCl
     predictions[s] = best;
   }
   return { mean, predictions };
+}
+
+/**
+ * The element-wise mean of the members' outputs: their softmax probabilities, or in a regression run
+ * their predicted numbers (one per sample, standardised), which is the ensemble's prediction. Pure.
+ */
+export function meanOfOutputs(outputs: readonly Float32Array[]): Float32Array {
+  if (!outputs.length) throw new RangeError('an ensemble needs at least one member');
+  const length = outputs[0]!.length;
+  outputs.forEach((p, m) => {
+    if (p.length !== length) throw new RangeError(`member ${m} gives ${p.length} outputs, member 0 gives ${length}; score every member on the same samples`);
+  });
+  const mean = new Float32Array(length);
+  for (const p of outputs) for (let i = 0; i < length; i++) mean[i]! += p[i]! / outputs.length;
+  return mean;
 }
 
 /** Fraction of `predictions` equal to `labels`. */

@@ -1,7 +1,7 @@
 import * as tf from '@tensorflow/tfjs';
 import { regressionFitness, type LabelledSamples, type ModelArtifactsMessage, type RegressionTestScores, type TargetScaling } from '@netbreeder/shared-types';
 import { initBackend, loadModelFromMessage } from '@netbreeder/worker';
-import { accuracyOf, averagePredictions } from './ensemble-average.js';
+import { accuracyOf, averagePredictions, meanOfOutputs } from './ensemble-average.js';
 import { regressionTestScores } from './score-champion.js';
 
 /** Softmax probabilities of one trained model on every sample, [samples × classes] row by row, in batches of 256. */
@@ -39,9 +39,7 @@ export async function scoreEnsemble(
   const probabilities: Float32Array[] = [];
   for (const m of members) probabilities.push(await probabilitiesOf(m, test));
   if (target) {
-    const mean = new Float32Array(test.count);
-    for (const p of probabilities) for (let i = 0; i < test.count; i++) mean[i]! += p[i]! / probabilities.length;
-    const regression = regressionTestScores(test.targets!, mean, target);
+    const regression = regressionTestScores(test.targets!, meanOfOutputs(probabilities), target);
     return { accuracy: regressionFitness(regression.rmse / target.std), predictions: new Int32Array(0), backend, regression };
   }
   const { predictions } = averagePredictions(probabilities, numClasses);

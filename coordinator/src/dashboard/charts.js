@@ -49,6 +49,14 @@
   }
 
   const accuracyAxis = () => ({ min: 0, max: 1, ticks: { callback: (v) => pct(v), stepSize: 0.2 }, title: { display: true, text: 'validation accuracy' } });
+  const rmseAxis = () => ({ min: 0, ticks: { callback: (v) => Number(v.toPrecision(3)) }, title: { display: true, text: "validation RMSE (target's units, lower is better)" } });
+
+  /**
+   * What the charts plot: validation accuracy (higher is better), or in a regression run the
+   * validation RMSE in the target's units (lower is better), never the fitness behind it.
+   */
+  const ACCURACY = { of: (p) => p.valAccuracy, better: (a, b) => a > b, show: (v) => pct(v), axis: accuracyAxis };
+  const RMSE = { of: (p) => p.valRmse, better: (a, b) => a < b, show: (v) => `RMSE ${Number(v.toPrecision(4))}`, axis: rmseAxis };
 
   function create() {
     setDefaults();
@@ -60,7 +68,7 @@
       options: {
         parsing: false,
         scales: { x: { type: 'linear', min: 0, ticks: { callback: (v) => clock(v), maxTicksLimit: 8 }, title: { display: true, text: 'time since the search began' } }, y: accuracyAxis() },
-        plugins: { tooltip: { callbacks: { label: (c) => `best ${pct(c.parsed.y)} at ${clock(c.parsed.x)}` } } },
+        plugins: { tooltip: { callbacks: { label: (c) => `best ${score.show(c.parsed.y)} at ${clock(c.parsed.x)}` } } },
       },
     });
 
@@ -75,9 +83,23 @@
       options: {
         parsing: false,
         scales: { x: { type: 'linear', min: 0, ticks: { precision: 0 }, title: { display: true, text: 'evaluations finished' } }, y: accuracyAxis() },
-        plugins: { tooltip: { callbacks: { label: (c) => `${c.dataset.label}: ${pct(c.parsed.y)} (#${c.parsed.x})` } } },
+        plugins: { tooltip: { callbacks: { label: (c) => `${c.dataset.label}: ${score.show(c.parsed.y)} (#${c.parsed.x})` } } },
       },
     });
+
+    let score = ACCURACY;
+    /** Regression runs plot RMSE on every score axis. */
+    function setRegression(regression) {
+      const next = regression ? RMSE : ACCURACY;
+      if (next === score) return;
+      score = next;
+      for (const c of [bestTime, bestCount, scatter]) {
+        c.options.scales.y = score.axis();
+        c.update('none');
+      }
+    }
+    /** Validation RMSE of the evaluations seen, by id: the front route carries only the fitness. */
+    const rmseById = new Map();
 
     let sizeKey = 'params';
     // With parsing off the charting library expects each dataset sorted by x: it reads the range
@@ -106,8 +128,8 @@
             callbacks: {
               label: (c) => {
                 const p = c.raw;
-                if (p.cost !== undefined) return `${c.dataset.label === 'front' ? 'front: ' : ''}${pct(p.y)} · ${sizeKey === 'latency' ? `${p.cost.toFixed(2)} ms` : compact(p.cost)} · ${p.genomeHash.slice(0, 10)}`;
-                return `${pct(p.y)} · ${compact(p.params)} params · ${compact(p.flops)} FLOPs${p.workerId ? ` · ${p.workerId}` : ''}`;
+                if (p.cost !== undefined) return `${c.dataset.label === 'front' ? 'front: ' : ''}${score.show(p.y)} · ${sizeKey === 'latency' ? `${p.cost.toFixed(2)} ms` : compact(p.cost)} · ${p.genomeHash.slice(0, 10)}`;
+                return `${score.show(p.y)} · ${compact(p.params)} params · ${compact(p.flops)} FLOPs${p.workerId ? ` · ${p.workerId}` : ''}`;
               },
             },
           },
@@ -137,11 +159,12 @@
     /** The answer of /runs/:id/front for the current size key (null: not a multi-objective run): its front is drawn over the points. */
     function setFront(answer) {
       front = answer;
-      const toPoint = (p) => ({ x: p.cost, y: p.valAccuracy, cost: p.cost, genomeHash: p.genomeHash });
-      scatter.data.datasets[2].data = answer ? answer.points.filter((p) => p.onFront && p.cost > 0).sort((a, b) => a.cost - b.cost).map(toPoint) : [];
+      const y = (p) => (score === RMSE ? rmseById.get(p.evaluationId) : p.valAccuracy);
+      const toPoint = (p) => ({ x: p.cost, y: y(p), cost: p.cost, genomeHash: p.genomeHash });
+      scatter.data.datasets[2].data = answer ? answer.points.filter((p) => p.onFront && p.cost > 0 && y(p) != null).sort((a, b) => a.cost - b.cost).map(toPoint) : [];
       // Latency is known to the front route only, so its points come from there (and no leader mark).
       if (sizeKey === 'latency') {
-        scatter.data.datasets[0].data = answer ? answer.points.filter((p) => p.cost > 0).map(toPoint).sort(byX) : [];
+        scatter.data.datasets[0].data = answer ? answer.points.filter((p) => p.cost > 0 && y(p) != null).map(toPoint).sort(byX) : [];
         scatter.data.datasets[1].data = [];
       }
       scatter.update('none');
@@ -149,8 +172,9 @@
     /** Rebuilds the scatter's points from every evaluation; `leaderHash` is drawn larger. */
     function setEvaluations(points, leaderHash) {
       if (sizeKey === 'latency') return setFront(front && front.objective === 'latency' ? front : null);
-      const done = points.filter((p) => p.state === 'done' && p.valAccuracy != null && p[sizeKey] > 0);
-      const toPoint = (p) => ({ x: p[sizeKey], y: p.valAccuracy, params: p.params, flops: p.flops, workerId: p.workerId });
+      for (const p of points) if (p.valRmse != null) rmseById.set(p.evaluationId, p.valRmse);
+      const done = points.filter((p) => p.state === 'done' && score.of(p) != null && p[sizeKey] > 0);
+      const toPoint = (p) => ({ x: p[sizeKey], y: score.of(p), params: p.params, flops: p.flops, workerId: p.workerId });
       scatter.data.datasets[0].data = done.map(toPoint).sort(byX);
       scatter.data.datasets[1].data = done.filter((p) => p.genomeHash === leaderHash).slice(0, 1).map(toPoint);
       scatter.update('none');
@@ -165,14 +189,15 @@
       const timeline = [];
       const byCount = [];
       const dots = [];
-      let best = -1;
+      let best = null;
       let n = 0;
       for (const p of points) {
-        if (p.state !== 'done' || p.valAccuracy == null) continue;
+        const v = p.state === 'done' ? score.of(p) : null;
+        if (v == null) continue;
         n += 1;
-        dots.push({ x: n, y: p.valAccuracy });
-        if (p.valAccuracy > best) {
-          best = p.valAccuracy;
+        dots.push({ x: n, y: v });
+        if (best === null || score.better(v, best)) {
+          best = v;
           timeline.push({ x: Math.max(0, (p.finishedAt - startMs) / 60000), y: best });
           byCount.push({ x: n, y: best });
         }
@@ -201,7 +226,7 @@
     window.addEventListener('beforeprint', () => all.forEach((c) => c.resize()));
     window.addEventListener('afterprint', () => all.forEach((c) => c.resize()));
 
-    return { bestTime, bestCount, scatter, throughput, setEvaluations, setSizeKey, setFront, setBest, setThroughput, pct, compact };
+    return { bestTime, bestCount, scatter, throughput, setRegression, setEvaluations, setSizeKey, setFront, setBest, setThroughput, pct, compact };
   }
 
   window.NbCharts = { create };

@@ -8,6 +8,10 @@
   const $ = (id) => document.getElementById(id);
   const charts = window.NbCharts.create();
   const { pct, compact } = charts;
+  // A regression run shows errors in the target's units, never its fitness as an accuracy.
+  const rmse = (v) => `RMSE ${Number(v.toPrecision(4))}`;
+  /** A genome's validation score as shown: RMSE in a regression run (its fitness is no accuracy), else accuracy. */
+  const valScore = (g) => (state.regression ? (g.valRmse == null ? 'not scored' : rmse(g.valRmse)) : g.valAccuracy == null ? 'not scored' : pct(g.valAccuracy));
 
   const state = {
     runId: null,
@@ -19,6 +23,7 @@
     lineageKey: null,
     sizeKey: 'params',
     front: null, // the last /runs/:id/front answer of a multi-objective run
+    regression: false, // the run predicts a number (GET /status names its target column)
     lastOk: 0,
     polls: 0,
   };
@@ -79,8 +84,6 @@
     text($('tile-done-note'), `of ${run.maxEvaluations} planned${e.failed ? ` · ${e.failed} failed` : ''}`);
     text($('tile-flight'), String(e.running + e.queued));
     text($('tile-flight-note'), `${e.running} training · ${e.queued} queued`);
-    // A regression run shows errors in the target's units, never its fitness as an accuracy.
-    const rmse = (v) => `RMSE ${Number(v.toPrecision(4))}`;
     text($('tile-best'), s.best ? (s.best.valRegression ? rmse(s.best.valRegression.rmse) : pct(s.best.valAccuracy)) : '–');
     text($('tile-best-note'), s.best ? `${compact(s.best.paramCount)} params · ${compact(s.best.flops)} FLOPs` : 'no result yet');
     text($('tile-rate'), s.throughput.perMinuteLastMinute.toFixed(0));
@@ -99,8 +102,14 @@
 
   /** The reference network's test score beside the champion's, and the plain line comparing them. */
   function showReference(r) {
-    text($('tile-reference'), r?.referenceTestAccuracy != null ? pct(r.referenceTestAccuracy) : '–');
-    text($('tile-reference-note'), !r ? '' : r.state === 'pending' ? 'trained beside the champion' : r.state === 'scored' ? `${r.points >= 0 ? '+' : ''}${r.points.toFixed(2)} points for the champion` : r.state);
+    const scored = r?.state === 'scored';
+    if (state.regression) {
+      text($('tile-reference'), r?.referenceTestRmse != null ? rmse(r.referenceTestRmse) : '–');
+      text($('tile-reference-note'), !r ? '' : r.state === 'pending' ? 'trained beside the champion' : scored && r.championTestRmse != null ? `test · the champion's ${rmse(r.championTestRmse)}` : r.state);
+    } else {
+      text($('tile-reference'), r?.referenceTestAccuracy != null ? pct(r.referenceTestAccuracy) : '–');
+      text($('tile-reference-note'), !r ? '' : r.state === 'pending' ? 'trained beside the champion' : scored && r.points != null ? `${r.points >= 0 ? '+' : ''}${r.points.toFixed(2)} points for the champion` : r.state);
+    }
     const line = $('reference-line');
     line.hidden = !r || r.state !== 'scored';
     if (r) text(line, r.line);
@@ -179,7 +188,7 @@
         tr.dataset.genomeHash = g.genomeHash;
         if (g.genomeHash === (state.pickedHash ?? state.leaderHash)) tr.className = 'picked';
         tr.title = `evaluation ${g.evaluationId}`;
-        tr.append(cell(String(g.rank), 'num'), cell(g.summary, 'summary'), cell(pct(g.valAccuracy), 'num'), cell(compact(g.params), 'num'), cell(compact(g.flops), 'num'));
+        tr.append(cell(String(g.rank), 'num'), cell(g.summary, 'summary'), cell(valScore(g), 'num'), cell(compact(g.params), 'num'), cell(compact(g.flops), 'num'));
         tr.addEventListener('click', () => {
           state.pickedHash = g.genomeHash === state.leaderHash ? null : g.genomeHash;
           for (const row of body.rows) row.classList.toggle('picked', row.dataset.genomeHash === g.genomeHash);
@@ -195,7 +204,7 @@
     const figures = document.createElement('div');
     figures.className = 'figures';
     const b = document.createElement('b');
-    b.textContent = g.valAccuracy == null ? 'not scored' : pct(g.valAccuracy);
+    b.textContent = valScore(g);
     figures.append(b, ` · ${compact(g.params)} params · ${compact(g.flops)} FLOPs · `, Object.assign(document.createElement('span'), { className: 'mono', textContent: g.genomeHash.slice(0, 10) }));
     const genome = document.createElement('div');
     genome.className = 'genome';
@@ -238,6 +247,10 @@
 
   async function poll() {
     const status = await getJson('/status');
+    state.regression = Boolean(status.run?.target);
+    charts.setRegression(state.regression);
+    $('top-score').textContent = state.regression ? 'val. RMSE' : 'val. acc.';
+    for (const el of document.querySelectorAll('.score-name')) el.textContent = state.regression ? 'RMSE' : 'accuracy';
     showStatus(status);
     const run = status.run;
     if (!run) return;
@@ -258,13 +271,13 @@
     charts.setThroughput(throughput, state.startMs);
     text($('throughput-hint'), `from finished evaluations, ${throughput.bucketSeconds} s buckets`);
     const failed = points.filter((p) => p.state === 'failed').length;
-    text($('scatter-caption'), `${points.length - failed} scored evaluations${failed ? ` (${failed} failed, not drawn)` : ''} · validation accuracy against size, log scale`);
+    text($('scatter-caption'), `${points.length - failed} scored evaluations${failed ? ` (${failed} failed, not drawn)` : ''} · validation ${state.regression ? `RMSE (${status.run.target})` : 'accuracy'} against size, log scale`);
     showTop(top);
     await refreshFront(run);
     await refreshLineage(false);
   }
 
-  /** Multi-objective runs: the accuracy-against-cost front for the size shown, highlighted on the scatter. */
+  /** Multi-objective runs: the accuracy-against-cost front (RMSE against cost in a regression run) for the size shown, highlighted on the scatter. */
   async function refreshFront(run) {
     if (run.algorithm !== 'pareto-evolution') {
       state.front = null;
@@ -277,7 +290,7 @@
     const hint = $('front-hint');
     hint.hidden = false;
     const cost = { params: 'parameters', flops: 'FLOPs', latency: 'latency' }[answer.objective];
-    text(hint, `front (triangles): ${answer.front.length} of ${answer.points.length} results that no other beats on both accuracy and ${cost}${answer.objective === answer.runObjective ? ', the trade-off this run searches' : ''}; pick one as champion with netbreeder pick RUN GENOME`);
+    text(hint, `front (triangles): ${answer.front.length} of ${answer.points.length} results that no other beats on both ${state.regression ? 'RMSE' : 'accuracy'} and ${cost}${answer.objective === answer.runObjective ? ', the trade-off this run searches' : ''}; pick one as champion with netbreeder pick RUN GENOME`);
   }
 
   function setSize(key) {

@@ -7,6 +7,7 @@ import { Type } from '@sinclair/typebox';
 import {
   EvaluationsResponseSchema,
   LineageResponseSchema,
+  rmseFromFitness,
   ThroughputResponseSchema,
   TopGenomesResponseSchema,
   type BackendName,
@@ -109,6 +110,7 @@ export function registerDashboardRoutes(app: FastifyInstance, opts: DashboardRou
           genomeHash: e.genomeHash,
           finishedAt: e.finishedAt!,
           valAccuracy: e.state === 'done' ? e.valAccuracy : null,
+          ...(e.state === 'done' && e.result?.valRegression ? { valRmse: e.result.valRegression.rmse } : {}),
           params: e.params,
           flops: e.flops,
           trainSeconds: e.trainSeconds,
@@ -164,6 +166,7 @@ export function registerDashboardRoutes(app: FastifyInstance, opts: DashboardRou
           genomeHash: e.genomeHash,
           summary: e.summary,
           valAccuracy: e.valAccuracy!,
+          ...(e.result?.valRegression ? { valRmse: e.result.valRegression.rmse } : {}),
           params: e.params,
           flops: e.flops,
           trainSeconds: e.result?.trainSeconds ?? null,
@@ -188,9 +191,13 @@ export function registerDashboardRoutes(app: FastifyInstance, opts: DashboardRou
       const chain = store.lineageChain(run.id, genomeHash);
       const ancestorHash = chain.length ? chain[0]!.parentHash : genomeHash;
       const scores = store.bestAccuracyByGenome(run.id, [ancestorHash, ...chain.map((l) => l.childHash)]);
+      const target = run.dataset.manifest.target;
       const describe = (hash: string): LineageGenome => {
         const g = store.getGenome(hash);
-        return { genomeHash: hash, summary: g?.summary ?? '(not in the store)', params: g?.params ?? 0, flops: g?.flops ?? 0, valAccuracy: scores.get(hash) ?? null };
+        const fitness = scores.get(hash) ?? null;
+        // A regression run's best fitness read back as RMSE in the target's units (fitness = 1 / (1 + RMSE / std)).
+        const valRmse = target && fitness !== null ? { valRmse: rmseFromFitness(fitness) * target.std } : {};
+        return { genomeHash: hash, summary: g?.summary ?? '(not in the store)', params: g?.params ?? 0, flops: g?.flops ?? 0, valAccuracy: fitness, ...valRmse };
       };
       return {
         runId: run.id,

@@ -33,6 +33,8 @@ const EVALUATION_STATES = ['queued', 'running', 'done', 'failed'] as const;
  * | netbreeder_workers_known | gauge | | workers the store has ever heard from |
  * | netbreeder_best_validation_accuracy | gauge | run | best validation accuracy of the run's search so far (classification runs) |
  * | netbreeder_best_validation_rmse | gauge | run | regression runs: validation RMSE of the best result so far, in the target's units |
+ * | netbreeder_best_validation_mae | gauge | run | regression runs: validation MAE of the same result, in the target's units |
+ * | netbreeder_best_validation_r2 | gauge | run | regression runs: validation R² (coefficient of determination) of the same result |
  * | netbreeder_reissues_total | counter | run | failed attempts given to a new evaluation ('reissued' events) |
  * | netbreeder_rejected_inputs_total | counter | kind | results (`result`) and HTTP requests (`request`) refused, over the whole store |
  */
@@ -118,15 +120,22 @@ export function createMetricsRegistry(opts: MetricsOptions): Registry {
     },
   );
 
-  runGauge(
-    registers,
-    currentRun,
-    { name: 'netbreeder_best_validation_rmse', help: "Regression runs: validation RMSE, in the target's units, of the best result of the run's search so far (as /status).", labelNames: ['run'] },
-    (g, run) => {
-      const rmse = manager.verifier.bestResult(run.id)?.result?.valRegression?.rmse;
-      if (rmse != null) g.set({ run: run.id }, rmse);
-    },
-  );
+  const regressionGauges = [
+    ['rmse', "validation RMSE, in the target's units,"],
+    ['mae', "validation MAE (mean absolute error), in the target's units,"],
+    ['r2', 'validation R² (coefficient of determination)'],
+  ] as const;
+  for (const [key, what] of regressionGauges) {
+    runGauge(
+      registers,
+      currentRun,
+      { name: `netbreeder_best_validation_${key}`, help: `Regression runs: ${what} of the best result of the run's search so far (as /status).`, labelNames: ['run'] },
+      (g, run) => {
+        const value = manager.verifier.bestResult(run.id)?.result?.valRegression?.[key];
+        if (value != null) g.set({ run: run.id }, value);
+      },
+    );
+  }
 
   new Counter({
     name: 'netbreeder_reissues_total',

@@ -68,9 +68,10 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
       ? {
           genomeHash: best.genomeHash,
           evaluationId: best.id,
-          valAccuracy: best.valAccuracy!,
+          ...(run?.dataset.manifest.target
+            ? { valFitness: best.valAccuracy!, ...(best.result?.valRegression ? { valRegression: best.result.valRegression } : {}) }
+            : { valAccuracy: best.valAccuracy! }),
           valLoss: best.result?.valLoss ?? 0,
-          ...(best.result?.valRegression ? { valRegression: best.result.valRegression } : {}),
           paramCount: best.params,
           flops: best.flops,
           summary: best.summary,
@@ -82,10 +83,10 @@ export function buildStatus(manager: RunManager, meta: { version: string; starte
         ? {
             genomeHash: champion.genomeHash,
             evaluationId: champion.evaluationId,
-            valAccuracy: champion.valAccuracy,
-            testAccuracy: champion.testAccuracy,
+            ...(run!.dataset.manifest.target
+              ? { valFitness: champion.valAccuracy, testFitness: champion.testAccuracy, ...championTestRegression(store, run!.id, champion.evaluationId) }
+              : { valAccuracy: champion.valAccuracy, testAccuracy: champion.testAccuracy }),
             testLoss: champion.testLoss,
-            ...championTestRegression(store, run!.id, champion.evaluationId),
             paramCount: championGenome.params,
             flops: championGenome.flops,
             summary: championGenome.summary,

@@ -47,6 +47,24 @@ describe('compareOpinions', () => {
     expect(c.agree).toBe(false);
     expect(c.reason).toMatch(/different amounts of data/);
   });
+
+  it('compares regression results on relative validation RMSE, never on the fitness in valAccuracy', () => {
+    // Fitness 1 / (1 + standardised RMSE) with target std 4: RMSE 2.0 → 0.6667, 2.02 (1% more) → 0.6645.
+    const reg = (workerId: string, rmse: number, extra: Partial<Opinion> = {}) => opinion(workerId, 1 / (1 + rmse / 4), { valRmse: rmse, valLoss: (rmse / 4) ** 2, ...extra });
+    const same = compareOpinions(reg('a', 2), reg('b', 2.0005));
+    expect(same.agree).toBe(true);
+    expect(same.relativeRmseDiff).toBeCloseTo(0.0005 / 2.0005, 9);
+    expect(same.reason).toMatch(/agree: validation RMSE differs by 0\.025%/);
+    expect(same.reason).not.toMatch(/accuracy/);
+    // 1% worse: the fitness moves by only 0.002 (inside the accuracy tolerance), yet one backend fails it
+    // on RMSE (tolerance 0.05%) and so does the loss; wasm against cpu (RMSE tolerance 1%, loss 2%) lets 0.5% pass.
+    expect(compareOpinions(reg('a', 2), reg('b', 2.02)).agree).toBe(false);
+    expect(compareOpinions(reg('a', 2), reg('b', 2.01, { backend: 'cpu' })).agree).toBe(true);
+    // RMSE alone decides when the losses are equal: 1.5% apart fails wasm against cpu.
+    expect(compareOpinions(reg('a', 2), reg('b', 2.03, { backend: 'cpu', valLoss: 0.25 })).agree).toBe(false);
+    expect(TOLERANCES.sameBackend.relativeRmse).toBeLessThan(TOLERANCES.portable.relativeRmse);
+    expect(TOLERANCES.portable.relativeRmse).toBeLessThan(TOLERANCES.native.relativeRmse);
+  });
 });
 
 describe('decideVerification (a quorum of 2 of 3)', () => {

@@ -14,6 +14,8 @@ export interface Opinion {
   backend: BackendName;
   valAccuracy: number;
   valLoss: number;
+  /** Regression runs: validation RMSE in the target's units (the result's valRegression.rmse); compared relatively instead of the fitness. */
+  valRmse?: number;
   /** Training samples the worker trained on; opinions on different amounts cannot be compared. */
   samplesSeen: number;
 }
@@ -24,6 +26,8 @@ export interface Tolerance {
   accuracy: number;
   /** Largest difference of validation loss, relative to the larger of the two. */
   relativeLoss: number;
+  /** Regression: largest difference of validation RMSE, relative to the larger of the two. */
+  relativeRmse: number;
   /** Where the figures come from. */
   basis: string;
 }
@@ -35,21 +39,31 @@ export interface Tolerance {
  * difference of at most 7e-6 relative. Float differences grow over longer trainings (a near-tie
  * of the argmax, a ReLU switching), so the tolerances keep a wide margin over what was measured;
  * a result inflated by a few percent is still far outside them.
+ *
+ * Regression (`npx tsx worker/bench/backend-agreement.ts --regression`, same machine: linear, dense
+ * 32 and dense 64 → 32 networks with one linear head, 4 epochs on a synthetic table of 4 features
+ * and a smooth target, 3 seeds): wasm against wasm identical validation RMSE (difference 0); wasm
+ * against cpu at most 1.5e-7 relative RMSE and 3.0e-7 relative loss. The RMSE tolerances are half
+ * the loss tolerances (RMSE is the square root of the mean squared error, so a small relative
+ * change of the loss moves it by about half as much): the same wide margin over what was measured.
  */
 export const TOLERANCES = {
   sameBackend: {
     accuracy: 0.01,
     relativeLoss: 0.001,
+    relativeRmse: 0.0005,
     basis: 'same backend: measured identical (difference 0) for wasm; margin for one flipped validation sample in 100',
   },
   portable: {
     accuracy: 0.03,
     relativeLoss: 0.02,
-    basis: 'wasm against cpu: measured identical accuracy and loss within 7e-6 relative after 4 epochs; margin for longer trainings',
+    relativeRmse: 0.01,
+    basis: 'wasm against cpu: measured identical accuracy and loss within 7e-6 relative after 4 epochs (regression: RMSE within 1.5e-7 relative); margin for longer trainings',
   },
   native: {
     accuracy: 0.05,
     relativeLoss: 0.05,
+    relativeRmse: 0.025,
     basis: 'the native tensorflow backend (its own kernels, other summation orders) against another machine or backend: not measured here (it does not install offline), an assumption',
   },
 } as const satisfies Record<string, Tolerance>;
@@ -65,23 +79,37 @@ export interface Comparison {
   agree: boolean;
   accuracyDiff: number;
   relativeLossDiff: number;
+  /** Regression opinions only: their validation RMSEs' difference relative to the larger one. */
+  relativeRmseDiff?: number;
   tolerance: Tolerance;
   /** One sentence for the event log. */
   reason: string;
 }
 
-/** Whether two opinions on one job agree within the tolerance of their backends. */
+const relativeDiff = (a: number, b: number): number => Math.abs(a - b) / Math.max(a, b, 1e-12);
+
+/**
+ * Whether two opinions on one job agree within the tolerance of their backends. Regression
+ * opinions (both with `valRmse`) are compared on RMSE and loss, never on the fitness that the
+ * `valAccuracy` field holds for them.
+ */
 export function compareOpinions(a: Opinion, b: Opinion): Comparison {
   const tolerance = toleranceFor(a.backend, b.backend);
   const accuracyDiff = Math.abs(a.valAccuracy - b.valAccuracy);
-  const relativeLossDiff = Math.abs(a.valLoss - b.valLoss) / Math.max(a.valLoss, b.valLoss, 1e-12);
+  const relativeLossDiff = relativeDiff(a.valLoss, b.valLoss);
+  const relativeRmseDiff = a.valRmse !== undefined && b.valRmse !== undefined ? relativeDiff(a.valRmse, b.valRmse) : undefined;
+  const diffs = { accuracyDiff, relativeLossDiff, ...(relativeRmseDiff === undefined ? {} : { relativeRmseDiff }) };
   const who = `${a.workerId} (${a.backend}) and ${b.workerId} (${b.backend})`;
   if (a.samplesSeen !== b.samplesSeen) {
-    return { agree: false, accuracyDiff, relativeLossDiff, tolerance, reason: `${who} trained on different amounts of data (${a.samplesSeen} and ${b.samplesSeen} samples)` };
+    return { agree: false, ...diffs, tolerance, reason: `${who} trained on different amounts of data (${a.samplesSeen} and ${b.samplesSeen} samples)` };
   }
-  const agree = accuracyDiff <= tolerance.accuracy && relativeLossDiff <= tolerance.relativeLoss;
-  const figures = `accuracy differs by ${accuracyDiff.toFixed(4)} (tolerance ${tolerance.accuracy}), loss by ${(relativeLossDiff * 100).toFixed(3)}% (tolerance ${tolerance.relativeLoss * 100}%)`;
-  return { agree, accuracyDiff, relativeLossDiff, tolerance, reason: `${who} ${agree ? 'agree' : 'disagree'}: ${figures}` };
+  const lossText = `loss by ${(relativeLossDiff * 100).toFixed(3)}% (tolerance ${tolerance.relativeLoss * 100}%)`;
+  const agree = (relativeRmseDiff === undefined ? accuracyDiff <= tolerance.accuracy : relativeRmseDiff <= tolerance.relativeRmse) && relativeLossDiff <= tolerance.relativeLoss;
+  const figures =
+    relativeRmseDiff === undefined
+      ? `accuracy differs by ${accuracyDiff.toFixed(4)} (tolerance ${tolerance.accuracy}), ${lossText}`
+      : `validation RMSE differs by ${(relativeRmseDiff * 100).toFixed(3)}% (tolerance ${tolerance.relativeRmse * 100}%), ${lossText}`;
+  return { agree, ...diffs, tolerance, reason: `${who} ${agree ? 'agree' : 'disagree'}: ${figures}` };
 }
 
 /**

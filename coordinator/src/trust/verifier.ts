@@ -30,7 +30,7 @@ export interface VerifierOptions {
  */
 const NO_OTHER_WORKER_GRACE_MS = 10_000;
 
-const opinionOf = (r: EvaluationResult): Opinion => ({ workerId: r.workerId, backend: r.backend, valAccuracy: r.valAccuracy!, valLoss: r.valLoss!, samplesSeen: r.samplesSeen });
+const opinionOf = (r: EvaluationResult): Opinion => ({ workerId: r.workerId, backend: r.backend, valAccuracy: r.valAccuracy!, valLoss: r.valLoss!, samplesSeen: r.samplesSeen, ...(r.valRegression ? { valRmse: r.valRegression.rmse } : {}) });
 
 /**
  * Replicated verification at the coordinator: re-runs chosen search results on other workers,

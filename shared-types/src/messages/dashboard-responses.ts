@@ -20,8 +20,10 @@ export const EvaluationPointSchema = Type.Object({
   genomeHash: Type.String(),
   /** When the coordinator recorded the result, ms since the epoch. */
   finishedAt: Type.Integer(),
-  /** Null for a failed attempt. */
+  /** Null for a failed attempt. In a regression run it holds the search fitness 1 / (1 + standardised RMSE): plot `valRmse` instead. */
   valAccuracy: Nullable(Type.Number()),
+  /** Regression runs, done attempts: validation RMSE in the target's units. */
+  valRmse: Type.Optional(Type.Number({ minimum: 0 })),
   params: Type.Integer({ minimum: 0 }),
   flops: Type.Integer({ minimum: 0 }),
   trainSeconds: Nullable(Type.Number()),
@@ -74,7 +76,10 @@ export const TopGenomeSchema = Type.Object({
   seq: Type.Integer({ minimum: 0 }),
   genomeHash: Type.String(),
   summary: Type.String(),
+  /** In a regression run the search fitness 1 / (1 + standardised RMSE): show `valRmse` instead. */
   valAccuracy: Type.Number(),
+  /** Regression runs: validation RMSE in the target's units. */
+  valRmse: Type.Optional(Type.Number({ minimum: 0 })),
   params: Type.Integer({ minimum: 0 }),
   flops: Type.Integer({ minimum: 0 }),
   trainSeconds: Nullable(Type.Number()),
@@ -95,7 +100,10 @@ export const LineageGenomeSchema = Type.Object({
   summary: Type.String(),
   params: Type.Integer({ minimum: 0 }),
   flops: Type.Integer({ minimum: 0 }),
+  /** In a regression run the search fitness 1 / (1 + standardised RMSE): show `valRmse` instead. */
   valAccuracy: Nullable(Type.Number()),
+  /** Regression runs, scored genomes: the best validation RMSE in the target's units. */
+  valRmse: Type.Optional(Type.Number({ minimum: 0 })),
 });
 export type LineageGenome = Static<typeof LineageGenomeSchema>;
 

@@ -18,11 +18,17 @@ export type RunPhase = Static<typeof RunPhaseSchema>;
 
 const Nullable = <T extends import('@sinclair/typebox').TSchema>(t: T) => Type.Union([t, Type.Null()]);
 
-/** In a regression run `valAccuracy` and `testAccuracy` hold the search fitness 1 / (1 + standardised RMSE); show the `…Regression` scores instead. */
+/**
+ * Classification runs carry `valAccuracy` (and the champion `testAccuracy`); regression runs carry
+ * no accuracy but the `…Regression` scores in the target's units, and the search fitness
+ * 1 / (1 + standardised RMSE) under its own name, `valFitness` (`testFitness`).
+ */
 export const ScoredGenomeSchema = Type.Object({
   genomeHash: Type.String(),
   evaluationId: Type.String(),
-  valAccuracy: Type.Number(),
+  valAccuracy: Type.Optional(Type.Number()),
+  /** Regression runs: the search fitness 1 / (1 + standardised validation RMSE), what the search ranks by. */
+  valFitness: Type.Optional(Type.Number()),
   valLoss: Type.Number(),
   /** Regression runs: validation RMSE, MAE and R² in the target's units. */
   valRegression: Type.Optional(RegressionScoresSchema),
@@ -58,8 +64,11 @@ export type WorkerStatus = Static<typeof WorkerStatusSchema>;
 export const ChampionSummarySchema = Type.Object({
   genomeHash: Type.String(),
   evaluationId: Type.String(),
-  valAccuracy: Type.Number(),
-  testAccuracy: Type.Number(),
+  /** Classification runs only (regression runs: `valFitness`, `testFitness` and `testRegression`). */
+  valAccuracy: Type.Optional(Type.Number()),
+  testAccuracy: Type.Optional(Type.Number()),
+  valFitness: Type.Optional(Type.Number()),
+  testFitness: Type.Optional(Type.Number()),
   testLoss: Type.Number(),
   /** Regression runs: test RMSE, MAE, R² in the target's units and the RMSE of predicting the training mean. */
   testRegression: Type.Optional(RegressionTestScoresSchema),
