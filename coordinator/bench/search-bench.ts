@@ -233,7 +233,7 @@ async function main(): Promise<void> {
     const lines: string[] = [];
     for (const r of report) lines.push(...taskTable(r.task.title, r.task.budget, r.searchBudget, r.summary, r.references, FRACTIONS));
     lines.push('');
-    lines.push("Champion: chosen on validation evidence (the test split chooses nothing), trained on train + validation, final training capped at the champion's share of the budget, scored once on test.");
+    lines.push("Champion: chosen on validation evidence (the test split chooses nothing), trained on train + validation (less the half of validation the held-back check keeps out of both its and the reference network's final trainings: the better of the two there is exported), final training capped at the champion's share of the budget, scored once on test.");
     lines.push('Reference row: the run\'s reference network (docs/reference-networks.md) trained once on the training split with the whole budget, the weights of its best epoch by validation accuracy kept, scored once on test.');
     if (settings.tasks.includes('mnist')) {
       lines.push('Published MNIST test errors (LeCun, Bottou, Bengio, Haffner, Proc. IEEE 1998, results table), trained on 60,000 digits:');
