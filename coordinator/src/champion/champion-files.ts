@@ -11,6 +11,7 @@ import { describeChoice, recordedChoice } from './champion-choice.js';
 import { ensembleFileNames, ensembleScore } from './ensemble-files.js';
 import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison } from './reference-comparison.js';
+import { macroF1, majorityClassBaseline, perClassFigures } from './class-metrics.js';
 import { championTestRegression } from './regression-scores.js';
 
 const labelCache = new Map<string, Int32Array>();
@@ -44,6 +45,14 @@ export function confusionMatrix(labels: ArrayLike<number>, predictions: readonly
   return m;
 }
 
+/** The majority-class baseline of a classification run, from the training split's class counts where the import recorded them. */
+function majorityOf(run: RunRecord, confusion: number[][]): { className: string; accuracy: number; countedOn: 'training split' | 'test split' } {
+  const train = run.dataset.preparation?.classCounts.train;
+  const counts = train ?? confusion.map((row) => row.reduce((a, b) => a + b, 0));
+  const { classIndex, accuracy } = majorityClassBaseline(counts, confusion);
+  return { className: run.dataset.manifest.classNames[classIndex] ?? String(classIndex), accuracy, countedOn: train ? 'training split' : 'test split' };
+}
+
 /** Names of the files a champion export holds, in the order they are written. */
 export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'preprocessing.json', 'champion.json', 'report.md', 'report.html'] as const;
 export type ChampionFileName = (typeof CHAMPION_FILES)[number];
@@ -53,6 +62,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const champion = store.getChampion(run.id);
   if (!champion) return null;
   const testLabels = testLabelsOf(run);
+  const confusion = run.dataset.manifest.target ? [] : confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses);
   const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail);
   const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
@@ -79,7 +89,12 @@ export function championSummary(store: RunStore, run: RunRecord) {
       loss: champion.testLoss,
       samples: champion.testPredictions.length,
       /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). Empty for regression. */
-      confusion: run.dataset.manifest.target ? [] : confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses),
+      confusion,
+      /** Classification: precision, recall, F1 and number of test samples per class (class order of `settings.dataset.classNames`), and their macro F1. */
+      perClass: run.dataset.manifest.target ? [] : perClassFigures(confusion),
+      macroF1: run.dataset.manifest.target ? null : macroF1(perClassFigures(confusion)),
+      /** Classification: the test accuracy of always predicting the most common class of the training split (of the test split where the training counts were not recorded). */
+      majorityClass: run.dataset.manifest.target ? null : majorityOf(run, confusion),
       /** Regression: RMSE, MAE, R² in the target's units and the RMSE of always predicting the training mean. */
       regression: championTestRegression(store, run.id, champion.evaluationId).testRegression ?? null,
     },

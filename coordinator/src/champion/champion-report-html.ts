@@ -4,6 +4,7 @@ import { describeStart } from './inheritance-summary.js';
 import { championTrustHtml } from './champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 import { howToUseHtml } from './how-to-use.js';
+import { perClassLines } from './champion-report.js';
 
 import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
 import { fourDigits } from './regression-scores.js';
@@ -131,7 +132,11 @@ ${
           ['test MAE / R²', `${fourDigits(reg.mae)} / ${reg.r2.toFixed(3)}`],
           ['validation RMSE (during search)', c.validation.regression ? fourDigits(c.validation.regression.rmse) : 'n/a'],
         ]
-      : [['validation accuracy (during search)', pct(c.validation.accuracy)]]) as Array<[string, string]>),
+      : [
+          ['validation accuracy (during search)', pct(c.validation.accuracy)],
+          ...(c.test.majorityClass ? [[`always predicting the most common class ("${c.test.majorityClass.className}", counted on the ${c.test.majorityClass.countedOn})`, `${pct(c.test.majorityClass.accuracy)} on the same test samples`]] : []),
+          ...(c.test.macroF1 === null ? [] : [['macro F1 (test, mean over classes)', c.test.macroF1.toFixed(3)]]),
+        ]) as Array<[string, string]>),
     ['parameters', c.paramCount.toLocaleString('en-US')],
     ['forward FLOPs per sample', c.flops.toLocaleString('en-US')],
     ['CPU latency per sample', c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median; ${esc(String(c.latency.backend))} backend, coordinator's CPU)`],
@@ -145,7 +150,7 @@ ${
     ? regressionTest
       ? `<h2>Test split: predicted against actual, and residuals</h2>\n<div class="diagram">${predictedActualSvg(regressionTest.actual, regressionTest.predicted, c.target!.column)} ${residualHistogramSvg(regressionTest.actual, regressionTest.predicted)}</div>`
       : ''
-    : `<h2>Test split: confusion matrix</h2>\n${confusion}`
+    : `<h2>Test split: confusion matrix</h2>\n${confusion}\n${sectionHtml(perClassLines(c))}`
 }
 <h2>Final training</h2>
 ${curveSvg(c)}

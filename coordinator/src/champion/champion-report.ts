@@ -22,6 +22,21 @@ function regressionRows(c: ChampionSummaryDocument): string[] {
 }
 
 /** A short Markdown report of a champion: what it is, how well it does, how it was found. */
+/** Precision, recall and F1 per class on the test split, as a Markdown table (the HTML report renders the same lines). */
+export function perClassLines(c: ChampionSummaryDocument): string[] {
+  const three = (v: number | null) => (v === null ? 'n/a' : v.toFixed(3));
+  return [
+    '## Test split: per class',
+    '',
+    'Precision: of the samples predicted as the class, the share that are; recall: of the samples of the class, the share found; F1: their harmonic mean. n/a where nothing was predicted as the class or it has no test sample.',
+    '',
+    '| class | precision | recall | F1 | test samples |',
+    '|---|---|---|---|---|',
+    ...c.test.perClass.map((f, i) => `| ${c.settings.dataset.classNames[i]} | ${three(f.precision)} | ${three(f.recall)} | ${three(f.f1)} | ${f.support} |`),
+    '',
+  ];
+}
+
 export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[]): string {
   const regression = c.test.regression !== null;
   const lines = [
@@ -37,6 +52,8 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
       ? regressionRows(c)
       : [
           `| held-out test accuracy | ${pct(c.test.accuracy)} on ${c.test.samples} samples never seen in search or training |`,
+          ...(c.test.majorityClass ? [`| always predicting the most common class ("${c.test.majorityClass.className}", counted on the ${c.test.majorityClass.countedOn}) | ${pct(c.test.majorityClass.accuracy)} on the same test samples |`] : []),
+          ...(c.test.macroF1 === null ? [] : [`| macro F1 (test, mean over classes) | ${c.test.macroF1.toFixed(3)} |`]),
           `| reference network (test) | ${c.reference.referenceTestAccuracy === null ? 'n/a' : pct(c.reference.referenceTestAccuracy)} |`,
           `| validation accuracy (during search) | ${pct(c.validation.accuracy)} |`,
         ]),
@@ -63,6 +80,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
           `|---|${c.settings.dataset.classNames.map(() => '---').join('|')}|`,
           ...c.test.confusion.map((row, i) => `| ${c.settings.dataset.classNames[i]} | ${row.join(' | ')} |`),
           '',
+          ...perClassLines(c),
         ]),
     '## Final training curve',
     '',

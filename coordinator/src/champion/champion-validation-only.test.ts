@@ -133,6 +133,11 @@ describe('the champion is chosen without the test split', () => {
     expect(report).toMatch(/The choice read validation scores only/);
     expect(report).toMatch(/for 2 epoch\(s\), where its longest search training \(3 epochs\) reached its best validation accuracy/);
     expect(report).not.toMatch(/optimistic/);
+    // per-class figures and the majority-class baseline beside the accuracy (the demo-tiles fixture records no training counts, so the test split's)
+    expect(report).toMatch(/## Test split: per class[\s\S]*\| a \| (\d\.\d{3}|n\/a) \| (\d\.\d{3}|n\/a) \|/);
+    expect(report).toMatch(/\| always predicting the most common class \("[abc]", counted on the test split\) \| \d+\.\d\d% on the same test samples \|/);
+    const html = championFiles(store, store.getRun('r1')!)!.get('report.html')!.toString();
+    expect(html).toContain('<h2>Test split: per class</h2>');
     expect(comparison.line).toMatch(points > 0 ? /the search's champion beats the reference network by [\d.]+ points/ : points < 0 ? /chosen on validation, scores [\d.]+ points below the reference network/ : /ties/);
   }, 120_000);
 
