@@ -105,7 +105,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
       const { id, name } = req.params as { id: string; name: ChampionFileName };
       const files = championFiles(store, runOr404(id));
       if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
-      const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : 'application/octet-stream';
+      const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : name.endsWith('.html') ? 'text/html; charset=utf-8' : 'application/octet-stream';
       return reply.type(type).send(files.get(name));
     },
   );
