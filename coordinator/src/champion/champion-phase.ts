@@ -44,7 +44,7 @@ export class ChampionPhase {
 
   /** Chooses the candidates and queues their final trainings. */
   async begin(run: RunRecord): Promise<void> {
-    const { candidates, choice, considered } = this.chooseCandidates(run);
+    const { candidates, choice, considered, referenceUnfinished } = this.chooseCandidates(run);
     const ensemble = run.config.champion.ensemble;
     if (candidates.length === 0) {
       this.o.store.setRunState(run.id, 'failed', { now: this.o.now(), failure: 'no evaluation succeeded (or every successful one failed verification or came from a quarantined worker), so there is no champion' });
@@ -54,6 +54,10 @@ export class ChampionPhase {
     this.o.store.transaction(() => {
       this.o.store.setRunState(run.id, 'training-champion');
       this.o.store.logEvent(run.id, 'champion-candidates', { candidates, choice, considered, round: 0, ...(ensemble ? { ensemble } : {}) });
+      if (referenceUnfinished) {
+        const planned = this.o.store.events(run.id, 'reference-network').at(-1)?.detail;
+        this.o.store.logEvent(run.id, 'reference-skipped', { description: planned?.description ?? 'the reference network', reason: 'its search training had not finished when the search budget ran out, so it got no final training' });
+      }
     });
     this.o.log.info({ runId: run.id, candidates: candidates.length, best: candidates[0]!.valAccuracy }, 'search done; training the best genomes on train + validation');
     await this.ensureJobs(this.o.store.getRun(run.id)!);
@@ -68,7 +72,7 @@ export class ChampionPhase {
    * `considered`: the best `topK` genomes as the choice saw them, for the report. Only eligible
    * results compete (see `eligible`: not from a quarantined worker, not rejected by verification).
    */
-  chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice; considered: ConsideredGenome[] } {
+  chooseCandidates(run: RunRecord): { candidates: ChampionCandidate[]; choice: ChampionChoice; considered: ConsideredGenome[]; referenceUnfinished: boolean } {
     const { topK, rule, ensemble } = run.config.champion;
     let choice = championChoice(this.o.store, run);
     const { pool, ruleUnmet } = candidatePool(this.o.store, run, Math.max(topK, ensemble ? ensemblePoolSize(ensemble.size) : 0), this.o.eligible);
@@ -89,10 +93,13 @@ export class ChampionPhase {
       const members = ensembleFromPool(pool, ensemble);
       if (members.length >= 2) members.forEach((m, i) => add(m.entry, { ensemblePosition: i, ensembleSimilarity: m.similarity }));
     }
+    // A reference whose search training never finished (still queued or given up when the budget
+    // ran out) gets no final training: nothing says how long, and a candidate needs its score.
     const reference = out.length ? referenceSource(this.o.store, run, pool, this.o.eligible) : null;
-    if (reference) add(reference, { reference: true });
+    if (reference && reference.valAccuracy !== null) add(reference, { reference: true });
+    const referenceUnfinished = reference !== null && reference.valAccuracy === null;
     const considered = pool.slice(0, topK).map((e) => ({ genomeHash: e.genomeHash, evaluationId: e.id, valAccuracy: e.valAccuracy!, results: e.results ?? 1, budgetEpochs: e.job.budget.epochs, params: e.params }));
-    return { candidates: out, choice, considered };
+    return { candidates: out, choice, considered, referenceUnfinished };
   }
 
   private roundChoice(runId: string): ChampionChoice | undefined {

@@ -53,7 +53,7 @@ const fitted = fitReferenceNetwork(DATA, defaultSearchSpace());
 if (!fitted.ok) throw new Error(fitted.reason);
 const reference = fitted.genome;
 /** seq 0 is the reference network (the first proposal of every run), then two searched genomes. */
-const SEARCH: Array<[Genome, number]> = [
+const SEARCH: Array<[Genome, number | null]> = [
   [reference, 0.8],
   [dense(16, 0.01), 0.9],
   [dense(8, 0.005), 0.85],
@@ -77,6 +77,7 @@ async function finishChampionPhase(testSplit: LabelledSamples, searchResults = S
     store.putGenome({ hash, genome, params: 100 + seq, flops: 200, summary: `genome ${seq}` });
     const job = searchJob(`r1-s${seq}-a1`, { genome, genomeHash: hash, seed: 10 + seq, budget: { epochs: 3, maxSeconds: 60 } });
     store.addEvaluation(job, seq, 1000, true);
+    if (acc === null) return; // still queued when the search ended
     // A clear peak at epoch 2 (an accuracy 0.5 above the other epochs: beyond the noise of the fixture's 5 validation samples).
     const history = [1, 2, 3].map((epoch) => ({ epoch, trainLoss: 1, trainAccuracy: 0.5, valLoss: 1, valAccuracy: epoch === 2 ? acc : acc - 0.5, seconds: 1 }));
     store.recordResult(job.evaluationId, searchResult(job.evaluationId, 'w1', { valAccuracy: acc, history }), 2000 + seq);
@@ -150,6 +151,13 @@ describe('the champion is chosen without the test split', () => {
     expect(round.considered.map((c) => c.genomeHash)).not.toContain(genomeHash(reference));
     const lengths = store.events('r1', 'champion-training-length').map((e) => e.detail as { rule: string; epochs: number });
     expect(lengths).toEqual([expect.objectContaining({ rule: 'learning-curve', epochs: 2 }), expect.objectContaining({ rule: 'genome-epochs', epochs: 3 })]);
+  }, 120_000);
+
+  it('gives a reference whose search training never finished no final training, and says why', async () => {
+    const { store, queued } = await finishChampionPhase(TEST, [[reference, null], SEARCH[1]!, SEARCH[2]!]);
+    expect(queued.map((j) => j.genomeHash)).toEqual([genomeHash(SEARCH[1]![0])]);
+    expect(queued[0]!.selectionHoldout).toBeUndefined(); // nothing to compare with
+    expect(referenceComparison(store, 'r1')).toMatchObject({ state: 'skipped', line: expect.stringMatching(/had not finished when the search budget ran out/) });
   }, 120_000);
 
   it('trains the reference once when it is the champion, and says the search did not beat it', async () => {
