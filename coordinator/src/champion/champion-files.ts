@@ -63,6 +63,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
   if (!champion) return null;
   const testLabels = testLabelsOf(run);
   const confusion = run.dataset.manifest.target ? [] : confusionMatrix(testLabels, champion.testPredictions, run.dataset.manifest.numClasses);
+  const perClass = perClassFigures(confusion);
   const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail);
   const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
@@ -91,8 +92,8 @@ export function championSummary(store: RunStore, run: RunRecord) {
       /** Rows: true class; columns: predicted class (class order of `settings.dataset.classNames`). Empty for regression. */
       confusion,
       /** Classification: precision, recall, F1 and number of test samples per class (class order of `settings.dataset.classNames`), and their macro F1. */
-      perClass: run.dataset.manifest.target ? [] : perClassFigures(confusion),
-      macroF1: run.dataset.manifest.target ? null : macroF1(perClassFigures(confusion)),
+      perClass,
+      macroF1: run.dataset.manifest.target ? null : macroF1(perClass),
       /** Classification: the test accuracy of always predicting the most common class of the training split (of the test split where the training counts were not recorded). */
       majorityClass: run.dataset.manifest.target ? null : majorityOf(run, confusion),
       /** Regression: RMSE, MAE, R² in the target's units and the RMSE of always predicting the training mean. */

@@ -8,7 +8,7 @@ import { scoreEnsemble } from './score-ensemble.js';
 import { candidatePool, championChoice, championRound, describeRule, ensembleFromPool, ensemblePoolSize, type ChampionChoice } from './champion-choice.js';
 import { finalTrainingLength } from './final-length.js';
 import { referenceSource, type ConsideredGenome } from './reference-comparison.js';
-import { heldBackCount, heldBackPair, heldBackWinner } from './held-back-check.js';
+import { heldBackCount, heldBackPair, heldBackSide, heldBackWinner } from './held-back-check.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 /** A genome the champion phase trains again (the `champion-candidates` event's schema). */
@@ -122,7 +122,7 @@ export class ChampionPhase {
       if (existing.has(c.seq)) continue;
       const source = this.o.store.getEvaluation(c.sourceEvaluationId)!;
       const { maxSamples } = run.config.champion;
-      const holdout = heldBack && (c.seq === pair!.champion.seq || c.seq === pair!.reference.seq) ? heldBack : 0;
+      const holdout = pair && heldBackSide(pair, c.seq) ? heldBack : 0;
       const trainAndVal = run.dataset.manifest.trainCount + run.dataset.manifest.valCount - holdout;
       const budgetMaxEpochs = maxSamples === undefined ? undefined : Math.max(1, Math.min(1000, Math.floor(maxSamples / trainAndVal)));
       // A learning curve that does not count (a quarantined worker's: only the reference network
@@ -162,9 +162,12 @@ export class ChampionPhase {
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit(), this.o.store.getRun(ev.runId)?.dataset.manifest.target);
     const isChampion = candidate.champion !== false;
-    const exportIt = this.exportsThis(ev, candidate, result);
+    let exportIt = false;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
+      // Decided here, in the transaction, against the champion stored so far: two final trainings
+      // scored at the same time must not both see "no champion yet".
+      exportIt = this.exportsThis(ev, candidate, result);
       const scored = {
         evaluationId: ev.id,
         sourceEvaluationId: candidate.sourceEvaluationId,
@@ -213,13 +216,14 @@ export class ChampionPhase {
    */
   private exportsThis(ev: EvaluationRecord, candidate: ChampionCandidate, result: EvaluationResult): boolean {
     const pair = heldBackPair(this.candidates(ev.runId));
-    if (ev.job.selectionHoldout === undefined || !pair || (ev.seq !== pair.champion.seq && ev.seq !== pair.reference.seq)) return candidate.champion !== false;
-    const other = ev.seq === pair.champion.seq ? pair.reference : pair.champion;
+    const side = pair && heldBackSide(pair, ev.seq);
+    if (ev.job.selectionHoldout === undefined || !pair || !side) return candidate.champion !== false;
+    const other = side === 'champion' ? pair.reference : pair.champion;
     const current = this.o.store.getChampion(ev.runId);
     if (!current || current.genomeHash !== other.genomeHash) return true;
     const mine = result.valAccuracy;
     const theirs = current.result.valAccuracy;
-    return ev.seq === pair.champion.seq ? heldBackWinner(mine, theirs) === 'search' : heldBackWinner(theirs, mine) === 'reference';
+    return side === 'champion' ? heldBackWinner(mine, theirs) === 'search' : heldBackWinner(theirs, mine) === 'reference';
   }
 
   /** Records the held-back check once both of its final trainings are done (a `champion-held-back-check` event). */

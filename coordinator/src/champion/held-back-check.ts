@@ -25,6 +25,11 @@ export function heldBackPair(candidates: readonly ChampionCandidate[]): { champi
   return champion && reference ? { champion, reference } : null;
 }
 
+/** Which side of the pair the final training keyed `seq` is, or null when it is neither. */
+export function heldBackSide(pair: { champion: ChampionCandidate; reference: ChampionCandidate }, seq: number): 'champion' | 'reference' | null {
+  return seq === pair.champion.seq ? 'champion' : seq === pair.reference.seq ? 'reference' : null;
+}
+
 /**
  * Which final training is exported: the reference network's only when it scored strictly higher on
  * the held-back validation samples than the search's champion (a tie, or a missing score, keeps

@@ -30,10 +30,8 @@ export function choiceParagraph(c: ChampionSummaryDocument): string {
 
 /** The held-back check in words: the search's champion against the reference network after equal final trainings. */
 function heldBackSentence(c: ChampionSummaryDocument, check: NonNullable<ChampionSummaryDocument['heldBackCheck']>): string {
-  const scores = `the search's choice scored ${score(c, check.champion.valAccuracy)} on them, the reference network ${score(c, check.reference.valAccuracy)}`;
-  return check.exported === 'reference'
-    ? ` The reference network got the same final training, and on the ${check.heldBack} held-back samples, which neither trained on, ${scores}: so the reference network is exported as the champion.`
-    : ` The reference network got the same final training, and on the ${check.heldBack} held-back samples, which neither trained on, ${scores}: so the search's choice stands.`;
+  const outcome = check.exported === 'reference' ? 'so the reference network is exported as the champion' : "so the search's choice stands";
+  return ` The reference network got the same final training, and on the ${check.heldBack} held-back samples, which neither trained on, the search's choice scored ${score(c, check.champion.valAccuracy)} on them, the reference network ${score(c, check.reference.valAccuracy)}: ${outcome}.`;
 }
 
 export function choiceTable(c: ChampionSummaryDocument): string[] {
