@@ -164,11 +164,19 @@ describe('GET /metrics with a real run', () => {
     expect(sample(m, 'netbreeder_rejected_inputs_total', { kind: 'request' })).toBe(rejected('rejected-request'));
     expect(sample(m, 'netbreeder_rejected_inputs_total', { kind: 'request' })).toBeGreaterThanOrEqual(1);
     expect(sample(m, 'netbreeder_rejected_inputs_total', { kind: 'result' })).toBe(rejected('rejected-result'));
-    const status = statusResponseValidator.parse(await (await fetch(`${url}/status`)).json());
+    // The workers' part read between two equal GET /status answers: a heartbeat may land at any moment.
+    const readStatus = async () => statusResponseValidator.parse(await (await fetch(`${url}/status`)).json());
+    const workersOf = (st: Awaited<ReturnType<typeof readStatus>>) => JSON.stringify(st.workers.map((w) => [w.workerId, w.alive, w.state, w.samplesPerSecond]));
+    const { status, live } = await waitFor('a scrape between two equal worker states', async () => {
+      const before = await readStatus();
+      const scraped = parseStrict(await scrape(url));
+      const after = await readStatus();
+      return workersOf(before) === workersOf(after) ? { status: after, live: scraped } : null;
+    }, 20_000, 200);
     expect(sample(m, 'netbreeder_workers_known')).toBe(store.listWorkers().length);
-    expect(sample(m, 'netbreeder_workers_alive')).toBe(status.workers.filter((w) => w.alive).length);
+    expect(sample(live, 'netbreeder_workers_alive')).toBe(status.workers.filter((w) => w.alive).length);
     const trainingNow = status.workers.filter((w) => w.alive && w.state === 'training').reduce((t, w) => t + w.samplesPerSecond, 0);
-    expect(sample(m, 'netbreeder_training_samples_per_second')).toBeCloseTo(trainingNow, 6);
+    expect(sample(live, 'netbreeder_training_samples_per_second')).toBeCloseTo(trainingNow, 6);
     // throughput since start agrees with GET /status (both from the store)
     expect(sample(m, 'netbreeder_throughput_evaluations_per_minute', { window: 'since_start' })).toBeCloseTo(status.throughput.perMinuteSinceStart, 6);
     // queue depth straight from BullMQ's job counts, read while the queue stands still (the
