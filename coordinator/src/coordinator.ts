@@ -12,7 +12,9 @@ import { createHttpServer } from './http/server.js';
 import { StallChecker } from './queue/stall-checker.js';
 import { loadSecrets, type CoordinatorSecrets } from './config/secrets.js';
 
-export const COORDINATOR_VERSION = '0.1.0';
+import { COORDINATOR_VERSION } from './version.js';
+
+export { COORDINATOR_VERSION };
 
 /**
  * Default HTTP port: 7460, clear of the services usually found on an office server

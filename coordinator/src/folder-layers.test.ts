@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
  * into the champion. DEVELOPERS.md shows the same map. Tests may import anything.
  */
 const LAYERS: string[][] = [
-  ['datasets', 'search', 'queue', 'dashboard'],
+  ['datasets', 'search', 'queue', 'dashboard', 'onnx'],
   ['importers'],
   ['config'],
   ['store'],
@@ -19,8 +19,8 @@ const LAYERS: string[][] = [
   ['http'],
   ['cli'],
 ];
-/** Files at the top of src/: the logger is below everything, the coordinator between http and cli, index on top. */
-const ROOT_FILES: Record<string, number> = { logger: -1, coordinator: LAYERS.length - 1.5, index: LAYERS.length };
+/** Files at the top of src/: the logger and the version are below everything, the coordinator between http and cli, index on top. */
+const ROOT_FILES: Record<string, number> = { logger: -1, version: -1, coordinator: LAYERS.length - 1.5, index: LAYERS.length };
 
 const SRC = dirname(fileURLToPath(import.meta.url));
 

@@ -127,6 +127,20 @@ describe('a run end to end with two workers', () => {
     expect(status.reference).toMatchObject({ state: 'scored', referenceGenomeHash: referenceHash, championTestAccuracy: stored.testAccuracy });
     expect(status.reference!.line).toMatch(/reference network/);
     expect(predicted).toEqual(stored.testPredictions);
+    // The same export's model.onnx in ONNX Runtime (onnxruntime-node, the reference runtime of the
+    // open ONNX standard): the same classes, probabilities within 1e-4 of TensorFlow.js's.
+    const ort = await import('onnxruntime-node');
+    const session = await ort.InferenceSession.create(join(out, 'model.onnx'));
+    const onnx = (await session.run({ input: new ort.Tensor('float32', test.features, [test.count, ...run.dataset.manifest.inputShape]) }))['output']!.data as Float32Array;
+    await session.release();
+    const classes = run.dataset.manifest.numClasses;
+    const tfProbabilities = tf.tidy(() => (model.predict(tf.tensor(test.features, [test.count, ...run.dataset.manifest.inputShape])) as tf.Tensor).dataSync());
+    onnx.forEach((v, i) => expect(Math.abs(v - tfProbabilities[i]!)).toBeLessThan(1e-4));
+    const onnxClasses = Array.from({ length: test.count }, (_, s) => {
+      const row = Array.from(onnx.subarray(s * classes, (s + 1) * classes));
+      return row.indexOf(Math.max(...row));
+    });
+    expect(onnxClasses).toEqual(stored.testPredictions);
     const accuracy = predicted.filter((p, i) => p === test.labels[i]).length / test.count;
     expect(accuracy).toBe(champion.test.accuracy);
     const html = await readFile(join(out, 'report.html'), 'utf8');

@@ -94,7 +94,7 @@ describe('predict on a real run\'s export', () => {
     // The same files come over HTTP with `netbreeder export`.
     const downloaded = join(dir, 'downloaded');
     await downloadChampion(cluster.coordinator.url, run.id, downloaded, cluster.coordinator.secrets.adminToken);
-    for (const f of ['preprocessing.json', join('ensemble', 'preprocessing.json')]) expect(await readFile(join(downloaded, f), 'utf8')).toBe(await readFile(join(exported, f), 'utf8'));
+    for (const f of ['preprocessing.json', 'model.onnx', join('ensemble', 'preprocessing.json'), join('ensemble', 'model.onnx')]) expect((await readFile(join(downloaded, f))).equals(await readFile(join(exported, f))), f).toBe(true);
   });
 
   it('predicts the raw test rows exactly as the coordinator scored the champion on the test split', async () => {
@@ -142,6 +142,35 @@ describe('predict on a real run\'s export', () => {
     } finally {
       await rm(scratch, { recursive: true, force: true });
     }
+  });
+
+  it("gives the champion's and the ensemble's outputs in ONNX Runtime: model.onnx on the test split", async () => {
+    // ONNX Runtime (onnxruntime-node) is the reference runtime of the open ONNX standard.
+    const ort = await import('onnxruntime-node');
+    const test = decodeShard(await readFile(run.dataset.testPath)).train;
+    const champion = cluster.coordinator.store.getChampion(run.id)!;
+    for (const folder of [exported, join(exported, 'ensemble')]) {
+      const session = await ort.InferenceSession.create(join(folder, 'model.onnx'));
+      const out = await session.run({ input: new ort.Tensor('float32', test.features, [test.count, 4]) });
+      await session.release();
+      const onnx = out['output']!.data as Float32Array;
+      const loaded = await loadChampion(folder);
+      const { probabilities, classes } = loaded.predictPrepared(test.features, test.count);
+      loaded.dispose();
+      expect(onnx.length).toBe(probabilities.length);
+      onnx.forEach((v, i) => expect(Math.abs(v - probabilities[i]!)).toBeLessThan(1e-4));
+      const onnxClasses = Array.from({ length: test.count }, (_, s) => {
+        const row = Array.from(onnx.subarray(s * 3, s * 3 + 3));
+        return row.indexOf(Math.max(...row));
+      });
+      expect(onnxClasses).toEqual(Array.from(classes));
+      if (folder === exported) expect(onnxClasses).toEqual(Array.from(champion.testPredictions));
+    }
+    const summary = JSON.parse(await readFile(join(exported, 'champion.json'), 'utf8'));
+    expect(summary.files).toContain('model.onnx');
+    expect(summary.latency.onnxRuntime).toMatchObject({ runs: 30, runtime: expect.stringMatching(/^onnxruntime-node \d/) });
+    expect(summary.latency.onnxRuntime.msPerBatch32).toBeGreaterThan(0);
+    expect(await readFile(join(exported, 'report.md'), 'utf8')).toMatch(/\| ONNX Runtime latency \(model\.onnx\) \| [0-9.]+ ms for one sample alone, [0-9.]+ ms for a batch of 32/);
   });
 
   it('refuses a folder without preprocessing.json or of another version, and a CSV without a training column, leaving no output file', async () => {

@@ -13,6 +13,8 @@ import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison } from './reference-comparison.js';
 import { macroF1, majorityClassBaseline, perClassFigures } from './class-metrics.js';
 import { championTestRegression } from './regression-scores.js';
+import { onnxDescription, onnxExportOf } from './onnx-file.js';
+import { ONNX_INPUT, ONNX_OPSET, ONNX_OUTPUT } from '../onnx/onnx-export.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -54,7 +56,7 @@ function majorityOf(run: RunRecord, confusion: number[][]): { className: string;
 }
 
 /** Names of the files a champion export holds, in the order they are written. */
-export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'preprocessing.json', 'champion.json', 'report.md', 'report.html'] as const;
+export const CHAMPION_FILES = ['genome.json', 'model.json', 'weights.bin', 'model.onnx', 'preprocessing.json', 'champion.json', 'report.md', 'report.html'] as const;
 export type ChampionFileName = (typeof CHAMPION_FILES)[number];
 
 /** What GET /runs/:id/champion returns, and champion.json holds. */
@@ -80,8 +82,10 @@ export function championSummary(store: RunStore, run: RunRecord) {
     genome: genome.genome,
     paramCount: genome.params,
     flops: genome.flops,
-    /** Median time to classify one sample alone, measured on the coordinator's CPU when it was scored. */
-    latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null },
+    /** Median time to classify one sample alone in TensorFlow.js, measured on the coordinator's CPU when it was scored; `onnxRuntime`: the ONNX graph's latency in ONNX Runtime there (one sample, a batch of 32). */
+    latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null, onnxRuntime: own?.onnxLatency ?? null },
+    /** `model.onnx`: the same network as an ONNX graph (opset, input and output names, what they hold). */
+    onnx: { file: 'model.onnx', opset: ONNX_OPSET, input: ONNX_INPUT, output: ONNX_OUTPUT, description: onnxDescription(run, 1) },
     /** Regression runs: the predicted column and its training-split scaling (then `validation` and `test` carry `fitness`, the search fitness 1 / (1 + standardised RMSE), instead of `accuracy`, and `regression` the scores to show). */
     target: run.dataset.manifest.target ?? null,
     validation: { ...named(champion.valAccuracy), loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
@@ -159,7 +163,8 @@ export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSumm
 
 /**
  * The content of every file of a champion export: the genome, the trained model in TensorFlow.js
- * layers format (`model.json` with a weights manifest pointing at `weights.bin`), how raw input
+ * layers format (`model.json` with a weights manifest pointing at `weights.bin`), the same model
+ * as an ONNX graph (`model.onnx`), how raw input
  * becomes model input (`preprocessing.json`), the scores and a short report. Null when the run has no champion yet.
  */
 export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFileName, Buffer> | null {
@@ -181,6 +186,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
+    ['model.onnx', onnxExportOf(run, [{ genome: summary.genome, artifacts }])],
     ['preprocessing.json', json(preprocessing)],
     ['champion.json', json(summary)],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],

@@ -1,4 +1,4 @@
-import type { EvaluationJob, EvaluationResult, LabelledSamples } from '@netbreeder/shared-types';
+import type { EvaluationJob, EvaluationResult, LabelledSamples, ModelArtifactsMessage } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
@@ -9,6 +9,8 @@ import { candidatePool, championChoice, championRound, describeRule, ensembleFro
 import { finalTrainingLength } from './final-length.js';
 import { referenceSource, type ConsideredGenome } from './reference-comparison.js';
 import { heldBackCount, heldBackPair, heldBackSide, heldBackWinner } from './held-back-check.js';
+import { onnxExportOf } from './onnx-file.js';
+import { measureOnnxLatency, type OnnxLatency, type OnnxLatencyUnavailable } from '../onnx/onnx-latency.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
 /** A genome the champion phase trains again (the `champion-candidates` event's schema). */
@@ -160,8 +162,12 @@ export class ChampionPhase {
   async recordResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
     if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
-    const score = await scoreChampion(result.model!, this.o.testSplit(), this.o.store.getRun(ev.runId)?.dataset.manifest.target);
+    const run = this.o.store.getRun(ev.runId)!;
+    const test = this.o.testSplit();
+    const score = await scoreChampion(result.model!, test, run.dataset.manifest.target);
     const isChampion = candidate.champion !== false;
+    // Timed on the test inputs already read (their labels play no part in a latency).
+    const onnxLatency = isChampion ? await this.onnxLatencyOf(run, ev.genomeHash, result.model!, test) : undefined;
     let exportIt = false;
     const recorded = this.o.store.transaction(() => {
       if (this.o.store.recordResult(ev.id, result, this.o.now()) !== 'recorded') return false;
@@ -181,6 +187,7 @@ export class ChampionPhase {
         ...scored,
         backend: score.backend,
         latencyMsPerSample: score.latencyMsPerSample,
+        ...(onnxLatency ? { onnxLatency } : {}),
         champion: candidate.champion !== false,
         round: championRound(this.o.store, ev.runId),
         ...(candidate.ensemblePosition === undefined ? {} : { ensemblePosition: candidate.ensemblePosition }),
@@ -279,6 +286,17 @@ export class ChampionPhase {
       })),
     });
     this.o.log.info({ runId: run.id, members: members.length, testAccuracy: score.accuracy }, 'ensemble scored on the held-out test split');
+  }
+
+  /** The CPU latency of a final training's model exported to ONNX, in ONNX Runtime on this machine (or why there is none). */
+  private async onnxLatencyOf(run: RunRecord, genomeHash: string, model: ModelArtifactsMessage, samples: LabelledSamples): Promise<OnnxLatency | OnnxLatencyUnavailable> {
+    try {
+      const bytes = onnxExportOf(run, [{ genome: this.o.store.getGenome(genomeHash)!.genome, artifacts: model }]);
+      return await measureOnnxLatency(bytes, samples, run.dataset.manifest.inputShape);
+    } catch (err) {
+      this.o.log.warn({ runId: run.id, genomeHash, err: (err as Error).message }, 'the model could not be exported to ONNX');
+      return { unavailable: `the ONNX export failed: ${(err as Error).message}` };
+    }
   }
 
   /** After a candidate's attempt was given up: the phase may be complete without it. */

@@ -4,6 +4,7 @@ import { describeStart } from './inheritance-summary.js';
 import { championTrustHtml } from './champion-trust.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines, sectionHtml } from './report-choice-sections.js';
 import { howToUseHtml } from './how-to-use.js';
+import { describeOnnxLatency } from './onnx-file.js';
 import { perClassLines } from './champion-report.js';
 
 import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
@@ -140,6 +141,7 @@ ${
     ['parameters', c.paramCount.toLocaleString('en-US')],
     ['forward FLOPs per sample', c.flops.toLocaleString('en-US')],
     ['CPU latency per sample', c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median; ${esc(String(c.latency.backend))} backend, coordinator's CPU)`],
+    ['ONNX Runtime latency (model.onnx)', esc(describeOnnxLatency(c.latency.onnxRuntime))],
     ['final training', `${c.finalTraining.epochs} epochs on ${c.finalTraining.data}, ${c.finalTraining.seconds.toFixed(1)} s on ${esc(c.finalTraining.backend)} (${esc(c.finalTraining.workerId)})`],
     ['genome hash', `<code>${c.genomeHash}</code>`],
   ])}</table>
@@ -164,7 +166,7 @@ ${sectionHtml(ensembleLines(c))}
 <p>Weight inheritance ${c.inheritance.weightInheritance ? 'on' : 'off'}. Finished search trainings: ${Object.entries(c.inheritance.byKind).filter(([, n]) => n > 0).map(([k, n]) => `${n} ${esc(k)}`).join(', ')}; ${c.inheritance.epochsReused} epoch(s) not trained again. The champion's search evaluation: ${esc(describeStart(c.inheritance.champion))}.</p>
 <h2>Feeding the model</h2>
 <p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. ${c.target ? `Output: one number, the standardised ${esc(c.target.column)}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)}.` : `Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}.`} <code>preprocessing.json</code> says exactly how to prepare an input.</p>
-${howToUseHtml(c.ensemble !== null)}
+${howToUseHtml(c.ensemble !== null, c.target !== null)}
 ${championTrustHtml(c.trust, esc)}<h2>Reproduce</h2>
 <p>Search ${esc(c.settings.config.search.algorithm)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>
 </body></html>

@@ -3,6 +3,7 @@ import type { ChampionSummaryDocument } from './champion-files.js';
 import { inheritanceMarkdown } from './inheritance-summary.js';
 import { championTrustMarkdown } from './champion-trust.js';
 import { howToUseLines } from './how-to-use.js';
+import { describeOnnxLatency } from './onnx-file.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
 import { fourDigits } from './regression-scores.js';
 
@@ -60,6 +61,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     `| parameters | ${c.paramCount.toLocaleString('en-US')} |`,
     `| forward FLOPs per sample | ${c.flops.toLocaleString('en-US')} |`,
     `| CPU latency per sample | ${c.latency.msPerSample == null ? 'n/a' : `${c.latency.msPerSample.toFixed(2)} ms (one sample alone, median, ${c.latency.backend} backend on the coordinator)`} |`,
+    `| ONNX Runtime latency (model.onnx) | ${describeOnnxLatency(c.latency.onnxRuntime)} |`,
     `| final training | ${c.finalTraining.epochs} epochs on ${c.finalTraining.data}, ${c.finalTraining.seconds.toFixed(1)} s on ${c.finalTraining.backend} (${c.finalTraining.workerId}) |`,
     `| genome hash | \`${c.genomeHash}\` |`,
     '',
@@ -95,7 +97,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
       ? `Output: one number, the standardised ${c.target.column}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)} to read it in ${c.target.column}'s units.`
       : `Output: ${c.settings.dataset.numClasses} softmax probabilities, in the class order ${c.settings.dataset.classNames.map((n) => `\`${n}\``).join(', ')}.`,
     '',
-    ...howToUseLines(c.ensemble !== null),
+    ...howToUseLines(c.ensemble !== null, c.target !== null),
     '## Training genes',
     '',
     ...Object.entries(c.genome.training).map(([k, v]) => `- ${k}: ${v}`),
@@ -118,7 +120,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     '',
     `Search algorithm ${c.settings.config.search.algorithm}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,
     '',
-    'Files: `model.json` + `weights.bin` (TensorFlow.js layers model; load as "How to use it" shows), `preprocessing.json`, `genome.json`, `champion.json`.',
+    `Files: \`model.json\` + \`weights.bin\` (TensorFlow.js layers model; load as "How to use it" shows), \`model.onnx\` (the same network as an ONNX graph, opset ${c.onnx.opset}: ${c.onnx.description}), \`preprocessing.json\`, \`genome.json\`, \`champion.json\`.`,
     '',
   ];
   return lines.join('\n');

@@ -1,16 +1,17 @@
 import type { ModelArtifactsMessage, RunEventDetail } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { preprocessingFileOf } from './preprocessing-file.js';
+import { onnxExportOf } from './onnx-file.js';
 
 /** Names the ensemble's files may have: its manifest and each member's model and weights. */
-export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|preprocessing\\.json|member-[0-9]{1,2}\\.(model\\.json|weights\\.bin))$';
+export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|model\\.onnx|preprocessing\\.json|member-[0-9]{1,2}\\.(model\\.json|weights\\.bin))$';
 
 /** What the `ensemble-scored` event holds. */
 /** What the `ensemble-scored` event holds (regression runs: `testAccuracy` is the fitness 1 / (1 + standardised test RMSE), `testRegression` the scores to show). */
 export type EnsembleScore = RunEventDetail<'ensemble-scored'>;
 
 /** The names of the ensemble's files for members at these positions (`preprocessing.json` only for runs that recorded it). */
-export const ensembleFileNames = (positions: readonly number[], withPreprocessing: boolean): string[] => ['ensemble.json', ...(withPreprocessing ? ['preprocessing.json'] : []), ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
+export const ensembleFileNames = (positions: readonly number[], withPreprocessing: boolean): string[] => ['ensemble.json', 'model.onnx', ...(withPreprocessing ? ['preprocessing.json'] : []), ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
 
 /** The run's scored ensemble, or null when it has none. */
 export function ensembleScore(store: RunStore, runId: string): EnsembleScore | null {
@@ -20,7 +21,8 @@ export function ensembleScore(store: RunStore, runId: string): EnsembleScore | n
 
 /**
  * The files of a run's averaging ensemble: `ensemble.json` (how to average, the members and their
- * scores, the ensemble's test score beside the champion's), `preprocessing.json` (as the champion's) and per member `member-N.model.json` +
+ * scores, the ensemble's test score beside the champion's), `model.onnx` (one ONNX graph that averages the
+ * members), `preprocessing.json` (as the champion's) and per member `member-N.model.json` +
  * `member-N.weights.bin` (TensorFlow.js layers format). Null when the run has no scored ensemble.
  */
 export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buffer> | null {
@@ -67,6 +69,13 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
   files.set('ensemble.json', json(manifest));
   const preprocessing = preprocessingFileOf(run);
   if (preprocessing) files.set('preprocessing.json', json(preprocessing));
+  files.set(
+    'model.onnx',
+    onnxExportOf(
+      run,
+      members.map((mem) => ({ genome: store.getGenome(mem.genomeHash)!.genome, artifacts: JSON.parse(mem.artifactsJson) as ModelArtifactsMessage })),
+    ),
+  );
   for (const mem of members) {
     const artifacts = JSON.parse(mem.artifactsJson) as ModelArtifactsMessage;
     const name = `member-${mem.position + 1}`;

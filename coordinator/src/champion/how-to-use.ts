@@ -1,6 +1,9 @@
+import { ONNX_OPSET } from '../onnx/onnx-export.js';
+
 /**
  * The "How to use it" section of a champion's report: a Node example that needs only the
- * `@tensorflow/tfjs` package (no native backend) and the `predict` command.
+ * `@tensorflow/tfjs` package (no native backend), the `predict` command and a Python example
+ * for `model.onnx` in ONNX Runtime.
  */
 
 /**
@@ -23,8 +26,24 @@ export function nodeSnippet(dir = './champion'): string {
   ].join('\n');
 }
 
+/**
+ * A 5-line Python example that runs `model.onnx` in ONNX Runtime (the general-purpose runtime's
+ * `onnxruntime` and `numpy` packages) on one input prepared as `preprocessing.json` says.
+ */
+export function pythonOnnxSnippet(regression: boolean, dir = 'champion'): string {
+  return [
+    'import json, numpy as np, onnxruntime as ort',
+    `pre = json.load(open("${dir}/preprocessing.json"))`,
+    `session = ort.InferenceSession("${dir}/model.onnx")`,
+    'x = np.zeros([1, *pre["inputShape"]], dtype=np.float32)  # fill it as preprocessing.json says',
+    regression
+      ? 'y = session.run(["output"], {"input": x})[0][0, 0]; t = pre["target"]; print(y * t["std"] + t["mean"])'
+      : 'p = session.run(["output"], {"input": x})[0][0]; print(pre["classNames"][int(p.argmax())], p)',
+  ].join('\n');
+}
+
 /** The section's Markdown lines (the HTML report renders the same text). */
-export function howToUseLines(hasEnsemble: boolean): string[] {
+export function howToUseLines(hasEnsemble: boolean, regression = false): string[] {
   return [
     '## How to use it',
     '',
@@ -45,16 +64,22 @@ export function howToUseLines(hasEnsemble: boolean): string[] {
     '',
     "From TypeScript in this repository, `loadChampion(dir)` of `@netbreeder/coordinator` does the same, applies `preprocessing.json` to raw table rows (`predict(rows)`) and averages an ensemble's members.",
     '',
+    `Outside JavaScript, \`model.onnx\` is the same network as an ONNX graph (opset ${ONNX_OPSET}; input \`input\` in the layout of \`preprocessing.json\`'s \`inputShape\`, output \`output\`${hasEnsemble ? '; `ensemble/model.onnx` averages the ensemble\'s members in one graph' : ''}). In Python with ONNX Runtime (\`pip install onnxruntime numpy\`):`,
+    '',
+    '```python',
+    pythonOnnxSnippet(regression),
+    '```',
+    '',
   ];
 }
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 
 /** The same section as HTML: paragraphs with `code`, fenced blocks as <pre>. */
-export function howToUseHtml(hasEnsemble: boolean): string {
+export function howToUseHtml(hasEnsemble: boolean, regression = false): string {
   const out: string[] = [];
   let block: string[] | null = null;
-  for (const line of howToUseLines(hasEnsemble)) {
+  for (const line of howToUseLines(hasEnsemble, regression)) {
     if (line.startsWith('```')) {
       if (block) {
         out.push(`<pre><code>${esc(block.join('\n'))}</code></pre>`);

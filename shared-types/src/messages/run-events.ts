@@ -137,6 +137,13 @@ export const RUN_EVENT_SCHEMAS = {
     /** The coordinator's TensorFlow.js backend that scored it. */
     backend: Type.Optional(Type.String({ maxLength: 40 })),
     latencyMsPerSample: Type.Optional(Type.Number({ minimum: 0 })),
+    /** Candidates that compete to be the champion: the exported ONNX graph's CPU latency in ONNX Runtime on the coordinator's machine, or why it was not measured. */
+    onnxLatency: Type.Optional(
+      Type.Union([
+        Strict({ runtime: Type.String({ maxLength: 80 }), runs: Count, msPerSample: Type.Number({ minimum: 0 }), msPerBatch32: Type.Number({ minimum: 0 }) }),
+        Strict({ unavailable: Text }),
+      ]),
+    ),
     champion: Type.Optional(Type.Boolean()),
     round: Type.Optional(Count),
     ensemblePosition: Type.Optional(Count),

@@ -1,0 +1,187 @@
+import { analyzeGenome, expandMotifs, headUnits, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
+import { floatAttr, intAttr, intsAttr, type OnnxGraphBuilder } from './onnx-graph.js';
+import type { NamedWeight } from './model-weights.js';
+
+/**
+ * Names of the implicit head's layers in the TensorFlow.js model (see the worker's `buildModel`);
+ * the head's dense weights are `head.dense/kernel` and `head.dense/bias`.
+ */
+const HEAD_DENSE = 'head.dense';
+/** The epsilon every batch-norm layer of a genome model uses (the worker's `ChannelBatchNorm` default). */
+export const BATCH_NORM_EPSILON = 1e-3;
+/** SELU's constants as TensorFlow.js defines them: scale and scale × alpha. */
+const SELU_SCALE = 1.0507009873554804934193349852946;
+const SELU_ALPHA = 1.7580993408473768599402175208123 / SELU_SCALE;
+
+/**
+ * A value inside the ONNX graph and its layout. Image tensors enter as the TensorFlow.js model takes
+ * them (batch × height × width × channels) and are transposed once to batch × channels × height ×
+ * width, the layout ONNX's convolution and pooling operators use; flat tensors are batch × features.
+ */
+interface Value {
+  name: string;
+  layout: 'channels-first' | 'flat';
+}
+
+/**
+ * Adds one genome's inference graph to `graph`: from the value `input` (batch × the dataset's
+ * sample shape, as the TensorFlow.js model takes it) to the head's output (softmax probabilities,
+ * or the standardised regression prediction); returns the output's name. Layers map to ONNX
+ * operators one by one; dropout is the identity at inference and batch normalisation uses its
+ * moving statistics. `weights` are the trained model's, by TensorFlow.js weight name.
+ */
+export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: DataShape, weights: ReadonlyMap<string, NamedWeight>, input: string): string {
+  const analysis = analyzeGenome(genome, data);
+  if (!analysis.ok) throw new Error(`the genome does not fit the data: ${analysis.issues.map((i) => i.message).join('; ')}`);
+  const layers = expandMotifs(genome).genome;
+  const topo = topologicalOrder(layers);
+  if (!topo.ok) throw new Error(`the genome's layers form no order: ${topo.issues.map((i) => i.message).join('; ')}`);
+  const shapes = new Map<string, SampleShape>([[INPUT_ID, data.inputShape], ...analysis.analysis.nodes.map((n) => [n.id, n.outputShape] as const)]);
+
+  const weight = (layer: string, name: string): NamedWeight => {
+    const w = weights.get(`${layer}/${name}`);
+    if (!w) throw new Error(`the trained model has no weight ${layer}/${name}; was it trained from this genome?`);
+    return w;
+  };
+  const values = new Map<string, Value>();
+  values.set(INPUT_ID, data.inputShape.length === 3 ? { name: graph.op('Transpose', [input], 'input.channels_first', [intsAttr('perm', [0, 3, 1, 2])]), layout: 'channels-first' } : { name: input, layout: 'flat' });
+
+  for (const n of topo.order) {
+    const inputs = n.inputs.map((i) => values.get(i)!);
+    const x = inputs[0]!;
+    values.set(n.id, layerOp(graph, n, x, inputs, shapes.get(n.inputs[0]!)!, weight));
+  }
+
+  const last = toFlat(graph, values.get(layers.output)!, 'head.flatten');
+  const kernel = weight(HEAD_DENSE, 'kernel');
+  const bias = weight(HEAD_DENSE, 'bias');
+  if (kernel.shape[1] !== headUnits(data)) throw new Error(`the head has ${kernel.shape[1]} units but the data needs ${headUnits(data)}`);
+  const logits = graph.op('Gemm', [last.name, graph.constant('head.dense.kernel', kernel.shape, kernel.values), graph.constant('head.dense.bias', bias.shape, bias.values)], 'head.dense');
+  return data.target ? logits : graph.op('Softmax', [logits], 'head.softmax', [intAttr('axis', 1)]);
+}
+
+type WeightOf = (layer: string, name: string) => NamedWeight;
+
+/** The ONNX operators of one layer node; `inShape` is its first input's sample shape (TensorFlow.js order). */
+function layerOp(graph: OnnxGraphBuilder, n: LayerNode, x: Value, inputs: Value[], inShape: SampleShape, weight: WeightOf): Value {
+  const spatial = (name: string): Value => ({ name, layout: 'channels-first' });
+  switch (n.kind) {
+    case 'dense': {
+      const k = weight(n.id, 'kernel');
+      const b = weight(n.id, 'bias');
+      const y = graph.op('Gemm', [x.name, graph.constant(`${n.id}.kernel`, k.shape, k.values), graph.constant(`${n.id}.bias`, b.shape, b.values)], n.id);
+      return { name: activation(graph, y, n.activation, n.id), layout: 'flat' };
+    }
+    case 'conv2d':
+    case 'depthwise-conv2d': {
+      const depthwise = n.kind === 'depthwise-conv2d';
+      const k = weight(n.id, depthwise ? 'depthwise_kernel' : 'kernel');
+      const b = weight(n.id, 'bias');
+      const w = depthwise ? depthwiseFilters(k) : convFilters(k);
+      const attrs = [
+        intsAttr('kernel_shape', [n.kernelSize, n.kernelSize]),
+        intsAttr('strides', [n.strides, n.strides]),
+        intsAttr('pads', samePads(inShape, n.kernelSize, n.strides, n.padding)),
+        intAttr('group', depthwise ? inShape[2]! : 1),
+      ];
+      const y = graph.op('Conv', [x.name, graph.constant(`${n.id}.kernel`, w.shape, w.values), graph.constant(`${n.id}.bias`, b.shape, b.values)], n.id, attrs);
+      return spatial(activation(graph, y, n.activation, n.id));
+    }
+    case 'max-pool2d':
+    case 'avg-pool2d':
+      return spatial(graph.op(n.kind === 'max-pool2d' ? 'MaxPool' : 'AveragePool', [x.name], n.id, [intsAttr('kernel_shape', [n.poolSize, n.poolSize]), intsAttr('strides', [n.strides, n.strides])]));
+    case 'dropout':
+      return x;
+    case 'batch-norm': {
+      const p = (name: string) => {
+        const w = weight(n.id, name);
+        return graph.constant(`${n.id}.${name}`, w.shape, w.values);
+      };
+      const y = graph.op('BatchNormalization', [x.name, p('gamma'), p('beta'), p('moving_mean'), p('moving_variance')], n.id, [floatAttr('epsilon', BATCH_NORM_EPSILON)]);
+      return { name: y, layout: x.layout };
+    }
+    case 'activation':
+      return { name: activation(graph, x.name, n.activation, n.id), layout: x.layout };
+    case 'flatten':
+      return toFlat(graph, x, n.id);
+    case 'global-avg-pool':
+    case 'global-max-pool': {
+      const pooled = graph.op(n.kind === 'global-avg-pool' ? 'GlobalAveragePool' : 'GlobalMaxPool', [x.name], `${n.id}.pooled`);
+      return { name: graph.op('Flatten', [pooled], n.id, [intAttr('axis', 1)]), layout: 'flat' };
+    }
+    case 'add':
+      return { name: graph.op('Sum', inputs.map((v) => v.name), n.id), layout: x.layout };
+    case 'concat':
+      // The last axis in TensorFlow.js order: channels (axis 1 once channels-first) or features.
+      return { name: graph.op('Concat', inputs.map((v) => v.name), n.id, [intAttr('axis', 1)]), layout: x.layout };
+    case 'repeat':
+      throw new Error('expandMotifs leaves no repeat node');
+  }
+}
+
+/** A flat value: channels-first images are put back in TensorFlow.js order first, so the flattened features line up with the trained dense weights. */
+function toFlat(graph: OnnxGraphBuilder, x: Value, id: string): Value {
+  if (x.layout === 'flat') return x;
+  const channelsLast = graph.op('Transpose', [x.name], `${id}.channels_last`, [intsAttr('perm', [0, 2, 3, 1])]);
+  return { name: graph.op('Flatten', [channelsLast], id, [intAttr('axis', 1)]), layout: 'flat' };
+}
+
+/** The node(s) applying an activation to `x`; returns the output name (`x` itself for linear). */
+function activation(graph: OnnxGraphBuilder, x: string, a: Activation, id: string): string {
+  const out = `${id}.${a}`;
+  switch (a) {
+    case 'linear':
+      return x;
+    case 'relu':
+      return graph.op('Relu', [x], out);
+    case 'relu6':
+      return graph.op('Clip', [x, graph.constant(`${id}.relu6.min`, [], Float32Array.of(0)), graph.constant(`${id}.relu6.max`, [], Float32Array.of(6))], out);
+    case 'elu':
+      return graph.op('Elu', [x], out, [floatAttr('alpha', 1)]);
+    case 'selu':
+      return graph.op('Selu', [x], out, [floatAttr('alpha', SELU_ALPHA), floatAttr('gamma', SELU_SCALE)]);
+    case 'tanh':
+      return graph.op('Tanh', [x], out);
+    case 'sigmoid':
+      return graph.op('Sigmoid', [x], out);
+    case 'swish':
+      return graph.op('Mul', [x, graph.op('Sigmoid', [x], `${id}.swish.gate`)], out);
+  }
+}
+
+/**
+ * Explicit pads [top, left, bottom, right] of a square window, as TensorFlow's "same" padding puts
+ * them (the odd pixel at the bottom and right); zeros for "valid".
+ */
+export function samePads(inShape: SampleShape, kernel: number, stride: number, padding: 'same' | 'valid'): number[] {
+  if (padding === 'valid') return [0, 0, 0, 0];
+  const total = (length: number) => Math.max((Math.ceil(length / stride) - 1) * stride + kernel - length, 0);
+  const [h, w] = [total(inShape[0]!), total(inShape[1]!)];
+  return [Math.floor(h / 2), Math.floor(w / 2), h - Math.floor(h / 2), w - Math.floor(w / 2)];
+}
+
+/** A convolution kernel from TensorFlow.js's [kh, kw, in, out] to ONNX's [out, in, kh, kw]. */
+function convFilters(k: NamedWeight): NamedWeight {
+  const [kh, kw, cin, cout] = k.shape as [number, number, number, number];
+  const values = new Float32Array(k.values.length);
+  for (let i = 0; i < kh; i++)
+    for (let j = 0; j < kw; j++)
+      for (let c = 0; c < cin; c++)
+        for (let o = 0; o < cout; o++) values[((o * cin + c) * kh + i) * kw + j] = k.values[((i * kw + j) * cin + c) * cout + o]!;
+  return { shape: [cout, cin, kh, kw], values };
+}
+
+/**
+ * A depthwise kernel from TensorFlow.js's [kh, kw, channels, multiplier] to the grouped ONNX
+ * convolution's [channels × multiplier, 1, kh, kw]; output channel c × multiplier + m comes from
+ * input channel c, as in TensorFlow.js.
+ */
+function depthwiseFilters(k: NamedWeight): NamedWeight {
+  const [kh, kw, channels, mult] = k.shape as [number, number, number, number];
+  const values = new Float32Array(k.values.length);
+  for (let i = 0; i < kh; i++)
+    for (let j = 0; j < kw; j++)
+      for (let c = 0; c < channels; c++)
+        for (let m = 0; m < mult; m++) values[((c * mult + m) * kh + i) * kw + j] = k.values[((i * kw + j) * channels + c) * mult + m]!;
+  return { shape: [channels * mult, 1, kh, kw], values };
+}
