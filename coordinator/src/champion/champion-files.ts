@@ -13,6 +13,7 @@ import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison } from './reference-comparison.js';
 import { macroF1, majorityClassBaseline, perClassFigures } from './class-metrics.js';
 import { championTestRegression } from './regression-scores.js';
+import { withFitnessNames } from './fitness-names.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -113,7 +114,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** How the champion was chosen: a user's pick, the run's rule, or the best; `sentence` says it in words. */
     choice: (() => {
       const choice = recordedChoice(store, run.id);
-      return { ...choice, sentence: describeChoice(choice) };
+      return { ...choice, sentence: describeChoice(choice, run.dataset.manifest.target) };
     })(),
     /** The decisions that produced each genome of the champion's line, in plain words (from the run's decision log). */
     howFound: howItWasFound(store, run.id, champion.genomeHash),
@@ -158,6 +159,12 @@ export function championSummary(store: RunStore, run: RunRecord) {
 export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
 
 /**
+ * champion.json and the answer of GET /runs/:id/champion: the summary, where a regression run's
+ * fitnesses (kept in the wire format's `…Accuracy` fields) go by their own name at every depth.
+ */
+export const championDocument = (summary: ChampionSummaryDocument): unknown => (summary.target ? withFitnessNames(summary) : summary);
+
+/**
  * The content of every file of a champion export: the genome, the trained model in TensorFlow.js
  * layers format (`model.json` with a weights manifest pointing at `weights.bin`), how raw input
  * becomes model input (`preprocessing.json`), the scores and a short report. Null when the run has no champion yet.
@@ -182,7 +189,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
     ['preprocessing.json', json(preprocessing)],
-    ['champion.json', json(summary)],
+    ['champion.json', json(championDocument(summary))],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : [], regressionTestOf(store, run)))],
   ]);

@@ -5,7 +5,7 @@ import { StatusResponseSchema, WORKER_PROTOCOL_VERSION, WorkerHeartbeatSchema, w
 import type { Logger } from '../logger.js';
 import { GenomeRejectedError, RunStateError, type RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
-import { CHAMPION_FILES, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
+import { CHAMPION_FILES, championDocument, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
 import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
@@ -95,7 +95,7 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     const { id } = req.params as { id: string };
     const summary = championSummary(store, runOr404(id));
     if (!summary) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
-    return summary;
+    return championDocument(summary);
   });
 
   app.get(
