@@ -98,17 +98,24 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     return championDocument(summary);
   });
 
+  const sendChampionFile = (id: string, name: ChampionFileName, reply: import('fastify').FastifyReply) => {
+    const files = championFiles(store, runOr404(id));
+    if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
+    const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : name.endsWith('.html') ? 'text/html; charset=utf-8' : 'application/octet-stream';
+    return reply.type(type).send(files.get(name));
+  };
   app.get(
     '/runs/:id/champion/files/:name',
     { config: { access: 'admin' }, schema: { params: Type.Object({ id: RunIdParams.properties.id, name: Type.Union(CHAMPION_FILES.map((f) => Type.Literal(f))) }) } },
     async (req, reply) => {
       const { id, name } = req.params as { id: string; name: ChampionFileName };
-      const files = championFiles(store, runOr404(id));
-      if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
-      const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : name.endsWith('.html') ? 'text/html; charset=utf-8' : 'application/octet-stream';
-      return reply.type(type).send(files.get(name));
+      return sendChampionFile(id, name, reply);
     },
   );
+  // The report page with status access, for the dashboard's link: it draws what GET
+  // /runs/:id/champion already tells (plus, for a regression run, the test split's predicted
+  // against actual plot); the model, its weights and preprocessing.json stay admin.
+  app.get('/runs/:id/champion/report', { schema: { params: RunIdParams } }, async (req, reply) => sendChampionFile((req.params as { id: string }).id, 'report.html', reply));
 
   for (const action of ['pause', 'resume', 'stop', 'finish'] as const) {
     app.post(`/runs/:id/${action}`, { config: { access: 'admin' }, schema: { params: RunIdParams } }, async (req) => {
