@@ -55,6 +55,23 @@ const drawnCharts = (page: Page): Promise<DrawnCharts> =>
     return out as DrawnCharts;
   });
 
+/** Every axis of every chart: its title as drawn (empty when hidden), its type, and the labels of the ticks it drew. */
+const chartAxes = (page: Page) =>
+  page.evaluate(() => {
+    const dash = (globalThis as unknown as { netbreederDashboard: { charts: Record<string, unknown> } }).netbreederDashboard;
+    type ScaleLike = { id: string; type: string; options: { title: { display: boolean; text: string } }; ticks: Array<{ label?: string | string[] }>; getLabels?: () => unknown[] };
+    type ChartLike = { scales: Record<string, ScaleLike>; data: { labels?: unknown[] } };
+    return ['bestTime', 'bestCount', 'scatter', 'throughput'].flatMap((name) =>
+      Object.values((dash.charts[name] as ChartLike).scales).map((s) => ({
+        axis: `${name}.${s.id}`,
+        type: s.type,
+        categories: (dash.charts[name] as ChartLike).data.labels?.length ?? 0,
+        title: s.options.title.display ? s.options.title.text : '',
+        labels: s.ticks.map((t) => (Array.isArray(t.label) ? t.label.join(' ') : (t.label ?? ''))).filter((l) => l !== ''),
+      })),
+    );
+  });
+
 const pageState = (page: Page) =>
   page.evaluate(() => {
     const s = (globalThis as unknown as { netbreederDashboard: { state: { polls: number; points: Map<string, unknown>; runId: string | null } } }).netbreederDashboard.state;
@@ -224,13 +241,25 @@ describe('the dashboard page, live, in headless chromium', () => {
     const report = await fetch(`${url}${reportHref}`);
     expect(report.status).toBe(200);
     expect(report.headers.get('content-type')).toContain('text/html');
-    expect(await report.text()).toContain(`Champion of run ${store.getRun(run.id)!.name}`);
+    const reportHtml = await report.text();
+    expect(reportHtml).toContain(`Champion of run ${store.getRun(run.id)!.name}`);
+    // Its training curve has labelled axes: tick values and the titles of epochs, loss and accuracy.
+    for (const title of ['epoch', 'training loss', 'training accuracy']) expect(reportHtml).toMatch(new RegExp(`class="axis-title[^"]*">${title}</text>`));
+    expect(reportHtml).toMatch(/class="tick acc-label">100%<\/text>/);
     expect((await fetch(`${url}/runs/${run.id}/champion/files/weights.bin`)).status).toBe(401);
     const topRows = await page.$$eval('#top-table tbody tr', (trs) => trs.map((tr) => (tr as unknown as { dataset: { genomeHash?: string } }).dataset.genomeHash ?? ''));
     expect(topRows[0]).toBe(store.topEvaluations(run.id, 1)[0]!.genomeHash);
     const charts = await drawnCharts(page);
     expect(charts.scatter[0]!.points).toBe(store.counts(run.id).done);
     expect(charts.scatter[1]!.drawn).toBe(1); // the champion, marked
+    // Every chart labels both axes: a title and drawn tick values (a time axis of one bucket has one).
+    const axes = await chartAxes(page);
+    expect(axes.map((a) => a.axis).sort()).toEqual(['bestCount.x', 'bestCount.y', 'bestTime.x', 'bestTime.y', 'scatter.x', 'scatter.y', 'throughput.x', 'throughput.y', 'throughput.y2']);
+    for (const a of axes) {
+      expect(a.title, a.axis).not.toBe('');
+      expect(a.labels.length, `${a.axis}: ${a.labels.join(', ')}`).toBeGreaterThanOrEqual(a.type === 'category' ? Math.min(2, a.categories) : 2);
+    }
+    expect(axes.find((a) => a.axis === 'bestCount.y')!.labels).toContain('100%');
     // the FLOPs view redraws the same points
     await page.click('#size-flops');
     expect((await drawnCharts(page)).scatter[0]!.drawn).toBe(store.counts(run.id).done);

@@ -134,6 +134,12 @@ describe('a regression run on the Auto MPG table', () => {
     // Predicted against actual: one dot per test row; the residual histogram beside it.
     expect(html.match(/<circle /g)?.length).toBe(cluster.coordinator.store.getChampion(run.id)!.testPredictions.length);
     expect(html).toContain('aria-label="residual histogram"');
+    // Every chart reads off: a title on each axis, tick values (in miles per gallon on the scatter).
+    for (const title of ['actual mpg', 'predicted mpg', 'rows', 'epoch', 'training loss']) expect(html).toMatch(new RegExp(`class="axis-title[^"]*">${title}`));
+    const ticks = [...html.matchAll(/class="tick[^"]*">([^<]+)<\/text>/g)].map((m) => Number(m[1]));
+    expect(ticks.length).toBeGreaterThanOrEqual(12);
+    expect(ticks.every(Number.isFinite)).toBe(true);
+    expect(ticks).toContain(20); // the MPG range, about 9 to 47, steps by 10 (common knowledge of the table's range)
     expect(html).not.toMatch(/accuracy|\d\.\d+%/);
     // champion.json (and GET /runs/:id/champion, the same document) has no key or text that says accuracy, at any depth.
     const championJson = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('champion.json')!.toString();
