@@ -1,8 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { withFitnessNames } from './fitness-names.js';
 import { SEARCH_DECISION_VERSION, type SearchDecision } from '@netbreeder/shared-types';
+import { withFitnessNames } from './fitness-names.js';
 import { describeChoice } from './champion-choice.js';
 import { explainDecision } from './explain-lineage.js';
+
+/** A regression run's exported words: no key names its fitness an accuracy, and the sentences give validation RMSE in the target's units. */
 
 describe('withFitnessNames', () => {
   it('renames every accuracy key at any depth and keeps the values', () => {
