@@ -55,6 +55,23 @@ const drawnCharts = (page: Page): Promise<DrawnCharts> =>
     return out as DrawnCharts;
   });
 
+/** Every axis of every chart: its title as drawn (empty when hidden), its type, and the labels of the ticks it drew. */
+const chartAxes = (page: Page) =>
+  page.evaluate(() => {
+    const dash = (globalThis as unknown as { netbreederDashboard: { charts: Record<string, unknown> } }).netbreederDashboard;
+    type ScaleLike = { id: string; type: string; options: { title: { display: boolean; text: string } }; ticks: Array<{ label?: string | string[] }>; getLabels?: () => unknown[] };
+    type ChartLike = { scales: Record<string, ScaleLike>; data: { labels?: unknown[] } };
+    return ['bestTime', 'bestCount', 'scatter', 'throughput'].flatMap((name) =>
+      Object.values((dash.charts[name] as ChartLike).scales).map((s) => ({
+        axis: `${name}.${s.id}`,
+        type: s.type,
+        categories: (dash.charts[name] as ChartLike).data.labels?.length ?? 0,
+        title: s.options.title.display ? s.options.title.text : '',
+        labels: s.ticks.map((t) => (Array.isArray(t.label) ? t.label.join(' ') : (t.label ?? ''))).filter((l) => l !== ''),
+      })),
+    );
+  });
+
 const pageState = (page: Page) =>
   page.evaluate(() => {
     const s = (globalThis as unknown as { netbreederDashboard: { state: { polls: number; points: Map<string, unknown>; runId: string | null } } }).netbreederDashboard.state;
@@ -126,6 +143,9 @@ describe('the dashboard page, live, in headless chromium', () => {
     ).catch((err: Error) => {
       throw new Error(`${err.message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);
     });
+    // The export's card stays hidden until there is an export: a page that shows it saw a champion, which the store then holds.
+    const filesShown = await page.isVisible('#champion-files');
+    expect(filesShown && cluster.coordinator.store.getChampion(run.id) === null, 'champion files shown before the champion exists').toBe(false);
     const doneNow = cluster.coordinator.store.counts(run.id).done;
     // It keeps up: it holds at least every result the store had a moment ago.
     await waitFor('the page to hold every finished evaluation', async () => ((await pageState(page)).points >= doneNow ? true : null), 20_000, 250);
@@ -204,11 +224,42 @@ describe('the dashboard page, live, in headless chromium', () => {
     await waitFor('the lineage to be drawn', async () => ((await page.$$('#lineage li:not(.empty)')).length === chain.length + 1 ? true : null), 20_000, 250);
     await waitFor('the page to show the run finished', async () => ((await page.textContent('#run-state')) === 'finished' ? true : null), 20_000, 250);
     expect(await page.textContent('#lineage-hint')).toContain('the champion');
+
+    // The export, opened without a token: the report is a link (status access, like the page), the
+    // export's files are named only, with how to get them; they stay admin.
+    const url = cluster.coordinator.url;
+    await waitFor('the champion files to show', async () => ((await page.isVisible('#champion-files')) ? true : null), 20_000, 250);
+    const exported = (await (await fetch(`${url}/runs/${run.id}/champion`)).json()) as { files: string[]; ensemble: unknown };
+    const listed = await page.$$eval('#champion-file-list li', (lis) => lis.map((li) => ({ name: li.textContent, linked: li.querySelector('a') !== null })));
+    expect(listed.map((f) => f.name)).toEqual(exported.files.filter((f) => f !== 'report.html'));
+    expect(listed.map((f) => f.name)).toEqual(expect.arrayContaining(['champion.json', 'model.json', 'weights.bin']));
+    expect(listed.some((f) => f.linked)).toBe(false);
+    expect(await page.isHidden('#ensemble-files')).toBe(exported.ensemble === null);
+    expect(await page.textContent('#champion-files-access')).toContain('admin token');
+    const reportHref = await page.getAttribute('#champion-report-link', 'href');
+    expect(reportHref).toBe(`/runs/${run.id}/champion/report`);
+    const report = await fetch(`${url}${reportHref}`);
+    expect(report.status).toBe(200);
+    expect(report.headers.get('content-type')).toContain('text/html');
+    const reportHtml = await report.text();
+    expect(reportHtml).toContain(`Champion of run ${store.getRun(run.id)!.name}`);
+    // Its training curve has labelled axes: tick values and the titles of epochs, loss and accuracy.
+    for (const title of ['epoch', 'training loss', 'training accuracy']) expect(reportHtml).toMatch(new RegExp(`class="axis-title[^"]*">${title}</text>`));
+    expect(reportHtml).toMatch(/class="tick acc-label">100%<\/text>/);
+    expect((await fetch(`${url}/runs/${run.id}/champion/files/weights.bin`)).status).toBe(401);
     const topRows = await page.$$eval('#top-table tbody tr', (trs) => trs.map((tr) => (tr as unknown as { dataset: { genomeHash?: string } }).dataset.genomeHash ?? ''));
     expect(topRows[0]).toBe(store.topEvaluations(run.id, 1)[0]!.genomeHash);
     const charts = await drawnCharts(page);
     expect(charts.scatter[0]!.points).toBe(store.counts(run.id).done);
     expect(charts.scatter[1]!.drawn).toBe(1); // the champion, marked
+    // Every chart labels both axes: a title and drawn tick values (a time axis of one bucket has one).
+    const axes = await chartAxes(page);
+    expect(axes.map((a) => a.axis).sort()).toEqual(['bestCount.x', 'bestCount.y', 'bestTime.x', 'bestTime.y', 'scatter.x', 'scatter.y', 'throughput.x', 'throughput.y', 'throughput.y2']);
+    for (const a of axes) {
+      expect(a.title, a.axis).not.toBe('');
+      expect(a.labels.length, `${a.axis}: ${a.labels.join(', ')}`).toBeGreaterThanOrEqual(a.type === 'category' ? Math.min(2, a.categories) : 2);
+    }
+    expect(axes.find((a) => a.axis === 'bestCount.y')!.labels).toContain('100%');
     // the FLOPs view redraws the same points
     await page.click('#size-flops');
     expect((await drawnCharts(page)).scatter[0]!.drawn).toBe(store.counts(run.id).done);
@@ -252,6 +303,42 @@ describe('the dashboard page, live, in headless chromium', () => {
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-print.png'), fullPage: true });
     await page.pdf({ path: join(ARTIFACTS, 'dashboard-print.pdf'), format: 'A4', printBackground: true });
     await page.emulateMedia({ media: 'screen' });
+    expect(consoleErrors).toEqual([]);
+  });
+
+  it('links every file of the export, and of an ensemble asked for later, on a page opened with the admin token', async () => {
+    const url = cluster.coordinator.url;
+    const store = cluster.coordinator.store;
+    const admin = cluster.coordinator.secrets.adminToken;
+    const asked = await fetch(`${url}/runs/${run.id}/ensemble`, { method: 'POST', headers: { authorization: `Bearer ${admin}`, 'content-type': 'application/json' }, body: JSON.stringify({ size: 2 }) });
+    expect(asked.status, await asked.clone().text()).toBe(202);
+    await waitFor('the ensemble to be trained and scored', () => store.getRun(run.id)!.state === 'finished' && store.events(run.id, 'ensemble-scored').length > 0, 180_000, 500);
+
+    const adminPage = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+    adminPage.on('pageerror', (e) => consoleErrors.push(e.message));
+    try {
+      await adminPage.goto(`${url}/?every=1&token=${encodeURIComponent(admin)}`);
+      await waitFor('the ensemble files to show', async () => ((await adminPage.isVisible('#ensemble-files')) ? true : null), 20_000, 250);
+      const exported = (await (await fetch(`${url}/runs/${run.id}/champion`)).json()) as { files: string[]; ensemble: { files: string[] } };
+      const links = (selector: string) => adminPage.$$eval(selector, (as) => as.map((a) => ({ name: a.textContent ?? '', href: a.getAttribute('href') ?? '' })));
+      const files = await links('#champion-file-list a');
+      const ensemble = await links('#ensemble-file-list a');
+      expect(files.map((f) => f.name)).toEqual(exported.files.filter((f) => f !== 'report.html'));
+      expect(ensemble.map((f) => f.name)).toEqual(exported.ensemble.files);
+      expect(ensemble.map((f) => f.name)).toEqual(expect.arrayContaining(['ensemble.json', 'member-1.model.json', 'member-2.weights.bin']));
+      expect(await adminPage.textContent('#champion-files-access')).toContain("this page's admin token");
+      // Every link opens its file (each carries the page's token); the same address without it is refused.
+      for (const { name, href } of [...files, ...ensemble, { name: 'report', href: (await adminPage.getAttribute('#champion-report-link', 'href'))! }]) {
+        const res = await fetch(`${url}${href}`);
+        expect(res.status, `${name}: ${href}`).toBe(200);
+        const body = Buffer.from(await res.arrayBuffer());
+        expect(body.length, name).toBeGreaterThan(0);
+        if (name === 'model.json') expect((JSON.parse(body.toString()) as { weightsManifest: unknown[] }).weightsManifest).toHaveLength(1);
+        if (name !== 'report') expect((await fetch(`${url}${href.replace(/\?.*$/, '')}`)).status, name).toBe(401);
+      }
+    } finally {
+      await adminPage.close();
+    }
     expect(consoleErrors).toEqual([]);
   });
 });

@@ -163,4 +163,18 @@ describe('a coordinator with private status', () => {
     // the dashboard page itself holds no data and loads without a token
     expect((await fetch(`${url}/`)).status).toBe(200);
   });
+
+  it("opens the champion's report with status access (the dashboard's link) while the export's files stay admin", async () => {
+    const url = cluster.coordinator.url;
+    const { joinToken, adminToken } = cluster.coordinator.secrets;
+    expect((await fetch(`${url}/runs/r1/champion/report`)).status).toBe(401);
+    // Past the access check with a status-level token: the run is unknown here.
+    const asStatus = await fetch(`${url}/runs/r1/champion/report?token=${joinToken}`);
+    expect(asStatus.status).toBe(404);
+    expect(((await asStatus.json()) as { error: { code: string } }).error.code).toBe('NB_NO_RUN');
+    for (const name of ['weights.bin', 'model.json', 'preprocessing.json', 'report.html']) {
+      expect((await fetch(`${url}/runs/r1/champion/files/${name}?token=${joinToken}`)).status, name).toBe(401);
+      expect((await fetch(`${url}/runs/r1/champion/files/${name}?token=${adminToken}`)).status, name).toBe(404);
+    }
+  });
 });

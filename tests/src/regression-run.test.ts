@@ -134,7 +134,19 @@ describe('a regression run on the Auto MPG table', () => {
     // Predicted against actual: one dot per test row; the residual histogram beside it.
     expect(html.match(/<circle /g)?.length).toBe(cluster.coordinator.store.getChampion(run.id)!.testPredictions.length);
     expect(html).toContain('aria-label="residual histogram"');
+    // Every chart reads off: a title on each axis, tick values (in miles per gallon on the scatter).
+    for (const title of ['actual mpg', 'predicted mpg', 'rows', 'epoch', 'training loss']) expect(html).toMatch(new RegExp(`class="axis-title[^"]*">${title}`));
+    const ticks = [...html.matchAll(/class="tick[^"]*">([^<]+)<\/text>/g)].map((m) => Number(m[1]));
+    expect(ticks.length).toBeGreaterThanOrEqual(12);
+    expect(ticks.every(Number.isFinite)).toBe(true);
+    expect(ticks).toContain(20); // the MPG range, about 9 to 47, steps by 10 (common knowledge of the table's range)
     expect(html).not.toMatch(/accuracy|\d\.\d+%/);
+    // champion.json (and GET /runs/:id/champion, the same document) has no key or text that says accuracy, at any depth.
+    const championJson = championFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('champion.json')!.toString();
+    expect(championJson.match(/.{0,60}accuracy.{0,40}/i)?.[0]).toBeUndefined();
+    expect(championJson).toContain('"valFitness"');
+    const served = await (await fetch(`${cluster.coordinator.url}/runs/${run.id}/champion`)).text();
+    expect(JSON.parse(served)).toEqual(JSON.parse(championJson));
   });
 
   it('draws the dashboard in miles per gallon: RMSE tiles, axes and table, the best-so-far line falling (headless chromium)', async () => {
@@ -189,6 +201,13 @@ describe('a regression run on the Auto MPG table', () => {
     const manifest = JSON.parse(ensembleFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('ensemble.json')!.toString()) as { how: string; test: { regression?: unknown; accuracy?: unknown } };
     expect(manifest.how).toContain('as mpg');
     expect(manifest.test.accuracy).toBeUndefined();
+    // No key or text of ensemble.json says accuracy: the members' and the champion's scores are fitnesses, the rule speaks of RMSE.
+    const text = ensembleFiles(cluster.coordinator.store, cluster.coordinator.store.getRun(run.id)!)!.get('ensemble.json')!.toString();
+    expect(text.match(/.{0,60}accuracy.{0,40}/i)?.[0]).toBeUndefined();
+    const named = JSON.parse(text) as { selection: { rule: string }; champion: { testFitness: number }; members: Array<{ validationFitness: number; testFitness: number }> };
+    expect(named.selection.rule).toContain('lowest validation RMSE');
+    expect(named.champion.testFitness).toBeGreaterThan(0);
+    expect(named.members.every((m) => m.validationFitness > 0 && m.testFitness > 0)).toBe(true);
   });
 });
 

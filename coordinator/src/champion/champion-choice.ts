@@ -1,4 +1,4 @@
-import type { ChampionRule, EnsembleSettings } from '@netbreeder/shared-types';
+import { rmseFromFitness, type ChampionChoice, type ChampionRule, type EnsembleSettings } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { selectEnsemble, type EnsemblePick } from './ensemble-selection.js';
 import { rankByValidation } from './validation-evidence.js';
@@ -8,7 +8,6 @@ import { rankByValidation } from './validation-evidence.js';
  * `champion.rule`, or (neither given) the best of the search. The champion phase records the
  * choice with its candidates, so the report says which one chose it.
  */
-import type { ChampionChoice } from '@netbreeder/shared-types';
 export type { ChampionChoice };
 
 /** Why a pick or an ensemble request was refused: the run's state does not allow it, or the run has no such finished search result. */
@@ -40,12 +39,13 @@ export function describeRule(rule: ChampionRule): string {
   return parts.join(' and ');
 }
 
-/** One sentence for the report: which choice made the champion. */
-export function describeChoice(choice: ChampionChoice): string {
+/** One sentence for the report: which choice made the champion (a regression run's scores as validation RMSE in the target's units, `target` its scaling). */
+export function describeChoice(choice: ChampionChoice, target?: { std: number }): string {
   if (choice.by === 'pick') {
-    return `Picked by the user: genome \`${choice.genomeHash.slice(0, 12)}\` (its best search result, evaluation ${choice.evaluationId}, validation ${(choice.valAccuracy * 100).toFixed(2)}%), trained again and scored once on the test split.`;
+    const score = target ? `RMSE ${Number((rmseFromFitness(choice.valAccuracy) * target.std).toPrecision(4))}` : `${(choice.valAccuracy * 100).toFixed(2)}%`;
+    return `Picked by the user: genome \`${choice.genomeHash.slice(0, 12)}\` (its best search result, evaluation ${choice.evaluationId}, validation ${score}), trained again and scored once on the test split.`;
   }
-  if (choice.by === 'rule') return `By the run's champion rule: the best validation accuracy among results with ${describeRule(choice.rule)}.`;
+  if (choice.by === 'rule') return `By the run's champion rule: the best validation ${target ? 'RMSE' : 'accuracy'} among results with ${describeRule(choice.rule)}.`;
   return `The best validation evidence of the search${choice.note ? ` (${choice.note})` : ''}.`;
 }
 

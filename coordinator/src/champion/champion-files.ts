@@ -15,6 +15,7 @@ import { macroF1, majorityClassBaseline, perClassFigures } from './class-metrics
 import { championTestRegression } from './regression-scores.js';
 import { onnxDescription, onnxExportOf } from './onnx-file.js';
 import { ONNX_INPUT, ONNX_OPSET, ONNX_OUTPUT } from '../onnx/onnx-export.js';
+import { withFitnessNames } from './fitness-names.js';
 
 const labelCache = new Map<string, Int32Array>();
 
@@ -117,7 +118,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** How the champion was chosen: a user's pick, the run's rule, or the best; `sentence` says it in words. */
     choice: (() => {
       const choice = recordedChoice(store, run.id);
-      return { ...choice, sentence: describeChoice(choice) };
+      return { ...choice, sentence: describeChoice(choice, run.dataset.manifest.target) };
     })(),
     /** The decisions that produced each genome of the champion's line, in plain words (from the run's decision log). */
     howFound: howItWasFound(store, run.id, champion.genomeHash),
@@ -162,6 +163,12 @@ export function championSummary(store: RunStore, run: RunRecord) {
 export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
 
 /**
+ * champion.json and the answer of GET /runs/:id/champion: the summary, where a regression run's
+ * fitnesses (kept in the wire format's `…Accuracy` fields) go by their own name at every depth.
+ */
+export const championDocument = (summary: ChampionSummaryDocument): unknown => (summary.target ? withFitnessNames(summary) : summary);
+
+/**
  * The content of every file of a champion export: the genome, the trained model in TensorFlow.js
  * layers format (`model.json` with a weights manifest pointing at `weights.bin`), the same model
  * as an ONNX graph (`model.onnx`), how raw input
@@ -188,7 +195,7 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
     ['model.onnx', onnxExportOf(run, [{ genome: summary.genome, artifacts }])],
     ['preprocessing.json', json(preprocessing)],
-    ['champion.json', json(summary)],
+    ['champion.json', json(championDocument(summary))],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : [], regressionTestOf(store, run)))],
   ]);

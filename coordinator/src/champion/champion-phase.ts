@@ -132,7 +132,7 @@ export class ChampionPhase {
       const history = this.o.eligible && !this.o.eligible(source) ? [] : (source.result?.history ?? []);
       // A regression run's fitness is no accuracy: its curve is read without the noise rule.
       const valCount = run.dataset.manifest.target ? undefined : run.dataset.manifest.valCount;
-      const length = finalTrainingLength(run.config.champion.epochs, history, source.job.budget.epochs, budgetMaxEpochs, valCount);
+      const length = finalTrainingLength(run.config.champion.epochs, history, source.job.budget.epochs, budgetMaxEpochs, valCount, run.dataset.manifest.target ? 'regression' : 'classification');
       const job: EvaluationJob = {
         ...source.job,
         kind: 'champion',

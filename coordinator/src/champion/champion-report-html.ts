@@ -8,6 +8,7 @@ import { describeOnnxLatency } from './onnx-file.js';
 import { perClassLines } from './champion-report.js';
 
 import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
+import { trainingCurveSvg } from './training-curve-svg.js';
 import { fourDigits } from './regression-scores.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
@@ -76,25 +77,6 @@ ${boxes.join('\n')}
 </svg>`;
 }
 
-/** The final training's loss per epoch as a small SVG line chart. */
-function curveSvg(c: ChampionSummaryDocument): string {
-  const h = c.trainingCurve;
-  if (h.length === 0) return '<p>No epochs recorded.</p>';
-  const W = 480;
-  const H = 180;
-  const maxLoss = Math.max(...h.map((e) => e.trainLoss), 1e-9);
-  const x = (i: number) => 40 + (h.length === 1 ? 0 : (i / (h.length - 1)) * (W - 60));
-  const y = (v: number) => 10 + (1 - v / maxLoss) * (H - 40);
-  const ya = (v: number) => 10 + (1 - v) * (H - 40);
-  const line = (f: (e: (typeof h)[number]) => number, scale: (v: number) => number) => h.map((e, i) => `${i ? 'L' : 'M'}${x(i).toFixed(1)},${scale(f(e)).toFixed(1)}`).join(' ');
-  return `<svg xmlns="http://www.w3.org/2000/svg" width="${W}" height="${H}" role="img" aria-label="training curve">
-<line x1="40" y1="${H - 30}" x2="${W - 20}" y2="${H - 30}" class="axis"/><line x1="40" y1="10" x2="40" y2="${H - 30}" class="axis"/>
-<path d="${line((e) => e.trainLoss, y)}" class="loss"/>${c.target ? '' : `<path d="${line((e) => e.trainAccuracy, ya)}" class="acc"/>`}
-<text x="44" y="${H - 12}">epoch 1</text><text x="${W - 70}" y="${H - 12}">epoch ${h.length}</text>
-<text x="${W - 150}" y="22" class="loss-label">loss (max ${maxLoss.toFixed(3)})</text>${c.target ? '' : `<text x="${W - 150}" y="38" class="acc-label">train accuracy (0–100%)</text>`}
-</svg>`;
-}
-
 /**
  * The champion report as one self-contained HTML page (no scripts, no external files): the
  * architecture drawn, the scores, the confusion matrix, the final training curve, how the
@@ -117,7 +99,7 @@ table { border-collapse: collapse; margin: .5rem 0; } th, td { border: 1px solid
 svg text { font: 11px system-ui, sans-serif; fill: #1d2430; } svg .kind { font-weight: 700; } svg .shape { fill: #5b6675; }
 .layer rect { fill: #f3efe7; stroke: #b5542b; } .edge { stroke: #1f6f66; stroke-width: 1.4; } marker path { fill: #1f6f66; }
 .axis { stroke: #8a94a3; } .loss { fill: none; stroke: #b5542b; stroke-width: 2; } .acc { fill: none; stroke: #1f6f66; stroke-width: 2; }
-.dot { fill: #1f6f66; opacity: .6; } .diag { stroke: #b5542b; stroke-dasharray: 4 3; } .bar { fill: #1f6f66; opacity: .75; } .loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
+.tick { fill: #5b6675; } .axis-title { font-weight: 600; } .dot { fill: #1f6f66; opacity: .6; } .diag { stroke: #b5542b; stroke-dasharray: 4 3; } .bar { fill: #1f6f66; opacity: .75; } .loss-label { fill: #b5542b; } .acc-label { fill: #1f6f66; } .diagram { overflow-x: auto; }
 @media print { body { margin: 0; max-width: none; } .diagram { overflow: visible; } h2 { break-after: avoid; } table, svg { break-inside: avoid; } }
 </style></head><body>
 <h1>Champion of run ${esc(c.runName)} <small>(${esc(c.runId)})</small></h1>
@@ -155,7 +137,7 @@ ${
     : `<h2>Test split: confusion matrix</h2>\n${confusion}\n${sectionHtml(perClassLines(c))}`
 }
 <h2>Final training</h2>
-${curveSvg(c)}
+${trainingCurveSvg(c.trainingCurve, !c.target)}
 <h2>How it was chosen</h2>
 ${sectionHtml([choiceParagraph(c), ...choiceTable(c)])}
 ${sectionHtml(referenceLines(c))}

@@ -2,11 +2,11 @@ import type { ModelArtifactsMessage, RunEventDetail } from '@netbreeder/shared-t
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { preprocessingFileOf } from './preprocessing-file.js';
 import { onnxExportOf } from './onnx-file.js';
+import { withFitnessNames } from './fitness-names.js';
 
 /** Names the ensemble's files may have: its manifest and each member's model and weights. */
 export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|model\\.onnx|preprocessing\\.json|member-[0-9]{1,2}\\.(model\\.json|weights\\.bin))$';
 
-/** What the `ensemble-scored` event holds. */
 /** What the `ensemble-scored` event holds (regression runs: `testAccuracy` is the fitness 1 / (1 + standardised test RMSE), `testRegression` the scores to show). */
 export type EnsembleScore = RunEventDetail<'ensemble-scored'>;
 
@@ -45,7 +45,7 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
     selection: {
       size: score.size ?? run.config.champion.ensemble?.size ?? members.length,
       diversityPenalty: score.diversityPenalty ?? run.config.champion.ensemble?.diversityPenalty ?? null,
-      rule: 'greedy: the most accurate genome first, then each time the highest validation accuracy minus diversityPenalty times its largest architecture similarity (multiset Jaccard of layer kinds and sizes) to a member already chosen',
+      rule: `greedy: ${m.target ? 'the genome of the lowest validation RMSE first, then each time the highest validation fitness (1 / (1 + RMSE on the standardised target))' : 'the most accurate genome first, then each time the highest validation accuracy'} minus diversityPenalty times its largest architecture similarity (multiset Jaccard of layer kinds and sizes) to a member already chosen`,
     },
     test: { ...(score.testRegression ? { regression: score.testRegression } : { accuracy: score.testAccuracy }), samples: champion?.testPredictions.length ?? null, backend: score.backend },
     champion: champion ? { genomeHash: champion.genomeHash, testAccuracy: champion.testAccuracy } : null,
@@ -66,7 +66,8 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
       };
     }),
   };
-  files.set('ensemble.json', json(manifest));
+  // A regression run's scores are fitnesses (and its test score the RMSE beside them), never accuracies.
+  files.set('ensemble.json', json(m.target ? withFitnessNames(manifest) : manifest));
   const preprocessing = preprocessingFileOf(run);
   if (preprocessing) files.set('preprocessing.json', json(preprocessing));
   files.set(

@@ -41,4 +41,14 @@ describe('finalTrainingLength', () => {
     expect(finalTrainingLength(undefined, curve([null, null]), 4)).toMatchObject({ epochs: 4, rule: 'genome-epochs' });
     expect(finalTrainingLength(undefined, [], 3)).toMatchObject({ epochs: 3, rule: 'genome-epochs' });
   });
+
+  it('names a regression run\'s score a fitness, never an accuracy or a percentage', () => {
+    for (const [budgetMax, rule] of [[undefined, 'learning-curve'], [14, 'still-rising']] as const) {
+      const length = finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3, budgetMax, undefined, 'regression');
+      expect(length.rule).toBe(rule);
+      expect(length.detail).toContain('best validation fitness, 0.8000');
+      expect(length.detail).not.toMatch(/accuracy|%/i);
+    }
+    expect(finalTrainingLength(undefined, curve([0.5, 0.7, 0.8]), 3).detail).toContain('best validation accuracy, 80.00%');
+  });
 });

@@ -31,9 +31,11 @@ export interface FinalLength {
  * 2·sqrt(p(1−p)/n) at the best accuracy p; common practice for telling a real drop from a noisy
  * plateau): an earlier best is then as likely chance as overfitting, and a longer training on more
  * data is the better bet. Without `valCount` (a regression run's fitness is no accuracy) only the
- * best epoch counts. Pure.
+ * best epoch counts, and `task: 'regression'` names its score a fitness in the sentence. Pure.
  */
-export function finalTrainingLength(fixed: number | undefined, history: readonly EpochRecord[], budgetEpochs: number, budgetMaxEpochs?: number, valCount?: number): FinalLength {
+export function finalTrainingLength(fixed: number | undefined, history: readonly EpochRecord[], budgetEpochs: number, budgetMaxEpochs?: number, valCount?: number, task: 'classification' | 'regression' = 'classification'): FinalLength {
+  // A regression run's fitness, 1 / (1 + standardised RMSE), is named so in the sentence, never an accuracy.
+  const bestScore = (v: number) => (task === 'regression' ? `best validation fitness, ${v.toFixed(4)}` : `best validation accuracy, ${(v * 100).toFixed(2)}%`);
   if (fixed !== undefined) return { epochs: fixed, rule: 'run-file', detail: `${fixed} epochs, as the run file's champion.epochs sets` };
   let best: EpochRecord | null = null;
   for (const r of history) if (r.valAccuracy !== null && (best === null || r.valAccuracy > best.valAccuracy!)) best = r;
@@ -50,7 +52,7 @@ export function finalTrainingLength(fixed: number | undefined, history: readonly
     return {
       epochs: budgetMaxEpochs,
       rule: 'still-rising',
-      detail: `${budgetMaxEpochs} epochs, the whole final budget (champion.maxSamples): its longest search training (${history.length} epochs) reached its best validation accuracy, ${(best.valAccuracy! * 100).toFixed(2)}%, in its last quarter (epoch ${best.epoch})`,
+      detail: `${budgetMaxEpochs} epochs, the whole final budget (champion.maxSamples): its longest search training (${history.length} epochs) reached its ${bestScore(best.valAccuracy!)}, in its last quarter (epoch ${best.epoch})`,
     };
   }
   const lastScored = [...history].reverse().find((r) => r.valAccuracy !== null)!;
@@ -69,6 +71,6 @@ export function finalTrainingLength(fixed: number | undefined, history: readonly
   return {
     epochs,
     rule: 'learning-curve',
-    detail: `${epochs} epoch(s), where its longest search training (${history.length} epochs) reached its best validation accuracy, ${(best.valAccuracy! * 100).toFixed(2)}%`,
+    detail: `${epochs} epoch(s), where its longest search training (${history.length} epochs) reached its ${bestScore(best.valAccuracy!)}`,
   };
 }

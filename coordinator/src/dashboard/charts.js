@@ -105,7 +105,7 @@
     // With parsing off the charting library expects each dataset sorted by x: it reads the range
     // from the ends, so unsorted points past them were placed outside the plot.
     const byX = (a, b) => a.x - b.x;
-    /** 1, 2 or 5 times a power of ten: the log axis labels only those, so close ticks do not overlap. */
+    /** 1, 2 or 5 times a power of ten: the log axis labels only those (when it holds two or more), so close ticks do not overlap. */
     const isOneTwoFive = (v) => [1, 2, 5].some((m) => Math.abs(v / 10 ** Math.floor(Math.log10(v)) - m) < 1e-9);
     const scatter = new Chart(document.getElementById('chart-scatter'), {
       type: 'scatter',
@@ -120,7 +120,8 @@
       options: {
         parsing: false,
         scales: {
-          x: { type: 'logarithmic', ticks: { maxRotation: 0, autoSkipPadding: 6, callback: (v) => (isOneTwoFive(v) ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
+          // A narrow range (say 3k to 8k) holds one such value or none: then every tick is labelled.
+          x: { type: 'logarithmic', ticks: { maxRotation: 0, autoSkipPadding: 6, callback: (v, _i, ticks) => (isOneTwoFive(v) || ticks.filter((t) => isOneTwoFive(t.value)).length < 2 ? compact(v) : '') }, title: { display: true, text: 'parameters (log scale)' } },
           y: accuracyAxis(),
         },
         plugins: {

@@ -1,6 +1,7 @@
 /* netbreeder run watch: polls the coordinator's JSON routes and updates the page in place.
    GET /status (run, counts, workers, best, champion, reference), /runs/:id/evaluations?since= (incremental),
-   /runs/:id/throughput, /runs/:id/top, /runs/:id/lineage/:hash. `?every=SECONDS` sets the pace. */
+   /runs/:id/throughput, /runs/:id/top, /runs/:id/lineage/:hash, and once per champion /runs/:id/champion
+   (its files). `?every=SECONDS` sets the pace. */
 (function () {
   'use strict';
   const params = new URLSearchParams(location.search);
@@ -24,6 +25,7 @@
     sizeKey: 'params',
     front: null, // the last /runs/:id/front answer of a multi-objective run
     regression: false, // the run predicts a number (GET /status names its target column)
+    filesKey: null, // run, champion and run state the "Champion files" card was drawn for
     lastOk: 0,
     polls: 0,
   };
@@ -31,7 +33,7 @@
   window.netbreederDashboard = { charts, state };
 
   // A coordinator with private status is opened as /?token=…; the data requests carry it along.
-  const token = new URLSearchParams(location.search).get('token');
+  const token = params.get('token');
   async function getJson(path) {
     const headers = { accept: 'application/json' };
     if (token) headers.authorization = `Bearer ${token}`;
@@ -39,6 +41,9 @@
     if (!res.ok) throw new Error(`${path}: HTTP ${res.status}`);
     return res.json();
   }
+
+  /** A link of the page's own coordinator, carrying the page's token (a plain link cannot send a header). */
+  const withToken = (path) => (token ? `${path}?token=${encodeURIComponent(token)}` : path);
 
   const text = (el, value) => {
     el.textContent = value;
@@ -245,6 +250,43 @@
     showLineage(lineage, whose);
   }
 
+  /**
+   * The champion's export, once it exists: the report (status access, like this page) and the
+   * files of the export and of its ensemble, which need the admin token. They are links only when
+   * the page's own token may read them (asked once per champion with a HEAD request).
+   */
+  async function refreshChampionFiles(run, champion) {
+    const box = $('champion-files');
+    if (!champion) {
+      box.hidden = true;
+      state.filesKey = null;
+      return;
+    }
+    const key = `${run.id}:${champion.evaluationId}:${run.state}`;
+    if (key === state.filesKey) return;
+    const doc = await getJson(`/runs/${run.id}/champion`);
+    const probe = token ? await fetch(`/runs/${run.id}/champion/files/champion.json`, { method: 'HEAD', headers: { authorization: `Bearer ${token}` }, cache: 'no-store' }) : null;
+    const admin = Boolean(probe && probe.ok);
+    const item = (name, path) => {
+      const li = document.createElement('li');
+      li.append(admin ? Object.assign(document.createElement('a'), { href: withToken(path), textContent: name, download: name }) : Object.assign(document.createElement('span'), { textContent: name }));
+      return li;
+    };
+    $('champion-report-link').href = withToken(`/runs/${run.id}/champion/report`);
+    $('champion-file-list').replaceChildren(...doc.files.filter((f) => f !== 'report.html').map((f) => item(f, `/runs/${run.id}/champion/files/${f}`)));
+    const ensemble = doc.ensemble ? doc.ensemble.files : [];
+    $('ensemble-files').hidden = ensemble.length === 0;
+    $('ensemble-file-list').replaceChildren(...ensemble.map((f) => item(f, `/runs/${run.id}/ensemble/files/${f}`)));
+    text(
+      $('champion-files-access'),
+      admin
+        ? 'read with this page\'s admin token'
+        : `the model and its files need the admin token: npm run netbreeder -- export --run ${run.id} --out DIR, or open this page as /?token=ADMIN_TOKEN`,
+    );
+    box.hidden = false;
+    state.filesKey = key;
+  }
+
   async function poll() {
     const status = await getJson('/status');
     state.regression = Boolean(status.run?.target);
@@ -273,6 +315,7 @@
     const failed = points.filter((p) => p.state === 'failed').length;
     text($('scatter-caption'), `${points.length - failed} scored evaluations${failed ? ` (${failed} failed, not drawn)` : ''} · validation ${state.regression ? `RMSE (${status.run.target})` : 'accuracy'} against size, log scale`);
     showTop(top);
+    await refreshChampionFiles(run, status.champion);
     await refreshFront(run);
     await refreshLineage(false);
   }

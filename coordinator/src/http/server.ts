@@ -5,7 +5,7 @@ import { StatusResponseSchema, WORKER_PROTOCOL_VERSION, WorkerHeartbeatSchema, w
 import type { Logger } from '../logger.js';
 import { GenomeRejectedError, RunStateError, type RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
-import { CHAMPION_FILES, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
+import { CHAMPION_FILES, championDocument, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
 import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
@@ -95,20 +95,27 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
     const { id } = req.params as { id: string };
     const summary = championSummary(store, runOr404(id));
     if (!summary) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
-    return summary;
+    return championDocument(summary);
   });
 
+  const sendChampionFile = (id: string, name: ChampionFileName, reply: import('fastify').FastifyReply) => {
+    const files = championFiles(store, runOr404(id));
+    if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
+    const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : name.endsWith('.html') ? 'text/html; charset=utf-8' : 'application/octet-stream';
+    return reply.type(type).send(files.get(name));
+  };
   app.get(
     '/runs/:id/champion/files/:name',
     { config: { access: 'admin' }, schema: { params: Type.Object({ id: RunIdParams.properties.id, name: Type.Union(CHAMPION_FILES.map((f) => Type.Literal(f))) }) } },
     async (req, reply) => {
       const { id, name } = req.params as { id: string; name: ChampionFileName };
-      const files = championFiles(store, runOr404(id));
-      if (!files) throw new HttpError('NB_NO_CHAMPION', `run ${id} has no champion yet`);
-      const type = name.endsWith('.json') ? 'application/json' : name.endsWith('.md') ? 'text/markdown; charset=utf-8' : name.endsWith('.html') ? 'text/html; charset=utf-8' : 'application/octet-stream';
-      return reply.type(type).send(files.get(name));
+      return sendChampionFile(id, name, reply);
     },
   );
+  // The report page with status access, for the dashboard's link: it draws what GET
+  // /runs/:id/champion already tells (plus, for a regression run, the test split's predicted
+  // against actual plot); the model, its weights and preprocessing.json stay admin.
+  app.get('/runs/:id/champion/report', { schema: { params: RunIdParams } }, async (req, reply) => sendChampionFile((req.params as { id: string }).id, 'report.html', reply));
 
   for (const action of ['pause', 'resume', 'stop', 'finish'] as const) {
     app.post(`/runs/:id/${action}`, { config: { access: 'admin' }, schema: { params: RunIdParams } }, async (req) => {
