@@ -25,7 +25,7 @@ export { runSummary } from './cli/run-summary.js';
 export { ensembleFiles } from './champion/ensemble-files.js';
 export { averagePredictions, accuracyOf } from './champion/ensemble-average.js';
 export { howItWasFound, explainDecision } from './champion/explain-lineage.js';
-export { loadChampion, readPreprocessing, type LoadedChampion } from './predict/load-champion.js';
+export { loadChampion, readPreprocessing, type LoadedChampion, type RowPrediction } from './predict/load-champion.js';
 export { predictFile, type PredictOutcome, type PredictFileOptions } from './predict/predict-file.js';
 export { PredictError, type PredictErrorCode } from './predict/predict-error.js';
 export { predictCommand } from './cli/predict-command.js';

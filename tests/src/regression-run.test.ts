@@ -5,8 +5,9 @@ import { createRequire } from 'node:module';
 import { existsSync } from 'node:fs';
 import { chromium } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { concatSamples, defaultSearchSpace, regressionMetrics, type EvaluationsResponse, type LineageResponse, type StatusResponse, type TopGenomesResponse } from '@netbreeder/shared-types';
-import { championFiles, championSummary, ensembleFiles, loadDataset, parseRunConfig, readRunConfigFile, runSummary, type RunRecord } from '@netbreeder/coordinator';
+import { concatSamples, decodeShard, defaultSearchSpace, regressionMetrics, type EvaluationsResponse, type LineageResponse, type StatusResponse, type TopGenomesResponse } from '@netbreeder/shared-types';
+import { championFiles, championSummary, ensembleFiles, exportChampion, loadChampion, loadDataset, parseRunConfig, predictCommand, readRunConfigFile, runSummary, type RunRecord } from '@netbreeder/coordinator';
+import { textSink as sink } from './support/text-sink.js';
 import { TestCluster, waitFor } from './support/harness.js';
 import { fitLeastSquares } from './support/least-squares.js';
 
@@ -191,6 +192,31 @@ describe('a regression run on the Auto MPG table', () => {
     } finally {
       await browser.close();
     }
+  });
+
+  it("predicts in miles per gallon from the export: the loader, the predict command and model.onnx in ONNX Runtime give the coordinator's test predictions", async () => {
+    const exported = await exportChampion(cluster.coordinator.store, run, join(dir, 'champion'));
+    const pre = JSON.parse(await readFile(join(exported, 'preprocessing.json'), 'utf8')) as { target: { column: string; mean: number; std: number } };
+    expect(pre.target).toEqual(run.dataset.manifest.target);
+    const test = decodeShard(await readFile(run.dataset.testPath)).train;
+    const recorded = cluster.coordinator.store.getChampion(run.id)!.testPredictions;
+    const loaded = await loadChampion(exported);
+    const values = loaded.predictNumbers(test.features, test.count);
+    loaded.dispose();
+    values.forEach((v, i) => expect(Math.abs(v - recorded[i]!)).toBeLessThan(1e-4));
+    // ONNX Runtime (onnxruntime-node, the open standard's reference runtime) on the same prepared rows.
+    const ort = await import('onnxruntime-node');
+    const session = await ort.InferenceSession.create(join(exported, 'model.onnx'));
+    const onnx = (await session.run({ input: new ort.Tensor('float32', test.features, [test.count, ...run.dataset.manifest.inputShape]) }))['output']!.data as Float32Array;
+    await session.release();
+    onnx.forEach((v, i) => expect(Math.abs(v * pre.target.std + pre.target.mean - recorded[i]!)).toBeLessThan(1e-3));
+    // The predict command on the raw table (the label column is ignored, a missing horsepower becomes the training mean).
+    const out = sink();
+    expect(await predictCommand(['--model', exported, '--input', join(dir, 'auto-mpg.csv')], out, sink())).toBe(0);
+    const lines = out.text().trim().split('\n');
+    expect(lines[0]).toBe('id,predicted_mpg');
+    expect(lines.length - 1).toBe(406);
+    expect(lines.slice(1).every((l) => Number.isFinite(Number(l.split(',')[1])))).toBe(true);
   });
 
   it('averages the predicted numbers of an ensemble and scores it like the champion', async () => {

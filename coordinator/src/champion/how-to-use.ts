@@ -11,7 +11,7 @@ import { ONNX_OPSET } from '../onnx/onnx-export.js';
  * model.json and weights.bin itself and hands them to `tf.io.fromMemory`:
  * `tf.loadLayersModel('file://…')` fails without the native `@tensorflow/tfjs-node` package.
  */
-export function nodeSnippet(dir = './champion'): string {
+export function nodeSnippet(dir = './champion', regression = false): string {
   return [
     "import { readFileSync } from 'node:fs';",
     "import * as tf from '@tensorflow/tfjs';",
@@ -21,8 +21,9 @@ export function nodeSnippet(dir = './champion'): string {
     'const model = await tf.loadLayersModel(tf.io.fromMemory({ modelTopology: modelJson.modelTopology, weightSpecs: modelJson.weightsManifest[0].weights, weightData: weights.buffer.slice(weights.byteOffset, weights.byteOffset + weights.byteLength) }));',
     "const pre = JSON.parse(readFileSync(`${dir}/preprocessing.json`, 'utf8'));",
     'const input = new Float32Array(pre.inputShape.reduce((a, b) => a * b, 1)); // fill it as preprocessing.json says',
-    'const probabilities = Array.from(model.predict(tf.tensor(input, [1, ...pre.inputShape])).dataSync());',
-    'console.log(pre.classNames[probabilities.indexOf(Math.max(...probabilities))], probabilities);',
+    ...(regression
+      ? ['const [y] = model.predict(tf.tensor(input, [1, ...pre.inputShape])).dataSync(); // the standardised target', 'console.log(y * pre.target.std + pre.target.mean); // in the units of pre.target.column']
+      : ['const probabilities = Array.from(model.predict(tf.tensor(input, [1, ...pre.inputShape])).dataSync());', 'console.log(pre.classNames[probabilities.indexOf(Math.max(...probabilities))], probabilities);']),
   ].join('\n');
 }
 
@@ -47,9 +48,11 @@ export function howToUseLines(hasEnsemble: boolean, regression = false): string[
   return [
     '## How to use it',
     '',
-    '`preprocessing.json` says exactly how a raw input becomes the model input (column order, means and standard deviations at full precision, one-hot order, image size and scaling) and names the classes in output order.',
+    `\`preprocessing.json\` says exactly how a raw input becomes the model input (column order, means and standard deviations at full precision, one-hot order, image size and scaling) and ${regression ? "how the model's one output becomes the target (`target`: output × std + mean)" : 'names the classes in output order'}.`,
     '',
-    'Predict a CSV with the training header, a folder of images or an IDX file with the `predict` command (writes one row per input: id, predicted class, one probability per class):',
+    regression
+      ? 'Predict a CSV with the training header with the `predict` command (writes one row per input: id and the predicted number in the target\'s units):'
+      : 'Predict a CSV with the training header, a folder of images or an IDX file with the `predict` command (writes one row per input: id, predicted class, one probability per class):',
     '',
     '```',
     'netbreeder predict --model ./champion --input new-data.csv --out predictions.csv',
@@ -59,7 +62,7 @@ export function howToUseLines(hasEnsemble: boolean, regression = false): string[
     "In plain Node with only the `@tensorflow/tfjs` package, read `model.json` and `weights.bin` yourself and pass them to `tf.io.fromMemory` (`tf.loadLayersModel('file://…')` needs the native `@tensorflow/tfjs-node` package); save as `predict.mjs` and run `node predict.mjs`:",
     '',
     '```js',
-    nodeSnippet(),
+    nodeSnippet('./champion', regression),
     '```',
     '',
     "From TypeScript in this repository, `loadChampion(dir)` of `@netbreeder/coordinator` does the same, applies `preprocessing.json` to raw table rows (`predict(rows)`) and averages an ensemble's members.",

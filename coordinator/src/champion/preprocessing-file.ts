@@ -8,11 +8,11 @@ import { DEMO_TILE_SIZE } from '../datasets/demo-tiles.js';
  * described by the tiles' fixed form; another run from before the record has none (null). Pure.
  */
 export function preprocessingFileOf(run: Pick<RunRecord, 'config' | 'dataset'>): PreprocessingFile | null {
-  const { inputShape, classNames } = run.dataset.manifest;
+  const { inputShape, classNames, target } = run.dataset.manifest;
   const p = run.dataset.preparation?.preprocessing ?? (run.config.dataset.kind === 'demo-tiles' ? { kind: 'demo-tiles' as const, inputShape } : null);
   if (!p) return null;
   const file = (steps: PreprocessingFile['steps']): PreprocessingFile =>
-    preprocessingFileValidator.parse({ format: 'netbreeder-preprocessing', version: PREPROCESSING_FILE_VERSION, inputShape, classNames, steps });
+    preprocessingFileValidator.parse({ format: 'netbreeder-preprocessing', version: PREPROCESSING_FILE_VERSION, inputShape, classNames, ...(target ? { target } : {}), steps });
   switch (p.kind) {
     case 'demo-tiles':
       return file({

@@ -6,16 +6,21 @@ import { averagePredictions } from '../champion/ensemble-average.js';
 import { PredictError } from './predict-error.js';
 import { tableRowsEncoder } from './table-input.js';
 
+/** What `predict(rows)` gives for one row: a classifier's class and probabilities, or a regression model's number. */
+export type RowPrediction = { className: string; probabilities: number[] } | { value: number };
+
 /** A champion (or averaging ensemble) export, loaded and ready to predict. */
 export interface LoadedChampion {
   /** The export's `preprocessing.json`: how raw input becomes model input, and the class order. */
   preprocessing: PreprocessingFile;
   /** The trained model, or the ensemble's members. */
   models: tf.LayersModel[];
-  /** Class probabilities (mean over members) of `count` prepared inputs, [count × classes] row by row, and each row's most probable class. */
+  /** Class probabilities (mean over members) of `count` prepared inputs, [count × classes] row by row, and each row's most probable class (a regression export: the standardised outputs, one per input). */
   predictPrepared(features: Float32Array, count: number): { probabilities: Float32Array; classes: Int32Array };
-  /** For a table export: raw rows (column name → cell; null or absent is missing) to the predicted class name and its probabilities. */
-  predict(rows: ReadonlyArray<Record<string, string | number | null | undefined>>): Array<{ className: string; probabilities: number[] }>;
+  /** A regression export: the predicted target of `count` prepared inputs, in the target's own units (mean over members). Throws for a classifier. */
+  predictNumbers(features: Float32Array, count: number): Float64Array;
+  /** For a table export: raw rows (column name → cell; null or absent is missing) to the predicted class name and its probabilities, or (regression) the predicted number in the target's units. */
+  predict(rows: ReadonlyArray<Record<string, string | number | null | undefined>>): RowPrediction[];
   dispose(): void;
 }
 
@@ -34,7 +39,9 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
   const modelFiles = ensemble ? (ensemble as { members: Array<{ model: string }> }).members.map((m) => m.model) : ['model.json'];
   const models: tf.LayersModel[] = [];
   for (const name of modelFiles) models.push(await loadLayersModelFromFiles(dir, name));
-  const classes = preprocessing.classNames.length;
+  const target = preprocessing.target;
+  // Outputs per input: one per class, or the one standardised number of a regression model.
+  const classes = target ? 1 : preprocessing.classNames.length;
   const size = preprocessing.inputShape.reduce((a, b) => a * b, 1);
 
   const predictPrepared = (features: Float32Array, count: number) => {
@@ -52,6 +59,11 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
     return { probabilities: mean, classes: predictions };
   };
 
+  const predictNumbers = (features: Float32Array, count: number): Float64Array => {
+    if (!target) throw new Error('this export is a classifier; call predictPrepared for its class probabilities');
+    return Float64Array.from(predictPrepared(features, count).probabilities, (v) => v * target.std + target.mean);
+  };
+
   const predict: LoadedChampion['predict'] = (rows) => {
     const steps = preprocessing.steps;
     if (steps.kind !== 'table') throw new Error(`predict(rows) takes table rows, but this model reads ${steps.kind}; prepare inputs as preprocessing.json says and call predictPrepared`);
@@ -59,11 +71,12 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
     const blank = steps.missing.tokens[0] ?? '';
     const records = rows.map((row) => header.map((name) => (row[name] == null ? blank : String(row[name]))));
     const features = tableRowsEncoder(steps, header, 'rows')(records, records.map((_, i) => i + 1));
+    if (target) return Array.from(predictNumbers(features, rows.length), (value) => ({ value }));
     const { probabilities, classes: predicted } = predictPrepared(features, rows.length);
     return rows.map((_, i) => ({ className: preprocessing.classNames[predicted[i]!]!, probabilities: Array.from(probabilities.subarray(i * classes, (i + 1) * classes)) }));
   };
 
-  return { preprocessing, models, predictPrepared, predict, dispose: () => models.forEach((m) => m.dispose()) };
+  return { preprocessing, models, predictPrepared, predictNumbers, predict, dispose: () => models.forEach((m) => m.dispose()) };
 }
 
 /** Reads and checks an export's `preprocessing.json`. */

@@ -30,7 +30,8 @@ const field = (s: string): string => (/[",\r\n]/.test(s) ? `"${s.replaceAll('"',
 /**
  * Predicts every input of `input` (a CSV file, an image folder or an IDX file, as the export's
  * `preprocessing.json` expects) and writes a CSV: `id` (the CSV line, the image path relative to
- * the folder, or the IDX sample index), the predicted class, one probability per class. Images that
+ * the folder, or the IDX sample index), the predicted class, one probability per class (a regression
+ * export: `predicted_<target column>`, the number in the target's units). Images that
  * cannot be used are named in the outcome and the rest predicted; any other bad input throws and
  * leaves no output file.
  */
@@ -48,19 +49,26 @@ export async function predictFile(model: LoadedChampion, input: string, options:
     if (!stream.write(text)) await once(stream, 'drain');
   };
   const outcome: PredictOutcome = { predicted: 0, failed: [] };
+  const target = model.preprocessing.target;
   const writeRows = async (ids: readonly string[], features: Float32Array): Promise<void> => {
-    const { probabilities, classes } = model.predictPrepared(features, ids.length);
     let text = '';
-    ids.forEach((id, i) => {
-      const p = Array.from(probabilities.subarray(i * classNames.length, (i + 1) * classNames.length), String);
-      text += `${[field(id), field(classNames[classes[i]!]!), ...p].join(',')}\n`;
-    });
+    if (target) {
+      const values = model.predictNumbers(features, ids.length);
+      ids.forEach((id, i) => (text += `${field(id)},${values[i]}\n`));
+    } else {
+      const { probabilities, classes } = model.predictPrepared(features, ids.length);
+      ids.forEach((id, i) => {
+        const p = Array.from(probabilities.subarray(i * classNames.length, (i + 1) * classNames.length), String);
+        text += `${[field(id), field(classNames[classes[i]!]!), ...p].join(',')}\n`;
+      });
+    }
     await emit(text);
     outcome.predicted += ids.length;
     options.onProgress?.(outcome.predicted);
   };
   try {
-    await emit(`${['id', 'predicted_class', ...classNames.map((n) => `probability_${n}`)].map(field).join(',')}\n`);
+    const header = target ? ['id', `predicted_${target.column}`] : ['id', 'predicted_class', ...classNames.map((n) => `probability_${n}`)];
+    await emit(`${header.map(field).join(',')}\n`);
     if (steps.kind === 'table') {
       let encode: TableRowsEncoder | null = null;
       for await (const chunk of csvChunks(input, steps.delimiter)) {

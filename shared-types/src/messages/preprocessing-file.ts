@@ -1,5 +1,6 @@
 import { Type, type Static } from '@sinclair/typebox';
 import { createValidator } from '../validation.js';
+import { TargetScalingSchema } from './dataset-manifest.js';
 
 /** The version of `preprocessing.json` this code writes and reads; a reader refuses any other. */
 export const PREPROCESSING_FILE_VERSION = 1;
@@ -105,8 +106,10 @@ export const PreprocessingFileSchema = Type.Object(
     version: Type.Literal(PREPROCESSING_FILE_VERSION),
     /** Shape of one model input, without the batch axis. */
     inputShape: Type.Array(Type.Integer({ minimum: 1 }), { minItems: 1 }),
-    /** Class names in the order of the model's softmax outputs. */
+    /** Class names in the order of the model's softmax outputs (a regression run: the target quantile bins its split was stratified by). */
     classNames: Type.Array(Type.String(), { minItems: 2 }),
+    /** A regression model: its one output is the target standardised; the prediction in the target's units is `output × std + mean`. Absent for a classifier. */
+    target: Type.Optional(TargetScalingSchema),
     steps: Type.Union([TableStepsSchema, ImageStepsSchema, IdxStepsSchema]),
   },
   { additionalProperties: false },
