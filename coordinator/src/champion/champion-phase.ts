@@ -1,4 +1,4 @@
-import type { EvaluationJob, EvaluationResult, LabelledSamples } from '@netbreeder/shared-types';
+import { InternalError, type EvaluationJob, type EvaluationResult, type LabelledSamples } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
@@ -159,7 +159,7 @@ export class ChampionPhase {
    */
   async recordResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
-    if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
+    if (!candidate) throw new InternalError(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const score = await scoreChampion(result.model!, this.o.testSplit(), this.o.store.getRun(ev.runId)?.dataset.manifest.target);
     const isChampion = candidate.champion !== false;
     let exportIt = false;

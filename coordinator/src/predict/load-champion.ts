@@ -54,7 +54,7 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
 
   const predict: LoadedChampion['predict'] = (rows) => {
     const steps = preprocessing.steps;
-    if (steps.kind !== 'table') throw new Error(`predict(rows) takes table rows, but this model reads ${steps.kind}; prepare inputs as preprocessing.json says and call predictPrepared`);
+    if (steps.kind !== 'table') throw new PredictError('NB_PREDICT_WRONG_INPUT', `predict(rows) takes table rows, but this model reads ${steps.kind}; prepare inputs as preprocessing.json says and call predictPrepared`);
     const header = steps.columns.map((c) => c.name);
     const blank = steps.missing.tokens[0] ?? '';
     const records = rows.map((row) => header.map((name) => (row[name] == null ? blank : String(row[name]))));
