@@ -38,7 +38,7 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
   const size = preprocessing.inputShape.reduce((a, b) => a * b, 1);
 
   const predictPrepared = (features: Float32Array, count: number) => {
-    if (features.length !== count * size) throw new RangeError(`${features.length} values are not ${count} inputs of shape [${preprocessing.inputShape.join(', ')}]`);
+    if (features.length !== count * size) throw new PredictError('NB_PREDICT_WRONG_INPUT', `${features.length} values are not ${count} inputs of shape [${preprocessing.inputShape.join(', ')}]`);
     const perModel = models.map((model) => {
       const out = new Float32Array(count * classes);
       for (let start = 0; start < count; start += BATCH) {

@@ -1,5 +1,5 @@
 import { sampleSize, type LabelledSamples } from './labelled-samples.js';
-import { NetbreederError } from '../errors/netbreeder-error.js';
+import { InternalError, NetbreederError } from '../errors/netbreeder-error.js';
 
 /**
  * The training shard a worker downloads: the train and validation splits of a run in one binary
@@ -36,7 +36,7 @@ export function encodeShard(shard: TrainingShard): Buffer {
     parts.push(Buffer.from(split.labels.buffer, split.labels.byteOffset, split.labels.byteLength));
     if (targets) {
       const t = split.targets ?? new Float32Array(split.count);
-      if (t.length !== split.count) throw new RangeError(`a split has ${t.length} targets for ${split.count} samples`);
+      if (t.length !== split.count) throw new InternalError(`a split has ${t.length} targets for ${split.count} samples`);
       parts.push(Buffer.from(t.buffer, t.byteOffset, t.byteLength));
     }
   }

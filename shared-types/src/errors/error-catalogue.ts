@@ -68,6 +68,7 @@ export const ERROR_CATALOGUE = {
   NB_NO_VALID_MUTATION: { status: null, retryable: true, fix: 'widen the search space (more layer kinds, larger caps) so mutations can find valid children' },
   NB_NO_MINIMAL_GENOME: { status: null, retryable: false, fix: "raise the search space's maxParams or maxFlops: even the smallest network breaks them" },
   NB_BAD_SEARCH_SNAPSHOT: { status: null, retryable: false, fix: 'resume the run with the algorithm and settings it started with, on the netbreeder version that wrote it' },
+  NB_BAD_SEARCH_SETTINGS: { status: null, retryable: false, fix: "set the run file's search object within the ranges docs/run-file.md gives" },
   NB_ILLEGAL_RUN_TRANSITION: { status: null, retryable: false, fix: "a bug in the caller: check the run's state (store/run-lifecycle.ts) before changing it" },
   NB_NO_STORE: { status: null, retryable: false, fix: "pass the coordinator's --data-dir, the folder that holds its store" },
   NB_STORE_VERSION: { status: null, retryable: false, fix: 'open the store with the netbreeder version that wrote it' },
