@@ -1,4 +1,4 @@
-import { ERROR_CATALOGUE, NetbreederError, type HttpErrorCode } from '@netbreeder/shared-types';
+import { ERROR_CATALOGUE, NetbreederError, type ErrorCode, type HttpErrorCode } from '@netbreeder/shared-types';
 
 export type { HttpErrorCode };
 
@@ -9,6 +9,9 @@ export type { HttpErrorCode };
 export const HTTP_ERRORS = Object.fromEntries(Object.entries(ERROR_CATALOGUE).filter(([, e]) => e.status !== null)) as {
   [C in HttpErrorCode]: (typeof ERROR_CATALOGUE)[C] & { status: number };
 };
+
+/** True when `code` has an HTTP status, so the API can answer with it. */
+export const isHttpErrorCode = (code: ErrorCode): code is HttpErrorCode => ERROR_CATALOGUE[code].status !== null;
 
 /** An error that becomes an HTTP answer `{ error: { code, message, fix } }`. */
 export class HttpError extends NetbreederError {

@@ -1,11 +1,12 @@
 import { createReadStream, existsSync } from 'node:fs';
 import Fastify, { LogController, type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { Type } from '@sinclair/typebox';
-import { NetbreederError, StatusResponseSchema, WORKER_PROTOCOL_VERSION, WorkerHeartbeatSchema, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { StatusResponseSchema, WORKER_PROTOCOL_VERSION, WorkerHeartbeatSchema, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
-import { GenomeRejectedError, type RunManager } from '../run/run-manager.js';
+import type { RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
 import { CHAMPION_FILES, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
+import { errorAnswer } from './error-answer.js';
 import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
@@ -54,18 +55,10 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
   );
 
   app.setErrorHandler((err: Error & { validation?: unknown; statusCode?: number }, req, reply) => {
-    if (err instanceof GenomeRejectedError) {
-      reject(req, err.message);
-      return send(reply, 'NB_GENOME_REJECTED', err.message, { issues: err.issues });
-    }
-    // Every error of ours whose code has an HTTP status below 500 answers with that code; the rest is a bug.
-    if (err instanceof NetbreederError && err.status !== null && err.status < 500) return send(reply, err.code as HttpErrorCode, err.message);
-    if (err.validation || (err.statusCode && err.statusCode < 500)) {
-      reject(req, err.message);
-      return send(reply, 'NB_BAD_REQUEST', err.message);
-    }
-    opts.logger.error({ err: err.message, stack: err.stack, url: req.url }, 'request failed');
-    return send(reply, 'NB_INTERNAL', err.message);
+    const answer = errorAnswer(err);
+    if (answer.rejected) reject(req, err.message);
+    if (answer.code === 'NB_INTERNAL') opts.logger.error({ err: err.message, stack: err.stack, url: req.url }, 'request failed');
+    return send(reply, answer.code, answer.message, answer.extra);
   });
   app.setNotFoundHandler((req, reply) => {
     reject(req, 'unknown route');

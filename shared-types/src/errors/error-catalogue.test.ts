@@ -51,6 +51,14 @@ describe('the error catalogue', () => {
     expect(codes.filter((code) => !used.has(code))).toEqual([]);
   });
 
+  it('leaves library code no bare Error, RangeError or TypeError to throw (a catalogued error or InternalError instead)', () => {
+    const bare = ['shared-types/src', 'coordinator/src', 'worker/src']
+      .flatMap((d) => [...tsFiles(join(ROOT, d))])
+      .filter((file) => !file.endsWith('.test.ts'))
+      .flatMap((file) => readFileSync(file, 'utf8').split('\n').flatMap((line, i) => (/\bnew (Error|RangeError|TypeError)\(/.test(line) ? [`${relative(ROOT, file)}:${i + 1}`] : [])));
+    expect(bare).toEqual([]);
+  });
+
   it('is the table of docs/error-codes.md, row for row (npm run docs:errors writes it)', () => {
     const page = readFileSync(join(ROOT, ERROR_CODES_DOC_PATH), 'utf8');
     expect(page).toBe(renderErrorCodesPage());

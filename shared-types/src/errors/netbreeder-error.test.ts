@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { CheckpointFormatError } from '../checkpoint/checkpoint-codec.js';
 import { ValidationError } from '../validation.js';
 import { ERROR_CATALOGUE } from './error-catalogue.js';
-import { InternalError, invariant, NetbreederError } from './netbreeder-error.js';
+import { describeError, InternalError, invariant, NetbreederError } from './netbreeder-error.js';
 
 class KilnError extends NetbreederError {
   constructor(message: string) {
@@ -42,5 +42,13 @@ describe('InternalError and invariant', () => {
     expect(() => invariant(1 + 1 === 2, 'arithmetic')).not.toThrow();
     expect(() => invariant(null, 'no member to pick')).toThrow(InternalError);
     expect(() => invariant(0, () => 'lazy message')).toThrow('lazy message');
+  });
+});
+
+describe('describeError', () => {
+  it('adds the code of an error of ours to its message, and leaves other errors as they are', () => {
+    expect(describeError(new NetbreederError('NB_BAD_USAGE', "--workers must be a whole number from 1 to 64, got 'x'"))).toBe("--workers must be a whole number from 1 to 64, got 'x' [NB_BAD_USAGE]");
+    expect(describeError(new Error('EACCES: permission denied'))).toBe('EACCES: permission denied');
+    expect(describeError('a string')).toBe('a string');
   });
 });
