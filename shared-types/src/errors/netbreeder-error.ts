@@ -44,10 +44,5 @@ export class InternalError extends NetbreederError {
   }
 }
 
-/** Throws an {@link InternalError} with `message` unless `condition` holds. */
-export function invariant(condition: unknown, message: string | (() => string)): asserts condition {
-  if (!condition) throw new InternalError(typeof message === 'string' ? message : message());
-}
-
 /** One line for a person: the message and, for an error of ours, its code (docs/error-codes.md says how to fix each). */
 export const describeError = (err: unknown): string => (err instanceof NetbreederError ? `${err.message} [${err.code}]` : err instanceof Error ? err.message : String(err));
