@@ -1,10 +1,10 @@
 import {
-  isErrorCode,
-  NetbreederError,
   championFilesReplyValidator,
   championPickResponseValidator,
   ensembleRequestResponseValidator,
   errorReplyValidator,
+  isErrorCode,
+  NetbreederError,
   runControlReplyValidator,
   runListValidator,
   type ChampionFilesReply,
@@ -17,14 +17,12 @@ import {
 import type { TSchema } from '@sinclair/typebox';
 
 /**
- * The coordinator refused a request: its HTTP status, its error code and its one-line fix. `code`
- * is the coordinator's code when it is one of the catalogue, else NB_COORDINATOR_REFUSED (a proxy's
- * page, or a coordinator of another version); `replyCode` is the code the reply named, if any.
+ * The coordinator refused a request; the message holds its HTTP status, its error code and its
+ * one-line fix. `code` is the coordinator's code when it is one of the catalogue, else
+ * NB_COORDINATOR_REFUSED (a proxy's page, or a coordinator of another version); `replyCode` is the
+ * code the reply named, if any.
  */
 export class CoordinatorRefusal extends NetbreederError {
-  readonly httpStatus: number;
-  readonly replyFix: string | null;
-
   constructor(
     readonly what: string,
     status: number,
@@ -33,8 +31,6 @@ export class CoordinatorRefusal extends NetbreederError {
     fix: string | null,
   ) {
     super(isErrorCode(replyCode) ? replyCode : 'NB_COORDINATOR_REFUSED', `${what} refused (${status}${replyCode ? ` ${replyCode}` : ''}): ${reason}${fix ? `; ${fix}` : ''}`);
-    this.httpStatus = status;
-    this.replyFix = fix;
   }
 }
 
