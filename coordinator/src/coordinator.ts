@@ -11,6 +11,7 @@ import { RunManager, type RunManagerEvents } from './run/run-manager.js';
 import { createHttpServer } from './http/server.js';
 import { StallChecker } from './queue/stall-checker.js';
 import { loadSecrets, type CoordinatorSecrets } from './config/secrets.js';
+import { RunStateError } from './run/run-manager-options.js';
 
 import { COORDINATOR_VERSION } from './version.js';
 
@@ -115,7 +116,7 @@ export class Coordinator {
   /** Starts a new run (the previous one must have ended), from a run file or its {@link prepareRun} result. */
   async startRun(config: RunConfig | PreparedRun) {
     const active = this.store.unfinishedRun();
-    if (active) throw new Error(`run ${active.id} is still ${active.state}; one run at a time per coordinator`);
+    if (active) throw new RunStateError(`run ${active.id} is still ${active.state}; one run at a time per coordinator`);
     const run = await this.manager.startRun(config);
     await this.manager.tick();
     return run;

@@ -32,3 +32,5 @@ export * from './messages/champion-choice.js';
 export * from './messages/run-events.js';
 export * from './messages/preprocessing-file.js';
 export * from './messages/coordinator-replies.js';
+export * from './errors/error-catalogue.js';
+export * from './errors/netbreeder-error.js';

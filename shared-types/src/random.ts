@@ -2,6 +2,7 @@
  * A small seeded random source (sfc32) whose whole state is four 32-bit integers, so it can be
  * stored beside a run and restored after a restart. Pure: no global state, no Math.random.
  */
+import { InternalError } from './errors/netbreeder-error.js';
 export type RandomState = readonly [number, number, number, number];
 
 export interface Random {
@@ -78,7 +79,7 @@ export function restoreRandom(state: RandomState): Random {
     },
     chance: (p) => next() < p,
     pick: (items) => {
-      if (items.length === 0) throw new Error('pick() needs a non-empty array');
+      if (items.length === 0) throw new InternalError('pick() needs a non-empty array');
       return items[Math.floor(next() * items.length)] as (typeof items)[number];
     },
     shuffled: (items) => {

@@ -1,6 +1,7 @@
 import type { Static, TSchema } from '@sinclair/typebox';
 import { FormatRegistry } from '@sinclair/typebox';
 import { TypeCompiler } from '@sinclair/typebox/compiler';
+import { NetbreederError } from './errors/netbreeder-error.js';
 
 // The string formats our schemas use; TypeBox knows none by itself.
 if (!FormatRegistry.Has('date-time')) {
@@ -14,13 +15,13 @@ export interface ValidationIssue {
 }
 
 /** Thrown by {@link Validator.parse}: names the message kind and every problem found. */
-export class ValidationError extends Error {
-  readonly code = 'NB_INVALID_MESSAGE';
+export class ValidationError extends NetbreederError {
   constructor(
     readonly messageKind: string,
     readonly issues: ValidationIssue[],
   ) {
     super(
+      'NB_INVALID_MESSAGE',
       `invalid ${messageKind}: ` +
         issues
           .slice(0, 8)
@@ -28,7 +29,6 @@ export class ValidationError extends Error {
           .join('; ') +
         (issues.length > 8 ? `; and ${issues.length - 8} more` : ''),
     );
-    this.name = 'ValidationError';
   }
 }
 

@@ -6,6 +6,7 @@ import { assertTestModeAllowed, resolveWorkerOptions, type WorkerOptions } from 
 import { msUntilClockTime } from './agent/stop-time.js';
 import { parseSimulateSpec, type SimulationSettings } from './agent/simulated-training.js';
 import { SimulatedFleet } from './agent/simulated-fleet.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 export const WORKER_HELP = `netbreeder worker: join a coordinator and train candidate networks on this PC's CPU.
 
@@ -81,13 +82,13 @@ export function parseSimulationArgs(argv: string[]): (SimulationSettings & { cou
   const { values } = parseArgs({ args: argv, options: WORKER_ARGS, strict: true });
   const extras = (['drop-rate', 'simulate-count', 'simulate-seed'] as const).filter((k) => values[k] !== undefined);
   if (values.simulate === undefined) {
-    if (extras.length) throw new Error(`--${extras[0]} needs --simulate lognormal:MEAN_S:SIGMA (simulated workers are for tests and benchmarks only)`);
+    if (extras.length) throw new NetbreederError('NB_BAD_USAGE', `--${extras[0]} needs --simulate lognormal:MEAN_S:SIGMA (simulated workers are for tests and benchmarks only)`);
     return null;
   }
   const dropRate = values['drop-rate'] === undefined ? 0 : Number(values['drop-rate']);
-  if (!Number.isFinite(dropRate) || dropRate < 0 || dropRate >= 1) throw new Error(`--drop-rate must be a number from 0 up to (not including) 1, got '${values['drop-rate']}'`);
+  if (!Number.isFinite(dropRate) || dropRate < 0 || dropRate >= 1) throw new NetbreederError('NB_BAD_USAGE', `--drop-rate must be a number from 0 up to (not including) 1, got '${values['drop-rate']}'`);
   const count = values['simulate-count'] === undefined ? 1 : Number(values['simulate-count']);
-  if (!Number.isInteger(count) || count < 1 || count > 5000) throw new Error(`--simulate-count must be a whole number from 1 to 5000, got '${values['simulate-count']}'`);
+  if (!Number.isInteger(count) || count < 1 || count > 5000) throw new NetbreederError('NB_BAD_USAGE', `--simulate-count must be a whole number from 1 to 5000, got '${values['simulate-count']}'`);
   return { ...parseSimulateSpec(values.simulate), dropRate, count, seed: values['simulate-seed'] ?? 'simulate' };
 }
 
@@ -98,7 +99,7 @@ export function parseWorkerArgs(argv: string[], env: NodeJS.ProcessEnv = process
   const int = (name: string, v: string | undefined, min: number, max: number): number | undefined => {
     if (v === undefined) return undefined;
     const n = Number(v);
-    if (!Number.isInteger(n) || n < min || n > max) throw new Error(`--${name} must be a whole number from ${min} to ${max}, got '${v}'`);
+    if (!Number.isInteger(n) || n < min || n > max) throw new NetbreederError('NB_BAD_USAGE', `--${name} must be a whole number from ${min} to ${max}, got '${v}'`);
     return n;
   };
   if (values.until) msUntilClockTime(values.until, new Date()); // rejects a malformed time now
@@ -125,7 +126,7 @@ export function parseWorkerArgs(argv: string[], env: NodeJS.ProcessEnv = process
 function positive(name: string, v: string | undefined, max: number): number | undefined {
   if (v === undefined) return undefined;
   const n = Number(v);
-  if (!Number.isFinite(n) || n <= 0 || n > max) throw new Error(`--${name} must be a number above 0 and at most ${max}, got '${v}'`);
+  if (!Number.isFinite(n) || n <= 0 || n > max) throw new NetbreederError('NB_BAD_USAGE', `--${name} must be a number above 0 and at most ${max}, got '${v}'`);
   return n;
 }
 
@@ -134,14 +135,14 @@ function inflation(v: string | undefined, env: NodeJS.ProcessEnv): number | null
   if (v === undefined) return null;
   assertTestModeAllowed('--test-only-inflate-accuracy', env);
   const n = Number(v);
-  if (!Number.isFinite(n) || n <= 0 || n > 1) throw new Error(`--test-only-inflate-accuracy must be a number above 0 and at most 1, got '${v}'`);
+  if (!Number.isFinite(n) || n <= 0 || n > 1) throw new NetbreederError('NB_BAD_USAGE', `--test-only-inflate-accuracy must be a number above 0 and at most 1, got '${v}'`);
   return n;
 }
 
 function fraction(name: string, v: string | undefined): number | null {
   if (v === undefined) return null;
   const n = Number(v);
-  if (!Number.isFinite(n) || n <= 0 || n > 1) throw new Error(`--${name} must be a number above 0 and at most 1, got '${v}'`);
+  if (!Number.isFinite(n) || n <= 0 || n > 1) throw new NetbreederError('NB_BAD_USAGE', `--${name} must be a number above 0 and at most 1, got '${v}'`);
   return n;
 }
 
@@ -167,7 +168,7 @@ export async function runWorkerCli(given: string[]): Promise<number> {
   process.on('SIGTERM', onSignal);
   await agent.start();
   await agent.stopped;
-  if (agent.fatal) throw new Error(agent.fatal);
+  if (agent.fatal) throw new NetbreederError('NB_COORDINATOR_REFUSED', agent.fatal);
   return 0;
 }
 

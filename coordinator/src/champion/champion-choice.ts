@@ -1,4 +1,4 @@
-import { rmseFromFitness, type ChampionChoice, type ChampionRule, type EnsembleSettings } from '@netbreeder/shared-types';
+import { NetbreederError, rmseFromFitness, type ChampionChoice, type ChampionRule, type EnsembleSettings } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { selectEnsemble, type EnsemblePick } from './ensemble-selection.js';
 import { rankByValidation } from './validation-evidence.js';
@@ -11,13 +11,12 @@ import { rankByValidation } from './validation-evidence.js';
 export type { ChampionChoice };
 
 /** Why a pick or an ensemble request was refused: the run's state does not allow it, or the run has no such finished search result. */
-export class ChampionChoiceError extends Error {
-  override name = 'ChampionChoiceError';
+export class ChampionChoiceError extends NetbreederError {
   constructor(
     readonly reason: 'state' | 'not-a-result',
     message: string,
   ) {
-    super(message);
+    super(reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', message);
   }
 }
 

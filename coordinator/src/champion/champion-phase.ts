@@ -1,4 +1,4 @@
-import type { EvaluationJob, EvaluationResult, LabelledSamples, ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { InternalError, type EvaluationJob, type EvaluationResult, type LabelledSamples, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
@@ -161,7 +161,7 @@ export class ChampionPhase {
    */
   async recordResult(ev: EvaluationRecord, result: EvaluationResult): Promise<void> {
     const candidate = this.candidates(ev.runId).find((c) => c.seq === ev.seq);
-    if (!candidate) throw new Error(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
+    if (!candidate) throw new InternalError(`champion evaluation ${ev.id} is not for a candidate of run ${ev.runId}`);
     const run = this.o.store.getRun(ev.runId)!;
     const test = this.o.testSplit();
     const score = await scoreChampion(result.model!, test, run.dataset.manifest.target);

@@ -3,10 +3,11 @@
  * class (the first among equals). Pure. `probabilities[m]` holds member m's [samples × classes]
  * probabilities, row by row.
  */
+import { InternalError } from '@netbreeder/shared-types';
 export function averagePredictions(probabilities: readonly Float32Array[], numClasses: number): { mean: Float32Array; predictions: Int32Array } {
-  if (!probabilities.length) throw new RangeError('an ensemble needs at least one member');
+  if (!probabilities.length) throw new InternalError('an ensemble needs at least one member');
   const length = probabilities[0]!.length;
-  if (length % numClasses !== 0) throw new RangeError(`${length} probabilities do not split into rows of ${numClasses} classes`);
+  if (length % numClasses !== 0) throw new InternalError(`${length} probabilities do not split into rows of ${numClasses} classes`);
   const mean = meanOfOutputs(probabilities);
   const predictions = new Int32Array(length / numClasses);
   for (let s = 0; s < predictions.length; s++) {
@@ -22,10 +23,10 @@ export function averagePredictions(probabilities: readonly Float32Array[], numCl
  * their predicted numbers (one per sample, standardised), which is the ensemble's prediction. Pure.
  */
 export function meanOfOutputs(outputs: readonly Float32Array[]): Float32Array {
-  if (!outputs.length) throw new RangeError('an ensemble needs at least one member');
+  if (!outputs.length) throw new InternalError('an ensemble needs at least one member');
   const length = outputs[0]!.length;
   outputs.forEach((p, m) => {
-    if (p.length !== length) throw new RangeError(`member ${m} gives ${p.length} outputs, member 0 gives ${length}; score every member on the same samples`);
+    if (p.length !== length) throw new InternalError(`member ${m} gives ${p.length} outputs, member 0 gives ${length}; score every member on the same samples`);
   });
   const mean = new Float32Array(length);
   for (const p of outputs) for (let i = 0; i < length; i++) mean[i]! += p[i]! / outputs.length;

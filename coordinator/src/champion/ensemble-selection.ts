@@ -1,4 +1,4 @@
-import { expandMotifs, type Genome, type LayerNode } from '@netbreeder/shared-types';
+import { InternalError, expandMotifs, type Genome, type LayerNode } from '@netbreeder/shared-types';
 
 /**
  * Choosing the members of an averaging ensemble: accurate AND different from each other, since
@@ -75,8 +75,8 @@ export interface EnsemblePick extends EnsembleCandidate {
  * hash count once (the first listed). Throws on a size below 1 or a negative penalty.
  */
 export function selectEnsemble(candidates: readonly EnsembleCandidate[], size: number, penalty: number): EnsemblePick[] {
-  if (!Number.isInteger(size) || size < 1) throw new RangeError(`ensemble size must be a whole number ≥ 1, got ${size}`);
-  if (!(penalty >= 0)) throw new RangeError(`diversity penalty must be ≥ 0, got ${penalty}`);
+  if (!Number.isInteger(size) || size < 1) throw new InternalError(`ensemble size must be a whole number ≥ 1, got ${size}`);
+  if (!(penalty >= 0)) throw new InternalError(`diversity penalty must be ≥ 0, got ${penalty}`);
   const seen = new Set<string>();
   const pool = candidates.filter((c) => !seen.has(c.genomeHash) && seen.add(c.genomeHash));
   const chosen: EnsemblePick[] = [];

@@ -1,7 +1,7 @@
 /** The `netbreeder` command's sub-commands: init, run, coordinator, worker, demo, status, export, … */
 import { parseArgs } from 'node:util';
 import { runWorkerCli, takeLogFormatOption, DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
-import { statusResponseValidator } from '@netbreeder/shared-types';
+import { NetbreederError, statusResponseValidator } from '@netbreeder/shared-types';
 import { Coordinator, COORDINATOR_VERSION, DEFAULT_PORT } from '../coordinator.js';
 import { buildStatus } from '../run/status-report.js';
 import { runSummary } from './run-summary.js';
@@ -115,7 +115,7 @@ function numberOption(name: string, value: string | undefined, min: number, max:
   if (value === undefined) return undefined;
   const n = Number(value);
   if (!Number.isFinite(n) || (integer && !Number.isInteger(n)) || n < min || n > max) {
-    throw new Error(`--${name} must be ${integer ? 'a whole number' : 'a number'} from ${min} to ${max}, got '${value}'`);
+    throw new NetbreederError('NB_BAD_USAGE', `--${name} must be ${integer ? 'a whole number' : 'a number'} from ${min} to ${max}, got '${value}'`);
   }
   return n;
 }
@@ -204,9 +204,9 @@ async function statusCommand(argv: string[]): Promise<number> {
   const token = values.token ?? process.env.NETBREEDER_ADMIN_TOKEN ?? process.env.NETBREEDER_JOIN_TOKEN;
   for (;;) {
     const res = await fetch(url, { headers: token ? { authorization: `Bearer ${token}` } : {} }).catch((err: Error) => {
-      throw new Error(`cannot reach the coordinator at ${url.origin}: ${err.message}; is it running? (--coordinator URL)`);
+      throw new NetbreederError('NB_COORDINATOR_UNREACHABLE', `cannot reach the coordinator at ${url.origin}: ${err.message}; is it running? (--coordinator URL)`);
     });
-    if (!res.ok) throw new Error(`coordinator answered ${res.status}: ${await res.text()}`);
+    if (!res.ok) throw new NetbreederError('NB_COORDINATOR_REFUSED', `coordinator answered ${res.status}: ${await res.text()}`);
     const status = statusResponseValidator.parse(await res.json());
     const text = statusTable(status);
     process.stdout.write(values.watch && process.stdout.isTTY ? `\x1b[H\x1b[2J${text}\n` : `${text}\n`);
@@ -229,7 +229,7 @@ async function exportCommand(argv: string[]): Promise<number> {
     },
   });
   if (values.help) return void process.stdout.write(EXPORT_HELP), 0;
-  if (!values.run || !values.out) throw new Error('export needs --run ID and --out DIR (see netbreeder export --help)');
+  if (!values.run || !values.out) throw new NetbreederError('NB_BAD_USAGE', 'export needs --run ID and --out DIR (see netbreeder export --help)');
   const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN ?? null;
   const size = numberOption('ensemble', values.ensemble, 2, 10);
   const diversityPenalty = numberOption('diversity-penalty', values['diversity-penalty'], 0, 1, false);
@@ -237,7 +237,7 @@ async function exportCommand(argv: string[]): Promise<number> {
     await requestEnsembleAndWait(values.coordinator ?? coordinatorDefault(), values.run, { size, ...(diversityPenalty === undefined ? {} : { diversityPenalty }) }, token, (a) =>
       process.stdout.write(`training an ensemble of ${a.members.length}: ${a.members.map((m) => `${m.genomeHash.slice(0, 12)} (${(m.valAccuracy * 100).toFixed(1)}%, similarity ${m.similarity.toFixed(2)})`).join(', ')}\n`),
     );
-  } else if (diversityPenalty !== undefined) throw new Error('--diversity-penalty goes with --ensemble K');
+  } else if (diversityPenalty !== undefined) throw new NetbreederError('NB_BAD_USAGE', '--diversity-penalty goes with --ensemble K');
   const files = await downloadChampion(values.coordinator ?? coordinatorDefault(), values.run, values.out, token, (name, bytes) =>
     process.stdout.write(`  ${name} (${bytes.toLocaleString('en-US')} bytes)\n`),
   );
@@ -278,7 +278,7 @@ function controlCommand(action: 'pause' | 'resume' | 'stop' | 'finish') {
   return async (argv: string[]): Promise<number> => {
     const { values } = parseArgs({ args: argv, options: { coordinator: { type: 'string' }, run: { type: 'string' }, 'admin-token': { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
     if (values.help) return void process.stdout.write(CONTROL_HELP), 0;
-    if (!values.run) throw new Error(`${action} needs --run ID (netbreeder runs lists them)`);
+    if (!values.run) throw new NetbreederError('NB_BAD_USAGE', `${action} needs --run ID (netbreeder runs lists them)`);
     const client = new CoordinatorClient(values.coordinator ?? coordinatorDefault(), values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN);
     const reply = await client.control(values.run, action);
     process.stdout.write(`run ${reply.id} is now ${reply.state}\n`);

@@ -36,11 +36,14 @@ describe('CoordinatorClient', () => {
     const refusal = await new CoordinatorClient(s.url, null).control('r1', 'pause').catch((e: unknown) => e);
     expect(refusal).toBeInstanceOf(CoordinatorRefusal);
     expect((refusal as Error).message).toBe("pause refused (409 NB_RUN_STATE): cannot pause run r1 while it is finished; check the run's state");
+    expect((refusal as CoordinatorRefusal).code).toBe('NB_RUN_STATE');
   });
 
   it('says what a reply that is not the coordinator\'s was (a proxy page, say)', async () => {
     const s = await answering(502, '<html>bad gateway</html>');
     server = s.server;
-    await expect(new CoordinatorClient(s.url, null).champion('r1')).rejects.toThrow('champion of run r1 refused (502): <html>bad gateway</html>');
+    const refusal = await new CoordinatorClient(s.url, null).champion('r1').catch((e: unknown) => e);
+    expect((refusal as Error).message).toBe('champion of run r1 refused (502): <html>bad gateway</html>');
+    expect((refusal as CoordinatorRefusal).code).toBe('NB_COORDINATOR_REFUSED');
   });
 });

@@ -3,6 +3,8 @@ import {
   championPickResponseValidator,
   ensembleRequestResponseValidator,
   errorReplyValidator,
+  isErrorCode,
+  NetbreederError,
   runControlReplyValidator,
   runListValidator,
   type ChampionFilesReply,
@@ -14,17 +16,21 @@ import {
 } from '@netbreeder/shared-types';
 import type { TSchema } from '@sinclair/typebox';
 
-/** The coordinator refused a request: its status, its error code and its one-line fix. */
-export class CoordinatorRefusal extends Error {
-  override name = 'CoordinatorRefusal';
+/**
+ * The coordinator refused a request; the message holds its HTTP status, its error code and its
+ * one-line fix. `code` is the coordinator's code when it is one of the catalogue, else
+ * NB_COORDINATOR_REFUSED (a proxy's page, or a coordinator of another version); `replyCode` is the
+ * code the reply named, if any.
+ */
+export class CoordinatorRefusal extends NetbreederError {
   constructor(
     readonly what: string,
-    readonly status: number,
-    readonly code: string | null,
+    status: number,
+    readonly replyCode: string | null,
     reason: string,
-    readonly fix: string | null,
+    fix: string | null,
   ) {
-    super(`${what} refused (${status}${code ? ` ${code}` : ''}): ${reason}${fix ? `; ${fix}` : ''}`);
+    super(isErrorCode(replyCode) ? replyCode : 'NB_COORDINATOR_REFUSED', `${what} refused (${status}${replyCode ? ` ${replyCode}` : ''}): ${reason}${fix ? `; ${fix}` : ''}`);
   }
 }
 

@@ -1,6 +1,6 @@
 import { mkdir, writeFile } from 'node:fs/promises';
 import { dirname, join, resolve } from 'node:path';
-import type { EnsembleRequestResponse } from '@netbreeder/shared-types';
+import { NetbreederError, type EnsembleRequestResponse } from '@netbreeder/shared-types';
 import { CoordinatorClient } from './coordinator-client.js';
 
 /** Downloads a run's champion export from a coordinator into `outDir` (its averaging ensemble, if any, into `outDir/ensemble/`); returns the files written. */
@@ -50,10 +50,10 @@ export async function requestEnsembleAndWait(
   for (;;) {
     await new Promise((r) => setTimeout(r, pollMs));
     const state = (await client.runs()).find((r) => r.id === runId)?.state;
-    if (state === 'failed' || state === 'stopped') throw new Error(`run ${runId} ended ${state} while its ensemble trained; see the coordinator's events`);
+    if (state === 'failed' || state === 'stopped') throw new NetbreederError('NB_RUN_STATE', `run ${runId} ended ${state} while its ensemble trained; see the coordinator's events`);
     if (state !== 'finished') continue;
     const summary = await client.champion(runId);
     if (summary.ensemble?.round === answer.round) return answer;
-    throw new Error(`run ${runId} finished its ensemble round ${answer.round} without scoring an ensemble (fewer than two members trained); see the coordinator's events`);
+    throw new NetbreederError('NB_NO_ENSEMBLE', `run ${runId} finished its ensemble round ${answer.round} without scoring an ensemble (fewer than two members trained); see the coordinator's events`);
   }
 }

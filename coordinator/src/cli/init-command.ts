@@ -3,7 +3,7 @@ import { existsSync } from 'node:fs';
 import { readFile, stat, writeFile } from 'node:fs/promises';
 import { basename, dirname, extname, isAbsolute, join, relative, resolve, sep } from 'node:path';
 import { parseArgs } from 'node:util';
-import { RUN_FILE_SCHEMA_PATH } from '@netbreeder/shared-types';
+import { NetbreederError, RUN_FILE_SCHEMA_PATH } from '@netbreeder/shared-types';
 import { guessCsvSource, profileCsv, type CsvGuess } from '../config/csv-guess.js';
 import { csvSourceOf, draftBudget, draftRunFile, guessImageSettings, imageSourceOf, looksGray, type ImageFolderFacts } from '../config/run-file-draft.js';
 import { runConfigFromText } from '../config/run-config.js';
@@ -11,6 +11,7 @@ import { decodeImage, listImageFolder } from '../importers/index.js';
 import { createLogger } from '../logger.js';
 import { prepareRun } from '../run/prepare-run.js';
 import { defaultLocalWorkers } from './local-run.js';
+import { DatasetError } from '../datasets/dataset-error.js';
 
 export const INIT_HELP = `netbreeder init: look at your data and write a run file for it.
 
@@ -119,18 +120,18 @@ export async function initCommand(argv: string[], out: NodeJS.WritableStream = p
     options: { label: { type: 'string' }, task: { type: 'string' }, out: { type: 'string' }, force: { type: 'boolean' }, help: { type: 'boolean', short: 'h' } },
   });
   if (values.help) return void out.write(INIT_HELP), 0;
-  if (positionals.length !== 1) throw new Error('init needs exactly one CSV file or image folder: netbreeder init DATA (see netbreeder init --help)');
+  if (positionals.length !== 1) throw new NetbreederError('NB_BAD_USAGE', 'init needs exactly one CSV file or image folder: netbreeder init DATA (see netbreeder init --help)');
   const task = values.task;
-  if (task !== undefined && task !== 'classification' && task !== 'regression') throw new Error(`--task must be classification or regression, got '${task}'`);
+  if (task !== undefined && task !== 'classification' && task !== 'regression') throw new NetbreederError('NB_BAD_USAGE', `--task must be classification or regression, got '${task}'`);
   const data = resolve(positionals[0]!);
   const info = await stat(data).catch((err: Error) => {
-    throw new Error(`cannot read ${positionals[0]}: ${err.message}; give a CSV file or a folder with one sub-folder of images per class`);
+    throw new DatasetError('NB_DATASET_UNREADABLE', `cannot read ${positionals[0]}: ${err.message}; give a CSV file or a folder with one sub-folder of images per class`);
   });
   const target = resolve(values.out ?? defaultRunFilePath(data));
   // Checked first and again when writing ('wx'), so a file that appears meanwhile is kept too.
-  if (!values.force && existsSync(target)) throw new Error(`${target} exists; init keeps it: pass --force to overwrite it, or --out FILE to write another`);
+  if (!values.force && existsSync(target)) throw new NetbreederError('NB_BAD_USAGE', `${target} exists; init keeps it: pass --force to overwrite it, or --out FILE to write another`);
   const path = posixRelative(dirname(target), data);
-  if (info.isDirectory() && (values.label !== undefined || task === 'regression')) throw new Error('--label and --task regression are for CSV tables; an image folder\'s classes are its sub-folders');
+  if (info.isDirectory() && (values.label !== undefined || task === 'regression')) throw new NetbreederError('NB_BAD_USAGE', '--label and --task regression are for CSV tables; an image folder\'s classes are its sub-folders');
   const draft = info.isDirectory() ? await imageDraft(data, path) : await csvDraft(data, path, { ...(values.label === undefined ? {} : { label: values.label }), ...(task ? { task } : {}) });
 
   const workers = defaultLocalWorkers();
@@ -141,7 +142,7 @@ export async function initCommand(argv: string[], out: NodeJS.WritableStream = p
   // The coordinator's own check of exactly this text: the schema, then the data read, split and encoded.
   const prepared = await prepareRun(runConfigFromText(text, target), createLogger('init', 'error'));
   await writeFile(target, text, { flag: values.force ? 'w' : 'wx' }).catch((err: NodeJS.ErrnoException) => {
-    throw new Error(err.code === 'EEXIST' ? `${target} exists; init keeps it: pass --force to overwrite it` : `cannot write ${target}: ${err.message}`);
+    throw new NetbreederError('NB_BAD_USAGE', err.code === 'EEXIST' ? `${target} exists; init keeps it: pass --force to overwrite it` : `cannot write ${target}: ${err.message}`);
   });
 
   const shown = pathFrom(process.cwd(), target, process.cwd());

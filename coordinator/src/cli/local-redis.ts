@@ -1,6 +1,7 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { createConnection, createServer } from 'node:net';
 import { tmpdir } from 'node:os';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /** A Redis to use, and how to let go of it. */
 export interface LocalRedis {
@@ -37,7 +38,7 @@ const INSTALL_HINT =
 export async function ensureRedis(url: string): Promise<LocalRedis> {
   if (await redisAnswers(url)) return { url, private: false, stop: async () => {} };
   if (spawnSync('redis-server', ['--version'], { stdio: 'ignore' }).status !== 0) {
-    throw new Error(`nothing answers at ${url} and redis-server is not installed: ${INSTALL_HINT}`);
+    throw new NetbreederError('NB_REDIS_UNREACHABLE', `nothing answers at ${url} and redis-server is not installed: ${INSTALL_HINT}`);
   }
   const port = await freeLoopbackPort();
   const child = spawn('redis-server', ['--port', String(port), '--bind', '127.0.0.1', '--save', '', '--appendonly', 'no', '--dir', tmpdir()], { stdio: 'ignore' });
@@ -46,7 +47,7 @@ export async function ensureRedis(url: string): Promise<LocalRedis> {
   for (let waited = 0; !(await redisAnswers(privateUrl, 500)); waited += 100) {
     if (child.exitCode !== null || waited > 20_000) {
       await stop();
-      throw new Error(`nothing answers at ${url} and a private redis-server on port ${port} did not start: start Redis yourself or pass --redis URL`);
+      throw new NetbreederError('NB_REDIS_UNREACHABLE', `nothing answers at ${url} and a private redis-server on port ${port} did not start: start Redis yourself or pass --redis URL`);
     }
     await new Promise((r) => setTimeout(r, 100));
   }

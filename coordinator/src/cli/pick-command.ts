@@ -1,6 +1,7 @@
 import { parseArgs } from 'node:util';
 import { CoordinatorClient } from './coordinator-client.js';
 import { DEFAULT_PORT } from '../coordinator.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 export const PICK_HELP = `netbreeder pick: choose a run's champion yourself, such as a genome of its accuracy-against-size front.
 
@@ -25,7 +26,7 @@ export async function pickCommand(argv: string[], out: NodeJS.WritableStream = p
   });
   if (values.help) return void out.write(PICK_HELP), 0;
   const [runId, genomeHash] = positionals;
-  if (!runId || !genomeHash || positionals.length > 2) throw new Error('pick needs a run id and a genome hash: netbreeder pick RUN_ID GENOME_HASH');
+  if (!runId || !genomeHash || positionals.length > 2) throw new NetbreederError('NB_BAD_USAGE', 'pick needs a run id and a genome hash: netbreeder pick RUN_ID GENOME_HASH');
   const token = values['admin-token'] ?? process.env.NETBREEDER_ADMIN_TOKEN;
   const base = values.coordinator ?? process.env.NETBREEDER_COORDINATOR_URL ?? `http://127.0.0.1:${DEFAULT_PORT}`;
   const picked = await new CoordinatorClient(base, token).pick(runId, genomeHash);

@@ -3,6 +3,7 @@ import { parseArgs } from 'node:util';
 import { initBackend } from '@netbreeder/worker';
 import { loadChampion } from '../predict/load-champion.js';
 import { predictFile } from '../predict/predict-file.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 export const PREDICT_HELP = `netbreeder predict: run an exported champion (or ensemble) on new data.
 
@@ -27,9 +28,9 @@ export async function predictCommand(argv: string[], out: NodeJS.WritableStream 
     options: { model: { type: 'string' }, input: { type: 'string' }, out: { type: 'string' }, help: { type: 'boolean', short: 'h' } },
   });
   if (values.help) return void out.write(PREDICT_HELP), 0;
-  if (!values.model || !values.input) throw new Error('predict needs --model DIR and --input FILE|FOLDER (see netbreeder predict --help)');
+  if (!values.model || !values.input) throw new NetbreederError('NB_BAD_USAGE', 'predict needs --model DIR and --input FILE|FOLDER (see netbreeder predict --help)');
   await stat(values.input).catch(() => {
-    throw new Error(`${values.input} does not exist; give --input the CSV file, image folder or IDX file to predict`);
+    throw new NetbreederError('NB_BAD_USAGE', `${values.input} does not exist; give --input the CSV file, image folder or IDX file to predict`);
   });
   // The backend the coordinator scores champions on (wasm, or the native one where it installs).
   await initBackend();

@@ -3,6 +3,7 @@ import { join, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
 import { RunStore } from '../store/run-store.js';
 import { replayRun } from '../run/replay-run.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 export const REPLAY_HELP = `netbreeder replay: re-run a stored run's search and check it decides exactly as recorded.
 
@@ -23,9 +24,9 @@ export async function replayCommand(argv: string[], out: NodeJS.WritableStream =
   const { values, positionals } = parseArgs({ args: argv, allowPositionals: true, options: { 'data-dir': { type: 'string' }, help: { type: 'boolean', short: 'h' } } });
   if (values.help) return void out.write(REPLAY_HELP), 0;
   const [runId] = positionals;
-  if (!runId || positionals.length > 1) throw new Error('replay needs exactly one run id: netbreeder replay RUN_ID [--data-dir DIR]');
+  if (!runId || positionals.length > 1) throw new NetbreederError('NB_BAD_USAGE', 'replay needs exactly one run id: netbreeder replay RUN_ID [--data-dir DIR]');
   const path = join(resolve(values['data-dir'] ?? './netbreeder-data'), 'store.sqlite');
-  if (!existsSync(path)) throw new Error(`no store at ${path}; pass the coordinator's --data-dir`);
+  if (!existsSync(path)) throw new NetbreederError('NB_NO_STORE', `no store at ${path}; pass the coordinator's --data-dir`);
   const store = new RunStore(path);
   try {
     const r = replayRun(store, runId);

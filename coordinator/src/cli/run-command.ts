@@ -7,6 +7,7 @@ import { createLogger } from '../logger.js';
 import { prepareRun } from '../run/prepare-run.js';
 import { ensureRedis } from './local-redis.js';
 import { defaultLocalWorkers, runLocally } from './local-run.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 export const RUN_HELP = `netbreeder run: a whole run on this machine, from a run file to an exported champion.
 
@@ -30,9 +31,9 @@ export async function runCommand(argv: string[]): Promise<number> {
     options: { workers: { type: 'string' }, redis: { type: 'string' }, 'data-dir': { type: 'string' }, help: { type: 'boolean', short: 'h' } },
   });
   if (values.help) return void process.stdout.write(RUN_HELP), 0;
-  if (positionals.length !== 1) throw new Error('run needs exactly one run file: netbreeder run FILE (see netbreeder run --help)');
+  if (positionals.length !== 1) throw new NetbreederError('NB_BAD_USAGE', 'run needs exactly one run file: netbreeder run FILE (see netbreeder run --help)');
   const workers = values.workers === undefined ? defaultLocalWorkers() : Number(values.workers);
-  if (!Number.isInteger(workers) || workers < 1 || workers > 64) throw new Error(`--workers must be a whole number from 1 to 64, got '${values.workers}'`);
+  if (!Number.isInteger(workers) || workers < 1 || workers > 64) throw new NetbreederError('NB_BAD_USAGE', `--workers must be a whole number from 1 to 64, got '${values.workers}'`);
   const file = positionals[0]!;
   // The run file and its data are checked before anything starts or is written.
   const prepared = await prepareRun(await readRunConfigFile(file), createLogger('coordinator', process.env.NETBREEDER_LOG_LEVEL ?? 'warn'));

@@ -1,6 +1,7 @@
 import { DEFAULT_MISSING_VALUE_TOKENS, MAX_AUTO_NUMERIC_CLASSES } from '@netbreeder/shared-types';
 import { forEachCsvRecord, AUTO_NUMERIC_SHARE } from '../importers/index.js';
 import { NUMBER_CELL } from '../datasets/number-cell.js';
+import { DatasetError } from '../datasets/dataset-error.js';
 
 /** Distinct cell texts kept per column; a column with more is free text, an id or a measurement. */
 const MAX_DISTINCT = 1000;
@@ -54,7 +55,7 @@ export function profileCsv(text: string, file: string, delimiter = guessDelimite
       return;
     }
     if (fields.length !== columns.length) {
-      throw new Error(`${file}: line ${line} has ${fields.length} fields, the header has ${columns.length}; every row needs one value per column (quote fields that contain the delimiter "${delimiter}")`);
+      throw new DatasetError('NB_DATASET_BAD_CSV', `${file}: line ${line} has ${fields.length} fields, the header has ${columns.length}; every row needs one value per column (quote fields that contain the delimiter "${delimiter}")`);
     }
     fields.forEach((raw, c) => {
       const cell = raw.trim();
@@ -80,8 +81,8 @@ export function profileCsv(text: string, file: string, delimiter = guessDelimite
       }
     });
   });
-  if (columns.length === 0) throw new Error(`${file} is empty; it needs a header row and data rows`);
-  if (rows < 2) throw new Error(`${file} has a header but no data rows`);
+  if (columns.length === 0) throw new DatasetError('NB_DATASET_EMPTY', `${file} is empty; it needs a header row and data rows`);
+  if (rows < 2) throw new DatasetError('NB_DATASET_EMPTY', `${file} has a header but no data rows`);
   return { delimiter, rows: rows - 1, columns };
 }
 
@@ -147,14 +148,14 @@ function missingMarks(c: ColumnProfile): string[] | null {
 function chooseLabel(columns: ColumnProfile[], options: CsvGuessOptions): { column: ColumnProfile; reason: string } {
   if (options.label !== undefined) {
     const named = columns.find((c) => c.name === options.label);
-    if (!named) throw new Error(`--label names column "${options.label}", which is not in the header (${columns.map((c) => `"${c.name}"`).join(', ')})`);
+    if (!named) throw new DatasetError('NB_DATASET_NO_SUCH_COLUMN', `--label names column "${options.label}", which is not in the header (${columns.map((c) => `"${c.name}"`).join(', ')})`);
     return { column: named, reason: 'you named it (--label)' };
   }
   const candidates = columns.filter((c) => !unusable(c) && c.distinct.size >= 2);
   const byName = candidates.filter((c) => namedLike(c.name, LABEL_WORDS)).at(-1);
   if (byName) return { column: byName, reason: `its name says it holds what to predict ("${byName.name}")` };
   const lastUsable = candidates.at(-1);
-  if (!lastUsable) throw new Error('no column can be the label: every column is an id, constant, empty or free text; name one with --label COLUMN');
+  if (!lastUsable) throw new DatasetError('NB_DATASET_NO_LABEL_COLUMN', 'no column can be the label: every column is an id, constant, empty or free text; name one with --label COLUMN');
   return { column: lastUsable, reason: 'no column is named like a label (label, class, target, outcome, …), so the last usable column, where tables usually keep it (common practice)' };
 }
 
@@ -206,7 +207,7 @@ export function guessCsvSource(profile: CsvProfile, options: CsvGuessOptions = {
     return guess;
   });
   if (!columns.some((c) => c.role === 'numeric' || c.role === 'categorical')) {
-    throw new Error(`no feature column is left besides the label "${label.column.name}" (${columns.filter((c) => c.role === 'ignored').map((c) => `${c.name}: ${c.reason}`).join('; ')})`);
+    throw new DatasetError('NB_DATASET_NO_FEATURES', `no feature column is left besides the label "${label.column.name}" (${columns.filter((c) => c.role === 'ignored').map((c) => `${c.name}: ${c.reason}`).join('; ')})`);
   }
   return {
     delimiter: profile.delimiter,

@@ -1,7 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { dirname, resolve } from 'node:path';
 import { Value } from '@sinclair/typebox/value';
-import { DATASET_SOURCE_SCHEMAS, RunConfigSchema, createValidator, runConfigValidator, searchSpaceValidator, ValidationError, type RunConfig, type ValidationIssue } from '@netbreeder/shared-types';
+import { NetbreederError, DATASET_SOURCE_SCHEMAS, RunConfigSchema, createValidator, runConfigValidator, searchSpaceValidator, ValidationError, type RunConfig, type ValidationIssue } from '@netbreeder/shared-types';
 import { resolveSourcePaths } from '../importers/load-dataset.js';
 
 /** One validator per dataset source kind, so a bad dataset is reported field by field, not as "matches no kind". */
@@ -51,7 +51,7 @@ export async function readRunConfigFile(path: string): Promise<RunConfig> {
   try {
     text = await readFile(path, 'utf8');
   } catch (err) {
-    throw new Error(`cannot read run file ${path}: ${(err as Error).message}`);
+    throw new NetbreederError('NB_BAD_RUN_FILE', `cannot read run file ${path}: ${(err as Error).message}`);
   }
   return runConfigFromText(text, path);
 }
@@ -62,7 +62,7 @@ export function runConfigFromText(text: string, path: string): RunConfig {
   try {
     json = JSON.parse(text);
   } catch (err) {
-    throw new Error(`run file ${path} is not valid JSON: ${(err as Error).message}`);
+    throw new NetbreederError('NB_BAD_RUN_FILE', `run file ${path} is not valid JSON: ${(err as Error).message}`);
   }
   try {
     const config = parseRunConfig(json);

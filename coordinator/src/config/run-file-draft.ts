@@ -1,5 +1,6 @@
 import { DEFAULT_MISSING_VALUE_TOKENS, type CsvSource, type ImageFolderSource } from '@netbreeder/shared-types';
 import type { CsvGuess } from './csv-guess.js';
+import { DatasetError } from '../datasets/dataset-error.js';
 
 /** A setting the draft chose and the sentence that says why. */
 export interface Reasoned<T> {
@@ -31,7 +32,7 @@ export function looksGray(rgba: Uint8Array): boolean {
 /** The image-folder settings for a folder: the size every image is resized to and the channels, with reasons. */
 export function guessImageSettings(facts: ImageFolderFacts): { imageSize: Reasoned<{ width: number; height: number }>; channels: Reasoned<1 | 3> } {
   const first = facts.samples[0];
-  if (!first) throw new Error('no image could be looked at');
+  if (!first) throw new DatasetError('NB_DATASET_EMPTY', 'no image could be looked at');
   const sizes = new Set(facts.samples.map((s) => `${s.width}×${s.height}`));
   const mixed = sizes.size > 1 ? ` (the images looked at differ: ${[...sizes].slice(0, 4).join(', ')}; every image is resized to it)` : '';
   const longer = Math.max(first.width, first.height);

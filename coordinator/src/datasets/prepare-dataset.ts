@@ -1,4 +1,4 @@
-import type { DatasetSource, PreparedDataset } from '@netbreeder/shared-types';
+import { InternalError, type DatasetSource, type PreparedDataset } from '@netbreeder/shared-types';
 import { DatasetError } from './dataset-error.js';
 import { generateDemoTiles } from './demo-tiles.js';
 import { stratifiedSplit, type SplitFractions } from './split.js';
@@ -28,7 +28,7 @@ export function prepareDataset(source: DatasetSource, fractions: SplitFractions,
       );
     default: {
       const unknown: never = source;
-      throw new Error(`dataset source kind "${String((unknown as { kind: unknown }).kind)}" is not supported by this coordinator`);
+      throw new InternalError(`dataset source kind "${String((unknown as { kind: unknown }).kind)}" is not supported by this coordinator`);
     }
   }
 }

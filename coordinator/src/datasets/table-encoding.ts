@@ -1,4 +1,4 @@
-import type { LabelledSamples, PreparedDataset, TargetScaling } from '@netbreeder/shared-types';
+import { InternalError, type LabelledSamples, type PreparedDataset, type TargetScaling } from '@netbreeder/shared-types';
 import { DatasetError } from './dataset-error.js';
 import type { ColumnEncoding, TablePreprocessing } from './preprocessing.js';
 import type { RawColumn, RawTable } from './raw-table.js';
@@ -171,7 +171,7 @@ export function encodeColumns(columns: readonly RawColumn[], encodings: readonly
         if (p >= 0) features[k * width + enc.offset + p] = 1;
       }
     } else {
-      throw new Error(`column "${col.name}" is ${col.kind} but its encoding is ${enc.kind}`);
+      throw new InternalError(`column "${col.name}" is ${col.kind} but its encoding is ${enc.kind}`);
     }
   });
   return features;

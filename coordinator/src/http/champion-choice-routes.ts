@@ -15,7 +15,7 @@ import {
 } from '@netbreeder/shared-types';
 import { paretoFront, type Observation, type SizeObjective } from '../search/index.js';
 import type { RunManager } from '../run/run-manager.js';
-import { ChampionChoiceError, pickChampion, requestEnsemble } from '../champion/champion-choice.js';
+import { pickChampion, requestEnsemble } from '../champion/champion-choice.js';
 import { ensembleFiles, ENSEMBLE_FILE_PATTERN } from '../champion/ensemble-files.js';
 import { HttpError } from './error-codes.js';
 
@@ -88,14 +88,10 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
     async (req): Promise<ChampionPickResponse> => {
       const run = runOr404((req.params as { id: string }).id);
       const { genomeHash } = req.body as { genomeHash: string };
-      try {
-        const picked = pickChampion(store, run.id, genomeHash, Date.now(), opts.manager.currentRun()?.id ?? null);
-        if (picked.retraining) void opts.manager.tick(); // queue its final training now, not at the next pass
-        return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, retraining: picked.retraining };
-      } catch (err) {
-        if (err instanceof ChampionChoiceError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
-        throw err;
-      }
+      // A refusal is a ChampionChoiceError, whose code (NB_RUN_STATE, NB_NOT_A_RESULT) the error handler answers with.
+      const picked = pickChampion(store, run.id, genomeHash, Date.now(), opts.manager.currentRun()?.id ?? null);
+      if (picked.retraining) void opts.manager.tick(); // queue its final training now, not at the next pass
+      return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, retraining: picked.retraining };
     },
   );
 
@@ -105,15 +101,10 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
     async (req, reply) => {
       const run = runOr404((req.params as { id: string }).id);
       const settings = Value.Default(EnsembleSettingsSchema, structuredClone(req.body)) as EnsembleSettings;
-      try {
-        const asked = requestEnsemble(store, run.id, settings, Date.now(), opts.manager.currentRun()?.id ?? null);
-        void opts.manager.tick(); // queue the members' trainings now
-        const answer: EnsembleRequestResponse = { runId: run.id, ...asked };
-        return reply.status(202).send(answer);
-      } catch (err) {
-        if (err instanceof ChampionChoiceError) throw new HttpError(err.reason === 'state' ? 'NB_RUN_STATE' : 'NB_NOT_A_RESULT', err.message);
-        throw err;
-      }
+      const asked = requestEnsemble(store, run.id, settings, Date.now(), opts.manager.currentRun()?.id ?? null);
+      void opts.manager.tick(); // queue the members' trainings now
+      const answer: EnsembleRequestResponse = { runId: run.id, ...asked };
+      return reply.status(202).send(answer);
     },
   );
 

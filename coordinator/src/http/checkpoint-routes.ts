@@ -65,9 +65,8 @@ export function registerCheckpointRoutes(app: FastifyInstance, parts: Checkpoint
       try {
         header = decodeCheckpointHeader(body).header;
       } catch (err) {
-        if (!(err instanceof CheckpointFormatError)) throw err;
-        reject(req, err.message);
-        throw new HttpError('NB_BAD_CHECKPOINT', err.message);
+        if (err instanceof CheckpointFormatError) reject(req, err.message); // answered as NB_BAD_CHECKPOINT, its code
+        throw err;
       }
       const ev = store.getEvaluation(header.evaluationId);
       const problem = !ev

@@ -3,9 +3,10 @@ import Fastify, { LogController, type FastifyBaseLogger, type FastifyInstance } 
 import { Type } from '@sinclair/typebox';
 import { StatusResponseSchema, WORKER_PROTOCOL_VERSION, WorkerHeartbeatSchema, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
-import { GenomeRejectedError, RunStateError, type RunManager } from '../run/run-manager.js';
+import type { RunManager } from '../run/run-manager.js';
 import { buildStatus } from '../run/status-report.js';
 import { CHAMPION_FILES, championDocument, championFiles, championSummary, type ChampionFileName } from '../champion/champion-files.js';
+import { errorAnswer } from './error-answer.js';
 import { HTTP_ERRORS, HttpError, type HttpErrorCode } from './error-codes.js';
 import { accessHook, type AccessTokens } from './access.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
@@ -54,18 +55,10 @@ export async function createHttpServer(opts: HttpServerOptions): Promise<Fastify
   );
 
   app.setErrorHandler((err: Error & { validation?: unknown; statusCode?: number }, req, reply) => {
-    if (err instanceof HttpError) return send(reply, err.code, err.message);
-    if (err instanceof RunStateError) return send(reply, 'NB_RUN_STATE', err.message);
-    if (err instanceof GenomeRejectedError) {
-      reject(req, err.message);
-      return send(reply, 'NB_GENOME_REJECTED', err.message, { issues: err.issues });
-    }
-    if (err.validation || (err.statusCode && err.statusCode < 500)) {
-      reject(req, err.message);
-      return send(reply, 'NB_BAD_REQUEST', err.message);
-    }
-    opts.logger.error({ err: err.message, stack: err.stack, url: req.url }, 'request failed');
-    return send(reply, 'NB_INTERNAL', err.message);
+    const answer = errorAnswer(err);
+    if (answer.rejected) reject(req, err.message);
+    if (answer.code === 'NB_INTERNAL') opts.logger.error({ err: err.message, stack: err.stack, url: req.url }, 'request failed');
+    return send(reply, answer.code, answer.message, answer.extra);
   });
   app.setNotFoundHandler((req, reply) => {
     reject(req, 'unknown route');

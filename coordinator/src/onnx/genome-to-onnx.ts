@@ -1,4 +1,4 @@
-import { analyzeGenome, expandMotifs, headUnits, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
+import { analyzeGenome, expandMotifs, headUnits, INPUT_ID, InternalError, NetbreederError, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
 import { floatAttr, intAttr, intsAttr, type OnnxGraphBuilder } from './onnx-graph.js';
 import type { NamedWeight } from './model-weights.js';
 
@@ -32,15 +32,15 @@ interface Value {
  */
 export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: DataShape, weights: ReadonlyMap<string, NamedWeight>, input: string): string {
   const analysis = analyzeGenome(genome, data);
-  if (!analysis.ok) throw new Error(`the genome does not fit the data: ${analysis.issues.map((i) => i.message).join('; ')}`);
+  if (!analysis.ok) throw new NetbreederError('NB_ONNX_EXPORT', `the genome does not fit the data: ${analysis.issues.map((i) => i.message).join('; ')}`);
   const layers = expandMotifs(genome).genome;
   const topo = topologicalOrder(layers);
-  if (!topo.ok) throw new Error(`the genome's layers form no order: ${topo.issues.map((i) => i.message).join('; ')}`);
+  if (!topo.ok) throw new NetbreederError('NB_ONNX_EXPORT', `the genome's layers form no order: ${topo.issues.map((i) => i.message).join('; ')}`);
   const shapes = new Map<string, SampleShape>([[INPUT_ID, data.inputShape], ...analysis.analysis.nodes.map((n) => [n.id, n.outputShape] as const)]);
 
   const weight = (layer: string, name: string): NamedWeight => {
     const w = weights.get(`${layer}/${name}`);
-    if (!w) throw new Error(`the trained model has no weight ${layer}/${name}; was it trained from this genome?`);
+    if (!w) throw new NetbreederError('NB_ONNX_EXPORT', `the trained model has no weight ${layer}/${name}; was it trained from this genome?`);
     return w;
   };
   const values = new Map<string, Value>();
@@ -55,7 +55,7 @@ export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: Da
   const last = toFlat(graph, values.get(layers.output)!, 'head.flatten');
   const kernel = weight(HEAD_DENSE, 'kernel');
   const bias = weight(HEAD_DENSE, 'bias');
-  if (kernel.shape[1] !== headUnits(data)) throw new Error(`the head has ${kernel.shape[1]} units but the data needs ${headUnits(data)}`);
+  if (kernel.shape[1] !== headUnits(data)) throw new NetbreederError('NB_ONNX_EXPORT', `the head has ${kernel.shape[1]} units but the data needs ${headUnits(data)}`);
   const logits = graph.op('Gemm', [last.name, graph.constant('head.dense.kernel', kernel.shape, kernel.values), graph.constant('head.dense.bias', bias.shape, bias.values)], 'head.dense');
   return data.target ? logits : graph.op('Softmax', [logits], 'head.softmax', [intAttr('axis', 1)]);
 }
@@ -115,7 +115,7 @@ function layerOp(graph: OnnxGraphBuilder, n: LayerNode, x: Value, inputs: Value[
       // The last axis in TensorFlow.js order: channels (axis 1 once channels-first) or features.
       return { name: graph.op('Concat', inputs.map((v) => v.name), n.id, [intAttr('axis', 1)]), layout: x.layout };
     case 'repeat':
-      throw new Error('expandMotifs leaves no repeat node');
+      throw new InternalError('expandMotifs leaves no repeat node');
   }
 }
 

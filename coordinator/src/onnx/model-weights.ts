@@ -1,4 +1,4 @@
-import type { ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { NetbreederError, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 
 /** One trained weight: its TensorFlow.js shape and values. */
 export interface NamedWeight {
@@ -16,10 +16,10 @@ export function weightsOfArtifacts(artifacts: Pick<ModelArtifactsMessage, 'weigh
   const weights = new Map<string, NamedWeight>();
   let offset = 0;
   for (const spec of artifacts.weightSpecs) {
-    if (spec.dtype !== 'float32') throw new Error(`weight ${spec.name} is ${spec.dtype}; the ONNX export reads float32 weights only`);
+    if (spec.dtype !== 'float32') throw new NetbreederError('NB_ONNX_EXPORT', `weight ${spec.name} is ${spec.dtype}; the ONNX export reads float32 weights only`);
     const count = spec.shape.reduce((a, b) => a * b, 1);
     const end = offset + count * 4;
-    if (end > bytes.length) throw new Error(`weight ${spec.name} needs bytes ${offset}–${end} but the weight buffer holds ${bytes.length}; the model's artifacts are damaged`);
+    if (end > bytes.length) throw new NetbreederError('NB_ONNX_EXPORT', `weight ${spec.name} needs bytes ${offset}–${end} but the weight buffer holds ${bytes.length}; the model's artifacts are damaged`);
     const values = new Float32Array(count);
     Buffer.from(values.buffer).set(bytes.subarray(offset, end));
     weights.set(spec.name, { shape: [...spec.shape], values });

@@ -1,4 +1,4 @@
-import { headUnits, type DataShape, type Genome, type ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { headUnits, InternalError, type DataShape, type Genome, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 import { addGenomeGraph } from './genome-to-onnx.js';
 import { OnnxGraphBuilder } from './onnx-graph.js';
 import { encodeOnnxModel, ONNX_FLOAT, type OnnxValueInfo } from './onnx-messages.js';
@@ -39,7 +39,7 @@ const tensorInfo = (name: string, dims: readonly number[]): OnnxValueInfo => ({
  * or, for regression, the standardised prediction (batch × 1). Opset {@link ONNX_OPSET}.
  */
 export function onnxModelBytes(networks: readonly OnnxNetwork[], data: DataShape, options: OnnxExportOptions): Uint8Array {
-  if (networks.length === 0) throw new Error('an ONNX export needs at least one network');
+  if (networks.length === 0) throw new InternalError('an ONNX export needs at least one network');
   const graph = new OnnxGraphBuilder();
   const outputs = networks.map((network, k) => {
     const member = networks.length === 1 ? graph : new OnnxGraphBuilder(`member${k + 1}/`);

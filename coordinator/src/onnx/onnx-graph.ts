@@ -1,3 +1,4 @@
+import { InternalError } from '@netbreeder/shared-types';
 import { ATTRIBUTE_TYPE, ONNX_FLOAT, type OnnxAttribute, type OnnxNode, type OnnxTensor } from './onnx-messages.js';
 
 /** Attribute helpers: an ONNX node's named integer, integer list or float setting. */
@@ -34,7 +35,7 @@ export class OnnxGraphBuilder {
   /** Adds a float32 constant of this shape; returns its name. */
   constant(base: string, dims: number[], values: Float32Array): string {
     const expected = dims.reduce((a, b) => a * b, 1);
-    if (values.length !== expected) throw new Error(`constant ${base}: ${values.length} values for shape [${dims.join(', ')}] (needs ${expected})`);
+    if (values.length !== expected) throw new InternalError(`constant ${base}: ${values.length} values for shape [${dims.join(', ')}] (needs ${expected})`);
     const name = this.name(base);
     const rawData = new Uint8Array(values.buffer.slice(values.byteOffset, values.byteOffset + values.byteLength));
     this.initializers.push({ name, dims, dataType: ONNX_FLOAT, rawData });

@@ -45,7 +45,7 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
   const size = preprocessing.inputShape.reduce((a, b) => a * b, 1);
 
   const predictPrepared = (features: Float32Array, count: number) => {
-    if (features.length !== count * size) throw new RangeError(`${features.length} values are not ${count} inputs of shape [${preprocessing.inputShape.join(', ')}]`);
+    if (features.length !== count * size) throw new PredictError('NB_PREDICT_WRONG_INPUT', `${features.length} values are not ${count} inputs of shape [${preprocessing.inputShape.join(', ')}]`);
     const perModel = models.map((model) => {
       const out = new Float32Array(count * classes);
       for (let start = 0; start < count; start += BATCH) {
@@ -60,13 +60,13 @@ export async function loadChampion(dir: string): Promise<LoadedChampion> {
   };
 
   const predictNumbers = (features: Float32Array, count: number): Float64Array => {
-    if (!target) throw new Error('this export is a classifier; call predictPrepared for its class probabilities');
+    if (!target) throw new PredictError('NB_PREDICT_WRONG_INPUT', 'this export is a classifier; call predictPrepared for its class probabilities');
     return Float64Array.from(predictPrepared(features, count).probabilities, (v) => v * target.std + target.mean);
   };
 
   const predict: LoadedChampion['predict'] = (rows) => {
     const steps = preprocessing.steps;
-    if (steps.kind !== 'table') throw new Error(`predict(rows) takes table rows, but this model reads ${steps.kind}; prepare inputs as preprocessing.json says and call predictPrepared`);
+    if (steps.kind !== 'table') throw new PredictError('NB_PREDICT_WRONG_INPUT', `predict(rows) takes table rows, but this model reads ${steps.kind}; prepare inputs as preprocessing.json says and call predictPrepared`);
     const header = steps.columns.map((c) => c.name);
     const blank = steps.missing.tokens[0] ?? '';
     const records = rows.map((row) => header.map((name) => (row[name] == null ? blank : String(row[name]))));

@@ -2,6 +2,7 @@ import { replaySearch, type RecordedCall, type ReplayReport } from '../search/in
 import type { RunStore } from '../store/run-store.js';
 import { observationFor } from './search-record.js';
 import { searchContextOf } from './search-context.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /**
  * Replays a stored run's search (see {@link replaySearch}): the algorithm is made again from the
@@ -12,17 +13,17 @@ export function replayRun(store: RunStore, runId: string): ReplayReport & { runI
   // One read transaction: a consistent view even while a coordinator is writing the run.
   const { run, calls, storedSnapshot } = store.transaction(() => {
     const run = store.getRun(runId);
-    if (!run) throw new Error(`no run ${runId} in this store; 'netbreeder runs' lists them`);
+    if (!run) throw new NetbreederError('NB_NO_RUN', `no run ${runId} in this store; 'netbreeder runs' lists them`);
     const steps = store.searchSteps(runId);
     if (steps.length === 0 && run.proposals > 0) {
-      throw new Error(`run ${runId} has no decision log: it was recorded by a coordinator older than the log (store migration 5), so it cannot be replayed`);
+      throw new NetbreederError('NB_REPLAY_UNAVAILABLE', `run ${runId} has no decision log: it was recorded by a coordinator older than the log (store migration 5), so it cannot be replayed`);
     }
     // Stored decisions went through JSON.stringify, so stringifying what was parsed gives back the stored text.
     const calls = steps.map((s): RecordedCall => {
       if (s.kind === 'propose') return { step: s.step, kind: 'propose', genomeHash: s.genomeHash!, parentHashes: s.parentHashes, budgetEpochs: s.budgetEpochs, decisionsJson: JSON.stringify(s.decisions) };
       if (s.kind === 'observe') {
         const ev = store.getEvaluation(s.evaluationId!);
-        if (!ev?.result) throw new Error(`step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
+        if (!ev?.result) throw new NetbreederError('NB_STORE_DAMAGED', `step ${s.step} observed evaluation ${s.evaluationId}, which has no stored result; the store is damaged`);
         return { step: s.step, kind: 'observe', observation: observationFor(ev, ev.result), decisionsJson: JSON.stringify(s.decisions) };
       }
       if (s.kind === 'forget') {

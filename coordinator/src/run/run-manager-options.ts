@@ -1,4 +1,4 @@
-import type { EvaluationResult } from '@netbreeder/shared-types';
+import { NetbreederError, type EvaluationResult } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import type { EvaluationQueue } from '../queue/evaluation-queue.js';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
@@ -45,15 +45,16 @@ export interface RunManagerEvents {
 export type { RunControl } from '../store/run-lifecycle.js';
 
 /** A request that the run's state does not allow (pausing a finished run, say). */
-export class RunStateError extends Error {
-  override name = 'RunStateError';
+export class RunStateError extends NetbreederError {
+  constructor(message: string) {
+    super('NB_RUN_STATE', message);
+  }
 }
 
 /** A submitted genome that breaks the run's search space; `issues` says each problem. */
-export class GenomeRejectedError extends Error {
-  override name = 'GenomeRejectedError';
+export class GenomeRejectedError extends NetbreederError {
   constructor(readonly issues: string[]) {
-    super(`genome rejected: ${issues.join('; ')}`);
+    super('NB_GENOME_REJECTED', `genome rejected: ${issues.join('; ')}`);
   }
 }
 

@@ -2,6 +2,7 @@ import { randomBytes } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import {
+  NetbreederError,
   canonicalGenome,
   checkGenome,
   genomeHash,
@@ -259,7 +260,7 @@ export class RunManager {
    */
   async control(runId: string, action: RunControl, opts: { discardInFlight?: boolean } = {}): Promise<RunRecord> {
     const run = this.store.getRun(runId);
-    if (!run) throw new Error(`no run ${runId}`);
+    if (!run) throw new NetbreederError('NB_NO_RUN', `no run ${runId}`);
     const next = controlTarget(action, run.state);
     if (!next) throw new RunStateError(`cannot ${action} run ${runId} while it is ${run.state}`);
     this.store.transaction(() => {
@@ -295,7 +296,7 @@ export class RunManager {
    */
   async submitGenome(runId: string, value: unknown): Promise<EvaluationRecord> {
     const run = this.store.getRun(runId);
-    if (!run || run.id !== this.run?.id) throw new Error(`run ${runId} is not the run this coordinator drives`);
+    if (!run || run.id !== this.run?.id) throw new RunStateError(`run ${runId} is not the run this coordinator drives`);
     if (run.state !== 'searching' && run.state !== 'paused') throw new RunStateError(`run ${runId} is ${run.state}; genomes can be added while it searches`);
     const check = checkGenome(value, this.space, this.data!);
     if (!check.ok) {

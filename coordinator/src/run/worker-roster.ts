@@ -1,4 +1,4 @@
-import type { WorkerHeartbeat } from '@netbreeder/shared-types';
+import { NetbreederError, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import type { RunStore } from '../store/run-store.js';
 
@@ -22,7 +22,7 @@ export class WorkerRoster {
 
   /** Takes a worker's heartbeat (refused for a revoked worker); the store writes it with the others of this moment (`RunStore.takeHeartbeat`). */
   recordHeartbeat(hb: WorkerHeartbeat): void {
-    if (this.isRevoked(hb.workerId)) throw new Error(`worker ${hb.workerId} is revoked`);
+    if (this.isRevoked(hb.workerId)) throw new NetbreederError('NB_WORKER_REVOKED', `worker ${hb.workerId} is revoked`);
     this.o.store.takeHeartbeat(hb, this.o.now());
   }
 

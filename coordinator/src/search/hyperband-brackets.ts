@@ -2,6 +2,7 @@
  * The budget arithmetic of successive halving and Hyperband (Li, Jamieson, DeSalvo, Rostamizadeh,
  * Talwalkar, JMLR 2018). Pure integer arithmetic: no logarithms, so no rounding surprises.
  */
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /** One round of successive halving inside a bracket: `configurations` trained for `resource` each. */
 export interface HalvingRound {
@@ -22,7 +23,7 @@ export interface HyperbandBracket {
 }
 
 const checkWhole = (name: string, v: number, min: number) => {
-  if (!Number.isInteger(v) || v < min) throw new RangeError(`${name} must be a whole number ≥ ${min}, got ${String(v)}`);
+  if (!Number.isInteger(v) || v < min) throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `${name} must be a whole number ≥ ${min}, got ${String(v)}`);
 };
 
 /** The largest s with eta^s ≤ R, i.e. floor(log_eta R), computed exactly. */

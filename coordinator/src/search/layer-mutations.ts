@@ -1,4 +1,4 @@
-import type { Genome, LayerKind, LayerNode, SampleShape } from '@netbreeder/shared-types';
+import { InternalError, type Genome, type LayerKind, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import { clamp, drawDropoutRate, logUniformInt, pickOther, weightedPick } from './gene-values.js';
 import { ancestorsOf, bypassNode, describeEdge, edgesOf, freshId, insertOnEdge, shapesOf, type Edge } from './graph-edit.js';
@@ -118,9 +118,9 @@ function newLayer(genome: Genome, kind: LayerKind, from: string, shape: SampleSh
       return { ...base, kind };
     case 'add':
     case 'concat':
-      throw new Error(`newLayer does not build merges; use addSkip for '${kind}'`);
+      throw new InternalError(`newLayer does not build merges; use addSkip for '${kind}'`);
     case 'repeat':
-      throw new Error("newLayer does not build repeats; the motif mutations add them");
+      throw new InternalError("newLayer does not build repeats; the motif mutations add them");
   }
 }
 

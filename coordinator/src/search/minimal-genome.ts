@@ -3,6 +3,7 @@ import {
   formatGenomeIssues,
   GENOME_SCHEMA_VERSION,
   INPUT_ID,
+  NetbreederError,
   type DataShape,
   type Genome,
   type Random,
@@ -23,11 +24,9 @@ export interface GenomeContext {
 }
 
 /** Thrown when even the smallest network breaks the search space's caps: the run cannot start. */
-export class MinimalGenomeError extends Error {
-  readonly code = 'NB_NO_MINIMAL_GENOME';
+export class MinimalGenomeError extends NetbreederError {
   constructor(message: string) {
-    super(message);
-    this.name = 'MinimalGenomeError';
+    super('NB_NO_MINIMAL_GENOME', message);
   }
 }
 

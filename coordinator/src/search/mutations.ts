@@ -1,4 +1,4 @@
-import { checkGenome, genomeHash, type Genome } from '@netbreeder/shared-types';
+import { checkGenome, genomeHash, NetbreederError, type Genome } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import { weightedPick } from './gene-values.js';
 import { addLayer, addSkip, changeActivation, changeKernelSize, changeStride, changeWidth, removeLayer, type MutationOperator } from './layer-mutations.js';
@@ -114,11 +114,9 @@ export interface MutationOutcome {
 }
 
 /** Thrown when no operator produced a valid, different child within the attempt budget. */
-export class MutationError extends Error {
-  readonly code = 'NB_NO_VALID_MUTATION';
+export class MutationError extends NetbreederError {
   constructor(message: string) {
-    super(message);
-    this.name = 'MutationError';
+    super('NB_NO_VALID_MUTATION', message);
   }
 }
 

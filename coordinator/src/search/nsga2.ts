@@ -5,6 +5,7 @@
  */
 import type { Observation } from './search-algorithm.js';
 import type { SizeObjective } from './search-settings.js';
+import { InternalError } from '@netbreeder/shared-types';
 
 /** One point in objective space: every entry is minimised. */
 export type ObjectiveVector = readonly number[];
@@ -22,8 +23,8 @@ export function dominates(a: ObjectiveVector, b: ObjectiveVector): boolean {
 const checkPoints = (points: readonly ObjectiveVector[]) => {
   const dims = points[0]?.length ?? 0;
   points.forEach((p, i) => {
-    if (p.length !== dims) throw new RangeError(`objective vector ${i} has ${p.length} objectives, the first has ${dims}; give every point the same objectives`);
-    if (!p.every((v) => typeof v === 'number' && !Number.isNaN(v))) throw new RangeError(`objective vector ${i} holds a value that is not a number: [${p.join(', ')}]`);
+    if (p.length !== dims) throw new InternalError(`objective vector ${i} has ${p.length} objectives, the first has ${dims}; give every point the same objectives`);
+    if (!p.every((v) => typeof v === 'number' && !Number.isNaN(v))) throw new InternalError(`objective vector ${i} holds a value that is not a number: [${p.join(', ')}]`);
   });
 };
 
@@ -121,7 +122,7 @@ export function crowdedCompare(a: number, b: number, rc: RankAndCrowding): numbe
  * first among equals). Returned in ascending index order.
  */
 export function selectSurvivors(points: readonly ObjectiveVector[], count: number): number[] {
-  if (!Number.isInteger(count) || count < 0) throw new RangeError(`survivor count must be a whole number ≥ 0, got ${count}`);
+  if (!Number.isInteger(count) || count < 0) throw new InternalError(`survivor count must be a whole number ≥ 0, got ${count}`);
   const kept: number[] = [];
   for (const front of nonDominatedSort(points)) {
     if (kept.length + front.length <= count) {

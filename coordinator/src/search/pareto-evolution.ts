@@ -1,4 +1,4 @@
-import { SEARCH_DECISION_VERSION, type Genome, type SearchDecision } from '@netbreeder/shared-types';
+import { InternalError, SEARCH_DECISION_VERSION, type Genome, type SearchDecision } from '@netbreeder/shared-types';
 import { crowdedCompare, rankAndCrowding, type RankAndCrowding } from './nsga2.js';
 import { assertObservation } from './observation.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
@@ -86,7 +86,7 @@ export class ParetoEvolution<G = Genome> extends PopulationSearch<G, ParetoMembe
     const { objective, populationSize } = this.settings;
     const cost = o[objective];
     if (typeof cost !== 'number' || !Number.isFinite(cost) || cost < 0) {
-      throw new TypeError(`observation ${o.evaluationId}: pareto-evolution minimises ${objective} and needs it as a finite number ≥ 0, got ${String(cost)}`);
+      throw new InternalError(`observation ${o.evaluationId}: pareto-evolution minimises ${objective} and needs it as a finite number ≥ 0, got ${String(cost)}`);
     }
     if (this.population.some((m) => m.evaluationId === o.evaluationId)) {
       return [ignoredObservation(o, 'duplicate', `evaluation ${o.evaluationId} is already a member`)];

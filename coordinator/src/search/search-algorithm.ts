@@ -1,4 +1,4 @@
-import { checkGenome, createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchDecision, type SearchSpace } from '@netbreeder/shared-types';
+import { checkGenome, InternalError, NetbreederError, createRandom, type DataShape, type Genome, type SearchAlgorithmName, type SearchDecision, type SearchSpace } from '@netbreeder/shared-types';
 import { AgingEvolution } from './aging-evolution.js';
 import { minimalGenome } from './minimal-genome.js';
 import type { Mutation, MutateOptions } from './mutations.js';
@@ -111,8 +111,8 @@ export function createSearchAlgorithm(
   ctx: SearchContext,
   snapshot?: SearchSnapshot,
 ): SearchAlgorithm {
-  if (!SEARCH_ALGORITHM_NAMES.includes(name)) throw new RangeError(`unknown search algorithm '${String(name)}'; use one of ${SEARCH_ALGORITHM_NAMES.join(', ')}`);
-  if (!Number.isInteger(ctx.seed) || ctx.seed < 0 || ctx.seed > 0xffffffff) throw new RangeError(`search seed must be a 32-bit unsigned integer, got ${ctx.seed}`);
+  if (!SEARCH_ALGORITHM_NAMES.includes(name)) throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `unknown search algorithm '${String(name)}'; use one of ${SEARCH_ALGORITHM_NAMES.join(', ')}`);
+  if (!Number.isInteger(ctx.seed) || ctx.seed < 0 || ctx.seed > 0xffffffff) throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search seed must be a 32-bit unsigned integer, got ${ctx.seed}`);
   const resolved = resolveSearchSettings(settings);
   minimalGenome({ space: ctx.space, data: ctx.data, rng: createRandom(0) }); // fails fast when nothing fits the space
   const variation = genomeVariation(ctx.space, ctx.data, ctx.mutation, resolved.start);
@@ -123,7 +123,7 @@ export function createSearchAlgorithm(
   const first = ctx.reference;
   if (first) {
     const check = checkGenome(first.genome, ctx.space, ctx.data);
-    if (!check.ok) throw new RangeError(`the reference network does not fit the search space (${check.issues.map((i) => i.message).join('; ')}); fit it with fitReferenceNetwork`);
+    if (!check.ok) throw new InternalError(`the reference network does not fit the search space (${check.issues.map((i) => i.message).join('; ')}); fit it with fitReferenceNetwork`);
   }
   switch (name) {
     case 'random':

@@ -1,3 +1,4 @@
+import { NetbreederError } from '@netbreeder/shared-types';
 import { START_KINDS, type StartKind } from './family-genome.js';
 
 /** Settings of a search algorithm, as a run gives them. Defaults are applied in {@link resolveSearchSettings} only. */
@@ -66,7 +67,7 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
   };
   const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective' | 'start' | 'promoteReference'>, min: number) => {
     const v = resolved[name];
-    if (!Number.isInteger(v) || v < min) throw new RangeError(`search setting ${name} must be a whole number ≥ ${min}, got ${String(v)}`);
+    if (!Number.isInteger(v) || v < min) throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting ${name} must be a whole number ≥ ${min}, got ${String(v)}`);
   };
   whole('populationSize', 1);
   whole('sampleSize', 1);
@@ -76,13 +77,13 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
   whole('minEpochs', 1);
   whole('maxEpochs', 1);
   if (resolved.maxEpochs < resolved.minEpochs) {
-    throw new RangeError(`search setting maxEpochs (${resolved.maxEpochs}) must be at least minEpochs (${resolved.minEpochs}); raise maxEpochs or lower minEpochs`);
+    throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting maxEpochs (${resolved.maxEpochs}) must be at least minEpochs (${resolved.minEpochs}); raise maxEpochs or lower minEpochs`);
   }
   if (!SIZE_OBJECTIVES.includes(resolved.objective)) {
-    throw new RangeError(`search setting objective must be one of ${SIZE_OBJECTIVES.join(', ')}, got ${String(resolved.objective)}`);
+    throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting objective must be one of ${SIZE_OBJECTIVES.join(', ')}, got ${String(resolved.objective)}`);
   }
   if (!START_KINDS.includes(resolved.start)) {
-    throw new RangeError(`search setting start must be one of ${START_KINDS.join(', ')}, got ${String(resolved.start)}`);
+    throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting start must be one of ${START_KINDS.join(', ')}, got ${String(resolved.start)}`);
   }
   return resolved;
 }

@@ -1,4 +1,4 @@
-import type { Genome, RandomState, SearchAlgorithmName } from '@netbreeder/shared-types';
+import { NetbreederError, type Genome, type RandomState, type SearchAlgorithmName } from '@netbreeder/shared-types';
 import type { Observation } from './search-algorithm.js';
 import type { ResolvedSearchSettings } from './search-settings.js';
 import type { Variation } from './variation.js';
@@ -82,11 +82,9 @@ export interface ParetoEvolutionSnapshot<G = Genome> extends SnapshotBase {
 export type SearchSnapshot<G = Genome> = AgingEvolutionSnapshot<G> | RandomSearchSnapshot | AshaSnapshot<G> | ParetoEvolutionSnapshot<G>;
 
 /** A snapshot that cannot be restored: malformed, or taken by another algorithm or with other settings. */
-export class SearchSnapshotError extends Error {
-  readonly code = 'NB_BAD_SEARCH_SNAPSHOT';
+export class SearchSnapshotError extends NetbreederError {
   constructor(message: string) {
-    super(message);
-    this.name = 'SearchSnapshotError';
+    super('NB_BAD_SEARCH_SNAPSHOT', message);
   }
 }
 

@@ -1,4 +1,4 @@
-import { analyzeGenome, createRandom, defaultSearchSpace, type DataShape, type Genome, type LayerNode, type Random, type SearchSpace } from '@netbreeder/shared-types';
+import { InternalError, analyzeGenome, createRandom, defaultSearchSpace, type DataShape, type Genome, type LayerNode, type Random, type SearchSpace } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import type { Observation, Proposal, SearchAlgorithm } from './search-algorithm.js';
 
@@ -70,7 +70,7 @@ export class Driver {
     const [done] = this.pending.splice(this.rng.int(0, this.pending.length - 1), 1);
     const { proposal, index } = done!;
     const analysis = analyzeGenome(proposal.genome, this.data);
-    if (!analysis.ok) throw new Error(`the driver got an invalid genome: ${JSON.stringify(analysis.issues)}`);
+    if (!analysis.ok) throw new InternalError(`the driver got an invalid genome: ${JSON.stringify(analysis.issues)}`);
     const o: Observation = {
       evaluationId: `eval-${index}`,
       genomeHash: proposal.genomeHash,

@@ -1,4 +1,4 @@
-import type { Random } from '@netbreeder/shared-types';
+import { InternalError, type Random } from '@netbreeder/shared-types';
 
 export interface TournamentResult {
   /** Index of the parent: the fittest of the drawn members (the earliest drawn among equals). */
@@ -12,8 +12,8 @@ export interface TournamentResult {
  * replacement and returns the fittest drawn. A tie goes to the member drawn first.
  */
 export function tournamentSelect(fitness: readonly number[], sampleSize: number, rng: Random): TournamentResult {
-  if (!fitness.length) throw new Error('tournamentSelect needs at least one member; observe a result first');
-  if (!Number.isInteger(sampleSize) || sampleSize < 1) throw new Error(`sample size must be a whole number ≥ 1, got ${sampleSize}`);
+  if (!fitness.length) throw new InternalError('tournamentSelect needs at least one member; observe a result first');
+  if (!Number.isInteger(sampleSize) || sampleSize < 1) throw new InternalError(`sample size must be a whole number ≥ 1, got ${sampleSize}`);
   const drawn: number[] = [];
   let winner = -1;
   for (let i = 0; i < sampleSize; i++) {

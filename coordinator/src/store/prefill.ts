@@ -3,6 +3,7 @@ import { EvaluationsTable } from './evaluations-table.js';
 import { text } from './row.js';
 import { SearchLogTable } from './search-log-table.js';
 import { StoreDatabase } from './store-database.js';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /**
  * Fills the closed store at `path` with `total` synthetic finished search evaluations of run
@@ -22,7 +23,7 @@ export function prefillFinishedEvaluations(path: string, runId: string, total: n
     const searchLog = new SearchLogTable(db);
     const first = db.get('SELECT genome_hash FROM evaluations WHERE run_id = ? AND seq >= 0 ORDER BY seq LIMIT 1', runId);
     const found = first && evaluations.getGenome(text(first, 'genome_hash'));
-    if (!found) throw new Error(`run ${runId} has no proposal in ${path} to take a genome from; run its search for a while first`);
+    if (!found) throw new NetbreederError('NB_RUN_STATE', `run ${runId} has no proposal in ${path} to take a genome from; run its search for a while first`);
     const genome = { params: found.params, flops: found.flops, summary: found.summary, genomeJson: JSON.stringify(found.genome) };
     const hashOf = (i: number) => createHash('sha256').update(`${runId}:prefill:${i}`).digest('hex');
     db.transaction(() => {

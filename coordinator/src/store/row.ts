@@ -4,13 +4,14 @@
  * file that does not match this code fails with the column's name instead of handing on a wrong
  * value.
  */
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /** One row: column name → value. */
 export type Row = Record<string, unknown>;
 
 function wrongType(column: string, wanted: string, value: unknown): Error {
   const held = value === null || value === undefined ? 'no value' : `a ${typeof value} (${String(value).slice(0, 40)})`;
-  return new Error(`store column '${column}' holds ${held}, not ${wanted}; the store file does not match this version of netbreeder (open it with the version that wrote it)`);
+  return new NetbreederError('NB_STORE_VERSION', `store column '${column}' holds ${held}, not ${wanted}; the store file does not match this version of netbreeder (open it with the version that wrote it)`);
 }
 
 /** A TEXT column that is never NULL. */

@@ -1,4 +1,4 @@
-import type { RunPhase, RunState } from '@netbreeder/shared-types';
+import { NetbreederError, type RunPhase, type RunState } from '@netbreeder/shared-types';
 
 /**
  * A run's lifecycle: its states, the changes of state that are legal, and which states end it.
@@ -55,8 +55,7 @@ export function runPhase(state: RunState, searchDone: boolean, openVerifications
 export const isLegalTransition = (from: RunState, to: RunState): boolean => TRANSITIONS[from].includes(to);
 
 /** A change of a run's state the lifecycle does not allow: a bug in the caller, which should have checked. */
-export class IllegalRunTransitionError extends Error {
-  override name = 'IllegalRunTransitionError';
+export class IllegalRunTransitionError extends NetbreederError {
   constructor(
     readonly runId: string,
     readonly from: RunState,
@@ -64,6 +63,7 @@ export class IllegalRunTransitionError extends Error {
   ) {
     const legal = TRANSITIONS[from];
     super(
+      'NB_ILLEGAL_RUN_TRANSITION',
       `run ${runId} cannot go from '${from}' to '${to}': from '${from}' a run ${legal.length ? `may only go to ${legal.map((s) => `'${s}'`).join(', ')}` : 'goes nowhere (it has ended)'}; check the run's state before changing it (coordinator/src/store/run-lifecycle.ts)`,
     );
   }

@@ -1,4 +1,4 @@
-import type { EvaluationJob, RunConfig, RunState } from '@netbreeder/shared-types';
+import { NetbreederError, type EvaluationJob, type RunConfig, type RunState } from '@netbreeder/shared-types';
 import { INITIAL_RUN_STATE, OPEN_RUN_STATES, RUN_STATES, assertTransition, isRunEnded, sqlStateList } from './run-lifecycle.js';
 import { json, oneOf } from './row.js';
 import { RUN_COLUMNS, runFromRow } from './row-mappers.js';
@@ -44,7 +44,7 @@ export class RunsTable {
    */
   setState(id: string, state: RunState, opts: { now?: number; failure?: string } = {}): void {
     const row = this.db.get('SELECT state FROM runs WHERE id = ?', id);
-    if (!row) throw new Error(`no run ${id} in the store, so its state cannot be set; check the run id`);
+    if (!row) throw new NetbreederError('NB_NO_RUN', `no run ${id} in the store, so its state cannot be set; check the run id`);
     assertTransition(id, oneOf(row, 'state', RUN_STATES), state);
     this.db.run(
       'UPDATE runs SET state = ?, finished_at = CASE WHEN ? THEN ? ELSE finished_at END, failure = COALESCE(?, failure) WHERE id = ?',

@@ -9,6 +9,7 @@
  * reading it back puts the evaluation's genome in that place, so the snapshot read is the snapshot
  * saved, key for key (replay compares the two as text).
  */
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /** Marks a member whose genome is its evaluation's. */
 const MARKER = 'genomeOfEvaluation';
@@ -46,7 +47,7 @@ export function withMemberGenomes(value: Json, genomeOf: (evaluationId: string) 
   for (const [k, v] of Object.entries(record)) {
     if (marked && k === MARKER) {
       const genome = genomeOf(record.evaluationId as string);
-      if (genome === undefined) throw new Error(`the stored search state names evaluation ${String(record.evaluationId)}, which the store does not hold; the run cannot resume from it`);
+      if (genome === undefined) throw new NetbreederError('NB_STORE_DAMAGED', `the stored search state names evaluation ${String(record.evaluationId)}, which the store does not hold; the run cannot resume from it`);
       out.genome = genome;
     } else out[k] = marked ? v : withMemberGenomes(v, genomeOf);
   }

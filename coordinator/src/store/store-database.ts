@@ -2,6 +2,7 @@ import Database from 'better-sqlite3';
 import { MIGRATIONS } from './migrations.js';
 import { num, type Row } from './row.js';
 import { WalCheckpointer, type WalCheckpointerOptions } from './wal-checkpointer.js';
+import { InternalError } from '@netbreeder/shared-types';
 
 /** SQLite's own `wal_autocheckpoint`, in pages. */
 const SQLITE_DEFAULT_AUTOCHECKPOINT = 1000;
@@ -72,7 +73,7 @@ export class StoreDatabase {
    * read sees writes a table module holds back (./workers-table.ts: taken heartbeats). One holder.
    */
   holdWrites(write: () => void): void {
-    if (this.heldWrites) throw new Error('the store already has a holder of held-back writes');
+    if (this.heldWrites) throw new InternalError('the store already has a holder of held-back writes');
     this.heldWrites = write;
   }
 

@@ -1,5 +1,6 @@
 import { createRequire } from 'node:module';
 import { Worker } from 'node:worker_threads';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 /**
  * The thread's code (plain CommonJS: it runs without the TypeScript loader), every `intervalMs`,
@@ -85,11 +86,11 @@ export class WalCheckpointer {
       options.onFailure(err);
     };
     thread.on('message', (m: { type: 'checkpointed' } & CheckpointReport | { type: 'failed'; message: string }) => {
-      if (m.type === 'failed') fail(new Error(`background WAL checkpoint failed: ${m.message}`));
+      if (m.type === 'failed') fail(new NetbreederError('NB_STORE_CHECKPOINT_FAILED', `background WAL checkpoint failed: ${m.message}`));
       else options.onCheckpoint?.({ busy: m.busy, log: m.log, checkpointed: m.checkpointed, restartMs: m.restartMs });
     });
-    thread.on('error', (err) => fail(new Error(`background WAL checkpoint thread failed: ${err.message}`)));
-    thread.on('exit', (code) => fail(new Error(`background WAL checkpoint thread exited (code ${code})`)));
+    thread.on('error', (err) => fail(new NetbreederError('NB_STORE_CHECKPOINT_FAILED', `background WAL checkpoint thread failed: ${err.message}`)));
+    thread.on('exit', (code) => fail(new NetbreederError('NB_STORE_CHECKPOINT_FAILED', `background WAL checkpoint thread exited (code ${code})`)));
     return checkpointer;
   }
 

@@ -1,3 +1,4 @@
+import { NetbreederError } from '../errors/netbreeder-error.js';
 import { createValidator } from '../validation.js';
 import { CHECKPOINT_FORMAT_VERSION, CheckpointHeaderSchema, type CheckpointHeader, type CheckpointTensor } from './checkpoint-header.js';
 
@@ -19,8 +20,10 @@ const MAGIC = [0x4e, 0x42, 0x43, 0x31]; // "NBC1"
 const PREFIX = 12;
 
 /** A checkpoint that cannot be read: wrong magic or version, a bad header, or lengths that do not add up. */
-export class CheckpointFormatError extends Error {
-  override name = 'CheckpointFormatError';
+export class CheckpointFormatError extends NetbreederError {
+  constructor(message: string) {
+    super('NB_BAD_CHECKPOINT', message);
+  }
 }
 
 /** One array to store: what the header says of it, and its values. */

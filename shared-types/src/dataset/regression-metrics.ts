@@ -1,3 +1,4 @@
+import { InternalError } from '../errors/netbreeder-error.js';
 /** How well predicted numbers match actual ones, in the units of the numbers given. */
 export interface RegressionMetrics {
   /** Mean squared error. */
@@ -13,7 +14,7 @@ export interface RegressionMetrics {
 /** RMSE, MAE, MSE and R² of `predicted` against `actual` (same length, at least 1). Pure. */
 export function regressionMetrics(actual: ArrayLike<number>, predicted: ArrayLike<number>): RegressionMetrics {
   const n = actual.length;
-  if (n === 0 || predicted.length !== n) throw new RangeError(`regression metrics need equal, non-empty lists (got ${n} actual, ${predicted.length} predicted)`);
+  if (n === 0 || predicted.length !== n) throw new InternalError(`regression metrics need equal, non-empty lists (got ${n} actual, ${predicted.length} predicted)`);
   let sum = 0;
   for (let i = 0; i < n; i++) sum += actual[i]!;
   const mean = sum / n;

@@ -1,4 +1,5 @@
 import { sampleSize, type LabelledSamples } from './labelled-samples.js';
+import { InternalError, NetbreederError } from '../errors/netbreeder-error.js';
 
 /**
  * The training shard a worker downloads: the train and validation splits of a run in one binary
@@ -35,7 +36,7 @@ export function encodeShard(shard: TrainingShard): Buffer {
     parts.push(Buffer.from(split.labels.buffer, split.labels.byteOffset, split.labels.byteLength));
     if (targets) {
       const t = split.targets ?? new Float32Array(split.count);
-      if (t.length !== split.count) throw new RangeError(`a split has ${t.length} targets for ${split.count} samples`);
+      if (t.length !== split.count) throw new InternalError(`a split has ${t.length} targets for ${split.count} samples`);
       parts.push(Buffer.from(t.buffer, t.byteOffset, t.byteLength));
     }
   }
@@ -45,14 +46,14 @@ export function encodeShard(shard: TrainingShard): Buffer {
 /** Reads a shard, checking every length; throws an error that says what is wrong with the file. */
 export function decodeShard(bytes: Uint8Array): TrainingShard {
   const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  if (buf.length < 8 || buf.toString('ascii', 0, 4) !== MAGIC) throw new Error('not a netbreeder training shard (bad magic); fetch it again');
+  if (buf.length < 8 || buf.toString('ascii', 0, 4) !== MAGIC) throw new NetbreederError('NB_BAD_SHARD', 'not a netbreeder training shard (bad magic); fetch it again');
   const headerLength = buf.readUInt32LE(4);
-  if (8 + headerLength > buf.length) throw new Error('training shard is truncated inside its header; fetch it again');
+  if (8 + headerLength > buf.length) throw new NetbreederError('NB_BAD_SHARD', 'training shard is truncated inside its header; fetch it again');
   const header = JSON.parse(buf.toString('utf8', 8, 8 + headerLength)) as { inputShape: number[]; classNames: string[]; train: number; val: number; targets?: boolean };
   const size = sampleSize(header.inputShape);
   let offset = 8 + headerLength;
   const expected = offset + (header.train + header.val) * (size + (header.targets ? 2 : 1)) * 4;
-  if (buf.length !== expected) throw new Error(`training shard has ${buf.length} bytes, expected ${expected}; fetch it again`);
+  if (buf.length !== expected) throw new NetbreederError('NB_BAD_SHARD', `training shard has ${buf.length} bytes, expected ${expected}; fetch it again`);
   // Copy into fresh aligned arrays: the download buffer's offset need not be a multiple of 4.
   const read = (count: number): LabelledSamples => {
     const features = new Float32Array(count * size);

@@ -2,6 +2,7 @@ import { INPUT_ID, type Genome, type LayerNode } from './genome-schema.js';
 import { topologicalOrder, type GenomeIssue } from './graph-order.js';
 import { expandMotifs, issueInGenomeTerms, motifAsGenome, motifIssues, motifsById } from './motifs.js';
 import type { TargetScaling } from '../messages/dataset-manifest.js';
+import { InternalError } from '../errors/netbreeder-error.js';
 
 export { topologicalOrder, type GenomeIssue } from './graph-order.js';
 
@@ -177,7 +178,7 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
         break;
       }
       case 'repeat':
-        throw new Error('expandMotifs leaves no repeat node');
+        throw new InternalError('expandMotifs leaves no repeat node');
     }
     if (!out) continue;
     shapes.set(n.id, out);

@@ -2,6 +2,7 @@ import { INPUT_ID, type Genome, type LayerNode } from './genome-schema.js';
 import { topologicalOrder } from './graph-order.js';
 import { motifAsGenome, motifIssues, motifsById } from './motifs.js';
 import { sha256Hex } from '../sha256.js';
+import { NetbreederError } from '../errors/netbreeder-error.js';
 
 /** Rounds to 6 significant digits so that float noise never makes two equal genomes differ. */
 const tidyNumber = (v: number): number => (Number.isInteger(v) ? v : Number(v.toPrecision(6)));
@@ -77,9 +78,9 @@ function renamedNodes(order: readonly LayerNode[], motifName: (id: string) => st
  */
 export function canonicalGenome(genome: Genome): Genome {
   const topo = topologicalOrder(genome);
-  if (!topo.ok) throw new Error(`cannot canonicalise an invalid genome: ${topo.issues.map((i) => i.message).join('; ')}`);
+  if (!topo.ok) throw new NetbreederError('NB_INVALID_GENOME', `cannot canonicalise an invalid genome: ${topo.issues.map((i) => i.message).join('; ')}`);
   const motifProblems = motifIssues(genome);
-  if (motifProblems.length) throw new Error(`cannot canonicalise an invalid genome: ${motifProblems.map((i) => i.message).join('; ')}`);
+  if (motifProblems.length) throw new NetbreederError('NB_INVALID_GENOME', `cannot canonicalise an invalid genome: ${motifProblems.map((i) => i.message).join('; ')}`);
   const motifNames = new Map<string, string>();
   for (const n of topo.order) if (n.kind === 'repeat' && !motifNames.has(n.motif)) motifNames.set(n.motif, `m${motifNames.size}`);
   const own = renamedNodes(topo.order, (id) => motifNames.get(id)!);

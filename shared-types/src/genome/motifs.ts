@@ -1,5 +1,6 @@
 import { INPUT_ID, type Genome, type LayerNode, type Motif } from './genome-schema.js';
 import { topologicalOrder, type GenomeIssue } from './graph-order.js';
+import { NetbreederError } from '../errors/netbreeder-error.js';
 
 /**
  * Repeated motifs: a genome defines a block once (`genome.motifs`) and `repeat` nodes apply it
@@ -108,7 +109,7 @@ export function expandMotifs(genome: Genome): ExpandedGenome {
       continue;
     }
     const motif = motifs.get(n.motif);
-    if (!motif) throw new Error(`repeat '${n.id}' names motif '${n.motif}', which the genome does not define; check the genome with checkGenome first`);
+    if (!motif) throw new NetbreederError('NB_INVALID_GENOME', `repeat '${n.id}' names motif '${n.motif}', which the genome does not define; check the genome with checkGenome first`);
     let entry = n.inputs[0]!;
     for (let k = 1; k <= n.times; k++) {
       const from = entry;

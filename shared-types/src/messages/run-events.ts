@@ -2,6 +2,7 @@ import { Type, type Static, type TLiteral, type TSchema, type TUnion } from '@si
 import { createValidator, type Validator } from '../validation.js';
 import { BackendNameSchema, RegressionTestScoresSchema } from './evaluation-result.js';
 import { ChampionRuleSchema, EnsembleSettingsSchema } from './run-config.js';
+import { InternalError } from '../errors/netbreeder-error.js';
 
 /**
  * The coordinator's event log: one schema per kind of event, so every event is checked when it is
@@ -188,7 +189,7 @@ const validators = new Map<string, Validator<(typeof RUN_EVENT_SCHEMAS)[RunEvent
 /** The compiled check of one kind's detail (compiled on first use). */
 export function runEventValidator<K extends RunEventKind>(kind: K): Validator<(typeof RUN_EVENT_SCHEMAS)[K]> {
   const schema = RUN_EVENT_SCHEMAS[kind];
-  if (!schema) throw new RangeError(`no event kind '${String(kind)}'; add its schema to RUN_EVENT_SCHEMAS in shared-types/src/messages/run-events.ts`);
+  if (!schema) throw new InternalError(`no event kind '${String(kind)}'; add its schema to RUN_EVENT_SCHEMAS in shared-types/src/messages/run-events.ts`);
   let v = validators.get(kind);
   if (!v) validators.set(kind, (v = createValidator(`'${kind}' event`, schema)));
   return v as Validator<(typeof RUN_EVENT_SCHEMAS)[K]>;

@@ -1,6 +1,6 @@
 import { mkdir, readFile, readdir, rename, rm, stat, utimes, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { sha256Hex, type DatasetManifest } from '@netbreeder/shared-types';
+import { NetbreederError, sha256Hex, type DatasetManifest } from '@netbreeder/shared-types';
 import type { Logger } from 'pino';
 import { authHeader } from './auth-header.js';
 
@@ -68,7 +68,7 @@ export class DatasetCache {
       await rm(path, { force: true });
     }
     if (manifest.bytes > this.maxBytes) {
-      throw new Error(`dataset ${manifest.sha256.slice(0, 12)} is ${manifest.bytes} bytes, more than this worker's cache cap of ${this.maxBytes}; raise --cache-max-mb`);
+      throw new NetbreederError('NB_DATASET_CACHE_TOO_SMALL', `dataset ${manifest.sha256.slice(0, 12)} is ${manifest.bytes} bytes, more than this worker's cache cap of ${this.maxBytes}; raise --cache-max-mb`);
     }
     await mkdir(this.opts.dir, { recursive: true });
     const url = new URL(`/datasets/${manifest.sha256}`, this.opts.coordinatorUrl).toString();
@@ -76,10 +76,10 @@ export class DatasetCache {
     for (let attempt = 1; attempt <= this.attempts; attempt++) {
       try {
         const res = await fetch(url, { headers: authHeader(this.opts.joinToken ?? null) });
-        if (!res.ok) throw new Error(`HTTP ${res.status} from ${url}`);
+        if (!res.ok) throw new NetbreederError('NB_DATASET_DOWNLOAD_FAILED', `HTTP ${res.status} from ${url}`);
         const bytes = Buffer.from(await res.arrayBuffer());
         const sha = sha256Hex(bytes);
-        if (sha !== manifest.sha256) throw new Error(`download has sha256 ${sha.slice(0, 12)}…, expected ${manifest.sha256.slice(0, 12)}… (${bytes.length} of ${manifest.bytes} bytes)`);
+        if (sha !== manifest.sha256) throw new NetbreederError('NB_DATASET_DOWNLOAD_FAILED', `download has sha256 ${sha.slice(0, 12)}…, expected ${manifest.sha256.slice(0, 12)}… (${bytes.length} of ${manifest.bytes} bytes)`);
         await this.makeRoom(bytes.length);
         const tmp = `${path}.${process.pid}.tmp`;
         await writeFile(tmp, bytes);
@@ -93,7 +93,7 @@ export class DatasetCache {
         await new Promise((r) => setTimeout(r, 500 * attempt));
       }
     }
-    throw new Error(`cannot fetch dataset ${manifest.sha256.slice(0, 12)} from the coordinator: ${lastError}`);
+    throw new NetbreederError('NB_DATASET_DOWNLOAD_FAILED', `cannot fetch dataset ${manifest.sha256.slice(0, 12)} from the coordinator: ${lastError}`);
   }
 
   /** Removes least recently used shards until `incoming` more bytes fit under the cap. */

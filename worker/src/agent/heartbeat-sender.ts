@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { heartbeatReplyValidator, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
+import { NetbreederError, heartbeatReplyValidator, workerHeartbeatValidator, type HeartbeatReply, type WorkerHeartbeat } from '@netbreeder/shared-types';
 import { authHeader } from './auth-header.js';
 
 /**
@@ -143,9 +143,9 @@ export class HeartbeatSender {
             `the coordinator at ${this.coordinatorUrl} does not understand this worker's heartbeat (HTTP 400: ${error?.message ?? text.slice(0, 200)}); it is probably another netbreeder version: install the same version on both`,
           );
         }
-        throw new Error(`HTTP ${res.status}: ${text.slice(0, 300)}`);
+        throw new NetbreederError('NB_COORDINATOR_REFUSED', `HTTP ${res.status}: ${text.slice(0, 300)}`);
       }
-      if (!res.ok) throw new Error(`HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
+      if (!res.ok) throw new NetbreederError('NB_COORDINATOR_REFUSED', `HTTP ${res.status}: ${(await res.text()).slice(0, 300)}`);
       if (res.status === 200) {
         const reply: unknown = await res.json();
         const issues = heartbeatReplyValidator.issues(reply);

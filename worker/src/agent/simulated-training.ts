@@ -1,9 +1,10 @@
-import { analyzeGenome, createRandom, genomeHash, type Random } from '@netbreeder/shared-types';
+import { NetbreederError, analyzeGenome, createRandom, genomeHash, type Random } from '@netbreeder/shared-types';
 import type { BackendChoice } from '../training/backend.js';
 import type { TrainCallOptions } from '../training/training-process.js';
 import type { ChildTrainRequest } from '../training/training-protocol.js';
 import type { TrainOutcome } from '../training/train-genome.js';
 import type { Trainer } from './trainer.js';
+import { TrainingAbortedError } from '../training/errors.js';
 
 /**
  * Settings of simulated training. FOR TESTS AND THE SCALE BENCHMARK ONLY: nothing is trained, the
@@ -23,10 +24,10 @@ export interface SimulationSettings {
 /** Parses `lognormal:MEAN_S:SIGMA` (the `--simulate` flag). */
 export function parseSimulateSpec(spec: string): Pick<SimulationSettings, 'meanSeconds' | 'sigma'> {
   const m = /^lognormal:([0-9]*\.?[0-9]+):([0-9]*\.?[0-9]+)$/.exec(spec);
-  if (!m) throw new Error(`--simulate must look like lognormal:MEAN_SECONDS:SIGMA (for example lognormal:10:0.5), got '${spec}'`);
+  if (!m) throw new NetbreederError('NB_BAD_USAGE', `--simulate must look like lognormal:MEAN_SECONDS:SIGMA (for example lognormal:10:0.5), got '${spec}'`);
   const meanSeconds = Number(m[1]);
   const sigma = Number(m[2]);
-  if (meanSeconds > 86_400 || sigma > 5) throw new Error(`--simulate: mean at most 86400 s and sigma at most 5, got '${spec}'`);
+  if (meanSeconds > 86_400 || sigma > 5) throw new NetbreederError('NB_BAD_USAGE', `--simulate: mean at most 86400 s and sigma at most 5, got '${spec}'`);
   return { meanSeconds, sigma };
 }
 
@@ -97,7 +98,7 @@ export class SimulatedTraining implements Trainer {
   async train(request: ChildTrainRequest, _call: TrainCallOptions = {}): Promise<TrainOutcome> {
     this.opts.onWait?.(Date.now() - this.freeSince);
     const analysis = analyzeGenome(request.genome, request.data);
-    if (!analysis.ok) throw new Error(`simulated training: invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
+    if (!analysis.ok) throw new NetbreederError('NB_INVALID_GENOME', `simulated training: invalid genome: ${analysis.issues.map((i) => i.message).join('; ')}`);
     if (this.random.chance(this.opts.dropRate)) {
       this.opts.onDrop?.();
       return new Promise<TrainOutcome>(() => {}); // a vanished PC never answers
@@ -137,7 +138,7 @@ export class SimulatedTraining implements Trainer {
 
   kill(): void {
     if (this.timer) clearTimeout(this.timer);
-    this.rejectCurrent?.(new Error('simulated training abandoned by a forced stop'));
+    this.rejectCurrent?.(new TrainingAbortedError('simulated training abandoned by a forced stop'));
   }
 
   async close(): Promise<void> {

@@ -1,7 +1,7 @@
 import { cpus, homedir, hostname, totalmem } from 'node:os';
 import { join } from 'node:path';
 import { randomBytes } from 'node:crypto';
-import { DEFAULT_WORKER_WATTS } from '@netbreeder/shared-types';
+import { NetbreederError, DEFAULT_WORKER_WATTS } from '@netbreeder/shared-types';
 
 /** How a worker joins a coordinator and how politely it uses the PC it runs on. */
 export interface WorkerOptions {
@@ -60,7 +60,7 @@ export const TEST_MODE_ENV = 'NETBREEDER_TEST_MODE';
 
 /** Throws unless test-only modes are allowed in this environment. */
 export function assertTestModeAllowed(what: string, env: NodeJS.ProcessEnv = process.env): void {
-  if (env[TEST_MODE_ENV] !== '1') throw new Error(`${what} is a test-only mode (it reports false results); it is refused unless ${TEST_MODE_ENV}=1 is set, which only tests do`);
+  if (env[TEST_MODE_ENV] !== '1') throw new NetbreederError('NB_BAD_USAGE', `${what} is a test-only mode (it reports false results); it is refused unless ${TEST_MODE_ENV}=1 is set, which only tests do`);
 }
 
 export function defaultCacheDir(): string {

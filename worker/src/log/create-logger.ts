@@ -1,5 +1,6 @@
 import { pino, type Logger } from 'pino';
 import { PinoPretty } from 'pino-pretty';
+import { NetbreederError } from '@netbreeder/shared-types';
 
 export type LogFormat = 'pretty' | 'json';
 const FORMATS: readonly LogFormat[] = ['pretty', 'json'];
@@ -11,7 +12,7 @@ const FORMATS: readonly LogFormat[] = ['pretty', 'json'];
 export function logFormat(env: NodeJS.ProcessEnv = process.env, terminal = process.stderr.isTTY === true): LogFormat {
   const given = env.NETBREEDER_LOG_FORMAT;
   if (given === undefined || given === '') return terminal ? 'pretty' : 'json';
-  if (!FORMATS.includes(given as LogFormat)) throw new Error(`--log-format must be ${FORMATS.join(' or ')}, got '${given}'`);
+  if (!FORMATS.includes(given as LogFormat)) throw new NetbreederError('NB_BAD_USAGE', `--log-format must be ${FORMATS.join(' or ')}, got '${given}'`);
   return given as LogFormat;
 }
 
@@ -29,7 +30,7 @@ export function takeLogFormatOption(argv: string[], env: NodeJS.ProcessEnv = pro
       rest.push(arg);
       continue;
     }
-    if (!FORMATS.includes(env.NETBREEDER_LOG_FORMAT as LogFormat)) throw new Error(`--log-format must be ${FORMATS.join(' or ')}, got '${env.NETBREEDER_LOG_FORMAT}'`);
+    if (!FORMATS.includes(env.NETBREEDER_LOG_FORMAT as LogFormat)) throw new NetbreederError('NB_BAD_USAGE', `--log-format must be ${FORMATS.join(' or ')}, got '${env.NETBREEDER_LOG_FORMAT}'`);
   }
   return rest;
 }

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import type { BackendName } from '@netbreeder/shared-types';
+import { InternalError, NetbreederError, type BackendName } from '@netbreeder/shared-types';
 import { registerWasmTrainingKernels } from './kernels/register-wasm-kernels.js';
 
 /** Options of {@link initBackend}. */
@@ -27,19 +27,19 @@ async function tryTensorflow(): Promise<void> {
   // downloads libtensorflow); the name sits in a variable so no bundler or typechecker insists on it.
   const nativeModule = '@tensorflow/tfjs-node';
   await import(nativeModule);
-  if (!(await tf.setBackend('tensorflow'))) throw new Error('the tensorflow backend did not initialise');
+  if (!(await tf.setBackend('tensorflow'))) throw new NetbreederError('NB_BACKEND_UNAVAILABLE', 'the tensorflow backend did not initialise');
 }
 
 async function tryWasm(): Promise<void> {
   // Importing the package registers the backend factory; in Node it loads the SIMD .wasm file from
   // its own dist folder (no download).
   await import('@tensorflow/tfjs-backend-wasm');
-  if (!(await tf.setBackend('wasm'))) throw new Error('the wasm backend did not initialise');
+  if (!(await tf.setBackend('wasm'))) throw new NetbreederError('NB_BACKEND_UNAVAILABLE', 'the wasm backend did not initialise');
   registerWasmTrainingKernels();
 }
 
 async function tryCpu(): Promise<void> {
-  if (!(await tf.setBackend('cpu'))) throw new Error('the cpu backend did not initialise');
+  if (!(await tf.setBackend('cpu'))) throw new NetbreederError('NB_BACKEND_UNAVAILABLE', 'the cpu backend did not initialise');
 }
 
 const TRY: Record<BackendName, () => Promise<void>> = { tensorflow: tryTensorflow, wasm: tryWasm, cpu: tryCpu };
@@ -57,7 +57,7 @@ async function choose(order: BackendName[]): Promise<BackendChoice> {
       passed.push(`${name} unavailable: ${message(err)}`);
     }
   }
-  throw new Error(`no TensorFlow.js backend initialised (${passed.join('; ')}); reinstall @tensorflow/tfjs`);
+  throw new NetbreederError('NB_BACKEND_UNAVAILABLE', `no TensorFlow.js backend initialised (${passed.join('; ')}); reinstall @tensorflow/tfjs`);
 }
 
 /**
@@ -81,7 +81,7 @@ export function initBackend(options: InitBackendOptions = {}): Promise<BackendCh
 export function currentBackend(): BackendName {
   const name = tf.getBackend();
   if (name === 'tensorflow' || name === 'wasm' || name === 'cpu') return name;
-  throw new Error(`TensorFlow.js is on backend '${name}', which training does not support; call initBackend() first`);
+  throw new InternalError(`TensorFlow.js is on backend '${name}', which training does not support; call initBackend() first`);
 }
 
 /**

@@ -1,4 +1,5 @@
 import type { LabelledSamples, Random } from '@netbreeder/shared-types';
+import { ShardMismatchError } from './errors.js';
 
 /** Shuffles `order` in place with the Fisher-Yates method, drawing from our seeded source. */
 export function shuffleInPlace(order: Int32Array, random: Random): Int32Array {
@@ -70,14 +71,14 @@ export class BatchAssembler {
 /** Checks that a split is consistent with the data shape; throws an error saying what to fix. */
 export function checkSamples(samples: LabelledSamples, sampleLength: number, numClasses: number, splitName: string, regression = false): void {
   if (regression && samples.targets?.length !== samples.count) {
-    throw new Error(`${splitName} split has ${samples.targets?.length ?? 'no'} regression targets for ${samples.count} samples; the shard is not a regression shard, re-export the dataset`);
+    throw new ShardMismatchError(`${splitName} split has ${samples.targets?.length ?? 'no'} regression targets for ${samples.count} samples; the shard is not a regression shard, re-export the dataset`);
   }
   if (samples.features.length !== samples.count * sampleLength) {
-    throw new Error(`${splitName} split has ${samples.features.length} feature values for ${samples.count} samples of ${sampleLength}; re-export the dataset`);
+    throw new ShardMismatchError(`${splitName} split has ${samples.features.length} feature values for ${samples.count} samples of ${sampleLength}; re-export the dataset`);
   }
-  if (samples.labels.length !== samples.count) throw new Error(`${splitName} split has ${samples.labels.length} labels for ${samples.count} samples; re-export the dataset`);
+  if (samples.labels.length !== samples.count) throw new ShardMismatchError(`${splitName} split has ${samples.labels.length} labels for ${samples.count} samples; re-export the dataset`);
   for (let i = 0; i < samples.count; i++) {
     const l = samples.labels[i]!;
-    if (!(l >= 0 && l < numClasses)) throw new Error(`${splitName} sample ${i} has label ${l}, outside 0..${numClasses - 1}; check the class list`);
+    if (!(l >= 0 && l < numClasses)) throw new ShardMismatchError(`${splitName} sample ${i} has label ${l}, outside 0..${numClasses - 1}; check the class list`);
   }
 }

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import { analyzeGenome, createRandom, expandMotifs, headUnits, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
+import { InternalError, analyzeGenome, createRandom, expandMotifs, headUnits, INPUT_ID, topologicalOrder, type Activation, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
 import { InvalidGenomeError } from './errors.js';
 import { ChannelBatchNorm } from './channel-batch-norm.js';
 import { SeededDropout } from './seeded-dropout.js';
@@ -108,7 +108,7 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
         layer = tf.layers.concatenate({ name: n.id, axis: -1 });
         break;
       case 'repeat':
-        throw new Error('expandMotifs leaves no repeat node');
+        throw new InternalError('expandMotifs leaves no repeat node');
     }
     const inputs = n.inputs.length === 1 ? single(n) : n.inputs.map((i) => tensors.get(i)!);
     tensors.set(n.id, layer.apply(inputs) as Sym);

@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import { BATCH_NORM_TRAINING } from './kernels/batch-norm-training.js';
+import { InternalError } from '@netbreeder/shared-types';
 
 /** Arguments of {@link ChannelBatchNorm}. */
 export interface ChannelBatchNormArgs {
@@ -37,9 +38,9 @@ export class ChannelBatchNorm extends tf.layers.Layer {
 
   constructor(args: ChannelBatchNormArgs) {
     super({ name: args.name });
-    if (!(args.momentum >= 0 && args.momentum < 1)) throw new Error(`batch-norm momentum must be in [0, 1), got ${args.momentum}`);
+    if (!(args.momentum >= 0 && args.momentum < 1)) throw new InternalError(`batch-norm momentum must be in [0, 1), got ${args.momentum}`);
     const epsilon = args.epsilon ?? DEFAULT_EPSILON;
-    if (!(epsilon > 0)) throw new Error(`batch-norm epsilon must be positive, got ${epsilon}`);
+    if (!(epsilon > 0)) throw new InternalError(`batch-norm epsilon must be positive, got ${epsilon}`);
     this.momentum = args.momentum;
     this.epsilon = epsilon;
     this.supportsMasking = true;
@@ -48,7 +49,7 @@ export class ChannelBatchNorm extends tf.layers.Layer {
   override build(inputShape: tf.Shape | tf.Shape[]): void {
     const shape = (Array.isArray(inputShape[0]) ? inputShape[0] : inputShape) as tf.Shape;
     const channels = shape[shape.length - 1];
-    if (channels == null) throw new Error(`batch norm needs a known channel (last) axis, got input shape [${shape.join(', ')}]`);
+    if (channels == null) throw new InternalError(`batch norm needs a known channel (last) axis, got input shape [${shape.join(', ')}]`);
     this.inputSpec = [new tf.InputSpec({ ndim: shape.length, axes: { [shape.length - 1]: channels } })];
     this.gamma = this.addWeight('gamma', [channels], undefined, tf.initializers.ones(), undefined, true);
     this.beta = this.addWeight('beta', [channels], undefined, tf.initializers.zeros(), undefined, true);

@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import { regressionFitness, regressionMetrics, sampleSize, type LabelledSamples, type RegressionMetrics } from '@netbreeder/shared-types';
+import { ShardMismatchError } from './errors.js';
 
 /** A regression network scored on a split, in standardised target units. */
 export interface RegressionEvaluation {
@@ -23,7 +24,7 @@ export function evaluateRegression(model: tf.LayersModel, samples: LabelledSampl
   const inputShape = model.inputs[0]!.shape.slice(1) as number[];
   const length = sampleSize(inputShape);
   const targets = samples.targets;
-  if (!targets || targets.length !== samples.count) throw new Error(`a regression split needs one target per sample (${targets?.length ?? 'none'} for ${samples.count})`);
+  if (!targets || targets.length !== samples.count) throw new ShardMismatchError(`a regression split needs one target per sample (${targets?.length ?? 'none'} for ${samples.count})`);
   const predicted = new Float32Array(samples.count);
   for (let start = 0; start < samples.count; start += batchSize) {
     const size = Math.min(batchSize, samples.count - start);

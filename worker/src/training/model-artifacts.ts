@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import type { ModelArtifactsMessage } from '@netbreeder/shared-types';
+import { InternalError, type ModelArtifactsMessage } from '@netbreeder/shared-types';
 
 /** Serialises a trained model to the message form (layers topology, weight specs, base64 weights). */
 export async function modelToMessage(model: tf.LayersModel): Promise<ModelArtifactsMessage> {
@@ -12,7 +12,7 @@ export async function modelToMessage(model: tf.LayersModel): Promise<ModelArtifa
   );
   const artifacts = saved as tf.io.ModelArtifacts | null;
   if (!artifacts?.modelTopology || !artifacts.weightSpecs || artifacts.weightData == null) {
-    throw new Error('the model did not serialise its topology and weights; this is a bug in the training engine');
+    throw new InternalError('the model did not serialise its topology and weights; this is a bug in the training engine');
   }
   const weightData = artifacts.weightData;
   const bytes = Array.isArray(weightData) ? tf.io.concatenateArrayBuffers(weightData) : weightData;

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import { createRandom, restoreRandom, type Random, type RandomState } from '@netbreeder/shared-types';
+import { InternalError, createRandom, restoreRandom, type Random, type RandomState } from '@netbreeder/shared-types';
 
 /** Arguments of {@link SeededDropout}. */
 export interface SeededDropoutArgs {
@@ -25,7 +25,7 @@ export class SeededDropout extends tf.layers.Layer {
 
   constructor(args: SeededDropoutArgs) {
     super({ name: args.name });
-    if (!(args.rate >= 0 && args.rate < 1)) throw new Error(`dropout rate must be in [0, 1), got ${args.rate}`);
+    if (!(args.rate >= 0 && args.rate < 1)) throw new InternalError(`dropout rate must be in [0, 1), got ${args.rate}`);
     this.rate = args.rate;
     this.random = createRandom(`dropout ${args.seed}`);
     this.supportsMasking = true;

@@ -18,7 +18,7 @@ import {
 import { currentBackend } from './backend.js';
 import { BatchAssembler, checkSamples, identityOrder, shuffleInPlace } from './batches.js';
 import { buildModel } from './build-model.js';
-import { GenomeTooLargeError, InvalidGenomeError } from './errors.js';
+import { GenomeTooLargeError, InvalidGenomeError, ShardMismatchError } from './errors.js';
 import { crossEntropy, evaluateModel } from './evaluate-model.js';
 import { singleSampleLatencyMs } from './measure-latency.js';
 import { estimateTrainingBytes } from './memory-estimate.js';
@@ -126,7 +126,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   if (val) checkSamples(val, sampleLength, data.numClasses, 'validation', !!target);
   // Regression: accuracy is the fitness 1 / (1 + standardised RMSE) and loss the mean squared error.
   const score = (samples: LabelledSamples) => (target ? evaluateRegression(model, samples) : evaluateModel(model, samples));
-  if (train.count === 0) throw new Error('the train split is empty; a dataset needs training samples');
+  if (train.count === 0) throw new ShardMismatchError('the train split is empty; a dataset needs training samples');
   const backend = currentBackend();
 
   const started = performance.now();

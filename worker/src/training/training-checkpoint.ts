@@ -12,6 +12,7 @@ import {
   type RandomState,
   type TrainingStart,
 } from '@netbreeder/shared-types';
+import { TrainingError } from './errors.js';
 import { SeededDropout } from './seeded-dropout.js';
 import { planWeightCopy } from './weight-inheritance.js';
 
@@ -56,8 +57,12 @@ export interface StartState {
   rebuild?: boolean;
 }
 
-/** A checkpoint that does not fit the training it was offered to. */
-class CheckpointMismatchError extends Error {}
+/** A checkpoint that does not fit the training it was offered to (caught below: the training starts from epoch 0). */
+class CheckpointMismatchError extends TrainingError {
+  constructor(message: string) {
+    super(message, 'NB_CHECKPOINT_MISMATCH');
+  }
+}
 
 const dropoutLayers = (model: tf.LayersModel) => model.layers.filter((l): l is SeededDropout => l instanceof SeededDropout);
 const weightArrays = (model: tf.LayersModel): CheckpointArray[] =>

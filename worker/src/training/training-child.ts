@@ -4,9 +4,9 @@
  * decoded shard in memory, so consecutive jobs on one dataset read the file once.
  */
 import { readFile, stat } from 'node:fs/promises';
-import { concatSamples, decodeShard, sampleSize, sliceSamples, type TrainingShard } from '@netbreeder/shared-types';
+import { concatSamples, decodeShard, NetbreederError, sampleSize, sliceSamples, type TrainingShard } from '@netbreeder/shared-types';
 import { initBackend } from './backend.js';
-import { TrainingError } from './errors.js';
+import { ShardMismatchError, TrainingError } from './errors.js';
 import type { ChildMessage, ChildTrainRequest, ParentMessage } from './training-protocol.js';
 import { trainGenome } from './train-genome.js';
 
@@ -20,8 +20,9 @@ let cached: { key: string; shard: TrainingShard } | null = null;
 
 /** A shard whose decoded size (about its file size: float32 values) is above the worker's memory cap: do not retry. */
 class ShardTooLargeError extends TrainingError {
-  override readonly code = 'NB_DATASET_TOO_LARGE';
-  override readonly retryable = false;
+  constructor(message: string) {
+    super(message, 'NB_DATASET_TOO_LARGE');
+  }
 }
 
 async function loadShard(path: string, memoryCapMb: number | undefined): Promise<TrainingShard> {
@@ -39,11 +40,6 @@ async function loadShard(path: string, memoryCapMb: number | undefined): Promise
     cached = { key, shard: decodeShard(await readFile(path)) };
   }
   return cached.shard;
-}
-
-class ShardMismatchError extends TrainingError {
-  override readonly code = 'NB_SHARD_MISMATCH';
-  override readonly retryable = false;
 }
 
 async function train(id: number, request: ChildTrainRequest): Promise<void> {
@@ -100,17 +96,15 @@ process.on('message', (message: ParentMessage) => {
     try {
       await train(id, request);
     } catch (err) {
-      const ours = err instanceof TrainingError;
       await send({
         type: 'error',
         id,
         message: err instanceof Error ? err.message : String(err),
-        code: ours ? err.code : 'NB_TRAINING_FAILED',
-        retryable: ours ? err.retryable : true,
+        code: err instanceof NetbreederError ? err.code : 'NB_TRAINING_FAILED',
       });
-      // An error we did not raise on purpose may leave the backend's heap in a bad state: start
-      // the next job in a fresh process.
-      if (!ours) process.exit(1);
+      // An error the training engine did not raise on purpose may leave the backend's heap in a
+      // bad state: start the next job in a fresh process.
+      if (!(err instanceof TrainingError)) process.exit(1);
     }
   });
 });

@@ -196,7 +196,7 @@ export class TrainingProcess {
     } else if (message.type === 'done') {
       job.resolve(message.outcome);
     } else {
-      job.reject(new RemoteTrainingError(message.message, message.code, message.retryable));
+      job.reject(new RemoteTrainingError(message.message, message.code));
     }
   }
 

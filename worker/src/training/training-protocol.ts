@@ -40,4 +40,4 @@ export type ChildMessage =
   | { type: 'epoch'; id: number; record: EpochRecord }
   | { type: 'checkpoint'; id: number; epoch: number; final: boolean; bytes: Uint8Array }
   | { type: 'done'; id: number; outcome: TrainOutcome }
-  | { type: 'error'; id: number; message: string; code: string; retryable: boolean };
+  | { type: 'error'; id: number; message: string; code: string };

@@ -1,4 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
+import { InternalError } from '@netbreeder/shared-types';
 
 /**
  * Batch normalisation in training mode as two kernels of our own (wasm only), instead of the
@@ -147,11 +148,11 @@ export function normalizeGradient(input: BatchNormGradInputs, epsilon: number, d
 
 function checkInputs(kernel: string, x: tf.TensorInfo, named: Record<string, tf.TensorInfo>): number {
   const channels = x.shape[x.shape.length - 1];
-  if (x.shape.length < 2 || channels == null || channels === 0) throw new Error(`${kernel}: x must have rank ≥ 2 and a non-empty last (channel) axis, got shape [${x.shape.join(', ')}]`);
+  if (x.shape.length < 2 || channels == null || channels === 0) throw new InternalError(`${kernel}: x must have rank ≥ 2 and a non-empty last (channel) axis, got shape [${x.shape.join(', ')}]`);
   for (const [name, t] of Object.entries(named)) {
-    if (t.dtype !== 'float32') throw new Error(`${kernel}: ${name} must be float32, got ${t.dtype}`);
+    if (t.dtype !== 'float32') throw new InternalError(`${kernel}: ${name} must be float32, got ${t.dtype}`);
     const expected = name === 'dy' || name === 'x' ? x.shape : [channels];
-    if (!tf.util.arraysEqual(t.shape, expected)) throw new Error(`${kernel}: ${name} must have shape [${expected.join(', ')}], got [${t.shape.join(', ')}]`);
+    if (!tf.util.arraysEqual(t.shape, expected)) throw new InternalError(`${kernel}: ${name} must have shape [${expected.join(', ')}], got [${t.shape.join(', ')}]`);
   }
   return channels;
 }
@@ -167,7 +168,7 @@ export const batchNormTraining: tf.KernelFunc = ({ inputs, attrs, backend }) => 
   // Views after every allocation: an allocation may grow the heap and detach older views.
   const f32 = (t: tf.TensorInfo) => heap.typedArrayFromHeap(t) as Float32Array;
   const [xs, means, variances] = [f32(x), f32(mean), f32(variance)];
-  if (xs.length === 0) throw new Error(`${BATCH_NORM_TRAINING}: x is empty (shape [${x.shape.join(', ')}]); a batch needs at least one sample`);
+  if (xs.length === 0) throw new InternalError(`${BATCH_NORM_TRAINING}: x is empty (shape [${x.shape.join(', ')}]); a batch needs at least one sample`);
   channelMoments(xs, channels, means, variances);
   normalize(xs, means, variances, f32(scale), f32(offset), (attrs as unknown as Attrs).varianceEpsilon, f32(y));
   return [y, mean, variance];

@@ -1,6 +1,7 @@
 import * as tf from '@tensorflow/tfjs';
 import { phaseInputGradient } from './phase-input-gradient.js';
 import { pair, type KernelBackendLike, WasmOpRunner } from './wasm-op-runner.js';
+import { InternalError } from '@netbreeder/shared-types';
 
 /**
  * Convolution gradients written as forward convolutions, for the wasm backend (NHWC, dilation 1).
@@ -61,7 +62,7 @@ export function geometry(
     depthwise,
     'channelsLast',
   );
-  if (info.dilationHeight !== 1 || info.dilationWidth !== 1) throw new Error(`${kernelName}: only dilation 1 is implemented on wasm; use dilation 1`);
+  if (info.dilationHeight !== 1 || info.dilationWidth !== 1) throw new InternalError(`${kernelName}: only dilation 1 is implemented on wasm; use dilation 1`);
   return {
     batch: info.batchSize,
     inHeight: info.inHeight,
@@ -79,7 +80,7 @@ export function geometry(
 
 export const assertNhwc = (dataFormat: unknown, kernelName: string) => {
   if (dataFormat != null && dataFormat !== 'NHWC' && dataFormat !== 'channelsLast') {
-    throw new Error(`${kernelName} on wasm supports only NHWC (channels last); got ${String(dataFormat)}`);
+    throw new InternalError(`${kernelName} on wasm supports only NHWC (channels last); got ${String(dataFormat)}`);
   }
 };
 
@@ -137,7 +138,7 @@ export function depthwiseBackpropFilter(args: { inputs: tf.NamedTensorInfoMap; b
   const filterShape = attrs['filterShape'] as number[];
   const [, , channels, multiplier] = filterShape as [number, number, number, number];
   const g = geometry(x.shape, filterShape, pair(attrs['strides'] as number), attrs['pad'], attrs['dimRoundingMode'], true, 'DepthwiseConv2dNativeBackpropFilter');
-  if (pair(attrs['dilations'] as number).some((d) => d !== 1)) throw new Error('DepthwiseConv2dNativeBackpropFilter: only dilation 1 is implemented on wasm');
+  if (pair(attrs['dilations'] as number).some((d) => d !== 1)) throw new InternalError('DepthwiseConv2dNativeBackpropFilter: only dilation 1 is implemented on wasm');
   const ops = new WasmOpRunner(args.backend as KernelBackendLike);
   const n = g.batch;
   // x [N, H, W, C] -> [1, H, W, C·N]: every (channel, sample) pair is its own depthwise channel.
@@ -171,7 +172,7 @@ export function depthwiseBackpropInput(args: { inputs: tf.NamedTensorInfoMap; ba
   const inputShape = attrs['inputShape'] as number[];
   const [, , channels, multiplier] = filter.shape as [number, number, number, number];
   const g = geometry(inputShape, filter.shape, pair(attrs['strides'] as number), attrs['pad'], attrs['dimRoundingMode'], true, 'DepthwiseConv2dNativeBackpropInput');
-  if (pair(attrs['dilations'] as number).some((d) => d !== 1)) throw new Error('DepthwiseConv2dNativeBackpropInput: only dilation 1 is implemented on wasm');
+  if (pair(attrs['dilations'] as number).some((d) => d !== 1)) throw new InternalError('DepthwiseConv2dNativeBackpropInput: only dilation 1 is implemented on wasm');
   const ops = new WasmOpRunner(args.backend as KernelBackendLike);
   const flipAndFlatten = (w: tf.TensorInfo) => {
     const flipped = ops.reverse(w, [0, 1]);

@@ -5,6 +5,7 @@ import { maxPoolGrad } from './max-pool-grad.js';
 import { makeTile } from './tile.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
 import { conv2dBackpropFilter } from './conv-filter-gradient.js';
+import { InternalError, NetbreederError } from '@netbreeder/shared-types';
 
 /** Which of our kernels are registered for wasm, and which built-in ones they replaced. */
 export interface WasmKernelRegistration {
@@ -68,7 +69,7 @@ export function registerWasmTrainingKernels(): WasmKernelRegistration {
 }
 
 const missing = (name: string): tf.KernelFunc => () => {
-  throw new Error(`the wasm backend has no built-in ${name} kernel to build on; check the @tensorflow/tfjs-backend-wasm version (4.22 expected)`);
+  throw new NetbreederError('NB_BACKEND_UNAVAILABLE', `the wasm backend has no built-in ${name} kernel to build on; check the @tensorflow/tfjs-backend-wasm version (4.22 expected)`);
 };
 
 const registered = new Map<string, tf.KernelFunc>();
@@ -82,7 +83,7 @@ export function setWasmKernelOverride(name: string, enabled: boolean): void {
   const builtIn = builtIns.get(name);
   const mine = registered.get(name);
   const optional = KERNELS.find((k) => k.name === name)?.optional === true;
-  if (!mine || (!builtIn && !optional)) throw new Error(`${name} is neither one of our replacements of a built-in wasm kernel nor an optional kernel of ours; call registerWasmTrainingKernels() first`);
+  if (!mine || (!builtIn && !optional)) throw new InternalError(`${name} is neither one of our replacements of a built-in wasm kernel nor an optional kernel of ours; call registerWasmTrainingKernels() first`);
   if (tf.getKernel(name, 'wasm')) tf.unregisterKernel(name, 'wasm');
   if (enabled) tf.registerKernel({ kernelName: name, backendName: 'wasm', kernelFunc: mine });
   else if (builtIn) tf.registerKernel(builtIn);

@@ -1,4 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
+import { InternalError, NetbreederError } from '@netbreeder/shared-types';
 
 /** The slice of the wasm backend our kernels touch: its kernels take and return TensorInfos. */
 export type KernelBackendLike = tf.KernelBackend & { disposeData(dataId: tf.DataId, force?: boolean): boolean };
@@ -20,9 +21,9 @@ export class WasmOpRunner {
 
   run(kernelName: string, inputs: tf.NamedTensorInfoMap, attrs: tf.NamedAttrMap): tf.TensorInfo {
     const kernel = tf.getKernel(kernelName, this.backendName);
-    if (!kernel) throw new Error(`the ${this.backendName} backend has no ${kernelName} kernel; register it before training`);
+    if (!kernel) throw new NetbreederError('NB_BACKEND_UNAVAILABLE', `the ${this.backendName} backend has no ${kernelName} kernel; register it before training`);
     const out = kernel.kernelFunc({ inputs, attrs, backend: this.backend });
-    if (Array.isArray(out)) throw new Error(`${kernelName} returned several outputs where one was expected`);
+    if (Array.isArray(out)) throw new InternalError(`${kernelName} returned several outputs where one was expected`);
     return out as tf.TensorInfo;
   }
 
