@@ -13,7 +13,7 @@ import { howItWasFound } from './explain-lineage.js';
 import { referenceComparison } from './reference-comparison.js';
 import { macroF1, majorityClassBaseline, perClassFigures } from './class-metrics.js';
 import { championTestRegression } from './regression-scores.js';
-import { onnxDescription, onnxExportOf } from './onnx-file.js';
+import { onnxDescription, onnxExportOf, onnxUnavailable } from './onnx-file.js';
 import { ONNX_INPUT, ONNX_OPSET, ONNX_OUTPUT } from '../onnx/onnx-export.js';
 import { withFitnessNames } from './fitness-names.js';
 
@@ -86,7 +86,10 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** Median time to classify one sample alone in TensorFlow.js, measured on the coordinator's CPU when it was scored; `onnxRuntime`: the ONNX graph's latency in ONNX Runtime there (one sample, a batch of 32). */
     latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null, onnxRuntime: own?.onnxLatency ?? null },
     /** `model.onnx`: the same network as an ONNX graph (opset, input and output names, what they hold). */
-    onnx: { file: 'model.onnx', opset: ONNX_OPSET, input: ONNX_INPUT, output: ONNX_OUTPUT, description: onnxDescription(run, 1) },
+    onnx: (() => {
+      const unavailable = onnxUnavailable([genome.genome]);
+      return unavailable ? { file: null, unavailable } : { file: 'model.onnx', opset: ONNX_OPSET, input: ONNX_INPUT, output: ONNX_OUTPUT, description: onnxDescription(run, 1) };
+    })(),
     /** Regression runs: the predicted column and its training-split scaling (then `validation` and `test` carry `fitness`, the search fitness 1 / (1 + standardised RMSE), instead of `accuracy`, and `regression` the scores to show). */
     target: run.dataset.manifest.target ?? null,
     validation: { ...named(champion.valAccuracy), loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
@@ -131,7 +134,11 @@ export function championSummary(store: RunStore, run: RunRecord) {
         testAccuracy: score.testAccuracy,
         championTestAccuracy: champion.testAccuracy,
         members: score.members.map((m) => ({ ...m, summary: store.getGenome(m.genomeHash)?.summary ?? '' })),
-        files: ensembleFileNames(score.members.map((m) => m.position), preprocessingFileOf(run) !== null),
+        files: ensembleFileNames(
+          score.members.map((m) => m.position),
+          preprocessingFileOf(run) !== null,
+          onnxUnavailable(score.members.map((m) => store.getGenome(m.genomeHash)!.genome)) === null,
+        ),
       };
     })(),
     /** The best `champion.topK` genomes by validation evidence, as the choice saw them (the round that made the champion). */
@@ -157,7 +164,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** Verification of the champion's search result, quarantined workers, and the run's CPU time and energy. */
     trust: championTrust(store, run, champion),
     /** The export's files; `preprocessing.json` is absent for a run from before its import was recorded. */
-    files: CHAMPION_FILES.filter((f) => f !== 'preprocessing.json' || preprocessingFileOf(run) !== null),
+    files: CHAMPION_FILES.filter((f) => (f !== 'preprocessing.json' || preprocessingFileOf(run) !== null) && (f !== 'model.onnx' || onnxUnavailable([genome.genome]) === null)),
   };
 }
 export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
@@ -193,12 +200,13 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
-    ['model.onnx', onnxExportOf(run, [{ genome: summary.genome, artifacts }])],
+    ['model.onnx', onnxUnavailable([summary.genome]) ? Buffer.alloc(0) : onnxExportOf(run, [{ genome: summary.genome, artifacts }])],
     ['preprocessing.json', json(preprocessing)],
     ['champion.json', json(championDocument(summary))],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : [], regressionTestOf(store, run)))],
   ]);
   if (!preprocessing) files.delete('preprocessing.json');
+  if (onnxUnavailable([summary.genome])) files.delete('model.onnx');
   return files;
 }

@@ -1,7 +1,7 @@
 import type { ModelArtifactsMessage, RunEventDetail } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 import { preprocessingFileOf } from './preprocessing-file.js';
-import { onnxExportOf } from './onnx-file.js';
+import { onnxExportOf, onnxUnavailable } from './onnx-file.js';
 import { withFitnessNames } from './fitness-names.js';
 
 /** Names the ensemble's files may have: its manifest and each member's model and weights. */
@@ -11,7 +11,7 @@ export const ENSEMBLE_FILE_PATTERN = '^(ensemble\\.json|model\\.onnx|preprocessi
 export type EnsembleScore = RunEventDetail<'ensemble-scored'>;
 
 /** The names of the ensemble's files for members at these positions (`preprocessing.json` only for runs that recorded it). */
-export const ensembleFileNames = (positions: readonly number[], withPreprocessing: boolean): string[] => ['ensemble.json', 'model.onnx', ...(withPreprocessing ? ['preprocessing.json'] : []), ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
+export const ensembleFileNames = (positions: readonly number[], withPreprocessing: boolean, withOnnx = true): string[] => ['ensemble.json', ...(withOnnx ? ['model.onnx'] : []), ...(withPreprocessing ? ['preprocessing.json'] : []), ...positions.flatMap((p) => [`member-${p + 1}.model.json`, `member-${p + 1}.weights.bin`])];
 
 /** The run's scored ensemble, or null when it has none. */
 export function ensembleScore(store: RunStore, runId: string): EnsembleScore | null {
@@ -70,13 +70,8 @@ export function ensembleFiles(store: RunStore, run: RunRecord): Map<string, Buff
   files.set('ensemble.json', json(m.target ? withFitnessNames(manifest) : manifest));
   const preprocessing = preprocessingFileOf(run);
   if (preprocessing) files.set('preprocessing.json', json(preprocessing));
-  files.set(
-    'model.onnx',
-    onnxExportOf(
-      run,
-      members.map((mem) => ({ genome: store.getGenome(mem.genomeHash)!.genome, artifacts: JSON.parse(mem.artifactsJson) as ModelArtifactsMessage })),
-    ),
-  );
+  const networks = members.map((mem) => ({ genome: store.getGenome(mem.genomeHash)!.genome, artifacts: JSON.parse(mem.artifactsJson) as ModelArtifactsMessage }));
+  if (!onnxUnavailable(networks.map((n) => n.genome))) files.set('model.onnx', onnxExportOf(run, networks));
   for (const mem of members) {
     const artifacts = JSON.parse(mem.artifactsJson) as ModelArtifactsMessage;
     const name = `member-${mem.position + 1}`;

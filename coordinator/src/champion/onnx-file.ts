@@ -1,6 +1,7 @@
 import { dataShapeOf } from '@netbreeder/shared-types';
 import type { RunRecord } from '../store/run-store.js';
 import { ONNX_INPUT, ONNX_OPSET, ONNX_OUTPUT, onnxModelBytes, type OnnxNetwork } from '../onnx/onnx-export.js';
+import { onnxUnsupported } from '../onnx/genome-to-onnx.js';
 import type { OnnxLatency, OnnxLatencyUnavailable } from '../onnx/onnx-latency.js';
 import { COORDINATOR_VERSION } from '../version.js';
 
@@ -14,6 +15,9 @@ export function onnxDescription(run: RunRecord, members: number): string {
     : `'${ONNX_OUTPUT}', batch × ${m.numClasses}: class probabilities${members > 1 ? ' (the mean of the members\')' : ''} in the order of ${JSON.stringify(m.classNames)}`;
   return `netbreeder run ${run.id}: ${what}, ONNX opset ${ONNX_OPSET}. Input '${ONNX_INPUT}', float32, ${input}, prepared as preprocessing.json says. Output ${output}.`;
 }
+
+/** Why these genomes get no `model.onnx` (a layer kind the export does not write), or null. */
+export const onnxUnavailable = (genomes: ReadonlyArray<OnnxNetwork['genome']>): string | null => genomes.map(onnxUnsupported).find((r) => r !== null) ?? null;
 
 /** The run's ONNX model of these trained networks (one: the champion; several: their averaging ensemble). */
 export function onnxExportOf(run: RunRecord, networks: readonly OnnxNetwork[]): Buffer {

@@ -60,6 +60,15 @@ export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: Da
   return data.target ? logits : graph.op('Softmax', [logits], 'head.softmax', [intAttr('axis', 1)]);
 }
 
+/** Layer kinds the ONNX export writes (every kind of the search space today). */
+export const ONNX_LAYER_KINDS: ReadonlySet<LayerNode['kind']> = new Set(['dense', 'conv2d', 'depthwise-conv2d', 'max-pool2d', 'avg-pool2d', 'dropout', 'batch-norm', 'activation', 'flatten', 'global-avg-pool', 'global-max-pool', 'add', 'concat', 'repeat']);
+
+/** Why a genome cannot be written as ONNX (a layer kind the export does not map), or null when it can. */
+export function onnxUnsupported(genome: Genome): string | null {
+  const kinds = new Set([...genome.nodes, ...(genome.motifs ?? []).flatMap((m) => m.nodes)].map((n) => n.kind).filter((k) => !ONNX_LAYER_KINDS.has(k)));
+  return kinds.size ? `the ONNX export does not write ${[...kinds].join(', ')} layers yet; use model.json (TensorFlow.js)` : null;
+}
+
 type WeightOf = (layer: string, name: string) => NamedWeight;
 
 /** The ONNX operators of one layer node; `inShape` is its first input's sample shape (TensorFlow.js order). */

@@ -7,7 +7,7 @@ import { createRandom, GENOME_SCHEMA_VERSION, type DataShape, type Genome, type 
 import { buildModel } from '@netbreeder/worker';
 import { onnxModelBytes, ONNX_INPUT, ONNX_OPSET, ONNX_OUTPUT, type OnnxNetwork } from './onnx-export.js';
 import { decodeOnnxModel } from './onnx-messages.js';
-import { samePads } from './genome-to-onnx.js';
+import { onnxUnsupported, samePads } from './genome-to-onnx.js';
 
 /**
  * The ONNX export against ONNX Runtime (`onnxruntime-node`, the general-purpose reference runtime
@@ -193,6 +193,12 @@ describe('ONNX export in ONNX Runtime', () => {
     expect(samePads([28, 27, 1], 4, 3, 'same')).toEqual([1, 0, 2, 1]);
     expect(samePads([5, 5, 1], 3, 1, 'same')).toEqual([1, 1, 1, 1]);
     expect(samePads([5, 5, 1], 3, 1, 'valid')).toEqual([0, 0, 0, 0]);
+  });
+
+  it('names the layer kinds it does not write, and has none in the search space today', () => {
+    for (const { genome: g } of GRID) expect(onnxUnsupported(g)).toBeNull();
+    const future = { ...genome([], 'input'), nodes: [{ id: 'q', kind: 'lstm', inputs: ['input'] } as unknown as LayerNode] };
+    expect(onnxUnsupported(future)).toMatch(/does not write lstm layers yet; use model.json/);
   });
 
   it('refuses weights the genome does not name', async () => {
