@@ -140,6 +140,7 @@ describe('a multi-objective run: decisions, replay, front, pick, ensemble', () =
     const code = await pickCommand([run.id, picked, '--coordinator', url, '--admin-token', cluster.coordinator.secrets.adminToken], out.stream);
     expect(code).toBe(0);
     expect(out.text()).toContain(picked.slice(0, 12));
+    expect(out.text()).toMatch(/, validation \d+\.\d{2}%\) will be the champion/);
     expect(cluster.coordinator.store.events(run.id, 'champion-picked')).toHaveLength(1);
     expect((await fetch(`${url}/runs/${run.id}/resume`, { method: 'POST', headers: bearer() })).status).toBe(200);
   });

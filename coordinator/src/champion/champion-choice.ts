@@ -1,4 +1,4 @@
-import { NetbreederError, rmseFromFitness, type ChampionChoice, type ChampionRule, type EnsembleSettings } from '@netbreeder/shared-types';
+import { fitnessInWords, NetbreederError, type ChampionChoice, type ChampionRule, type EnsembleSettings } from '@netbreeder/shared-types';
 import type { EvaluationRecord, RunRecord, RunStore } from '../store/run-store.js';
 import { selectEnsemble, type EnsemblePick } from './ensemble-selection.js';
 import { rankByValidation } from './validation-evidence.js';
@@ -41,8 +41,7 @@ export function describeRule(rule: ChampionRule): string {
 /** One sentence for the report: which choice made the champion (a regression run's scores as validation RMSE in the target's units, `target` its scaling). */
 export function describeChoice(choice: ChampionChoice, target?: { std: number }): string {
   if (choice.by === 'pick') {
-    const score = target ? `RMSE ${Number((rmseFromFitness(choice.valAccuracy) * target.std).toPrecision(4))}` : `${(choice.valAccuracy * 100).toFixed(2)}%`;
-    return `Picked by the user: genome \`${choice.genomeHash.slice(0, 12)}\` (its best search result, evaluation ${choice.evaluationId}, validation ${score}), trained again and scored once on the test split.`;
+    return `Picked by the user: genome \`${choice.genomeHash.slice(0, 12)}\` (its best search result, evaluation ${choice.evaluationId}, validation ${fitnessInWords(choice.valAccuracy, target)}), trained again and scored once on the test split.`;
   }
   if (choice.by === 'rule') return `By the run's champion rule: the best validation ${target ? 'RMSE' : 'accuracy'} among results with ${describeRule(choice.rule)}.`;
   return `The best validation evidence of the search${choice.note ? ` (${choice.note})` : ''}.`;

@@ -235,7 +235,7 @@ async function exportCommand(argv: string[]): Promise<number> {
   const diversityPenalty = numberOption('diversity-penalty', values['diversity-penalty'], 0, 1, false);
   if (size !== undefined) {
     await requestEnsembleAndWait(values.coordinator ?? coordinatorDefault(), values.run, { size, ...(diversityPenalty === undefined ? {} : { diversityPenalty }) }, token, (a) =>
-      process.stdout.write(`training an ensemble of ${a.members.length}: ${a.members.map((m) => `${m.genomeHash.slice(0, 12)} (${(m.valAccuracy * 100).toFixed(1)}%, similarity ${m.similarity.toFixed(2)})`).join(', ')}\n`),
+      process.stdout.write(`training an ensemble of ${a.members.length}: ${a.members.map((m) => `${m.genomeHash.slice(0, 12)} (${m.validation ?? `${(m.valAccuracy * 100).toFixed(1)}%`}, similarity ${m.similarity.toFixed(2)})`).join(', ')}\n`),
     );
   } else if (diversityPenalty !== undefined) throw new NetbreederError('NB_BAD_USAGE', '--diversity-penalty goes with --ensemble K');
   const files = await downloadChampion(values.coordinator ?? coordinatorDefault(), values.run, values.out, token, (name, bytes) =>

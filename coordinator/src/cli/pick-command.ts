@@ -31,6 +31,6 @@ export async function pickCommand(argv: string[], out: NodeJS.WritableStream = p
   const base = values.coordinator ?? process.env.NETBREEDER_COORDINATOR_URL ?? `http://127.0.0.1:${DEFAULT_PORT}`;
   const picked = await new CoordinatorClient(base, token).pick(runId, genomeHash);
   const when = picked.retraining ? 'is being trained again and will replace the champion' : 'will be the champion when the search ends';
-  out.write(`run ${picked.runId}: ${picked.genomeHash.slice(0, 12)} (evaluation ${picked.evaluationId}, validation ${(picked.valAccuracy * 100).toFixed(2)}%) ${when}\n`);
+  out.write(`run ${picked.runId}: ${picked.genomeHash.slice(0, 12)} (evaluation ${picked.evaluationId}, ${picked.validation ?? `validation ${(picked.valAccuracy * 100).toFixed(2)}%`}) ${when}\n`);
   return 0;
 }

@@ -8,6 +8,7 @@ import {
   EnsembleRequestSchema,
   EnsembleSettingsSchema,
   FrontResponseSchema,
+  fitnessInWords,
   type EnsembleRequestResponse,
   type EnsembleSettings,
   type ChampionPickResponse,
@@ -16,6 +17,7 @@ import {
 import { paretoFront, type Observation, type SizeObjective } from '../search/index.js';
 import type { RunManager } from '../run/run-manager.js';
 import { pickChampion, requestEnsemble } from '../champion/champion-choice.js';
+import type { RunRecord } from '../store/run-store.js';
 import { ensembleFiles, ENSEMBLE_FILE_PATTERN } from '../champion/ensemble-files.js';
 import { HttpError } from './error-codes.js';
 
@@ -91,7 +93,7 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
       // A refusal is a ChampionChoiceError, whose code (NB_RUN_STATE, NB_NOT_A_RESULT) the error handler answers with.
       const picked = pickChampion(store, run.id, genomeHash, Date.now(), opts.manager.currentRun()?.id ?? null);
       if (picked.retraining) void opts.manager.tick(); // queue its final training now, not at the next pass
-      return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, retraining: picked.retraining };
+      return { runId: run.id, genomeHash, evaluationId: picked.evaluationId, valAccuracy: picked.valAccuracy, validation: validationInWords(run, picked.valAccuracy), retraining: picked.retraining };
     },
   );
 
@@ -103,7 +105,7 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
       const settings = Value.Default(EnsembleSettingsSchema, structuredClone(req.body)) as EnsembleSettings;
       const asked = requestEnsemble(store, run.id, settings, Date.now(), opts.manager.currentRun()?.id ?? null);
       void opts.manager.tick(); // queue the members' trainings now
-      const answer: EnsembleRequestResponse = { runId: run.id, ...asked };
+      const answer: EnsembleRequestResponse = { runId: run.id, round: asked.round, members: asked.members.map((m) => ({ ...m, validation: validationInWords(run, m.valAccuracy) })) };
       return reply.status(202).send(answer);
     },
   );
@@ -121,3 +123,9 @@ export function registerChampionChoiceRoutes(app: FastifyInstance, opts: { manag
     },
   );
 }
+
+/** A run's validation fitness for a person (a percentage, or a regression run's RMSE in its target's units). */
+const validationInWords = (run: RunRecord, fitness: number): string => {
+  const target = run.dataset.manifest.target;
+  return `validation ${fitnessInWords(fitness, target)}${target ? ` ${target.column}` : ''}`;
+};

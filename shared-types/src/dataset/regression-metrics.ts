@@ -42,3 +42,10 @@ export const regressionFitness = (standardizedRmse: number): number => 1 / (1 + 
 
 /** The standardised RMSE a {@link regressionFitness} came from. */
 export const rmseFromFitness = (fitness: number): number => (fitness > 0 ? 1 / fitness - 1 : Infinity);
+
+/**
+ * A search fitness told to a person: a classifier's as a percentage (two decimals), a regression
+ * run's (`target`: its scaling) as the validation RMSE in the target's units (4 significant digits).
+ */
+export const fitnessInWords = (fitness: number, target?: { std: number } | null): string =>
+  target ? `RMSE ${Number((rmseFromFitness(fitness) * target.std).toPrecision(4))}` : `${(fitness * 100).toFixed(2)}%`;

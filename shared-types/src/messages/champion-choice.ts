@@ -15,6 +15,8 @@ export const ChampionPickResponseSchema = Type.Object(
     genomeHash: GenomeHash,
     evaluationId: Type.String(),
     valAccuracy: Type.Number({ minimum: 0, maximum: 1 }),
+    /** Its validation score in words for a person: a percentage, or a regression run's RMSE in the target's units. */
+    validation: Type.Optional(Type.String({ maxLength: 200 })),
     /** True when the run had finished: the picked genome is being trained now and replaces the champion when done. */
     retraining: Type.Boolean(),
   },
@@ -72,7 +74,16 @@ export const EnsembleRequestResponseSchema = Type.Object(
     /** The champion round training them; GET /runs/:id/champion shows `ensemble.round` equal to it once scored. */
     round: Type.Integer({ minimum: 1 }),
     members: Type.Array(
-      Type.Object({ genomeHash: GenomeHash, valAccuracy: Type.Number(), similarity: Type.Number({ minimum: 0, maximum: 1 }) }, { additionalProperties: false }),
+      Type.Object(
+        {
+          genomeHash: GenomeHash,
+          valAccuracy: Type.Number(),
+          /** Its validation score in words for a person: a percentage, or a regression run's RMSE in the target's units. */
+          validation: Type.Optional(Type.String({ maxLength: 200 })),
+          similarity: Type.Number({ minimum: 0, maximum: 1 }),
+        },
+        { additionalProperties: false },
+      ),
     ),
   },
   { additionalProperties: false },
