@@ -43,7 +43,6 @@ export { evaluationSeed } from './proposal-recorder.js';
 /** The event each control logs. */
 const CONTROL_EVENTS = { pause: 'run-paused', resume: 'run-searching', stop: 'run-stopped', finish: 'run-finish-requested' } as const satisfies Record<RunControl, RunEventKind>;
 
-
 /**
  * Drives one run: keeps the queue topped up with proposals from the search algorithm, records each
  * result once (by evaluation id) and feeds it back, reissues failed attempts up to the run's limit,
@@ -52,6 +51,11 @@ const CONTROL_EVENTS = { pause: 'run-paused', resume: 'run-searching', stop: 'ru
  * Asynchronous by design: a new proposal is made whenever a result arrives or a worker frees up,
  * never after a generation barrier. Everything it decides is written to the store first, so a
  * restarted coordinator resumes the same run from the store ({@link RunManager.resume}).
+ *
+ * About 430 lines, kept in one file on purpose: this class is the one owner of a run's mutable
+ * state (the algorithm, the sample budget, the queue slack), and each method here reads or changes
+ * it; the work without that state is already in this folder's other files (proposal-recorder,
+ * failed-attempts, search-record, reconcile-loop, queue-batch, prepare-run, store-dataset).
  */
 export class RunManager {
   private run: RunRecord | null = null;
