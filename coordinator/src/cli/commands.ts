@@ -96,9 +96,10 @@ const EXPORT_HELP = `netbreeder export: download a run's champion into a folder.
 
 Usage: netbreeder export --run ID --out DIR [--ensemble K [--diversity-penalty P]] [--coordinator URL] [--admin-token T]
 
-Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), champion.json, report.md,
-report.html; and, when the run file asked for an averaging ensemble (champion.ensemble), its
-members and ensemble.json into DIR/ensemble/. --ensemble K asks the coordinator that ran the
+Writes genome.json, model.json + weights.bin (TensorFlow.js layers model), model.onnx (the same
+network as an ONNX graph), preprocessing.json, champion.json, report.md, report.html; and, when the
+run file asked for an averaging ensemble (champion.ensemble), its members, ensemble.json and
+model.onnx into DIR/ensemble/. --ensemble K asks the coordinator that ran the
 finished run for a new averaging ensemble of K accurate, mutually different genomes (the most
 accurate first, then each time the best validation accuracy minus P, default 0.05, times its
 largest architecture similarity to a member already chosen), waits while they are trained again

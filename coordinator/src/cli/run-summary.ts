@@ -2,6 +2,7 @@ import { join, resolve } from 'node:path';
 import { describeGenome, type StatusResponse } from '@netbreeder/shared-types';
 import type { Coordinator } from '../coordinator.js';
 import { fourDigits } from '../champion/regression-scores.js';
+import { onnxUnavailable } from '../champion/onnx-file.js';
 import { pct } from './format.js';
 
 /**
@@ -25,7 +26,7 @@ export function runSummary(coordinator: Coordinator, runId: string, status: Stat
   if (reference?.referenceTestRmse != null) lines.push(`  reference:   RMSE ${fourDigits(reference.referenceTestRmse)} on the same held-out samples (the hand-made network, trained the same way)`);
   else if (reference?.referenceTestAccuracy != null) lines.push(`  reference:   ${pct(reference.referenceTestAccuracy)} on the same held-out samples (the hand-made network, trained the same way)`);
   if (reference) lines.push(`  ${reference.line}`);
-  lines.push(`  exported to: ${exportDir} (model.json + weights.bin, preprocessing.json, genome.json, report.md, report.html)`);
+  lines.push(`  exported to: ${exportDir} (model.json + weights.bin, ${onnxUnavailable([genome.genome]) ? '' : 'model.onnx, '}preprocessing.json, genome.json, report.md, report.html)`);
   lines.push(`  predict:     netbreeder predict --model ${exportDir} --input ${newDataHint(run.config.dataset.kind)}`);
   return `${lines.join('\n')}\n`;
 }
