@@ -1,3 +1,4 @@
+import { defaultServerConditions } from 'vite';
 import { defineConfig } from 'vitest/config';
 
 /**
@@ -8,10 +9,14 @@ import { defineConfig } from 'vitest/config';
  * has its own queue prefix, ports (port 0), folders and private Redis servers, so they never meet.
  * Run one file with `npx vitest run path/to/file.test.ts`.
  */
+/** Our packages resolve to their TypeScript sources (their `source` export condition), never to a built `dist/`. */
+const sourceFirst = { ssr: { resolve: { conditions: ['source', ...defaultServerConditions] } } };
+
 export default defineConfig({
   test: {
     projects: [
       {
+        ...sourceFirst,
         test: {
           name: 'unit',
           include: ['shared-types/src/**/*.test.ts', 'coordinator/src/**/*.test.ts', 'worker/src/**/*.test.ts'],
@@ -19,6 +24,7 @@ export default defineConfig({
         },
       },
       {
+        ...sourceFirst,
         test: {
           name: 'integration',
           include: ['tests/src/**/*.test.ts'],
