@@ -1,6 +1,9 @@
 import { defaultServerConditions } from 'vite';
 import { defineConfig } from 'vitest/config';
 
+/** Our packages resolve to their TypeScript sources (their `source` export condition), never to a built `dist/`. */
+const sourceFirst = { ssr: { resolve: { conditions: ['source', ...defaultServerConditions] } } };
+
 /**
  * Two projects: `unit` (pure logic, fast, beside the code it checks) and
  * `integration` (real Redis, real worker processes, real training; in tests/). Two integration
@@ -9,9 +12,6 @@ import { defineConfig } from 'vitest/config';
  * has its own queue prefix, ports (port 0), folders and private Redis servers, so they never meet.
  * Run one file with `npx vitest run path/to/file.test.ts`.
  */
-/** Our packages resolve to their TypeScript sources (their `source` export condition), never to a built `dist/`. */
-const sourceFirst = { ssr: { resolve: { conditions: ['source', ...defaultServerConditions] } } };
-
 export default defineConfig({
   test: {
     projects: [
