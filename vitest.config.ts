@@ -1,4 +1,8 @@
+import { defaultServerConditions } from 'vite';
 import { defineConfig } from 'vitest/config';
+
+/** Our packages resolve to their TypeScript sources (their `source` export condition), never to a built `dist/`. */
+const sourceFirst = { ssr: { resolve: { conditions: ['source', ...defaultServerConditions] } } };
 
 /**
  * Two projects: `unit` (pure logic, fast, beside the code it checks) and
@@ -12,6 +16,7 @@ export default defineConfig({
   test: {
     projects: [
       {
+        ...sourceFirst,
         test: {
           name: 'unit',
           include: ['shared-types/src/**/*.test.ts', 'coordinator/src/**/*.test.ts', 'worker/src/**/*.test.ts'],
@@ -19,6 +24,7 @@ export default defineConfig({
         },
       },
       {
+        ...sourceFirst,
         test: {
           name: 'integration',
           include: ['tests/src/**/*.test.ts'],

@@ -6,7 +6,7 @@
  *   data/glaze-crops/<class>/    16×16 PNG crops of glazed surfaces: glossy, pinholed, crawled
  *   data/shelf-heat-*-ubyte      IDX files of 8×8 thermal maps of a kiln shelf: even, hot-front, hot-back
  *
- * Nothing here is real data. Run from the repository root: `npx tsx examples/make-example-data.ts`.
+ * Nothing here is real data. Run from the repository root: `npx tsx --conditions=source examples/make-example-data.ts`.
  */
 import { mkdir, rm, writeFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';

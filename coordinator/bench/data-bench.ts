@@ -12,16 +12,15 @@ import { spawn } from 'node:child_process';
 import { mkdir, mkdtemp, rm, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath, pathToFileURL } from 'node:url';
-import { createRequire } from 'node:module';
+import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { PNG } from 'pngjs';
 import { createRandom, type RunConfig } from '@netbreeder/shared-types';
+import { sourceNodeArgs } from '@netbreeder/worker';
 import { parseRunConfig } from '../src/config/run-config.js';
 import { loadDataset } from '../src/importers/index.js';
 
 const here = fileURLToPath(import.meta.url);
-const require = createRequire(import.meta.url);
 
 interface ImportFigures {
   seconds: number;
@@ -52,7 +51,7 @@ async function importOnce(configJson: string): Promise<void> {
 
 function runChild(config: RunConfig): Promise<ImportFigures> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ['--import', pathToFileURL(require.resolve('tsx')).href, here, '--child', JSON.stringify(config)], {
+    const child = spawn(process.execPath, [...sourceNodeArgs(), here, '--child', JSON.stringify(config)], {
       stdio: ['ignore', 'pipe', 'inherit'],
       env: { ...process.env, NETBREEDER_LOG_LEVEL: 'warn' },
     });

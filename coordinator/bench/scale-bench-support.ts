@@ -3,12 +3,11 @@ import { fork, type ChildProcess } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
 import { mkdirSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { fileURLToPath, pathToFileURL } from 'node:url';
-import { createRequire } from 'node:module';
+import { fileURLToPath } from 'node:url';
 import { monitorEventLoopDelay } from 'node:perf_hooks';
 import { Session } from 'node:inspector/promises';
 import { Queue } from 'bullmq';
-import { openRedis } from '@netbreeder/worker';
+import { openRedis, sourceNodeArgs } from '@netbreeder/worker';
 import { Coordinator } from '../src/coordinator.js';
 import { createLogger } from '../src/logger.js';
 import { parseRunConfig } from '../src/config/run-config.js';
@@ -23,14 +22,13 @@ export const percentile = (values: number[], p: number) => {
   const s = [...values].sort((a, b) => a - b);
   return s.length ? s[Math.min(s.length - 1, Math.floor(p * s.length))]! : 0;
 };
-export const TSX_LOADER = pathToFileURL(createRequire(import.meta.url).resolve('tsx')).href;
 export const FLEET_ENTRY = fileURLToPath(new URL('./scale-fleet.ts', import.meta.url));
 
 /** A fleet child process and its IPC. */
 export class Fleet {
   private constructor(private readonly child: ChildProcess) {}
   static async start(config: FleetChildConfig): Promise<Fleet> {
-    const child = fork(FLEET_ENTRY, [JSON.stringify(config)], { execArgv: ['--import', TSX_LOADER, ...(process.env.NB_FLEET_PROF ? ['--cpu-prof', `--cpu-prof-dir=${process.env.NB_FLEET_PROF}`] : [])], stdio: ['ignore', 'inherit', 'inherit', 'ipc'] });
+    const child = fork(FLEET_ENTRY, [JSON.stringify(config)], { execArgv: [...sourceNodeArgs(), ...(process.env.NB_FLEET_PROF ? ['--cpu-prof', `--cpu-prof-dir=${process.env.NB_FLEET_PROF}`] : [])], stdio: ['ignore', 'inherit', 'inherit', 'ipc'] });
     await new Promise<void>((resolve, reject) => {
       child.once('message', (m: FleetChildMessage) => (m.type === 'ready' ? resolve() : reject(new Error('fleet did not start'))));
       child.once('exit', (code) => reject(new Error(`fleet child exited with code ${code} before it was ready`)));

@@ -13,7 +13,7 @@ export { championFiles, championSummary, CHAMPION_FILES } from './champion/champ
 export { exportChampion } from './champion/export-champion.js';
 export { createHttpServer } from './http/server.js';
 export { createLogger } from './logger.js';
-export { spawnWorker, tsxNodeArgs, workerCliPath } from './cli/spawn-worker.js';
+export { spawnWorker } from './cli/spawn-worker.js';
 export { ensureRedis, freeLoopbackPort, redisAnswers } from './cli/local-redis.js';
 export { prepareRun, type PreparedRun } from './run/prepare-run.js';
 export { downloadChampion, requestEnsembleAndWait } from './cli/export-command.js';

@@ -54,12 +54,28 @@ describe('docker-compose.yml', () => {
     expect(env('coordinator').NETBREEDER_ADMIN_TOKEN).toMatch(/^\$\{NETBREEDER_ADMIN_TOKEN:\?/);
   });
 
-  it('builds from a Dockerfile whose entry point exists', () => {
-    const dockerfile = readFileSync(join(root, 'Dockerfile'), 'utf8');
-    const entry = /ENTRYPOINT \[(.*)\]/.exec(dockerfile)?.[1];
-    expect(entry).toBeDefined();
-    const script = JSON.parse(`[${entry}]`).find((p: string) => p.endsWith('.ts')) as string;
-    expect(existsSync(join(root, script))).toBe(true);
-    expect(dockerfile).toMatch(/npm ci/);
+  const dockerfile = readFileSync(join(root, 'Dockerfile'), 'utf8');
+  /** The stages of the Dockerfile by name (the unnamed last one is the default image). */
+  const stages = new Map(dockerfile.split(/^(?=FROM )/m).slice(1).map((stage) => [/^FROM \S+(?: AS (\S+))?/.exec(stage)![1] ?? 'default', stage]));
+  /** The file an ENTRYPOINT runs with node, as the TypeScript source it is compiled from. */
+  const entrySource = (stage: string): string => {
+    const entry = JSON.parse(`[${/ENTRYPOINT \[(.*)\]/.exec(stage)![1]}]`) as string[];
+    expect(entry[0]).toBe('node');
+    expect(entry[1]).toMatch(/\/dist\/.*\.js$/);
+    return entry[1]!.replace(/^node_modules\/@netbreeder\//, '').replace('/dist/', '/src/').replace(/\.js$/, '.ts');
+  };
+
+  it('builds a default image whose entry point is the compiled coordinator CLI', () => {
+    expect([...stages.keys()]).toEqual(['build', 'worker', 'default']);
+    expect(stages.get('build')).toMatch(/npm ci/);
+    expect(stages.get('build')).toMatch(/npm pack --workspace shared-types --workspace worker --pack-destination \/packs/);
+    expect(existsSync(join(root, entrySource(stages.get('default')!)))).toBe(true);
+  });
+
+  it('builds a slim worker image from the packed worker alone, with no compiler and no install scripts', () => {
+    const worker = stages.get('worker')!;
+    expect(worker).toMatch(/npm install --omit=dev --omit=optional --ignore-scripts .*\/packs\/\*\.tgz/);
+    expect(worker).not.toMatch(/g\+\+|python3|COPY coordinator/);
+    expect(entrySource(worker)).toBe('worker/src/cli.ts');
   });
 });

@@ -1,7 +1,7 @@
 import { spawn } from 'node:child_process';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { tsxNodeArgs } from '@netbreeder/coordinator';
+import { sourceNodeArgs } from '@netbreeder/worker';
 import { budgetCurve, countedWithin, spread } from '../../coordinator/bench/search-bench-budget.js';
 
 const root = join(import.meta.dirname, '..', '..');
@@ -40,7 +40,7 @@ describe('the budget rule of bench:search', () => {
 /** Runs `npm run bench:search -- --quick` as its own process and returns its last stdout line and its stderr. */
 function runQuickBench(): Promise<{ code: number | null; json: string; stderr: string }> {
   return new Promise((resolve) => {
-    const child = spawn(process.execPath, [...tsxNodeArgs(), join(root, 'coordinator/bench/search-bench.ts'), '--quick'], { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, [...sourceNodeArgs(), join(root, 'coordinator/bench/search-bench.ts'), '--quick'], { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
     let out = '';
     let err = '';
     child.stdout.on('data', (c: Buffer) => (out += c.toString()));

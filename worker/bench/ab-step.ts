@@ -3,7 +3,7 @@
  * load from other processes on a shared machine hits both sides alike. Reports the median CPU
  * time per step of each variant.
  *
- *   npx tsx worker/bench/ab-step.ts ref-cnn
+ *   npx tsx --conditions=source worker/bench/ab-step.ts ref-cnn
  */
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';

@@ -2,8 +2,8 @@
  * How far two backends' results for the same job (genome, seed, budget, data) lie apart: the
  * measurement behind the verification tolerances (coordinator/src/trust/trust-rules.ts).
  *
- *   npx tsx worker/bench/backend-agreement.ts               # wasm twice, cpu once; a table and one JSON line
- *   npx tsx worker/bench/backend-agreement.ts --regression  # the same for regression: relative RMSE differences
+ *   npx tsx --conditions=source worker/bench/backend-agreement.ts               # wasm twice, cpu once; a table and one JSON line
+ *   npx tsx --conditions=source worker/bench/backend-agreement.ts --regression  # the same for regression: relative RMSE differences
  *
  * Each backend trains in its own child process (a process keeps the backend it chose first). The
  * genomes are small dense and convolutional networks trained for a few epochs on synthetic 8×8
@@ -14,6 +14,7 @@
 import { execFileSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import type { BackendName, DataShape, Genome, LabelledSamples } from '@netbreeder/shared-types';
+import { sourceNodeArgs } from '../src/node-entry.js';
 
 const REGRESSION = process.argv.includes('--regression');
 const DATA: DataShape = REGRESSION ? { inputShape: [4], numClasses: 2, target: { column: 'y', mean: 0, std: 1 } } : { inputShape: [8, 8, 1], numClasses: 4 };
@@ -89,7 +90,7 @@ async function trainAll(backend: BackendName): Promise<void> {
 }
 
 function runChild(backend: BackendName): Row[] {
-  const out = execFileSync(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url), '--child', backend, ...(REGRESSION ? ['--regression'] : [])], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  const out = execFileSync(process.execPath, [...sourceNodeArgs(), fileURLToPath(import.meta.url), '--child', backend, ...(REGRESSION ? ['--regression'] : [])], { encoding: 'utf8', maxBuffer: 1 << 24 });
   return JSON.parse(out.trim().split('\n').at(-1)!) as Row[];
 }
 

@@ -5,7 +5,7 @@
  * cache is keyed by filter tensor); in training every filter is new each step, so cases marked
  * "fresh" copy the filter first to measure what training pays.
  *
- *   npx tsx worker/bench/kernel-bench.ts
+ *   npx tsx --conditions=source worker/bench/kernel-bench.ts
  */
 import * as tf from '@tensorflow/tfjs';
 import { initBackend } from '../src/training/backend.js';

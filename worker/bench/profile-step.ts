@@ -1,6 +1,6 @@
 /**
  * Per-kernel profile of training steps (tf.profile): where one batch's time goes, for the
- * benchmark's reference genomes on wasm. `npx tsx worker/bench/profile-step.ts [ref-mlp|ref-cnn|skip-bn|cnn-bn]`.
+ * benchmark's reference genomes on wasm. `npx tsx --conditions=source worker/bench/profile-step.ts [ref-mlp|ref-cnn|skip-bn|cnn-bn]`.
  * Prints kernels by total time, and the wall and CPU time of the steps outside the profiler.
  */
 import * as tf from '@tensorflow/tfjs';

@@ -7,6 +7,7 @@ export { DatasetCache, type DatasetCacheOptions } from './agent/dataset-cache.js
 export { openRedis, DEFAULT_QUEUE_LOCATION, type QueueLocation } from './agent/redis-connection.js';
 export { createLogger as createProcessLogger, logFormat, takeLogFormatOption, type LogFormat } from './log/create-logger.js';
 export { msUntilClockTime } from './agent/stop-time.js';
+export { sourceNodeArgs, workerCliEntry } from './node-entry.js';
 export { runWorkerCli, parseWorkerArgs, parseSimulationArgs, WORKER_HELP } from './worker-cli.js';
 export type { Trainer } from './agent/trainer.js';
 export type { WorkerAgentParts } from './agent/worker-agent.js';

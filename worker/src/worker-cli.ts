@@ -11,6 +11,7 @@ import { NetbreederError } from '@netbreeder/shared-types';
 export const WORKER_HELP = `netbreeder worker: join a coordinator and train candidate networks on this PC's CPU.
 
 Usage: netbreeder worker --coordinator URL [--redis URL] [options]
+       netbreeder-worker --coordinator URL [--redis URL] [options]   (the worker installed alone)
 
 Options:
   --coordinator URL   coordinator base URL              (default http://127.0.0.1:7460)

@@ -1,7 +1,8 @@
 #!/usr/bin/env node
 /**
  * The `netbreeder` command: coordinator, worker, demo, status, export.
- * Run from a checkout with `npm run netbreeder -- <command> …` (or `npx tsx coordinator/src/cli/main.ts`).
+ * Installed and built, `netbreeder <command> …` runs the compiled `dist/cli/main.js`; from a checkout's
+ * sources, `npm run netbreeder -- <command> …` (tsx with the `source` export condition).
  */
 import { describeError } from '@netbreeder/shared-types';
 import { main } from './commands.js';

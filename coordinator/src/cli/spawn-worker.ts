@@ -1,21 +1,10 @@
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createRequire } from 'node:module';
-import { dirname, join } from 'node:path';
-import { pathToFileURL } from 'node:url';
+import { workerCliEntry } from '@netbreeder/worker';
 
-const require = createRequire(import.meta.url);
-
-/** Node arguments that load TypeScript sources through tsx, whatever process spawns them. */
-export function tsxNodeArgs(): string[] {
-  return ['--import', pathToFileURL(require.resolve('tsx')).href];
-}
-
-/** Path of the worker's command-line entry. */
-export const workerCliPath = (): string => join(dirname(require.resolve('@netbreeder/worker')), 'cli.ts');
-
-/** Starts a worker as its own process on this machine (what the demo and the tests do). */
+/** Starts a worker as its own process on this machine (what the demo and the tests do), from the same form (source or dist) as the worker package. */
 export function spawnWorker(args: string[], opts: { env?: NodeJS.ProcessEnv; logFile?: 'inherit' | 'ignore' | 'pipe' } = {}): ChildProcess {
-  return spawn(process.execPath, [...tsxNodeArgs(), workerCliPath(), ...args], {
+  const entry = workerCliEntry();
+  return spawn(process.execPath, [...entry.execArgv, entry.path, ...args], {
     env: { ...process.env, ...opts.env },
     stdio: ['ignore', 'ignore', opts.logFile ?? 'pipe'],
   });

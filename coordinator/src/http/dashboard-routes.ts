@@ -31,8 +31,11 @@ export interface DashboardRouteOptions {
   queue?: EvaluationQueue;
 }
 
-/** The page's own files (in `../dashboard/`), and the charting library from node_modules. */
-const DASHBOARD_DIR = join(dirname(fileURLToPath(import.meta.url)), '..', 'dashboard');
+/**
+ * The page's own files (in `src/dashboard/`, read from there by the compiled `dist/http/` too, so the
+ * build copies nothing), and the charting library from node_modules.
+ */
+const DASHBOARD_DIR = fileURLToPath(new URL('../../src/dashboard/', import.meta.url));
 const PAGE_FILES = {
   'index.html': 'text/html; charset=utf-8',
   'dashboard.css': 'text/css; charset=utf-8',

@@ -33,14 +33,14 @@ export interface Tolerance {
 }
 
 /**
- * Measured with `npx tsx worker/bench/backend-agreement.ts` (2-core AMD EPYC, Node 20, tfjs 4.22;
+ * Measured with `npx tsx --conditions=source worker/bench/backend-agreement.ts` (2-core AMD EPYC, Node 20, tfjs 4.22;
  * linear, dense and conv networks, 4 epochs on synthetic 8×8 images, 3 seeds): wasm against wasm
  * gave identical accuracy and loss (difference 0); wasm against cpu identical accuracy and a loss
  * difference of at most 7e-6 relative. Float differences grow over longer trainings (a near-tie
  * of the argmax, a ReLU switching), so the tolerances keep a wide margin over what was measured;
  * a result inflated by a few percent is still far outside them.
  *
- * Regression (`npx tsx worker/bench/backend-agreement.ts --regression`, same machine: linear, dense
+ * Regression (`npx tsx --conditions=source worker/bench/backend-agreement.ts --regression`, same machine: linear, dense
  * 32 and dense 64 → 32 networks with one linear head, 4 epochs on a synthetic table of 4 features
  * and a smooth target, 3 seeds): wasm against wasm identical validation RMSE (difference 0); wasm
  * against cpu at most 1.5e-7 relative RMSE and 3.0e-7 relative loss. The RMSE tolerances are half

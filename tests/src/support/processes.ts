@@ -1,7 +1,7 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { tsxNodeArgs } from '@netbreeder/coordinator';
+import { sourceNodeArgs } from '@netbreeder/worker';
 import { waitFor } from './harness.js';
 
 const root = join(import.meta.dirname, '..', '..', '..');
@@ -30,7 +30,7 @@ function manage(child: ChildProcess, name: string): Managed {
 
 /** Runs the `netbreeder` CLI as its own process (as a user would), from the repository root. */
 export function spawnCli(args: string[], env: NodeJS.ProcessEnv = {}, name = 'cli'): Managed {
-  const child = spawn(process.execPath, [...tsxNodeArgs(), join(root, 'coordinator/src/cli/main.ts'), ...args], {
+  const child = spawn(process.execPath, [...sourceNodeArgs(), join(root, 'coordinator/src/cli/main.ts'), ...args], {
     cwd: root,
     env: { ...process.env, NETBREEDER_LOG_LEVEL: 'info', ...env },
     stdio: ['ignore', 'pipe', 'pipe'],

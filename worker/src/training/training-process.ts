@@ -1,9 +1,8 @@
 import { fork, type ChildProcess } from 'node:child_process';
-import { createRequire } from 'node:module';
-import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { Logger } from 'pino';
 import type { BackendName, EpochRecord } from '@netbreeder/shared-types';
 import type { BackendChoice } from './backend.js';
+import { nodeEntry } from '../node-entry.js';
 import { RemoteTrainingError, TrainingAbortedError, TrainingProcessError } from './errors.js';
 import type { ChildMessage, ChildTrainRequest, ParentMessage } from './training-protocol.js';
 import type { TrainOutcome } from './train-genome.js';
@@ -41,10 +40,6 @@ interface PendingJob {
   onCheckpoint?: TrainCallOptions['onCheckpoint'];
 }
 
-const CHILD_ENTRY = fileURLToPath(new URL('./training-child.ts', import.meta.url));
-/** The tsx loader, passed explicitly so the child runs TypeScript whether the parent runs under tsx, vitest or plain node. */
-const TSX_LOADER = pathToFileURL(createRequire(import.meta.url).resolve('tsx')).href;
-
 /**
  * The worker's training child process: training never runs on the worker's event loop, so lock
  * renewal and heartbeats keep their timing. The child initialises its backend once and is kept
@@ -66,8 +61,10 @@ export class TrainingProcess {
   start(): Promise<BackendChoice> {
     if (this.closed) return Promise.reject(new TrainingProcessError('the training process was closed; create a new one'));
     if (this.ready) return this.ready;
-    const child = fork(CHILD_ENTRY, [], {
-      execArgv: ['--import', TSX_LOADER],
+    // Compiled JavaScript beside this file, or its source through tsx (whether the parent runs under tsx or vitest).
+    const entry = nodeEntry(import.meta.url, './training-child');
+    const child = fork(entry.path, [], {
+      execArgv: entry.execArgv,
       stdio: ['ignore', 'inherit', 'inherit', 'ipc'],
       serialization: 'advanced',
       // One worker uses one core: the native backend, where it installs, would otherwise start a
