@@ -3,6 +3,7 @@ import { InternalError, analyzeGenome, createRandom, expandMotifs, headUnits, IN
 import { InvalidGenomeError } from './errors.js';
 import { ChannelBatchNorm } from './channel-batch-norm.js';
 import { SeededDropout } from './seeded-dropout.js';
+import { DilatedConv1d } from './dilated-conv1d.js';
 
 /** Names of the implicit head's layers; genome ids cannot contain a dot, so these never collide. */
 export const HEAD_FLATTEN_NAME = 'head.flatten';
@@ -84,7 +85,17 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
         layer = tf.layers.averagePooling2d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
         break;
       case 'conv1d':
-        layer = tf.layers.conv1d({
+        // TensorFlow.js has no gradient for a dilated convolution; DilatedConv1d writes it as undilated ones.
+        layer = n.dilation > 1 ? new DilatedConv1d({
+          name: n.id,
+          filters: n.filters,
+          kernelSize: n.kernelSize,
+          dilation: n.dilation,
+          padding: n.padding,
+          activation: act(n.activation),
+          kernelInitializer: glorot(),
+          kernelRegularizer: regularizer(),
+        }) : tf.layers.conv1d({
           name: n.id,
           filters: n.filters,
           kernelSize: n.kernelSize,
