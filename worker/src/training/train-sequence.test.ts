@@ -6,6 +6,8 @@ import { chainGenome } from './reference-genomes.js';
 import { conv1dGenome, gruGenome, lstmGenome } from './sequence-genomes.js';
 import { syntheticSamples } from './synthetic-samples.js';
 import { trainGenome } from './train-genome.js';
+import { evaluateModel } from './evaluate-model.js';
+import { loadModelFromMessage } from './model-artifacts.js';
 
 // A short real training of each sequence kind with the real trainGenome, on the wasm backend (with
 // our gradient kernels) and on the cpu backend: the invented task (a bright time step or channel
@@ -42,4 +44,20 @@ describe('trainGenome on sequences', () => {
           await tf.setBackend('wasm');
         }
       });
+
+  it('exports trained dilated conv1d, lstm and gru models that a plain TensorFlow.js loader reads back and that score the same', async () => {
+    const g = chainGenome([
+      { id: 'c', kind: 'conv1d', filters: 6, kernelSize: 3, strides: 1, dilation: 2, padding: 'same', activation: 'relu' },
+      { id: 'l', kind: 'lstm', units: 5, returnSequences: true },
+      { id: 'r', kind: 'gru', units: 5, returnSequences: false },
+    ], { learningRate: 0.01, batchSize: 32 });
+    const out = await trainGenome({ genome: g, data: SENSOR, train, val, budget: { epochs: 1, maxSeconds: 60 }, seed: 4, exportModel: true });
+    const model = await loadModelFromMessage(out.model!);
+    try {
+      expect(model.getLayer('c').getConfig()['dilationRate']).toEqual([2]);
+      expect(evaluateModel(model, val).accuracy).toBeCloseTo(out.valAccuracy, 10);
+    } finally {
+      model.dispose();
+    }
+  });
 });
