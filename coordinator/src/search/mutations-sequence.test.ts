@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { checkGenome, createRandom, defaultSearchSpace, defaultSequenceSearchSpace, formatGenomeIssues, genomeHash, SEQUENCE_KINDS, type DataShape, type Genome, type LayerNode } from '@netbreeder/shared-types';
 import { blocksOf, insertBlock, removeBlock } from './block-mutations.js';
+import { familyGenome } from './family-genome.js';
 import { minimalGenome } from './minimal-genome.js';
 import { mutate } from './mutations.js';
 import { ctxFor, genome, IMAGE } from './test-fixtures.js';
@@ -64,5 +65,16 @@ describe('mutations on sequence data (time steps × channels)', () => {
       const removed = removeBlock(r.genome, ctxFor(SEQUENCE, 1, space))!;
       expect([removed.genome.nodes, removed.genome.output]).toEqual([[], 'input']);
     }
+  });
+});
+
+describe('familyGenome on sequence data', () => {
+  it('draws valid 1-D conv nets and LSTM or GRU stacks, seeded', () => {
+    const drawn = Array.from({ length: 40 }, (_, seed) => familyGenome({ space, data: SEQUENCE, rng: createRandom(seed) })!);
+    expect(drawn.flatMap(issues)).toEqual([]);
+    const anchors = new Set(drawn.map((g) => g.nodes[0]!.kind));
+    expect([...anchors].sort()).toEqual(['conv1d', 'gru', 'lstm']);
+    for (const g of drawn.filter((g) => g.nodes[0]!.kind === 'conv1d')) expect(g.nodes.some((n) => n.kind === 'global-avg-pool' || n.kind === 'flatten')).toBe(true);
+    expect(familyGenome({ space, data: SEQUENCE, rng: createRandom(3) })).toEqual(drawn[3]);
   });
 });

@@ -55,7 +55,7 @@ describe('trainGenome on sequences', () => {
     const model = await loadModelFromMessage(out.model!);
     try {
       expect(model.getLayer('c').getConfig()['dilationRate']).toEqual([2]);
-      expect(evaluateModel(model, val).accuracy).toBeCloseTo(out.valAccuracy, 10);
+      expect(evaluateModel(model, val).accuracy).toBeCloseTo(out.valAccuracy!, 10);
     } finally {
       model.dispose();
     }
