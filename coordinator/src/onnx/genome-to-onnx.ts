@@ -68,8 +68,8 @@ export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: Da
   return data.target ? logits : graph.op('Softmax', [logits], 'head.softmax', [intAttr('axis', 1)]);
 }
 
-/** Layer kinds the ONNX export writes: all but the recurrent ones (lstm, gru). */
-export const ONNX_LAYER_KINDS: ReadonlySet<LayerNode['kind']> = new Set(['dense', 'conv2d', 'depthwise-conv2d', 'max-pool2d', 'avg-pool2d', 'conv1d', 'max-pool1d', 'avg-pool1d', 'dropout', 'batch-norm', 'activation', 'flatten', 'global-avg-pool', 'global-max-pool', 'add', 'concat', 'repeat']);
+/** Layer kinds the ONNX export writes (every kind of the genome schema today). */
+export const ONNX_LAYER_KINDS: ReadonlySet<LayerNode['kind']> = new Set(['dense', 'conv2d', 'depthwise-conv2d', 'max-pool2d', 'avg-pool2d', 'conv1d', 'max-pool1d', 'avg-pool1d', 'lstm', 'gru', 'dropout', 'batch-norm', 'activation', 'flatten', 'global-avg-pool', 'global-max-pool', 'add', 'concat', 'repeat']);
 
 /** Why a genome cannot be written as ONNX (a layer kind the export does not map), or null when it can. */
 export function onnxUnsupported(genome: Genome): string | null {
@@ -125,7 +125,7 @@ function layerOp(graph: OnnxGraphBuilder, n: LayerNode, x: Value, inputs: Value[
       return { name: graph.op(n.kind === 'max-pool1d' ? 'MaxPool' : 'AveragePool', [x.name], n.id, [intsAttr('kernel_shape', [n.poolSize]), intsAttr('strides', [n.strides])]), layout: 'sequence' };
     case 'lstm':
     case 'gru':
-      throw new NetbreederError('NB_ONNX_EXPORT', `the ONNX export does not write ${n.kind} layers yet (node '${n.id}'); use model.json (TensorFlow.js)`);
+      return recurrentOp(graph, n, x, weight);
     case 'dropout':
       return x;
     case 'batch-norm': {
@@ -153,6 +153,53 @@ function layerOp(graph: OnnxGraphBuilder, n: LayerNode, x: Value, inputs: Value[
     case 'repeat':
       throw new InternalError('expandMotifs leaves no repeat node');
   }
+}
+
+/**
+ * TensorFlow.js's gate blocks in ONNX's order: its LSTM keeps [input, forget, cell, output] where
+ * ONNX's LSTM wants [input, output, forget, cell]; both GRUs keep [update, reset, candidate].
+ */
+const GATE_ORDER = { lstm: [0, 3, 1, 2], gru: [0, 1, 2] } as const;
+
+/**
+ * An ONNX LSTM or GRU node for a recurrent layer (sigmoid gates, tanh elsewhere, as the worker
+ * builds them). TensorFlow.js's GRU applies the reset gate before the recurrent product, ONNX's
+ * `linear_before_reset = 0` (the default); it has one bias per gate, so the recurrent biases are
+ * zero. The sequence enters as time × batch × channels; the whole output sequence goes back to
+ * batch × units × time, the last step's state (`Y_h`) to batch × units.
+ */
+function recurrentOp(graph: OnnxGraphBuilder, n: Extract<LayerNode, { kind: 'lstm' | 'gru' }>, x: Value, weight: WeightOf): Value {
+  const order = GATE_ORDER[n.kind];
+  const units = n.units;
+  const gatesOf = (w: NamedWeight, rows: number): Float32Array => {
+    const out = new Float32Array(w.values.length);
+    const width = order.length * units;
+    order.forEach((from, to) => {
+      for (let u = 0; u < units; u++) for (let r = 0; r < rows; r++) out[(to * units + u) * rows + r] = w.values[r * width + from * units + u]!;
+    });
+    return out;
+  };
+  const k = weight(n.id, 'kernel');
+  const rk = weight(n.id, 'recurrent_kernel');
+  const b = weight(n.id, 'bias');
+  const channels = k.shape[0]!;
+  const bias = new Float32Array(2 * order.length * units);
+  order.forEach((from, to) => bias.set(b.values.subarray(from * units, (from + 1) * units), to * units));
+  const inputs = [
+    graph.op('Transpose', [x.name], `${n.id}.time_major`, [intsAttr('perm', [2, 0, 1])]),
+    graph.constant(`${n.id}.W`, [1, order.length * units, channels], gatesOf(k, channels)),
+    graph.constant(`${n.id}.R`, [1, order.length * units, units], gatesOf(rk, units)),
+    graph.constant(`${n.id}.B`, [1, bias.length], bias),
+  ];
+  const opType = n.kind === 'lstm' ? 'LSTM' : 'GRU';
+  const attrs = [intAttr('hidden_size', units)];
+  if (n.returnSequences) {
+    const [y] = graph.opOutputs(opType, inputs, [`${n.id}.y`], attrs);
+    const steps = graph.op('Squeeze', [y!, graph.int64Constant(`${n.id}.direction_axis`, [1], [1])], `${n.id}.steps`);
+    return { name: graph.op('Transpose', [steps], n.id, [intsAttr('perm', [1, 2, 0])]), layout: 'sequence' };
+  }
+  const [, last] = graph.opOutputs(opType, inputs, ['', `${n.id}.y_h`], attrs);
+  return { name: graph.op('Squeeze', [last!, graph.int64Constant(`${n.id}.direction_axis`, [1], [0])], n.id), layout: 'flat' };
 }
 
 /** A flat value: channels-first images are put back in TensorFlow.js order first, so the flattened features line up with the trained dense weights. */

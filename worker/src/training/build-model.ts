@@ -117,10 +117,12 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
       case 'gru': {
         // The recurrent kernel gets a seeded Glorot-uniform initialiser too, not the layers
         // library's default orthogonal one (a QR decomposition per layer, slow on large units).
+        // Gates use the logistic sigmoid (common practice), not the library's default hard sigmoid.
         const config = {
           name: n.id,
           units: n.units,
           returnSequences: n.returnSequences,
+          recurrentActivation: 'sigmoid' as const,
           kernelInitializer: glorot(),
           recurrentInitializer: glorot(),
           kernelRegularizer: regularizer(),
