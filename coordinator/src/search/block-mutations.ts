@@ -72,39 +72,34 @@ function newBlock(genome: Genome, from: string, shape: SampleShape, ctx: GenomeC
     const id = freshId({ ...genome, nodes: [...genome.nodes, ...chain] }, node.kind);
     chain.push({ ...node, id, inputs: [chain.at(-1)?.id ?? from] } as LayerNode);
   };
-  if (shape.length === 3 && allowed('conv2d')) {
-    // conv (linear) → batch norm → activation when the space allows all three; otherwise the conv
-    // carries the activation itself.
+  // conv (linear) → batch norm → activation when the space allows all three, otherwise the conv
+  // carries the activation itself; then half the time a max-pool.
+  const convBlock = (sequence: boolean): LayerNode[] => {
     const separate = allowed('activation') && space.activations.includes('linear');
     const activation = blockActivation(ctx);
     const filters = logUniformInt(rng, space.filters);
     const kernelSize = space.kernelSizes.includes(3) ? 3 : rng.pick(space.kernelSizes);
-    add({ kind: 'conv2d', filters, kernelSize, strides: unitStride(space.strides), padding: 'same', activation: separate ? 'linear' : activation });
+    const conv = { filters, kernelSize, strides: unitStride(space.strides), padding: 'same' as const, activation: separate ? ('linear' as const) : activation };
+    if (sequence) {
+      const dilation = rng.pick(dilationsOf(space));
+      add({ ...conv, kind: 'conv1d', dilation, strides: dilation > 1 ? 1 : conv.strides });
+    } else add({ ...conv, kind: 'conv2d' });
     if (allowed('batch-norm')) add({ kind: 'batch-norm' });
     if (separate) add({ kind: 'activation', activation });
-    const canPool = allowed('max-pool2d') && space.poolSizes.includes(2) && space.strides.includes(2) && Math.min(shape[0]!, shape[1]!) >= 4;
-    if (canPool && rng.chance(0.5)) add({ kind: 'max-pool2d', poolSize: 2, strides: 2 });
+    const pool = sequence ? 'max-pool1d' : 'max-pool2d';
+    const side = sequence ? shape[0]! : Math.min(shape[0]!, shape[1]!);
+    const canPool = allowed(pool) && space.poolSizes.includes(2) && space.strides.includes(2) && side >= 4;
+    if (canPool && rng.chance(0.5)) add({ kind: pool, poolSize: 2, strides: 2 });
     return chain;
-  }
+  };
+  if (shape.length === 3 && allowed('conv2d')) return convBlock(false);
   if (shape.length === 2) {
     const anchors = (['conv1d', 'lstm', 'gru'] as const).filter(allowed);
     if (!anchors.length) return null;
     const anchor = rng.pick(anchors);
-    if (anchor === 'conv1d') {
-      const separate = allowed('activation') && space.activations.includes('linear');
-      const activation = blockActivation(ctx);
-      const kernelSize = space.kernelSizes.includes(3) ? 3 : rng.pick(space.kernelSizes);
-      const dilation = rng.pick(dilationsOf(space));
-      const strides = dilation > 1 ? 1 : unitStride(space.strides);
-      add({ kind: 'conv1d', filters: logUniformInt(rng, space.filters), kernelSize, strides, dilation, padding: 'same', activation: separate ? 'linear' : activation });
-      if (allowed('batch-norm')) add({ kind: 'batch-norm' });
-      if (separate) add({ kind: 'activation', activation });
-      const canPool = allowed('max-pool1d') && space.poolSizes.includes(2) && space.strides.includes(2) && shape[0]! >= 4;
-      if (canPool && rng.chance(0.5)) add({ kind: 'max-pool1d', poolSize: 2, strides: 2 });
-    } else {
-      add({ kind: anchor, units: logUniformInt(rng, space.units), returnSequences: true });
-      if (allowed('dropout')) add({ kind: 'dropout', rate: drawDropoutRate(rng, space.dropoutRate) });
-    }
+    if (anchor === 'conv1d') return convBlock(true);
+    add({ kind: anchor, units: logUniformInt(rng, space.units), returnSequences: true });
+    if (allowed('dropout')) add({ kind: 'dropout', rate: drawDropoutRate(rng, space.dropoutRate) });
     return chain;
   }
   if (shape.length === 1 && allowed('dense')) {

@@ -19,24 +19,19 @@ function nodeIssues(n: LayerNode, space: SearchSpace): string[] {
   if ('activation' in n && n.activation !== 'linear' && !space.activations.includes(n.activation)) out.push(`activation '${n.activation}' is not allowed`);
   switch (n.kind) {
     case 'dense':
+    case 'lstm':
+    case 'gru':
       if (!inRange(n.units, space.units)) out.push(`units ${n.units} outside [${space.units.min}, ${space.units.max}]`);
       break;
+    case 'conv1d':
+      if (!dilationsOf(space).includes(n.dilation)) out.push(`dilation ${n.dilation} not in [${dilationsOf(space).join(', ')}]`);
+    // falls through: a conv1d has a conv2d's filters, kernel and stride rules
     case 'conv2d':
       if (!inRange(n.filters, space.filters)) out.push(`filters ${n.filters} outside [${space.filters.min}, ${space.filters.max}]`);
     // falls through: both convolutions share kernel and stride rules
     case 'depthwise-conv2d':
       if (!space.kernelSizes.includes(n.kernelSize)) out.push(`kernel size ${n.kernelSize} not in [${space.kernelSizes.join(', ')}]`);
       if (!space.strides.includes(n.strides)) out.push(`stride ${n.strides} not in [${space.strides.join(', ')}]`);
-      break;
-    case 'conv1d':
-      if (!inRange(n.filters, space.filters)) out.push(`filters ${n.filters} outside [${space.filters.min}, ${space.filters.max}]`);
-      if (!space.kernelSizes.includes(n.kernelSize)) out.push(`kernel size ${n.kernelSize} not in [${space.kernelSizes.join(', ')}]`);
-      if (!space.strides.includes(n.strides)) out.push(`stride ${n.strides} not in [${space.strides.join(', ')}]`);
-      if (!dilationsOf(space).includes(n.dilation)) out.push(`dilation ${n.dilation} not in [${dilationsOf(space).join(', ')}]`);
-      break;
-    case 'lstm':
-    case 'gru':
-      if (!inRange(n.units, space.units)) out.push(`units ${n.units} outside [${space.units.min}, ${space.units.max}]`);
       break;
     case 'max-pool2d':
     case 'avg-pool2d':

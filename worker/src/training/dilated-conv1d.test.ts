@@ -22,7 +22,7 @@ describe('DilatedConv1d', () => {
       const library = tf.layers.conv1d({ ...args, name: 'library', dilationRate: dilation, strides: 1 });
       const x = tf.tensor3d(randomArray(2 * steps * 3, 'dilated x'), [2, steps, 3]);
       try {
-        const a = ours.apply(x) as tf.Tensor;
+        const built = ours.apply(x) as tf.Tensor; // builds the weights
         library.apply(x);
         library.setWeights([ours.getWeights()[0]!, tf.tensor1d(randomArray(4, 'dilated bias'))]);
         ours.setWeights(library.getWeights());
@@ -31,7 +31,7 @@ describe('DilatedConv1d', () => {
         expect(got.shape).toEqual(want.shape);
         expect(ours.computeOutputShape([null, steps, 3])).toEqual([null, want.shape[1], 4]);
         expect(relativeError(got.dataSync(), want.dataSync())).toBeLessThan(1e-5);
-        tf.dispose([a, got, want]);
+        tf.dispose([built, got, want]);
       } finally {
         x.dispose();
         ours.dispose();
