@@ -5,20 +5,22 @@
  *   npm run bench:train                       # all backends, a few minutes at most
  *   npm run bench:train -- --quick            # fewer batches (a smoke run)
  *   npm run bench:train -- --backends=wasm    # only these backends (comma-separated)
+ *   npm run bench:train -- --genomes=lstm-rows,gru-rows   # only these networks (comma-separated)
  *
  * When PyTorch imports (python3 on PATH, /usr/bin/python3 or NETBREEDER_PEER_PYTHON; Debian:
  * apt-get install python3-torch), the same networks are also trained there on one thread
  * (native-peer.ts), after their parameter counts were checked equal to ours, and every row gets
- * its ratio to that native peer.
+ * its ratio to that native peer. The sequence networks (MNIST-sized rows: 28 steps × 28 values)
+ * have no native peer yet.
  *
  * Training FLOPs are taken as 3 × the forward FLOPs analyzeGenome counts (forward, input gradient,
  * weight gradient), the usual rule of thumb. Synthetic data: speed does not depend on the values.
  */
 import { cpus, loadavg } from 'node:os';
 import * as tf from '@tensorflow/tfjs';
-import { analyzeGenome, type BackendName, type DataShape, type Genome } from '@netbreeder/shared-types';
+import { analyzeGenome, referenceGenome, type BackendName, type DataShape, type Genome } from '@netbreeder/shared-types';
 import { initBackend } from '../src/training/backend.js';
-import { refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
+import { chainGenome, refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
 import { syntheticSamples } from '../src/training/synthetic-samples.js';
 import { trainGenome } from '../src/training/train-genome.js';
 import { checkSameNetworks, nativePeerAvailability, runNativePeer, type PeerNetwork } from './native-peer.js';
@@ -27,12 +29,20 @@ const quick = process.argv.includes('--quick');
 const only = process.argv.find((a) => a.startsWith('--backends='))?.slice('--backends='.length).split(',');
 const IMAGE: DataShape = { inputShape: [28, 28, 1], numClasses: 10 };
 const FLAT: DataShape = { inputShape: [784], numClasses: 10 };
-const GENOMES: Array<{ name: string; genome: Genome; data: DataShape }> = [
+const ROWS: DataShape = { inputShape: [28, 28], numClasses: 10 };
+const onlyGenomes = process.argv.find((a) => a.startsWith('--genomes='))?.slice('--genomes='.length).split(',');
+const recurrent = (kind: 'lstm' | 'gru') => chainGenome([{ id: 'r', kind, units: 64, returnSequences: false }], { batchSize: 64 });
+/** `peer: false`: no native peer for this network (native-peer.py builds dense and 2-D conv layers only). */
+const ALL_GENOMES: Array<{ name: string; genome: Genome; data: DataShape; peer?: false }> = [
   { name: 'ref-mlp', genome: refMlp(), data: FLAT },
   { name: 'ref-cnn', genome: refCnn(), data: IMAGE },
   { name: 'skip-bn', genome: refSkipBn(), data: IMAGE },
   { name: 'cnn-bn', genome: refCnnBn(), data: IMAGE },
+  { name: 'lstm-rows', genome: recurrent('lstm'), data: ROWS, peer: false },
+  { name: 'gru-rows', genome: recurrent('gru'), data: ROWS, peer: false },
+  { name: 'conv1d-ref', genome: { ...referenceGenome(ROWS), training: { ...referenceGenome(ROWS).training, batchSize: 64 } }, data: ROWS, peer: false },
 ];
+const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g.name));
 /**
  * Batches measured per backend and round. wasm and tensorflow get one warm-up batch first (operator set-up,
  * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
@@ -113,7 +123,8 @@ async function preparePeer(): Promise<{ python: string | null; version: string |
   const availability = nativePeerAvailability();
   if (!availability.ok) return { python: null, version: null, threads: null, note: `no native peer here: ${availability.reason}` };
   await tf.setBackend(backends.includes('wasm') ? 'wasm' : backends[0]!);
-  const networks = GENOMES.map(peerNetwork);
+  const networks = GENOMES.filter((g) => g.peer !== false).map(peerNetwork);
+  if (!networks.length) return { python: null, version: null, threads: null, note: 'no native peer for these networks' };
   const counts = runNativePeer(availability.python, 'count', networks);
   const counted = checkSameNetworks(networks, counts);
   console.log("parameters (trainable + moving statistics), ours and the native peer's:");
@@ -146,7 +157,7 @@ const rows: Row[] = [];
 for (const g of GENOMES) {
   const rounds: Row[] = [];
   for (let round = 0; round < ROUNDS; round++) {
-    if (peer.python) rounds.push(measurePeer(peer.python, g));
+    if (peer.python && g.peer !== false) rounds.push(measurePeer(peer.python, g));
     for (const backend of backends) if (backend !== 'cpu') rounds.push(await measure(g.name, g.genome, g.data, backend));
   }
   if (backends.includes('cpu')) rounds.push(await measure(g.name, g.genome, g.data, 'cpu'));

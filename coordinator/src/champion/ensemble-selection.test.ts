@@ -18,6 +18,15 @@ describe('architecture similarity (hand-computed token multisets)', () => {
   it('names each layer by kind and size bucket, plus the optimizer', () => {
     expect(architectureTokens(convNet)).toEqual(['conv2d/k3/s1/w4/relu', 'max-pool2d/p2', 'conv2d/k3/s1/w5/relu', 'optimizer/adam']);
   });
+  it('names sequence layers by kind, kernel, dilation, width bucket and what a recurrent layer returns', () => {
+    const sequenceNet = genome([
+      { id: 'c', kind: 'conv1d', inputs: ['input'], filters: 16, kernelSize: 5, strides: 1, dilation: 2, padding: 'same', activation: 'relu' },
+      { id: 'p', kind: 'avg-pool1d', inputs: ['c'], poolSize: 2, strides: 2 },
+      { id: 'l', kind: 'lstm', inputs: ['p'], units: 32, returnSequences: true },
+      { id: 'g', kind: 'gru', inputs: ['l'], units: 8, returnSequences: false },
+    ]);
+    expect(architectureTokens(sequenceNet)).toEqual(['conv1d/k5/s1/d2/w4/relu', 'avg-pool1d/p2', 'lstm/w5/seq', 'gru/w3/last', 'optimizer/adam']);
+  });
   it('is 1 for the same architecture, 0 for nothing shared, and a Jaccard ratio in between', () => {
     expect(architectureSimilarity(convNet, convNetWider)).toBe(1);
     expect(architectureSimilarity(convNet, denseNet)).toBe(0);

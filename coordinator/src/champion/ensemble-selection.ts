@@ -25,8 +25,15 @@ export function architectureTokens(genome: Genome): string[] {
         return `conv2d/k${n.kernelSize}/s${n.strides}/w${bucket(n.filters)}/${n.activation}`;
       case 'depthwise-conv2d':
         return `depthwise-conv2d/k${n.kernelSize}/s${n.strides}/m${n.depthMultiplier}`;
+      case 'conv1d':
+        return `conv1d/k${n.kernelSize}/s${n.strides}/d${n.dilation}/w${bucket(n.filters)}/${n.activation}`;
+      case 'lstm':
+      case 'gru':
+        return `${n.kind}/w${bucket(n.units)}/${n.returnSequences ? 'seq' : 'last'}`;
       case 'max-pool2d':
       case 'avg-pool2d':
+      case 'max-pool1d':
+      case 'avg-pool1d':
         return `${n.kind}/p${n.poolSize}`;
       case 'activation':
         return `activation/${n.activation}`;

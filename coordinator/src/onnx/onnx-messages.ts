@@ -74,6 +74,8 @@ const ModelProto = root.lookupType('onnx.ModelProto');
 
 /** ONNX's element type code for 32-bit floats (`TensorProto.DataType.FLOAT`). */
 export const ONNX_FLOAT = 1;
+/** … and for 64-bit integers (`TensorProto.DataType.INT64`: axes and shapes). */
+export const ONNX_INT64 = 7;
 /** Attribute type codes (`AttributeProto.AttributeType`). */
 export const ATTRIBUTE_TYPE = { float: 1, int: 2, ints: 7 } as const;
 

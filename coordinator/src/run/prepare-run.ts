@@ -1,4 +1,4 @@
-import { defaultSearchSpace, spaceIssuesForData, ValidationError, type RunConfig } from '@netbreeder/shared-types';
+import { defaultSearchSpaceFor, spaceIssuesForData, ValidationError, type RunConfig } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import { loadDataset, type LoadedDataset } from '../importers/index.js';
 
@@ -17,7 +17,7 @@ export async function prepareRun(config: RunConfig, log: Logger): Promise<Prepar
   const loaded = await loadDataset(config, { log });
   const prepared = loaded.dataset;
   const data = { inputShape: prepared.inputShape, numClasses: prepared.classNames.length, ...(prepared.target ? { target: prepared.target } : {}) };
-  const issues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpace(), data);
+  const issues = spaceIssuesForData(config.searchSpace ?? defaultSearchSpaceFor(data.inputShape), data);
   if (issues.length) throw new ValidationError('run configuration', issues.map((message) => ({ path: '/searchSpace', message })));
   return { config, loaded };
 }

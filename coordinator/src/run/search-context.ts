@@ -1,4 +1,4 @@
-import { dataShapeOf, defaultSearchSpace } from '@netbreeder/shared-types';
+import { dataShapeOf, defaultSearchSpaceFor } from '@netbreeder/shared-types';
 import type { SearchContext } from '../search/index.js';
 import { runReference, type RunLike } from '../champion/reference-network.js';
 
@@ -6,9 +6,10 @@ import { runReference, type RunLike } from '../champion/reference-network.js';
 export function searchContextOf(run: RunLike): SearchContext {
   const m = run.dataset.manifest;
   const reference = runReference(run);
+  const data = dataShapeOf(m);
   return {
-    space: run.config.searchSpace ?? defaultSearchSpace(),
-    data: dataShapeOf(m),
+    space: run.config.searchSpace ?? defaultSearchSpaceFor(data.inputShape),
+    data,
     seed: run.seed,
     ...(reference?.ok ? { reference: { genome: reference.genome, description: reference.description, adjustments: reference.adjustments } } : {}),
   };

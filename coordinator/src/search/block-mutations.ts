@@ -1,15 +1,17 @@
-import type { Activation, Genome, LayerKind, LayerNode, SampleShape } from '@netbreeder/shared-types';
+import { dilationsOf, type Activation, type Genome, type LayerKind, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import { clamp, drawDropoutRate, logUniformInt } from './gene-values.js';
 import { bypassNode, describeEdge, edgesOf, freshId, insertChainAfter, insertOnEdge, readersOf, shapesOf, type Edge } from './graph-edit.js';
-import { unitStride, type MutationOperator } from './layer-mutations.js';
+import { unitStride, widthOf, type MutationOperator } from './layer-mutations.js';
 
 /**
  * Mutation operators that move by whole blocks rather than single layers: a block is a weight layer
  * with the layers that usually follow it, as one unit of depth.
  *
  * - convolution block: conv2d → batch-norm → activation, optionally → max-pool2d or avg-pool2d
- *   (the conv is linear when the activation node follows it);
+ *   (the conv is linear when the activation node follows it); on sequences the same with conv1d
+ *   and the 1-D pools;
+ * - recurrent block (sequences): lstm or gru (keeping the sequence) → dropout;
  * - dense block: dense → dropout.
  *
  * Every follower is optional when recognising a block (a lone conv2d is a block of one), and each
@@ -24,10 +26,13 @@ const RELU_LIKE: readonly Activation[] = ['relu', 'relu6', 'elu', 'selu', 'swish
 /** The kinds that may follow a block's anchor, in order; each step is optional. */
 const FOLLOWERS: Partial<Record<LayerKind, readonly (readonly LayerKind[])[]>> = {
   conv2d: [['batch-norm'], ['activation'], ['max-pool2d', 'avg-pool2d']],
+  conv1d: [['batch-norm'], ['activation'], ['max-pool1d', 'avg-pool1d']],
+  lstm: [['dropout']],
+  gru: [['dropout']],
   dense: [['dropout']],
 };
 
-/** The block anchored at `anchor` (a conv2d or dense node): the anchor's id, then its followers' ids, in order. */
+/** The block anchored at `anchor` (a conv2d, conv1d, lstm, gru or dense node): the anchor's id, then its followers' ids, in order. */
 export function blockFrom(genome: Genome, anchor: LayerNode): string[] {
   const steps = FOLLOWERS[anchor.kind];
   if (!steps) return [];
@@ -67,18 +72,34 @@ function newBlock(genome: Genome, from: string, shape: SampleShape, ctx: GenomeC
     const id = freshId({ ...genome, nodes: [...genome.nodes, ...chain] }, node.kind);
     chain.push({ ...node, id, inputs: [chain.at(-1)?.id ?? from] } as LayerNode);
   };
-  if (shape.length === 3 && allowed('conv2d')) {
-    // conv (linear) → batch norm → activation when the space allows all three; otherwise the conv
-    // carries the activation itself.
+  // conv (linear) → batch norm → activation when the space allows all three, otherwise the conv
+  // carries the activation itself; then half the time a max-pool.
+  const convBlock = (sequence: boolean): LayerNode[] => {
     const separate = allowed('activation') && space.activations.includes('linear');
     const activation = blockActivation(ctx);
     const filters = logUniformInt(rng, space.filters);
     const kernelSize = space.kernelSizes.includes(3) ? 3 : rng.pick(space.kernelSizes);
-    add({ kind: 'conv2d', filters, kernelSize, strides: unitStride(space.strides), padding: 'same', activation: separate ? 'linear' : activation });
+    const conv = { filters, kernelSize, strides: unitStride(space.strides), padding: 'same' as const, activation: separate ? ('linear' as const) : activation };
+    if (sequence) {
+      const dilation = rng.pick(dilationsOf(space));
+      add({ ...conv, kind: 'conv1d', dilation, strides: dilation > 1 ? 1 : conv.strides });
+    } else add({ ...conv, kind: 'conv2d' });
     if (allowed('batch-norm')) add({ kind: 'batch-norm' });
     if (separate) add({ kind: 'activation', activation });
-    const canPool = allowed('max-pool2d') && space.poolSizes.includes(2) && space.strides.includes(2) && Math.min(shape[0]!, shape[1]!) >= 4;
-    if (canPool && rng.chance(0.5)) add({ kind: 'max-pool2d', poolSize: 2, strides: 2 });
+    const pool = sequence ? 'max-pool1d' : 'max-pool2d';
+    const side = sequence ? shape[0]! : Math.min(shape[0]!, shape[1]!);
+    const canPool = allowed(pool) && space.poolSizes.includes(2) && space.strides.includes(2) && side >= 4;
+    if (canPool && rng.chance(0.5)) add({ kind: pool, poolSize: 2, strides: 2 });
+    return chain;
+  };
+  if (shape.length === 3 && allowed('conv2d')) return convBlock(false);
+  if (shape.length === 2) {
+    const anchors = (['conv1d', 'lstm', 'gru'] as const).filter(allowed);
+    if (!anchors.length) return null;
+    const anchor = rng.pick(anchors);
+    if (anchor === 'conv1d') return convBlock(true);
+    add({ kind: anchor, units: logUniformInt(rng, space.units), returnSequences: true });
+    if (allowed('dropout')) add({ kind: 'dropout', rate: drawDropoutRate(rng, space.dropoutRate) });
     return chain;
   }
   if (shape.length === 1 && allowed('dense')) {
@@ -100,7 +121,7 @@ function insertChainOnEdge(genome: Genome, edge: Edge, chain: readonly LayerNode
   return g;
 }
 
-/** Inserts a new convolution block (on a spatial tensor) or dense block (on a flat one) on a random edge. */
+/** Inserts a new convolution block (on an image), convolution or recurrent block (on a sequence) or dense block (on a flat tensor) on a random edge. */
 export const insertBlock: MutationOperator = (genome, ctx) => {
   const shapes = shapesOf(genome, ctx.data);
   if (!shapes) return null;
@@ -140,29 +161,29 @@ export const duplicateBlock: MutationOperator = (genome, ctx) => {
 
 /** `n` with its width (units or filters) times `factor`, rounded and kept in the space's range; other kinds as they are. */
 function scaledWidth(n: LayerNode, factor: number, ctx: GenomeContext): LayerNode {
-  if (n.kind === 'dense') return { ...n, units: clamp(Math.max(1, Math.round(n.units * factor)), ctx.space.units) };
-  if (n.kind === 'conv2d') return { ...n, filters: clamp(Math.max(1, Math.round(n.filters * factor)), ctx.space.filters) };
-  return n;
+  const width = widthOf(n);
+  if (!width) return n;
+  return { ...n, [width.field]: clamp(Math.max(1, Math.round(width.value * factor)), ctx.space[width.field]) } as LayerNode;
 }
 
 /**
- * Doubles or halves the width of every dense and conv2d layer at once (the genome's own and those
+ * Doubles or halves the width (units or filters) of every layer that has one at once (the genome's own and those
  * of its motifs), each rounded and clamped to the space's range: the whole network wider or
  * narrower. Tries the other direction when every layer is already at the bound.
  */
 export const scaleWidths: MutationOperator = (genome, ctx) => {
-  const widthOf = (n: LayerNode) => (n.kind === 'dense' ? n.units : n.kind === 'conv2d' ? n.filters : null);
+  const width = (n: LayerNode) => widthOf(n)?.value ?? null;
   const all = [...genome.nodes, ...(genome.motifs ?? []).flatMap((m) => m.nodes)];
-  if (!all.some((n) => widthOf(n) !== null)) return null;
+  if (!all.some((n) => width(n) !== null)) return null;
   const first = ctx.rng.chance(0.5) ? 2 : 0.5;
   for (const factor of [first, 1 / first]) {
     const scale = (nodes: LayerNode[]) => nodes.map((n) => scaledWidth(n, factor, ctx));
-    const changed = all.filter((n) => widthOf(n) !== widthOf(scaledWidth(n, factor, ctx))).length;
+    const changed = all.filter((n) => width(n) !== width(scaledWidth(n, factor, ctx))).length;
     if (!changed) continue;
     const motifs = genome.motifs?.map((m) => ({ ...m, nodes: scale(m.nodes) }));
     return {
       genome: { ...genome, nodes: scale(genome.nodes), ...(motifs ? { motifs } : {}) },
-      detail: `every dense and conv2d width ×${factor === 2 ? '2' : '½'} (${changed} layer${changed === 1 ? '' : 's'} changed)`,
+      detail: `every layer width ×${factor === 2 ? '2' : '½'} (${changed} layer${changed === 1 ? '' : 's'} changed)`,
     };
   }
   return null;

@@ -1,4 +1,4 @@
-import { InternalError, type Genome, type LayerKind, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
+import { dilationsOf, InternalError, type Genome, type LayerKind, type LayerNode, type SampleShape } from '@netbreeder/shared-types';
 import type { GenomeContext } from './minimal-genome.js';
 import { clamp, drawDropoutRate, logUniformInt, pickOther, weightedPick } from './gene-values.js';
 import { ancestorsOf, bypassNode, describeEdge, edgesOf, freshId, insertOnEdge, shapesOf, type Edge } from './graph-edit.js';
@@ -22,6 +22,11 @@ export const ADD_LAYER_KIND_WEIGHTS: Readonly<Record<Exclude<LayerKind, 'add' | 
   'depthwise-conv2d': 1,
   'max-pool2d': 1,
   'avg-pool2d': 1,
+  conv1d: 3,
+  'max-pool1d': 1,
+  'avg-pool1d': 1,
+  lstm: 2,
+  gru: 2,
   dropout: 1,
   'batch-norm': 1,
   activation: 1,
@@ -39,9 +44,16 @@ export function describeNode(n: LayerNode): string {
       return `conv2d ${n.id} (${n.kernelSize}×${n.kernelSize}×${n.filters} /${n.strides} ${n.padding} ${n.activation})`;
     case 'depthwise-conv2d':
       return `depthwise-conv2d ${n.id} (${n.kernelSize}×${n.kernelSize} ×${n.depthMultiplier} /${n.strides} ${n.activation})`;
+    case 'conv1d':
+      return `conv1d ${n.id} (${n.kernelSize}×${n.filters} /${n.strides} dil ${n.dilation} ${n.padding} ${n.activation})`;
     case 'max-pool2d':
     case 'avg-pool2d':
+    case 'max-pool1d':
+    case 'avg-pool1d':
       return `${n.kind} ${n.id} (${n.poolSize} /${n.strides})`;
+    case 'lstm':
+    case 'gru':
+      return `${n.kind} ${n.id} (${n.units}${n.returnSequences ? ', sequence' : ', last step'})`;
     case 'dropout':
       return `dropout ${n.id} (${n.rate})`;
     case 'activation':
@@ -67,14 +79,29 @@ function insertableKinds(shape: SampleShape, edge: Edge, ctx: GenomeContext): La
     if (ctx.space.poolSizes.some((p) => p <= side)) kinds.push('max-pool2d', 'avg-pool2d');
     // Leaving the spatial domain only where nothing downstream needs it: on the head's edge.
     if (edge.to === null) kinds.push('flatten', 'global-avg-pool', 'global-max-pool');
+  } else if (shape.length === 2) {
+    kinds.push('conv1d', 'lstm', 'gru');
+    if (ctx.space.poolSizes.some((p) => p <= shape[0]!)) kinds.push('max-pool1d', 'avg-pool1d');
+    if (edge.to === null) kinds.push('flatten', 'global-avg-pool', 'global-max-pool');
   } else if (shape.length === 1) {
     kinds.push('dense');
   }
   return kinds.filter(allowed);
 }
 
-/** A new node of `kind` reading `from`, its settings drawn from the space. */
-function newLayer(genome: Genome, kind: LayerKind, from: string, shape: SampleShape, ctx: GenomeContext): LayerNode {
+/** Pool size and stride of a new pool over a window axis of length `side`, drawn from the space. */
+function poolSettings(side: number, ctx: GenomeContext): { poolSize: number; strides: number } {
+  const { space, rng } = ctx;
+  const poolSize = rng.pick(space.poolSizes.filter((p) => p <= side));
+  const strides = space.strides.includes(poolSize) ? poolSize : Math.max(...space.strides.filter((s) => s <= poolSize), Math.min(...space.strides));
+  return { poolSize, strides };
+}
+
+/**
+ * A new node of `kind` reading `from`, its settings drawn from the space. A recurrent layer keeps
+ * the sequence unless it feeds the head (`toHead`), where it gives its last step half the time.
+ */
+function newLayer(genome: Genome, kind: LayerKind, from: string, shape: SampleShape, ctx: GenomeContext, toHead: boolean): LayerNode {
   const { space, rng } = ctx;
   const base = { id: freshId(genome, kind), inputs: [from] };
   switch (kind) {
@@ -101,12 +128,27 @@ function newLayer(genome: Genome, kind: LayerKind, from: string, shape: SampleSh
         activation: rng.pick(space.activations),
       };
     case 'max-pool2d':
-    case 'avg-pool2d': {
-      const side = Math.min(shape[0]!, shape[1]!);
-      const poolSize = rng.pick(space.poolSizes.filter((p) => p <= side));
-      const strides = space.strides.includes(poolSize) ? poolSize : Math.max(...space.strides.filter((s) => s <= poolSize), Math.min(...space.strides));
-      return { ...base, kind, poolSize, strides };
+    case 'avg-pool2d':
+      return { ...base, kind, ...poolSettings(Math.min(shape[0]!, shape[1]!), ctx) };
+    case 'max-pool1d':
+    case 'avg-pool1d':
+      return { ...base, kind, ...poolSettings(shape[0]!, ctx) };
+    case 'conv1d': {
+      const dilation = rng.pick(dilationsOf(space));
+      return {
+        ...base,
+        kind,
+        filters: logUniformInt(rng, space.filters),
+        kernelSize: rng.pick(space.kernelSizes),
+        strides: dilation > 1 ? 1 : unitStride(space.strides),
+        dilation,
+        padding: 'same',
+        activation: rng.pick(space.activations),
+      };
     }
+    case 'lstm':
+    case 'gru':
+      return { ...base, kind, units: logUniformInt(rng, space.units), returnSequences: !toHead || rng.chance(0.5) };
     case 'dropout':
       return { ...base, kind, rate: drawDropoutRate(rng, space.dropoutRate) };
     case 'activation':
@@ -136,7 +178,7 @@ export const addLayer: MutationOperator = (genome, ctx) => {
     insertableKinds(shape, edge, ctx).map((k) => [k, ADD_LAYER_KIND_WEIGHTS[k as keyof typeof ADD_LAYER_KIND_WEIGHTS]] as const),
   );
   if (!kind) return null;
-  const node = newLayer(genome, kind, edge.from, shape, ctx);
+  const node = newLayer(genome, kind, edge.from, shape, ctx, edge.to === null);
   return { genome: insertOnEdge(genome, edge, node), detail: `added ${describeNode(node)} on ${describeEdge(edge)}` };
 };
 
@@ -162,14 +204,19 @@ const patchNode = (genome: Genome, id: string, patch: Partial<LayerNode>): Genom
   nodes: genome.nodes.map((n) => (n.id === id ? ({ ...n, ...patch } as LayerNode) : n)),
 });
 
-/** Doubles or halves the units of a dense or the filters of a conv2d layer, within the space's range. */
+/** The width of a layer that has one: its units (dense, lstm, gru) or filters (conv2d, conv1d). */
+export function widthOf(n: LayerNode): { field: 'units' | 'filters'; value: number } | null {
+  if ('units' in n) return { field: 'units', value: n.units };
+  if ('filters' in n) return { field: 'filters', value: n.filters };
+  return null;
+}
+
+/** Doubles or halves the units or filters of a layer that has them, within the space's range. */
 export const changeWidth: MutationOperator = (genome, ctx) => {
-  const targets = genome.nodes.filter((n) => n.kind === 'dense' || n.kind === 'conv2d');
+  const targets = genome.nodes.filter((n) => widthOf(n));
   if (!targets.length) return null;
   const node = ctx.rng.pick(targets);
-  if (node.kind !== 'dense' && node.kind !== 'conv2d') return null;
-  const field = node.kind === 'dense' ? 'units' : 'filters';
-  const value = node.kind === 'dense' ? node.units : node.filters;
+  const { field, value } = widthOf(node)!;
   const range = ctx.space[field];
   const grow = ctx.rng.chance(0.5);
   for (const up of [grow, !grow]) {
@@ -179,12 +226,12 @@ export const changeWidth: MutationOperator = (genome, ctx) => {
   return null;
 };
 
-/** Gives a conv2d or depthwise-conv2d layer another kernel size from the space. */
+/** Gives a convolution (conv2d, depthwise-conv2d, conv1d) another kernel size from the space. */
 export const changeKernelSize: MutationOperator = (genome, ctx) => {
-  const targets = genome.nodes.filter((n) => n.kind === 'conv2d' || n.kind === 'depthwise-conv2d');
+  const targets = genome.nodes.filter((n) => 'kernelSize' in n);
   if (!targets.length) return null;
   const node = ctx.rng.pick(targets);
-  if (node.kind !== 'conv2d' && node.kind !== 'depthwise-conv2d') return null;
+  if (!('kernelSize' in node)) return null;
   const next = pickOther(ctx.rng, ctx.space.kernelSizes, node.kernelSize);
   if (next === null) return null;
   return { genome: patchNode(genome, node.id, { kernelSize: next }), detail: `kernel size of ${node.id} ${node.kernelSize} → ${next}` };

@@ -6,7 +6,7 @@ import { InternalError } from '../errors/netbreeder-error.js';
 
 export { topologicalOrder, type GenomeIssue } from './graph-order.js';
 
-/** A tensor shape without the batch axis: `[features]` or `[height, width, channels]`. */
+/** A tensor shape without the batch axis: `[features]`, `[timeSteps, channels]` or `[height, width, channels]`. */
 export type SampleShape = readonly number[];
 
 /** What the dataset fixes for every genome of a run. */
@@ -41,7 +41,8 @@ export interface GenomeAnalysis {
   /** Every weight the model holds (trainable or not), as TensorFlow.js `countParams()` counts them. */
   params: number;
   /** Forward-pass FLOPs for one sample: 2 per multiply-add in dense and convolution layers, one per
-   * pooled element compared or summed, 2 per element in batch normalization and add/concat free. */
+   * pooled element compared or summed, 2 per element in batch normalization and add/concat free;
+   * a recurrent layer counts 2 per multiply-add of its gate matrices at every time step. */
   flops: number;
 }
 
@@ -65,6 +66,18 @@ function spatialInput(n: LayerNode, first: SampleShape, issues: GenomeIssue[]): 
   }
   return first as unknown as [number, number, number];
 }
+
+/** The input of a sequence layer as time steps × channels, or null (with the issue) when it is not. */
+function sequenceInput(n: LayerNode, first: SampleShape, issues: GenomeIssue[]): [number, number] | null {
+  if (first.length !== 2) {
+    issues.push({ nodeId: n.id, message: `${n.kind} needs a sequence input (time steps × channels) but gets [${first.join(', ')}]; use it on sequence data, before flatten, a global pool or a recurrent layer without returnSequences` });
+    return null;
+  }
+  return first as unknown as [number, number];
+}
+
+/** Gates of a recurrent layer: TensorFlow.js's LSTM has four (input, forget, cell, output), its GRU three (update, reset, candidate). */
+export const RECURRENT_GATES = { lstm: 4, gru: 3 } as const;
 
 /** Infers every node's shape and counts parameters and FLOPs, or reports the shape mismatches. */
 export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
@@ -134,17 +147,66 @@ export function analyzeGenome(genome: Genome, data: DataShape): AnalysisResult {
         flops = n.poolSize * n.poolSize * oh * ow * c;
         break;
       }
+      case 'conv1d': {
+        const s = sequenceInput(n, first, issues);
+        if (!s) break;
+        const [t, c] = s;
+        if (n.dilation > 1 && n.strides > 1) {
+          issues.push(issueAt(n, `a dilated conv1d (dilation ${n.dilation}) needs stride 1 but has stride ${n.strides}; set strides or dilation to 1`));
+          break;
+        }
+        const span = (n.kernelSize - 1) * n.dilation + 1;
+        const ot = windowOutputLength(t, span, n.strides, n.padding);
+        if (ot < 1) {
+          issues.push(issueAt(n, `kernel ${n.kernelSize} (dilation ${n.dilation}) with 'valid' padding does not fit ${t} time steps; use 'same' padding, a smaller kernel or dilation`));
+          break;
+        }
+        out = [ot, n.filters];
+        params = n.kernelSize * c * n.filters + n.filters;
+        flops = 2 * n.kernelSize * c * ot * n.filters;
+        break;
+      }
+      case 'max-pool1d':
+      case 'avg-pool1d': {
+        const s = sequenceInput(n, first, issues);
+        if (!s) break;
+        const [t, c] = s;
+        const ot = windowOutputLength(t, n.poolSize, n.strides, 'valid');
+        if (ot < 1) {
+          issues.push(issueAt(n, `pool ${n.poolSize} does not fit ${t} time steps; remove the pool or pool earlier less often`));
+          break;
+        }
+        out = [ot, c];
+        flops = n.poolSize * ot * c;
+        break;
+      }
+      case 'lstm':
+      case 'gru': {
+        const s = sequenceInput(n, first, issues);
+        if (!s) break;
+        const [t, c] = s;
+        const gates = RECURRENT_GATES[n.kind];
+        out = n.returnSequences ? [t, n.units] : [n.units];
+        params = gates * n.units * (c + n.units + 1);
+        flops = 2 * t * gates * n.units * (c + n.units);
+        break;
+      }
       case 'flatten': {
-        if (!spatialInput(n, first, issues)) break;
+        if (first.length < 2) {
+          issues.push(issueAt(n, `flatten needs a sequence or spatial input but gets [${first.join(', ')}], which is flat already; remove it`));
+          break;
+        }
         out = [product(first)];
         break;
       }
       case 'global-avg-pool':
       case 'global-max-pool': {
-        const s = spatialInput(n, first, issues);
-        if (!s) break;
-        out = [s[2]];
-        flops = product(s);
+        if (first.length < 2) {
+          issues.push(issueAt(n, `${n.kind} needs a spatial input (height × width × channels) or a sequence (time steps × channels) but gets [${first.join(', ')}]; use it before flatten`));
+          break;
+        }
+        out = [first[first.length - 1]!];
+        flops = product(first);
         break;
       }
       case 'dropout':
@@ -224,9 +286,16 @@ export function describeGenome(genome: Genome, numClasses?: number): string {
         return `conv2d ${n.kernelSize}×${n.kernelSize}×${n.filters}${n.strides > 1 ? ` /${n.strides}` : ''} ${n.activation}`;
       case 'depthwise-conv2d':
         return `depthwise ${n.kernelSize}×${n.kernelSize}×${n.depthMultiplier}${n.strides > 1 ? ` /${n.strides}` : ''} ${n.activation}`;
+      case 'conv1d':
+        return `conv1d ${n.kernelSize}×${n.filters}${n.strides > 1 ? ` /${n.strides}` : ''}${n.dilation > 1 ? ` dil ${n.dilation}` : ''} ${n.activation}`;
       case 'max-pool2d':
       case 'avg-pool2d':
+      case 'max-pool1d':
+      case 'avg-pool1d':
         return `${n.kind} ${n.poolSize}`;
+      case 'lstm':
+      case 'gru':
+        return `${n.kind} ${n.units}${n.returnSequences ? ' seq' : ''}`;
       case 'dropout':
         return `dropout ${n.rate}`;
       case 'activation':

@@ -53,6 +53,22 @@ export const DepthwiseConv2dNodeSchema = node('depthwise-conv2d', [1, 1], {
 });
 export const MaxPool2dNodeSchema = node('max-pool2d', [1, 1], { poolSize: Type.Integer({ minimum: 2, maximum: 4 }), strides: Stride });
 export const AvgPool2dNodeSchema = node('avg-pool2d', [1, 1], { poolSize: Type.Integer({ minimum: 2, maximum: 4 }), strides: Stride });
+/** 1-D convolution over the time axis of a sequence (time steps × channels). */
+export const Conv1dNodeSchema = node('conv1d', [1, 1], {
+  filters: Type.Integer({ minimum: 1, maximum: 4096 }),
+  kernelSize: KernelSize,
+  strides: Stride,
+  /** Gap between kernel taps (1 = contiguous); a dilated convolution has stride 1. */
+  dilation: Type.Integer({ minimum: 1, maximum: 8 }),
+  padding: Padding,
+  activation: ActivationSchema,
+});
+export const MaxPool1dNodeSchema = node('max-pool1d', [1, 1], { poolSize: Type.Integer({ minimum: 2, maximum: 4 }), strides: Stride });
+export const AvgPool1dNodeSchema = node('avg-pool1d', [1, 1], { poolSize: Type.Integer({ minimum: 2, maximum: 4 }), strides: Stride });
+/** Recurrent layers over a sequence: the whole sequence of states (`returnSequences`) or the last step's. */
+const recurrent = { units: Type.Integer({ minimum: 1, maximum: 4096 }), returnSequences: Type.Boolean() };
+export const LstmNodeSchema = node('lstm', [1, 1], recurrent);
+export const GruNodeSchema = node('gru', [1, 1], recurrent);
 export const DropoutNodeSchema = node('dropout', [1, 1], { rate: Type.Number({ minimum: 0, maximum: 0.9 }) });
 export const BatchNormNodeSchema = node('batch-norm', [1, 1], {});
 export const ActivationNodeSchema = node('activation', [1, 1], { activation: ActivationSchema });
@@ -81,6 +97,11 @@ export const LayerNodeSchema = Type.Union([
   DepthwiseConv2dNodeSchema,
   MaxPool2dNodeSchema,
   AvgPool2dNodeSchema,
+  Conv1dNodeSchema,
+  MaxPool1dNodeSchema,
+  AvgPool1dNodeSchema,
+  LstmNodeSchema,
+  GruNodeSchema,
   DropoutNodeSchema,
   BatchNormNodeSchema,
   ActivationNodeSchema,
@@ -101,6 +122,11 @@ export const LAYER_KINDS: readonly LayerKind[] = [
   'depthwise-conv2d',
   'max-pool2d',
   'avg-pool2d',
+  'conv1d',
+  'max-pool1d',
+  'avg-pool1d',
+  'lstm',
+  'gru',
   'dropout',
   'batch-norm',
   'activation',

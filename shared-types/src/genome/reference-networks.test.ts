@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { analyzeGenome, type DataShape } from './analyze.js';
 import { genomeHash } from './canonical.js';
-import { defaultSearchSpace, type SearchSpace } from './search-space-schema.js';
+import { defaultSearchSpace, defaultSequenceSearchSpace, type SearchSpace } from './search-space-schema.js';
 import { checkGenome } from './validate.js';
 import { fitReferenceNetwork, REFERENCE_RECIPES, referenceGenome } from './reference-networks.js';
 
@@ -82,5 +82,32 @@ describe('fitReferenceNetwork', () => {
     expect(noConv.ok || noConv.reason).toMatch(/does not allow 'conv2d'/);
     const tiny = fitReferenceNetwork(MNIST, space({ maxParams: 2_000, filters: { min: 16, max: 64 } }));
     expect(tiny.ok || tiny.reason).toMatch(/narrowest widths \(16\/16/);
+  });
+});
+
+describe('the reference network for sequences (time steps × channels)', () => {
+  const SENSOR: DataShape = { inputShape: [40, 3], numClasses: 4 };
+  const sequenceSpace = (over: Partial<SearchSpace> = {}): SearchSpace => ({ ...defaultSequenceSearchSpace(), ...over });
+
+  it('is the small 1-D conv net: conv1d + batch-norm + relu twice, a pool, a global average pool over time', () => {
+    const g = referenceGenome(SENSOR);
+    expect(g.nodes.map((n) => n.kind)).toEqual(['conv1d', 'batch-norm', 'activation', 'max-pool1d', 'conv1d', 'batch-norm', 'activation', 'global-avg-pool']);
+    expect(g.training).toEqual(REFERENCE_RECIPES.sequence);
+    // Hand count: conv 3·3·32+32 = 320, bn 4·32 = 128, conv 3·32·64+64 = 6,208, bn 4·64 = 256, head 64·4+4 = 260.
+    const a = analyzeGenome(g, SENSOR);
+    expect(a.ok && a.analysis.params).toBe(320 + 128 + 6208 + 256 + 260);
+    const fit = fitReferenceNetwork(SENSOR, sequenceSpace());
+    expect(fit.ok && [genomeHash(fit.genome), fit.adjustments]).toEqual([genomeHash(g), []]);
+    expect(checkGenome(g, sequenceSpace(), SENSOR).ok).toBe(true);
+  });
+
+  it('fits a space without kernel 3, batch-norm or activation layers, and fails without conv1d', () => {
+    const { fit, kinds: k } = kinds(SENSOR, sequenceSpace({ kernelSizes: [5, 7], allowedKinds: ['conv1d', 'max-pool1d', 'global-avg-pool', 'dense'] }));
+    expect(k).toEqual(['conv1d', 'max-pool1d', 'conv1d', 'global-avg-pool']);
+    expect(fit.genome.nodes.map((n) => n.kind === 'conv1d' && [n.kernelSize, n.activation])).toEqual([[5, 'relu'], false, [5, 'relu'], false]);
+    expect(fit.adjustments).toContain('kernel size 3 is not allowed: 5 instead');
+    const refused = fitReferenceNetwork(SENSOR, space());
+    expect(refused.ok).toBe(false);
+    expect(!refused.ok && refused.reason).toBe("the search space does not allow 'conv1d' layers");
   });
 });

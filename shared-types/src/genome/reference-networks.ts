@@ -10,8 +10,8 @@ import type { DataShape } from './analyze.js';
  * docs/reference-networks.md explains the choices; this file is the only place they are made.
  */
 
-/** Image samples (`[height, width, channels]`), flat feature vectors of a classifier, or flat feature vectors with a numeric target. */
-export type ReferenceDataKind = 'image' | 'flat' | 'regression';
+/** Image samples (`[height, width, channels]`), sequences (`[timeSteps, channels]`), flat feature vectors of a classifier, or flat feature vectors with a numeric target. */
+export type ReferenceDataKind = 'image' | 'sequence' | 'flat' | 'regression';
 
 /**
  * The training recipe of each reference network (common practice: Adam at 0.001 without weight
@@ -20,6 +20,7 @@ export type ReferenceDataKind = 'image' | 'flat' | 'regression';
  */
 export const REFERENCE_RECIPES: Readonly<Record<ReferenceDataKind, TrainingGenes>> = {
   image: { optimizer: 'adam', learningRate: 0.001, batchSize: 64, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
+  sequence: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
   flat: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
   regression: { optimizer: 'adam', learningRate: 0.001, batchSize: 32, weightDecay: 0, epochs: 10, schedule: { kind: 'cosine', minFactor: 0, warmupEpochs: 0 } },
 };
@@ -28,22 +29,41 @@ export const REFERENCE_RECIPES: Readonly<Record<ReferenceDataKind, TrainingGenes
 export const REFERENCE_DESCRIPTIONS: Readonly<Record<ReferenceDataKind, string>> = {
   image:
     'hand-made conv net: conv 3×3 16 → batch-norm → relu → max-pool 2 → conv 3×3 32 → batch-norm → relu → max-pool 2 → dropout 0.25 → flatten → dense softmax; Adam 0.001 with cosine decay, batch 64',
+  sequence:
+    'hand-made 1-D conv net: conv1d 3×32 → batch-norm → relu → max-pool1d 2 → conv1d 3×64 → batch-norm → relu → global average pool over time → dense head; Adam 0.001 with cosine decay, batch 32',
   flat: 'hand-made dense net: dense 128 relu → dropout 0.2 → dense 64 relu → dropout 0.2 → dense softmax; Adam 0.001 with cosine decay, batch 32',
   regression: 'hand-made dense regressor: dense 128 relu → dense 64 relu → dense 1 linear, mean squared error on the standardised target; Adam 0.001 with cosine decay, batch 32',
 };
 
-export const referenceDataKind = (data: DataShape): ReferenceDataKind => (data.inputShape.length === 3 ? 'image' : data.target ? 'regression' : 'flat');
+export const referenceDataKind = (data: DataShape): ReferenceDataKind =>
+  data.inputShape.length === 3 ? 'image' : data.inputShape.length === 2 ? 'sequence' : data.target ? 'regression' : 'flat';
 
 /** Widths of the hidden layers in order (filters of each conv, units of each dense). */
-const WIDTHS: Readonly<Record<ReferenceDataKind, readonly number[]>> = { image: [16, 32], flat: [128, 64], regression: [128, 64] };
+const WIDTHS: Readonly<Record<ReferenceDataKind, readonly number[]>> = { image: [16, 32], sequence: [32, 64], flat: [128, 64], regression: [128, 64] };
+
+/** Kernel size of the sequence reference's convolutions (common practice for short sensor windows: 3). */
+const SEQUENCE_KERNEL = 3;
 
 /** A layer without its inputs (the reference is a chain: each layer takes the one before). */
 type ChainLayer = LayerNode extends infer N ? (N extends LayerNode ? Omit<N, 'inputs'> : never) : never;
 
-/** The hand-made layers, with hidden widths `widths` and `act` as the non-linearity. `linearConv`: conv → batch-norm → act; else conv(act) → batch-norm. */
-function layers(kind: ReferenceDataKind, widths: readonly number[], act: Activation, linearConv: boolean): LayerNode[] {
+/**
+ * The hand-made layers, with hidden widths `widths` and `act` as the non-linearity. `linearConv`:
+ * conv → batch-norm → act; else conv(act) → batch-norm. `kernel`: the sequence convolutions' size.
+ */
+function layers(kind: ReferenceDataKind, widths: readonly number[], act: Activation, linearConv: boolean, kernel = SEQUENCE_KERNEL): LayerNode[] {
   const nodes: LayerNode[] = [];
   const add = (n: ChainLayer) => nodes.push({ ...n, inputs: [nodes.at(-1)?.id ?? INPUT_ID] } as LayerNode);
+  if (kind === 'sequence') {
+    widths.forEach((filters, i) => {
+      add({ id: `conv${i + 1}`, kind: 'conv1d', filters, kernelSize: kernel, strides: 1, dilation: 1, padding: 'same', activation: linearConv ? 'linear' : act });
+      add({ id: `bn${i + 1}`, kind: 'batch-norm' });
+      if (linearConv) add({ id: `act${i + 1}`, kind: 'activation', activation: act });
+      if (i === 0) add({ id: 'pool1', kind: 'max-pool1d', poolSize: 2, strides: 2 });
+    });
+    add({ id: 'gap', kind: 'global-avg-pool' });
+    return nodes;
+  }
   if (kind !== 'image') {
     // No dropout before a regression head: its noise goes straight into the predicted number (common practice).
     widths.forEach((units, i) => {
@@ -114,27 +134,30 @@ function fittedTraining(recipe: TrainingGenes, space: SearchSpace, notes: string
  * forbids (batch-norm, activation, pooling, dropout, flatten) dropped, and more of them when the
  * space allows fewer nodes; then every hidden width halved together (never below the space's
  * minimum) until the parameter and FLOP caps hold. Fails, with the reason, when a required kind
- * (conv2d for images, dense for flat data) is forbidden or the smallest widths still break a cap.
+ * (conv2d for images, conv1d for sequences, dense for flat data) is forbidden or the smallest widths still break a cap.
  * Pure: the same space and data always give the same genome.
  */
 export function fitReferenceNetwork(data: DataShape, space: SearchSpace): FittedReference {
   const kind = referenceDataKind(data);
   const description = REFERENCE_DESCRIPTIONS[kind];
   const notes: string[] = [];
-  const required = kind === 'image' ? 'conv2d' : 'dense';
+  const required = kind === 'image' ? 'conv2d' : kind === 'sequence' ? 'conv1d' : 'dense';
   if (!space.allowedKinds.includes(required)) return { ok: false, description, reason: `the search space does not allow '${required}' layers` };
   const act: Activation = space.activations.includes('relu') ? 'relu' : space.activations[0]!;
   if (act !== 'relu') notes.push(`relu is not allowed: ${act} instead`);
-  const linearConv = kind === 'image' && space.allowedKinds.includes('activation');
-  if (kind === 'image' && !linearConv) notes.push("'activation' layers are not allowed: each conv carries the non-linearity, batch-norm after it");
-  const range = kind === 'image' ? space.filters : space.units;
+  const convolutional = kind === 'image' || kind === 'sequence';
+  const linearConv = convolutional && space.allowedKinds.includes('activation');
+  if (convolutional && !linearConv) notes.push("'activation' layers are not allowed: each conv carries the non-linearity, batch-norm after it");
+  const kernel = nearest(SEQUENCE_KERNEL, space.kernelSizes);
+  if (kind === 'sequence' && kernel !== SEQUENCE_KERNEL) notes.push(`kernel size ${SEQUENCE_KERNEL} is not allowed: ${kernel} instead`);
+  const range = convolutional ? space.filters : space.units;
   let widths = WIDTHS[kind].map((w) => clamp(w, range));
-  let nodes = layers(kind, widths, act, linearConv);
+  let nodes = layers(kind, widths, act, linearConv, kernel);
   const forbidden = new Set(nodes.map((n) => n.kind).filter((k) => !space.allowedKinds.includes(k)));
   if (forbidden.size) notes.push(`left out (not allowed in the search space): ${[...forbidden].join(', ')}`);
   const optionalOrder: LayerNode['kind'][] = ['dropout', 'flatten', 'batch-norm'];
   const rebuild = () => {
-    let out = without(layers(kind, widths, act, linearConv), (n) => forbidden.has(n.kind));
+    let out = without(layers(kind, widths, act, linearConv, kernel), (n) => forbidden.has(n.kind));
     for (const k of optionalOrder) {
       if (out.length <= space.maxNodes) break;
       out = without(out, (n) => n.kind === k);

@@ -24,6 +24,8 @@ export const SearchSpaceSchema = Type.Object(
     filters: Range(1, 4096, { integer: true }),
     kernelSizes: Type.Array(Type.Integer({ minimum: 1, maximum: 11 }), { minItems: 1, uniqueItems: true }),
     strides: Type.Array(Type.Integer({ minimum: 1, maximum: 4 }), { minItems: 1, uniqueItems: true }),
+    /** Dilations a conv1d may have (absent: 1 only). */
+    dilations: Type.Optional(Type.Array(Type.Integer({ minimum: 1, maximum: 8 }), { minItems: 1, uniqueItems: true })),
     poolSizes: Type.Array(Type.Integer({ minimum: 2, maximum: 4 }), { minItems: 1, uniqueItems: true }),
     dropoutRate: Range(0, 0.9),
     activations: Type.Array(ActivationSchema, { minItems: 1, uniqueItems: true }),
@@ -58,24 +60,26 @@ export const DEFAULT_MAX_REPEATS = 4;
 /** The space's `maxRepeats`, or its default. */
 export const maxRepeatsOf = (space: SearchSpace): number => space.maxRepeats ?? DEFAULT_MAX_REPEATS;
 
-/** Kinds that only make sense on a spatial (height × width × channels) tensor. */
-export const SPATIAL_KINDS: readonly LayerKind[] = [
-  'conv2d',
-  'depthwise-conv2d',
-  'max-pool2d',
-  'avg-pool2d',
-  'flatten',
-  'global-avg-pool',
-  'global-max-pool',
-];
+/** The space's conv1d dilations, or 1 only. */
+export const dilationsOf = (space: SearchSpace): readonly number[] => space.dilations ?? [1];
+
+/** Kinds that only make sense on an image (height × width × channels) tensor. */
+export const IMAGE_KINDS: readonly LayerKind[] = ['conv2d', 'depthwise-conv2d', 'max-pool2d', 'avg-pool2d'];
+/** Kinds that only make sense on a sequence (time steps × channels) tensor. */
+export const SEQUENCE_KINDS: readonly LayerKind[] = ['conv1d', 'max-pool1d', 'avg-pool1d', 'lstm', 'gru'];
+/** Kinds that need an image or a sequence: they leave it for flat features. */
+export const UNFLATTENING_KINDS: readonly LayerKind[] = ['flatten', 'global-avg-pool', 'global-max-pool'];
+/** Kinds that only make sense on an image or sequence tensor (never on flat samples). */
+export const SPATIAL_KINDS: readonly LayerKind[] = [...IMAGE_KINDS, ...SEQUENCE_KINDS, ...UNFLATTENING_KINDS];
 
 /**
  * A search space sized for an office PC: at most 250k parameters and 20 MFLOPs per sample.
- * `depthwise-conv2d` is left out by default; add it to `allowedKinds` to search over it.
+ * `depthwise-conv2d` is left out by default; add it to `allowedKinds` to search over it. The
+ * sequence kinds are left out too: {@link defaultSequenceSearchSpace} is the default for sequences.
  */
 export function defaultSearchSpace(): SearchSpace {
   return {
-    allowedKinds: LAYER_KINDS.filter((k) => k !== 'depthwise-conv2d'),
+    allowedKinds: LAYER_KINDS.filter((k) => k !== 'depthwise-conv2d' && !SEQUENCE_KINDS.includes(k)),
     maxNodes: 24,
     maxParams: 250_000,
     maxFlops: 20_000_000,
@@ -98,3 +102,24 @@ export function defaultSearchSpace(): SearchSpace {
     patience: { min: 2, max: 5 },
   };
 }
+
+/**
+ * The default space for sequence data (time steps × channels): 1-D convolutions (kernels 3, 5, 7,
+ * dilations 1, 2, 4), 1-D pools, LSTM and GRU layers of 8 to 128 units, and the kinds that are not
+ * image-only; no image augmentation. Same caps as {@link defaultSearchSpace}.
+ */
+export function defaultSequenceSearchSpace(): SearchSpace {
+  const { shift: _shift, ...base } = defaultSearchSpace();
+  return {
+    ...base,
+    allowedKinds: LAYER_KINDS.filter((k) => !IMAGE_KINDS.includes(k)),
+    units: { min: 8, max: 128 },
+    filters: { min: 8, max: 64 },
+    kernelSizes: [3, 5, 7],
+    dilations: [1, 2, 4],
+  };
+}
+
+/** The default space for data of this sample shape: {@link defaultSequenceSearchSpace} for sequences, else {@link defaultSearchSpace}. */
+export const defaultSearchSpaceFor = (inputShape: readonly number[]): SearchSpace =>
+  inputShape.length === 2 ? defaultSequenceSearchSpace() : defaultSearchSpace();

@@ -1,5 +1,5 @@
 import { GenomeSchema, type Genome, type LayerNode, type TrainingGenes } from './genome-schema.js';
-import { maxRepeatsOf, SPATIAL_KINDS, type SearchSpace } from './search-space-schema.js';
+import { dilationsOf, IMAGE_KINDS, maxRepeatsOf, SEQUENCE_KINDS, SPATIAL_KINDS, type SearchSpace } from './search-space-schema.js';
 import { analyzeGenome, type DataShape, type GenomeAnalysis, type GenomeIssue } from './analyze.js';
 import { expandedLayerCount } from './motifs.js';
 import { createValidator } from '../validation.js';
@@ -19,8 +19,13 @@ function nodeIssues(n: LayerNode, space: SearchSpace): string[] {
   if ('activation' in n && n.activation !== 'linear' && !space.activations.includes(n.activation)) out.push(`activation '${n.activation}' is not allowed`);
   switch (n.kind) {
     case 'dense':
+    case 'lstm':
+    case 'gru':
       if (!inRange(n.units, space.units)) out.push(`units ${n.units} outside [${space.units.min}, ${space.units.max}]`);
       break;
+    case 'conv1d':
+      if (!dilationsOf(space).includes(n.dilation)) out.push(`dilation ${n.dilation} not in [${dilationsOf(space).join(', ')}]`);
+    // falls through: a conv1d has a conv2d's filters, kernel and stride rules
     case 'conv2d':
       if (!inRange(n.filters, space.filters)) out.push(`filters ${n.filters} outside [${space.filters.min}, ${space.filters.max}]`);
     // falls through: both convolutions share kernel and stride rules
@@ -30,6 +35,8 @@ function nodeIssues(n: LayerNode, space: SearchSpace): string[] {
       break;
     case 'max-pool2d':
     case 'avg-pool2d':
+    case 'max-pool1d':
+    case 'avg-pool1d':
       if (!space.poolSizes.includes(n.poolSize)) out.push(`pool size ${n.poolSize} not in [${space.poolSizes.join(', ')}]`);
       if (!space.strides.includes(n.strides)) out.push(`stride ${n.strides} not in [${space.strides.join(', ')}]`);
       break;
@@ -63,10 +70,11 @@ export function checkGenome(value: unknown, space: SearchSpace, data: DataShape)
   for (const n of genome.nodes) for (const message of nodeIssues(n, space)) issues.push({ nodeId: n.id, message });
   const motifNodes = (genome.motifs ?? []).flatMap((m) => m.nodes.map((n) => ({ motif: m.id, n })));
   for (const { motif, n } of motifNodes) for (const message of nodeIssues(n, space)) issues.push({ nodeId: n.id, message: `in motif '${motif}': ${message}` });
-  const anySpatial = genome.nodes.some((n) => SPATIAL_KINDS.includes(n.kind)) || motifNodes.some(({ n }) => SPATIAL_KINDS.includes(n.kind));
-  if (data.inputShape.length !== 3 && anySpatial) {
-    issues.push({ nodeId: null, message: 'this dataset has flat samples, so spatial layers (conv, pool, flatten) cannot be used' });
-  }
+  const anyOf = (kinds: readonly LayerNode['kind'][]) => [...genome.nodes, ...motifNodes.map(({ n }) => n)].some((n) => kinds.includes(n.kind));
+  const rank = data.inputShape.length;
+  if (rank === 1 && anyOf(SPATIAL_KINDS)) issues.push({ nodeId: null, message: 'this dataset has flat samples, so spatial layers (conv, pool, flatten) cannot be used' });
+  if (rank === 2 && anyOf(IMAGE_KINDS)) issues.push({ nodeId: null, message: 'this dataset has sequence samples (time steps × channels), so image layers (conv2d, depthwise-conv2d, 2-D pools) cannot be used; use conv1d and 1-D pools' });
+  if (rank === 3 && anyOf(SEQUENCE_KINDS)) issues.push({ nodeId: null, message: 'this dataset has image samples, so sequence layers (conv1d, 1-D pools, lstm, gru) cannot be used' });
   const t = genome.training;
   if (!space.optimizers.includes(t.optimizer)) issues.push({ nodeId: null, message: `optimizer '${t.optimizer}' is not allowed` });
   if (!inRange(t.learningRate, space.learningRate)) issues.push({ nodeId: null, message: `learning rate ${t.learningRate} outside [${space.learningRate.min}, ${space.learningRate.max}]` });

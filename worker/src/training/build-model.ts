@@ -3,6 +3,7 @@ import { InternalError, analyzeGenome, createRandom, expandMotifs, headUnits, IN
 import { InvalidGenomeError } from './errors.js';
 import { ChannelBatchNorm } from './channel-batch-norm.js';
 import { SeededDropout } from './seeded-dropout.js';
+import { DilatedConv1d } from './dilated-conv1d.js';
 
 /** Names of the implicit head's layers; genome ids cannot contain a dot, so these never collide. */
 export const HEAD_FLATTEN_NAME = 'head.flatten';
@@ -83,6 +84,52 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
       case 'avg-pool2d':
         layer = tf.layers.averagePooling2d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
         break;
+      case 'conv1d':
+        // TensorFlow.js has no gradient for a dilated convolution; DilatedConv1d writes it as undilated ones.
+        layer = n.dilation > 1 ? new DilatedConv1d({
+          name: n.id,
+          filters: n.filters,
+          kernelSize: n.kernelSize,
+          dilation: n.dilation,
+          padding: n.padding,
+          activation: act(n.activation),
+          kernelInitializer: glorot(),
+          kernelRegularizer: regularizer(),
+        }) : tf.layers.conv1d({
+          name: n.id,
+          filters: n.filters,
+          kernelSize: n.kernelSize,
+          strides: n.strides,
+          dilationRate: n.dilation,
+          padding: n.padding,
+          activation: act(n.activation),
+          kernelInitializer: glorot(),
+          kernelRegularizer: regularizer(),
+        });
+        break;
+      case 'max-pool1d':
+        layer = tf.layers.maxPooling1d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
+        break;
+      case 'avg-pool1d':
+        layer = tf.layers.averagePooling1d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
+        break;
+      case 'lstm':
+      case 'gru': {
+        // The recurrent kernel gets a seeded Glorot-uniform initialiser too, not the layers
+        // library's default orthogonal one (a QR decomposition per layer, slow on large units).
+        // Gates use the logistic sigmoid (common practice), not the library's default hard sigmoid.
+        const config = {
+          name: n.id,
+          units: n.units,
+          returnSequences: n.returnSequences,
+          recurrentActivation: 'sigmoid' as const,
+          kernelInitializer: glorot(),
+          recurrentInitializer: glorot(),
+          kernelRegularizer: regularizer(),
+        };
+        layer = n.kind === 'lstm' ? tf.layers.lstm(config) : tf.layers.gru(config);
+        break;
+      }
       case 'dropout':
         layer = new SeededDropout({ name: n.id, rate: n.rate, seed: nextSeed() });
         break;
@@ -96,11 +143,15 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
         layer = tf.layers.flatten({ name: n.id });
         break;
       case 'global-avg-pool':
-        layer = tf.layers.globalAveragePooling2d({ name: n.id });
+      case 'global-max-pool': {
+        // Over time for a sequence (time steps × channels), over height and width for an image.
+        const sequence = single(n).shape.length === 3;
+        const avg = n.kind === 'global-avg-pool';
+        layer = sequence
+          ? avg ? tf.layers.globalAveragePooling1d({ name: n.id }) : tf.layers.globalMaxPooling1d({ name: n.id })
+          : avg ? tf.layers.globalAveragePooling2d({ name: n.id }) : tf.layers.globalMaxPooling2d({ name: n.id });
         break;
-      case 'global-max-pool':
-        layer = tf.layers.globalMaxPooling2d({ name: n.id });
-        break;
+      }
       case 'add':
         layer = tf.layers.add({ name: n.id });
         break;

@@ -3,12 +3,13 @@ import { createRandom, type DataShape, type LabelledSamples } from '@netbreeder/
 /**
  * A tiny invented image task for tests and benchmarks: class k of `numClasses` is a bright bar at
  * a position that depends on k (rows for even k, columns for odd k; one position per class for
- * flat inputs), plus uniform noise. Learnable
+ * flat inputs; for sequences, time steps are rows and channels columns), plus uniform noise. Learnable
  * in a few epochs by a small network, hard to get perfect for a linear one at high noise.
  */
 export function syntheticSamples(data: DataShape, count: number, seed: number, noise = 0.5): LabelledSamples {
   const random = createRandom(`samples ${seed}`);
-  const shape = data.inputShape.length === 3 ? data.inputShape : [data.inputShape[0]!, 1, 1];
+  const rank = data.inputShape.length;
+  const shape = rank === 3 ? data.inputShape : rank === 2 ? [...data.inputShape, 1] : [data.inputShape[0]!, 1, 1];
   const [h, w, c] = shape as [number, number, number];
   const size = h * w * c;
   const features = new Float32Array(count * size);
