@@ -21,6 +21,7 @@ export function prepareDataset(source: DatasetSource, fractions: SplitFractions,
     case 'csv':
     case 'image-folder':
     case 'idx':
+    case 'series-windows':
       throw new DatasetError(
         'NB_DATASET_BAD_OPTIONS',
         `dataset source kind "${source.kind}" is read from files: load it with loadDataset (coordinator/src/importers), which reads, splits and encodes it`,

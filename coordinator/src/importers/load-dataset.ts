@@ -10,6 +10,8 @@ import { checkShardSize } from '../datasets/shard-size.js';
 import { selectSamples, stratifiedSplitIndices, type SplitIndices } from '../datasets/split.js';
 import { encodeTable } from '../datasets/table-encoding.js';
 import { parseCsvTable } from './csv-table.js';
+import { parseSeriesCsv } from './series-csv.js';
+import { windowSeries } from '../datasets/series-windows.js';
 import { decodeImageFolder, firstImageSize, listImageFolder } from './image-folder.js';
 import { idxFeatures, pairIdx, readIdxFile } from './idx-files.js';
 
@@ -30,8 +32,8 @@ export interface LoadDatasetOptions {
 }
 
 /**
- * Reads a run's dataset source (demo tiles, a CSV table, an image folder or IDX files), splits it
- * three ways stratified by class with `split.seed` (the run's seed when absent), and only then
+ * Reads a run's dataset source (demo tiles, a CSV table, an image folder, IDX files or a series
+ * cut in windows), splits it three ways stratified by class (a series: by time) with `split.seed` (the run's seed when absent), and only then
  * fits and applies the encoding on the training split. Refuses a training shard above
  * `maxDatasetMb` before decoding anything large. Logs the class counts per split and the warnings
  * (tiny classes, imbalance, duplicates across splits, constant columns) and returns them. Throws a {@link DatasetError} naming the
@@ -61,6 +63,8 @@ export function resolveSourcePaths(source: DatasetSource, baseDir: string): Data
       return { ...source, path: at(source.path) };
     case 'idx':
       return { ...source, images: at(source.images), labels: at(source.labels) };
+    case 'series-windows':
+      return { ...source, path: at(source.path) };
   }
 }
 
@@ -80,12 +84,7 @@ async function importSource(source: DatasetSource, settings: DatasetRunSettings)
       return { dataset, preprocessing: { kind: 'demo-tiles', inputShape: dataset.inputShape }, constantColumns: [] };
     }
     case 'csv': {
-      let text: string;
-      try {
-        text = await readFile(source.path, 'utf8');
-      } catch (err) {
-        throw new DatasetError('NB_DATASET_UNREADABLE', `cannot read CSV file ${source.path}: ${(err as Error).message}; check dataset.path (relative to the run file's folder)`, { file: source.path });
-      }
+      let text = await readCsvText(source.path);
       const table = parseCsvTable(text, source.path, source);
       text = '';
       checkClasses(table.classNames, `${source.path}: label column "${source.labelColumn}"`, source.path);
@@ -139,6 +138,22 @@ async function importSource(source: DatasetSource, settings: DatasetRunSettings)
         constantColumns: [],
       };
     }
+    case 'series-windows': {
+      const series = parseSeriesCsv(await readCsvText(source.path), source.path, { delimiter: source.delimiter, channels: source.channels, target: { column: source.labelColumn, task: source.task } });
+      const { dataset, preprocessing } = windowSeries(series, source, fractions);
+      if (source.task !== 'regression') checkClasses(dataset.classNames, `${source.path}: label column "${source.labelColumn}" at the windows' last steps`, source.path);
+      checkShardSize(dataset.train.count + dataset.val.count, sampleSize(dataset.inputShape), maxDatasetMb, source.path);
+      const withLoss = dataset.target && source.regressionLoss === 'huber' ? { ...dataset, target: { ...dataset.target, loss: 'huber' as const } } : dataset;
+      return { dataset: withLoss, preprocessing, constantColumns: [] };
+    }
+  }
+}
+
+async function readCsvText(path: string): Promise<string> {
+  try {
+    return await readFile(path, 'utf8');
+  } catch (err) {
+    throw new DatasetError('NB_DATASET_UNREADABLE', `cannot read CSV file ${path}: ${(err as Error).message}; check dataset.path (relative to the run file's folder)`, { file: path });
   }
 }
 
