@@ -50,5 +50,17 @@ export function preprocessingFileOf(run: Pick<RunRecord, 'config' | 'dataset'>):
         labelColumn: p.labelColumn,
         ...(p.horizon ? { horizon: p.horizon } : {}),
       });
+    case 'sequences':
+      return file({
+        kind: 'sequences',
+        delimiter: run.config.dataset.kind === 'sequences' ? run.config.dataset.delimiter : ',',
+        idColumn: p.idColumn,
+        timeColumn: p.timeColumn,
+        channels: p.channels.map((c) => ({ ...c })),
+        length: p.length,
+        pad: 'end-with-training-mean',
+        truncate: 'keep-first-steps',
+        layout: 'time-channels',
+      });
   }
 }

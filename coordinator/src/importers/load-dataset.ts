@@ -3,7 +3,8 @@ import { isAbsolute, resolve } from 'node:path';
 import { sampleSize, type DatasetSource, type PreparedDataset, type RunConfig } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import { DatasetError } from '../datasets/dataset-error.js';
-import { datasetWarnings, splitClassCounts } from '../datasets/dataset-report.js';
+import { datasetWarnings, splitClassCounts, type DatasetWarning } from '../datasets/dataset-report.js';
+import { shapeSequences } from '../datasets/sequence-samples.js';
 import { prepareDataset } from '../datasets/prepare-dataset.js';
 import type { DatasetPreparation, DatasetPreprocessing } from '../datasets/preprocessing.js';
 import { checkShardSize } from '../datasets/shard-size.js';
@@ -11,6 +12,7 @@ import { selectSamples, stratifiedSplitIndices, type SplitIndices } from '../dat
 import { encodeTable } from '../datasets/table-encoding.js';
 import { parseCsvTable } from './csv-table.js';
 import { parseSeriesCsv } from './series-csv.js';
+import { parseSequencesCsv } from './sequences-csv.js';
 import { windowSeries } from '../datasets/series-windows.js';
 import { decodeImageFolder, firstImageSize, listImageFolder } from './image-folder.js';
 import { idxFeatures, pairIdx, readIdxFile } from './idx-files.js';
@@ -32,8 +34,8 @@ export interface LoadDatasetOptions {
 }
 
 /**
- * Reads a run's dataset source (demo tiles, a CSV table, an image folder, IDX files or a series
- * cut in windows), splits it three ways stratified by class (a series: by time) with `split.seed` (the run's seed when absent), and only then
+ * Reads a run's dataset source (demo tiles, a CSV table, an image folder, IDX files, a series
+ * cut in windows or labelled sequences), splits it three ways stratified by class (a series: by time) with `split.seed` (the run's seed when absent), and only then
  * fits and applies the encoding on the training split. Refuses a training shard above
  * `maxDatasetMb` before decoding anything large. Logs the class counts per split and the warnings
  * (tiny classes, imbalance, duplicates across splits, constant columns) and returns them. Throws a {@link DatasetError} naming the
@@ -41,9 +43,9 @@ export interface LoadDatasetOptions {
  */
 export async function loadDataset(settings: DatasetRunSettings, options: LoadDatasetOptions = {}): Promise<LoadedDataset> {
   const source = resolveSourcePaths(settings.dataset, options.baseDir ?? process.cwd());
-  const { dataset, preprocessing, constantColumns } = await importSource(source, settings);
+  const { dataset, preprocessing, constantColumns, warnings: importWarnings = [] } = await importSource(source, settings);
   const classCounts = splitClassCounts(dataset);
-  const warnings = datasetWarnings(dataset, classCounts, constantColumns);
+  const warnings = [...importWarnings, ...datasetWarnings(dataset, classCounts, constantColumns)];
   options.log?.info(
     { classes: dataset.classNames, inputShape: dataset.inputShape, train: classCounts.train, val: classCounts.val, test: classCounts.test },
     'dataset prepared: samples per class in each split',
@@ -64,6 +66,7 @@ export function resolveSourcePaths(source: DatasetSource, baseDir: string): Data
     case 'idx':
       return { ...source, images: at(source.images), labels: at(source.labels) };
     case 'series-windows':
+    case 'sequences':
       return { ...source, path: at(source.path) };
   }
 }
@@ -72,6 +75,8 @@ interface Imported {
   dataset: PreparedDataset;
   preprocessing: DatasetPreprocessing;
   constantColumns: string[];
+  /** Warnings of the import itself (sequences cut to length). */
+  warnings?: DatasetWarning[];
 }
 
 async function importSource(source: DatasetSource, settings: DatasetRunSettings): Promise<Imported> {
@@ -145,6 +150,12 @@ async function importSource(source: DatasetSource, settings: DatasetRunSettings)
       checkShardSize(dataset.train.count + dataset.val.count, sampleSize(dataset.inputShape), maxDatasetMb, source.path);
       const withLoss = dataset.target && source.regressionLoss === 'huber' ? { ...dataset, target: { ...dataset.target, loss: 'huber' as const } } : dataset;
       return { dataset: withLoss, preprocessing, constantColumns: [] };
+    }
+    case 'sequences': {
+      const samples = parseSequencesCsv(await readCsvText(source.path), source.path, source);
+      const shaped = shapeSequences(samples, source, fractions, seed);
+      checkShardSize(shaped.dataset.train.count + shaped.dataset.val.count, sampleSize(shaped.dataset.inputShape), maxDatasetMb, source.path);
+      return { dataset: shaped.dataset, preprocessing: shaped.preprocessing, constantColumns: [], warnings: shaped.warnings };
     }
   }
 }

@@ -1,11 +1,30 @@
 import { describe, expect, it } from 'vitest';
-import type { SeriesSteps } from '@netbreeder/shared-types';
+import type { SequenceSteps, SeriesSteps } from '@netbreeder/shared-types';
 import { windowSeries } from '../datasets/series-windows.js';
 import { parseSeriesCsv } from '../importers/series-csv.js';
 import { PredictError } from './predict-error.js';
-import { seriesInput } from './series-input.js';
+import { sequencesInput, seriesInput } from './series-input.js';
 
 const csv = ['temp,fan,state', ...Array.from({ length: 60 }, (_, t) => `${Math.sin(t / 3).toFixed(4)},${(t % 7) / 2},${t % 10 < 5 ? 'on' : 'off'}`)].join('\n');
+
+describe('predict on a new long-format CSV of sequences', () => {
+  it('groups by sample id (the output id) and brings each to the training length', () => {
+    const steps: SequenceSteps = {
+      kind: 'sequences',
+      delimiter: ',',
+      idColumn: 'run',
+      timeColumn: 'minute',
+      channels: [{ name: 'temp', mean: 1, std: 2 }],
+      length: 3,
+      pad: 'end-with-training-mean',
+      truncate: 'keep-first-steps',
+      layout: 'time-channels',
+    };
+    const { ids, features } = sequencesInput('run,minute,temp\nb,1,5\na,0,1\nb,0,3\nb,2,7\nb,3,9\n', 'new.csv', steps);
+    expect(ids).toEqual(['b', 'a']);
+    expect(Array.from(features)).toEqual([1, 2, 3, 0, 0, 0]);
+  });
+});
 
 describe('predict on a new CSV of time steps', () => {
   it('cuts every full window with the training scaling, id = the line of its last step, as the importer cut them', () => {

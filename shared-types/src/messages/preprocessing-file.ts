@@ -125,6 +125,26 @@ export const SeriesStepsSchema = Type.Object(
   { additionalProperties: false },
 );
 
+/**
+ * A long-format CSV of labelled sequences: rows grouped by `idColumn`, ordered by `timeColumn`;
+ * each sample's channels standardised, cut to its first `length` steps or padded at the end with
+ * 0 (the training mean), giving shape [length, channels].
+ */
+export const SequenceStepsSchema = Type.Object(
+  {
+    kind: Type.Literal('sequences'),
+    delimiter: Type.String({ minLength: 1, maxLength: 1 }),
+    idColumn: Name,
+    timeColumn: Name,
+    channels: Type.Array(SeriesChannelStepSchema, { minItems: 1 }),
+    length: Type.Integer({ minimum: 1 }),
+    pad: Type.Literal('end-with-training-mean'),
+    truncate: Type.Literal('keep-first-steps'),
+    layout: Type.Literal('time-channels'),
+  },
+  { additionalProperties: false },
+);
+
 /** `preprocessing.json` of an export: exactly how raw input becomes the model's input, and what its outputs mean. */
 export const PreprocessingFileSchema = Type.Object(
   {
@@ -136,7 +156,7 @@ export const PreprocessingFileSchema = Type.Object(
     classNames: Type.Array(Type.String(), { minItems: 2 }),
     /** A regression model: its one output is the target standardised; the prediction in the target's units is `output × std + mean`. Absent for a classifier. */
     target: Type.Optional(TargetScalingSchema),
-    steps: Type.Union([TableStepsSchema, ImageStepsSchema, IdxStepsSchema, SeriesStepsSchema]),
+    steps: Type.Union([TableStepsSchema, ImageStepsSchema, IdxStepsSchema, SeriesStepsSchema, SequenceStepsSchema]),
   },
   { additionalProperties: false },
 );
@@ -145,5 +165,6 @@ export type TableSteps = Static<typeof TableStepsSchema>;
 export type ImageSteps = Static<typeof ImageStepsSchema>;
 export type IdxSteps = Static<typeof IdxStepsSchema>;
 export type SeriesSteps = Static<typeof SeriesStepsSchema>;
+export type SequenceSteps = Static<typeof SequenceStepsSchema>;
 
 export const preprocessingFileValidator = createValidator('preprocessing file', PreprocessingFileSchema);

@@ -170,8 +170,38 @@ export const SeriesWindowsSourceSchema = Type.Object(
 );
 export type SeriesWindowsSource = Static<typeof SeriesWindowsSourceSchema>;
 
+/**
+ * Labelled sequences in one long-format CSV: one row per time step of one sample; `idColumn` says
+ * which sample, `timeColumn` (a number) orders its steps, `channels` are the numeric inputs and
+ * `labelColumn` its class (the same on every row of a sample). Each sample becomes shape
+ * [length, channels.length]: a longer one keeps its first `length` steps, a shorter one is padded
+ * at the end with the training mean (0 after standardisation). The split is stratified by class
+ * over samples, so all steps of a sample stay in one split.
+ */
+export const SequencesSourceSchema = Type.Object(
+  {
+    kind: Type.Literal('sequences'),
+    /** The long-format CSV; relative to the run file's folder. */
+    path: Type.String({ minLength: 1 }),
+    /** Field separator, one character. @default "," */
+    delimiter: Type.String({ minLength: 1, maxLength: 1, default: ',' }),
+    /** Column naming the sample each row belongs to. */
+    idColumn: Type.String({ minLength: 1 }),
+    /** Numeric column ordering a sample's steps (rows may come in any order). */
+    timeColumn: Type.String({ minLength: 1 }),
+    /** Header names of the numeric input columns, in the order of the sample's channel axis. */
+    channels: Type.Array(Type.String({ minLength: 1 }), { minItems: 1, maxItems: 1000, uniqueItems: true }),
+    /** Column holding each sample's class. */
+    labelColumn: Type.String({ minLength: 1 }),
+    /** Steps every sample is padded or cut to. Absent: the longest sample of the training split (a warning names how many samples were cut). */
+    length: Type.Optional(Type.Integer({ minimum: 1, maximum: 100_000 })),
+  },
+  { additionalProperties: false },
+);
+export type SequencesSource = Static<typeof SequencesSourceSchema>;
+
 /** Where a run's data comes from: the invented demo, or the user's own files. */
-export const DatasetSourceSchema = Type.Union([DemoTilesSourceSchema, CsvSourceSchema, ImageFolderSourceSchema, IdxSourceSchema, SeriesWindowsSourceSchema]);
+export const DatasetSourceSchema = Type.Union([DemoTilesSourceSchema, CsvSourceSchema, ImageFolderSourceSchema, IdxSourceSchema, SeriesWindowsSourceSchema, SequencesSourceSchema]);
 /** Each dataset source kind with its schema, to check a run file's dataset against the kind it names. */
 export const DATASET_SOURCE_SCHEMAS = {
   'demo-tiles': DemoTilesSourceSchema,
@@ -179,6 +209,7 @@ export const DATASET_SOURCE_SCHEMAS = {
   'image-folder': ImageFolderSourceSchema,
   idx: IdxSourceSchema,
   'series-windows': SeriesWindowsSourceSchema,
+  sequences: SequencesSourceSchema,
 } as const;
 export type DatasetSource = Static<typeof DatasetSourceSchema>;
 
