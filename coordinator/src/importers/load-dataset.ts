@@ -4,16 +4,16 @@ import { sampleSize, type DatasetSource, type PreparedDataset, type RunConfig } 
 import type { Logger } from '../logger.js';
 import { DatasetError } from '../datasets/dataset-error.js';
 import { datasetWarnings, splitClassCounts, type DatasetWarning } from '../datasets/dataset-report.js';
-import { shapeSequences } from '../datasets/sequence-samples.js';
 import { prepareDataset } from '../datasets/prepare-dataset.js';
 import type { DatasetPreparation, DatasetPreprocessing } from '../datasets/preprocessing.js';
+import { shapeSequences } from '../datasets/sequence-samples.js';
+import { windowSeries } from '../datasets/series-windows.js';
 import { checkShardSize } from '../datasets/shard-size.js';
 import { selectSamples, stratifiedSplitIndices, type SplitIndices } from '../datasets/split.js';
 import { encodeTable } from '../datasets/table-encoding.js';
 import { parseCsvTable } from './csv-table.js';
 import { parseSeriesCsv } from './series-csv.js';
 import { parseSequencesCsv } from './sequences-csv.js';
-import { windowSeries } from '../datasets/series-windows.js';
 import { decodeImageFolder, firstImageSize, listImageFolder } from './image-folder.js';
 import { idxFeatures, pairIdx, readIdxFile } from './idx-files.js';
 
@@ -35,7 +35,8 @@ export interface LoadDatasetOptions {
 
 /**
  * Reads a run's dataset source (demo tiles, a CSV table, an image folder, IDX files, a series
- * cut in windows or labelled sequences), splits it three ways stratified by class (a series: by time) with `split.seed` (the run's seed when absent), and only then
+ * cut in windows or labelled sequences), splits it three ways stratified by class with
+ * `split.seed` (the run's seed when absent; a series is split by time instead), and only then
  * fits and applies the encoding on the training split. Refuses a training shard above
  * `maxDatasetMb` before decoding anything large. Logs the class counts per split and the warnings
  * (tiny classes, imbalance, duplicates across splits, constant columns) and returns them. Throws a {@link DatasetError} naming the

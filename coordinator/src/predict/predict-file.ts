@@ -29,9 +29,10 @@ export interface PredictFileOptions {
 const field = (s: string): string => (/[",\r\n]/.test(s) ? `"${s.replaceAll('"', '""')}"` : s);
 
 /**
- * Predicts every input of `input` (a CSV file, an image folder, an IDX file a CSV of time steps or of
- * labelled sequences, as the export's `preprocessing.json` expects) and writes a CSV: `id` (the CSV line, the image path
- * relative to the folder, the IDX sample index, the line of a window's last step, or a sequence's id), the predicted class, one probability per class (a regression
+ * Predicts every input of `input` (a CSV file, an image folder, an IDX file, a CSV of time steps or
+ * of labelled sequences, as the export's `preprocessing.json` expects) and writes a CSV: `id` (the
+ * CSV line, the image path relative to the folder, the IDX sample index, the line of a window's
+ * last step, or a sequence's id), the predicted class, one probability per class (a regression
  * export: `predicted_<target column>`, the number in the target's units). Images that
  * cannot be used are named in the outcome and the rest predicted; any other bad input throws and
  * leaves no output file.
