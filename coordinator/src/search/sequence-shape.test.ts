@@ -19,6 +19,7 @@ describe('rank-2 (sequence) inputs before the sequence layers exist: flatten →
       const minimal = minimalGenome({ space, data, rng });
       const analysis = analyzeGenome(minimal, data);
       expect(analysis.ok && analysis.analysis.nodes.map((n) => n.kind)).toEqual(['head-flatten', 'head-dense']);
+      // The dense family has no flatten first, so on rank-2 inputs `family` falls back to the minimal genome for now.
       const fresh = freshGenome('family', { space, data, rng });
       expect(checkGenome(fresh.genome, space, data).ok).toBe(true);
       let g = fresh.genome;
