@@ -5,6 +5,7 @@
  *   data/kiln-shrinkage.csv      the same workshop's piece log: one fired piece per row, its shrinkage in % as the target
  *   data/glaze-crops/<class>/    16×16 PNG crops of glazed surfaces: glossy, pinholed, crawled
  *   data/shelf-heat-*-ubyte      IDX files of 8×8 thermal maps of a kiln shelf: even, hot-front, hot-back
+ *   data/kiln-curves.csv         kiln temperature curves, one firing per sample (long format): good, cracked, underfired
  *
  * Nothing here is real data. Run from the repository root: `npx tsx --conditions=source examples/make-example-data.ts`.
  */
@@ -13,6 +14,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { PNG } from 'pngjs';
 import { createRandom, type Random } from '@netbreeder/shared-types';
+import { generateKilnCurves } from '@netbreeder/coordinator';
 
 const out = join(dirname(fileURLToPath(import.meta.url)), 'data');
 const rng = createRandom('netbreeder example data v1');
@@ -126,4 +128,5 @@ await writeFile(join(out, 'shelf-heat-images-idx3-ubyte'), idx([0x00000803, 300,
 await writeFile(join(out, 'shelf-heat-labels-idx1-ubyte'), idx([0x00000801, 300], labels));
 // Its own random stream, so the files above stay as they were.
 await writeFile(join(out, 'kiln-shrinkage.csv'), shrinkageCsv(createRandom('netbreeder example shrinkage v1'), 500));
+await writeFile(join(out, 'kiln-curves.csv'), generateKilnCurves({ firingsPerOutcome: 60, seed: 'netbreeder example kiln curves v1' }));
 process.stdout.write(`wrote example data to ${out}\n`);

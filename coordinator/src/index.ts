@@ -8,7 +8,7 @@ export { RunManager, evaluationSeed, type RunControl, type RunManagerOptions, ty
 export { buildStatus } from './run/status-report.js';
 export { parseRunConfig, readRunConfigFile } from './config/run-config.js';
 export { loadDataset, resolveSourcePaths, type LoadedDataset, type LoadDatasetOptions } from './importers/index.js';
-export { DatasetError, describePreprocessing, type DatasetErrorCode, type DatasetPreparation, type DatasetPreprocessing, type DatasetWarning } from './datasets/index.js';
+export { DatasetError, describePreprocessing, generateKilnCurves, KILN_OUTCOMES, type DatasetErrorCode, type DatasetPreparation, type DatasetPreprocessing, type DatasetWarning } from './datasets/index.js';
 export { championFiles, championSummary, CHAMPION_FILES } from './champion/champion-files.js';
 export { exportChampion } from './champion/export-champion.js';
 export { createHttpServer } from './http/server.js';

@@ -10,6 +10,8 @@ describe('example run files for one\'s own data', () => {
     ['kiln-run.json', [11], ['bloated', 'crazed', 'sound', 'underfired']],
     ['glaze-crops-run.json', [16, 16, 3], ['crawled', 'glossy', 'pinholed']],
     ['shelf-heat-run.json', [8, 8, 1], ['even', 'hot-front', 'hot-back']],
+    // The longest training firing (63 readings) sets the length: [time steps, channels].
+    ['kiln-curves-run.json', [63, 2], ['cracked', 'good', 'underfired']],
   ])('%s loads with its paths relative to the run file', async (file, shape, classes) => {
     const { dataset, preparation } = await loadDataset(await readRunConfigFile(join(examples, file)));
     expect(dataset.inputShape).toEqual(shape);

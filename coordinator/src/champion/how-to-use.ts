@@ -48,11 +48,11 @@ export function howToUseLines(hasEnsemble: boolean, regression = false): string[
   return [
     '## How to use it',
     '',
-    `\`preprocessing.json\` says exactly how a raw input becomes the model input (column order, means and standard deviations at full precision, one-hot order, image size and scaling) and ${regression ? "how the model's one output becomes the target (`target`: output × std + mean)" : 'names the classes in output order'}.`,
+    `\`preprocessing.json\` says exactly how a raw input becomes the model input (column order, means and standard deviations at full precision, one-hot order, image size and scaling, window or sequence length) and ${regression ? "how the model's one output becomes the target (`target`: output × std + mean)" : 'names the classes in output order'}.`,
     '',
     regression
-      ? 'Predict a CSV with the training header with the `predict` command (writes one row per input: id and the predicted number in the target\'s units):'
-      : 'Predict a CSV with the training header, a folder of images or an IDX file with the `predict` command (writes one row per input: id, predicted class, one probability per class):',
+      ? 'Predict a CSV with the training header (for a series: its time steps, one prediction per full window) with the `predict` command (writes one row per input: id and the predicted number in the target\'s units):'
+      : 'Predict a CSV with the training header (rows, time steps or sequences), a folder of images or an IDX file with the `predict` command (writes one row per input: id, predicted class, one probability per class):',
     '',
     '```',
     'netbreeder predict --model ./champion --input new-data.csv --out predictions.csv',

@@ -40,5 +40,27 @@ export function preprocessingFileOf(run: Pick<RunRecord, 'config' | 'dataset'>):
       return file({ kind: 'images', width: p.width, height: p.height, channels: p.channels, resize: p.resize, scale: p.scale, layout: 'height-width-channels' });
     case 'idx':
       return file({ kind: 'idx', typeCode: p.typeCode, sampleShape: p.inputShape, scale: p.scale, labelValues: p.labelValues });
+    case 'series-windows':
+      return file({
+        kind: 'series-windows',
+        delimiter: run.config.dataset.kind === 'series-windows' ? run.config.dataset.delimiter : ',',
+        channels: p.channels.map((c) => ({ ...c })),
+        window: p.window,
+        layout: 'time-channels',
+        labelColumn: p.labelColumn,
+        ...(p.horizon ? { horizon: p.horizon } : {}),
+      });
+    case 'sequences':
+      return file({
+        kind: 'sequences',
+        delimiter: run.config.dataset.kind === 'sequences' ? run.config.dataset.delimiter : ',',
+        idColumn: p.idColumn,
+        timeColumn: p.timeColumn,
+        channels: p.channels.map((c) => ({ ...c })),
+        length: p.length,
+        pad: 'end-with-training-mean',
+        truncate: 'keep-first-steps',
+        layout: 'time-channels',
+      });
   }
 }

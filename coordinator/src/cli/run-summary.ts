@@ -48,6 +48,8 @@ function scoreLines(coordinator: Coordinator, status: StatusResponse, champion: 
 /** What the predict command takes for a run's kind of data. */
 function newDataHint(kind: string): string {
   if (kind === 'csv') return 'NEW_ROWS.csv';
+  if (kind === 'series-windows') return 'NEW_TIME_STEPS.csv';
+  if (kind === 'sequences') return 'NEW_SEQUENCES.csv';
   if (kind === 'idx') return 'NEW_IMAGES.idx';
   if (kind === 'demo-tiles') return 'FOLDER_OF_16x16_TILE_PNGS';
   return 'FOLDER_OF_IMAGES';

@@ -10,7 +10,7 @@ export interface SplitClassCounts {
 
 /** Something about a dataset worth a look before trusting a run on it; the run goes ahead. */
 export interface DatasetWarning {
-  code: 'tiny-class' | 'class-imbalance' | 'duplicates-across-splits' | 'constant-columns';
+  code: 'tiny-class' | 'class-imbalance' | 'duplicates-across-splits' | 'constant-columns' | 'sequences-cut';
   message: string;
 }
 

@@ -25,6 +25,7 @@ export {
   type SplitIndices,
 } from './split.js';
 export { prepareDataset } from './prepare-dataset.js';
+export { generateKilnCurves, KILN_OUTCOMES, type KilnCurvesOptions, type KilnOutcome } from './kiln-curves.js';
 export { encodeTable, encodeColumns, type EncodedTable, type TableEncodingOptions } from './table-encoding.js';
 export type { RawTable, RawColumn, RawNumericColumn, RawCategoricalColumn } from './raw-table.js';
 export { checkShardSize, shardBytes } from './shard-size.js';

@@ -21,6 +21,8 @@ export function prepareDataset(source: DatasetSource, fractions: SplitFractions,
     case 'csv':
     case 'image-folder':
     case 'idx':
+    case 'series-windows':
+    case 'sequences':
       throw new DatasetError(
         'NB_DATASET_BAD_OPTIONS',
         `dataset source kind "${source.kind}" is read from files: load it with loadDataset (coordinator/src/importers), which reads, splits and encodes it`,

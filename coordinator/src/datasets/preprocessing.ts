@@ -3,7 +3,7 @@
  * so the champion's report and export can say how to feed the model new data. Everything fitted
  * (means, standard deviations, category lists) was fitted on the training split only.
  */
-export type DatasetPreprocessing = DemoPreprocessing | TablePreprocessing | ImagePreprocessing | IdxPreprocessing;
+export type DatasetPreprocessing = DemoPreprocessing | TablePreprocessing | ImagePreprocessing | IdxPreprocessing | SeriesPreprocessing | SequencesPreprocessing;
 
 export interface DemoPreprocessing {
   kind: 'demo-tiles';
@@ -80,6 +80,36 @@ export interface IdxPreprocessing {
   labelValues: number[];
 }
 
+/** Windows cut from one series: each channel standardised with its training part's mean and std. */
+export interface SeriesPreprocessing {
+  kind: 'series-windows';
+  file: string;
+  /** Channel columns in the order of the input's last axis, with the training part's mean and population std (1 when constant). */
+  channels: Array<{ name: string; mean: number; std: number }>;
+  window: number;
+  stride: number;
+  labelColumn: string;
+  /** Regression: steps after a window's last step where its target was read. */
+  horizon?: number;
+  /** Time steps in each part of the split by time. */
+  steps: { train: number; val: number; test: number };
+}
+
+/** Labelled sequences from a long-format CSV: channels standardised on the training samples' steps, then padded or cut to `length`. */
+export interface SequencesPreprocessing {
+  kind: 'sequences';
+  file: string;
+  idColumn: string;
+  timeColumn: string;
+  channels: Array<{ name: string; mean: number; std: number }>;
+  length: number;
+  /** Where `length` came from: the run file, or the training split's longest sample. */
+  lengthFrom: 'run-file' | 'training-longest';
+  /** Samples longer than `length`, cut to their first steps, and shorter ones padded. */
+  cut: number;
+  padded: number;
+}
+
 /** A short, human-readable line saying how to turn new raw input into a model input. */
 export function describePreprocessing(p: DatasetPreprocessing): string {
   switch (p.kind) {
@@ -100,6 +130,16 @@ export function describePreprocessing(p: DatasetPreprocessing): string {
       return `image → ${p.width}×${p.height}, ${p.channels === 1 ? 'grayscale (BT.601 luma)' : 'RGB'}, resize ${p.resize}, pixel / 255, shape [${p.height}, ${p.width}, ${p.channels}]`;
     case 'idx':
       return `IDX sample of shape [${p.inputShape.join(', ')}]${p.scale === 'divide-255' ? ', byte / 255' : ''}; class i is label value ${p.labelValues.join(', ')} in order`;
+    case 'sequences':
+      return (
+        `CSV rows grouped by ${p.idColumn}, ordered by ${p.timeColumn} → shape [${p.length}, ${p.channels.length}]: ${p.channels.map((c) => `${c.name}: (x - ${round(c.mean)}) / ${round(c.std)}`).join('; ')}; ` +
+        `longer samples keep their first ${p.length} steps, shorter ones are padded at the end with 0 (the training mean)`
+      );
+    case 'series-windows':
+      return (
+        `${p.window} consecutive CSV rows → shape [${p.window}, ${p.channels.length}]: ${p.channels.map((c) => `${c.name}: (x - ${round(c.mean)}) / ${round(c.std)}`).join('; ')}; ` +
+        `target ${p.labelColumn}${p.horizon ? ` ${p.horizon} step${p.horizon === 1 ? '' : 's'} after the window's last row` : " at the window's last row"}`
+      );
   }
 }
 

@@ -3,13 +3,17 @@ import { isAbsolute, resolve } from 'node:path';
 import { sampleSize, type DatasetSource, type PreparedDataset, type RunConfig } from '@netbreeder/shared-types';
 import type { Logger } from '../logger.js';
 import { DatasetError } from '../datasets/dataset-error.js';
-import { datasetWarnings, splitClassCounts } from '../datasets/dataset-report.js';
+import { datasetWarnings, splitClassCounts, type DatasetWarning } from '../datasets/dataset-report.js';
 import { prepareDataset } from '../datasets/prepare-dataset.js';
 import type { DatasetPreparation, DatasetPreprocessing } from '../datasets/preprocessing.js';
+import { shapeSequences } from '../datasets/sequence-samples.js';
+import { windowSeries } from '../datasets/series-windows.js';
 import { checkShardSize } from '../datasets/shard-size.js';
 import { selectSamples, stratifiedSplitIndices, type SplitIndices } from '../datasets/split.js';
 import { encodeTable } from '../datasets/table-encoding.js';
 import { parseCsvTable } from './csv-table.js';
+import { parseSeriesCsv } from './series-csv.js';
+import { parseSequencesCsv } from './sequences-csv.js';
 import { decodeImageFolder, firstImageSize, listImageFolder } from './image-folder.js';
 import { idxFeatures, pairIdx, readIdxFile } from './idx-files.js';
 
@@ -30,8 +34,9 @@ export interface LoadDatasetOptions {
 }
 
 /**
- * Reads a run's dataset source (demo tiles, a CSV table, an image folder or IDX files), splits it
- * three ways stratified by class with `split.seed` (the run's seed when absent), and only then
+ * Reads a run's dataset source (demo tiles, a CSV table, an image folder, IDX files, a series
+ * cut in windows or labelled sequences), splits it three ways stratified by class with
+ * `split.seed` (the run's seed when absent; a series is split by time instead), and only then
  * fits and applies the encoding on the training split. Refuses a training shard above
  * `maxDatasetMb` before decoding anything large. Logs the class counts per split and the warnings
  * (tiny classes, imbalance, duplicates across splits, constant columns) and returns them. Throws a {@link DatasetError} naming the
@@ -39,9 +44,9 @@ export interface LoadDatasetOptions {
  */
 export async function loadDataset(settings: DatasetRunSettings, options: LoadDatasetOptions = {}): Promise<LoadedDataset> {
   const source = resolveSourcePaths(settings.dataset, options.baseDir ?? process.cwd());
-  const { dataset, preprocessing, constantColumns } = await importSource(source, settings);
+  const { dataset, preprocessing, constantColumns, warnings: importWarnings = [] } = await importSource(source, settings);
   const classCounts = splitClassCounts(dataset);
-  const warnings = datasetWarnings(dataset, classCounts, constantColumns);
+  const warnings = [...importWarnings, ...datasetWarnings(dataset, classCounts, constantColumns)];
   options.log?.info(
     { classes: dataset.classNames, inputShape: dataset.inputShape, train: classCounts.train, val: classCounts.val, test: classCounts.test },
     'dataset prepared: samples per class in each split',
@@ -61,6 +66,9 @@ export function resolveSourcePaths(source: DatasetSource, baseDir: string): Data
       return { ...source, path: at(source.path) };
     case 'idx':
       return { ...source, images: at(source.images), labels: at(source.labels) };
+    case 'series-windows':
+    case 'sequences':
+      return { ...source, path: at(source.path) };
   }
 }
 
@@ -68,6 +76,8 @@ interface Imported {
   dataset: PreparedDataset;
   preprocessing: DatasetPreprocessing;
   constantColumns: string[];
+  /** Warnings of the import itself (sequences cut to length). */
+  warnings?: DatasetWarning[];
 }
 
 async function importSource(source: DatasetSource, settings: DatasetRunSettings): Promise<Imported> {
@@ -80,12 +90,7 @@ async function importSource(source: DatasetSource, settings: DatasetRunSettings)
       return { dataset, preprocessing: { kind: 'demo-tiles', inputShape: dataset.inputShape }, constantColumns: [] };
     }
     case 'csv': {
-      let text: string;
-      try {
-        text = await readFile(source.path, 'utf8');
-      } catch (err) {
-        throw new DatasetError('NB_DATASET_UNREADABLE', `cannot read CSV file ${source.path}: ${(err as Error).message}; check dataset.path (relative to the run file's folder)`, { file: source.path });
-      }
+      let text = await readCsvText(source.path);
       const table = parseCsvTable(text, source.path, source);
       text = '';
       checkClasses(table.classNames, `${source.path}: label column "${source.labelColumn}"`, source.path);
@@ -139,6 +144,28 @@ async function importSource(source: DatasetSource, settings: DatasetRunSettings)
         constantColumns: [],
       };
     }
+    case 'series-windows': {
+      const series = parseSeriesCsv(await readCsvText(source.path), source.path, { delimiter: source.delimiter, channels: source.channels, target: { column: source.labelColumn, task: source.task } });
+      const { dataset, preprocessing } = windowSeries(series, source, fractions);
+      if (source.task !== 'regression') checkClasses(dataset.classNames, `${source.path}: label column "${source.labelColumn}" at the windows' last steps`, source.path);
+      checkShardSize(dataset.train.count + dataset.val.count, sampleSize(dataset.inputShape), maxDatasetMb, source.path);
+      const withLoss = dataset.target && source.regressionLoss === 'huber' ? { ...dataset, target: { ...dataset.target, loss: 'huber' as const } } : dataset;
+      return { dataset: withLoss, preprocessing, constantColumns: [] };
+    }
+    case 'sequences': {
+      const samples = parseSequencesCsv(await readCsvText(source.path), source.path, source);
+      const shaped = shapeSequences(samples, source, fractions, seed);
+      checkShardSize(shaped.dataset.train.count + shaped.dataset.val.count, sampleSize(shaped.dataset.inputShape), maxDatasetMb, source.path);
+      return { dataset: shaped.dataset, preprocessing: shaped.preprocessing, constantColumns: [], warnings: shaped.warnings };
+    }
+  }
+}
+
+async function readCsvText(path: string): Promise<string> {
+  try {
+    return await readFile(path, 'utf8');
+  } catch (err) {
+    throw new DatasetError('NB_DATASET_UNREADABLE', `cannot read CSV file ${path}: ${(err as Error).message}; check dataset.path (relative to the run file's folder)`, { file: path });
   }
 }
 

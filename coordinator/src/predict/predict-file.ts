@@ -7,6 +7,7 @@ import { csvChunks } from './csv-chunks.js';
 import { idxInput } from './idx-input.js';
 import { imageInput, listImages } from './image-input.js';
 import { PredictError } from './predict-error.js';
+import { sequencesInput, seriesInput } from './series-input.js';
 import { tableRowsEncoder, type TableRowsEncoder } from './table-input.js';
 
 export interface PredictOutcome {
@@ -28,9 +29,10 @@ export interface PredictFileOptions {
 const field = (s: string): string => (/[",\r\n]/.test(s) ? `"${s.replaceAll('"', '""')}"` : s);
 
 /**
- * Predicts every input of `input` (a CSV file, an image folder or an IDX file, as the export's
- * `preprocessing.json` expects) and writes a CSV: `id` (the CSV line, the image path relative to
- * the folder, or the IDX sample index), the predicted class, one probability per class (a regression
+ * Predicts every input of `input` (a CSV file, an image folder, an IDX file, a CSV of time steps or
+ * of labelled sequences, as the export's `preprocessing.json` expects) and writes a CSV: `id` (the
+ * CSV line, the image path relative to the folder, the IDX sample index, the line of a window's
+ * last step, or a sequence's id), the predicted class, one probability per class (a regression
  * export: `predicted_<target column>`, the number in the target's units). Images that
  * cannot be used are named in the outcome and the rest predicted; any other bad input throws and
  * leaves no output file.
@@ -99,6 +101,14 @@ export async function predictFile(model: LoadedChampion, input: string, options:
         const features = new Float32Array(samples.reduce((n, s) => n + s.length, 0));
         samples.forEach((s, i) => features.set(s, i * s.length));
         if (ids.length) await writeRows(ids, features);
+      }
+    } else if (steps.kind === 'series-windows' || steps.kind === 'sequences') {
+      const text = await readFile(input, 'utf8');
+      const { ids, features } = steps.kind === 'sequences' ? sequencesInput(text, input, steps) : seriesInput(text, input, steps);
+      const size = features.length / Math.max(1, ids.length);
+      for (let start = 0; start < ids.length; start += 4096) {
+        const end = Math.min(ids.length, start + 4096);
+        await writeRows(ids.slice(start, end), features.subarray(start * size, end * size));
       }
     } else {
       const { features, count } = await idxInput(input, steps);

@@ -99,6 +99,52 @@ export const IdxStepsSchema = Type.Object(
   { additionalProperties: false },
 );
 
+/** One channel of a series: `(value - mean) / std` (training part's mean and population std). */
+export const SeriesChannelStepSchema = Type.Object(
+  { name: Name, mean: Type.Number(), std: Type.Number({ exclusiveMinimum: 0 }) },
+  { additionalProperties: false },
+);
+
+/**
+ * A CSV of time steps (rows in time order, header names the columns): every `window` consecutive
+ * rows of the channel columns, each standardised, make one input of shape [window, channels].
+ */
+export const SeriesStepsSchema = Type.Object(
+  {
+    kind: Type.Literal('series-windows'),
+    delimiter: Type.String({ minLength: 1, maxLength: 1 }),
+    /** Channel columns in the order of the input's last axis. */
+    channels: Type.Array(SeriesChannelStepSchema, { minItems: 1 }),
+    window: Type.Integer({ minimum: 1 }),
+    /** Values are laid out step by step, channels interleaved: shape [window, channels]. */
+    layout: Type.Literal('time-channels'),
+    /** The training file's target column and, for regression, how many steps after a window's last step it was read. */
+    labelColumn: Name,
+    horizon: Type.Optional(Type.Integer({ minimum: 1 })),
+  },
+  { additionalProperties: false },
+);
+
+/**
+ * A long-format CSV of labelled sequences: rows grouped by `idColumn`, ordered by `timeColumn`;
+ * each sample's channels standardised, cut to its first `length` steps or padded at the end with
+ * 0 (the training mean), giving shape [length, channels].
+ */
+export const SequenceStepsSchema = Type.Object(
+  {
+    kind: Type.Literal('sequences'),
+    delimiter: Type.String({ minLength: 1, maxLength: 1 }),
+    idColumn: Name,
+    timeColumn: Name,
+    channels: Type.Array(SeriesChannelStepSchema, { minItems: 1 }),
+    length: Type.Integer({ minimum: 1 }),
+    pad: Type.Literal('end-with-training-mean'),
+    truncate: Type.Literal('keep-first-steps'),
+    layout: Type.Literal('time-channels'),
+  },
+  { additionalProperties: false },
+);
+
 /** `preprocessing.json` of an export: exactly how raw input becomes the model's input, and what its outputs mean. */
 export const PreprocessingFileSchema = Type.Object(
   {
@@ -110,7 +156,7 @@ export const PreprocessingFileSchema = Type.Object(
     classNames: Type.Array(Type.String(), { minItems: 2 }),
     /** A regression model: its one output is the target standardised; the prediction in the target's units is `output × std + mean`. Absent for a classifier. */
     target: Type.Optional(TargetScalingSchema),
-    steps: Type.Union([TableStepsSchema, ImageStepsSchema, IdxStepsSchema]),
+    steps: Type.Union([TableStepsSchema, ImageStepsSchema, IdxStepsSchema, SeriesStepsSchema, SequenceStepsSchema]),
   },
   { additionalProperties: false },
 );
@@ -118,5 +164,7 @@ export type PreprocessingFile = Static<typeof PreprocessingFileSchema>;
 export type TableSteps = Static<typeof TableStepsSchema>;
 export type ImageSteps = Static<typeof ImageStepsSchema>;
 export type IdxSteps = Static<typeof IdxStepsSchema>;
+export type SeriesSteps = Static<typeof SeriesStepsSchema>;
+export type SequenceSteps = Static<typeof SequenceStepsSchema>;
 
 export const preprocessingFileValidator = createValidator('preprocessing file', PreprocessingFileSchema);

@@ -131,14 +131,85 @@ export const IdxSourceSchema = Type.Object(
 );
 export type IdxSource = Static<typeof IdxSourceSchema>;
 
+/**
+ * Windows cut from one long series: a CSV with a header row whose rows are time steps in time
+ * order (one row per step, oldest first). Each sample is `window` consecutive steps of the
+ * `channels` columns, shape [window, channels.length]; windows start every `stride` steps. The
+ * target is `labelColumn` read at the window's last step (classification) or, with
+ * `task: "regression"`, its number `horizon` steps after the window's last step.
+ *
+ * Splits are made by time, never by random windows: the last `split.test` share of the steps is
+ * the test part, the `split.validation` share before it the validation part, the rest trains. A
+ * window (with its target step) never straddles a part's boundary; such windows are left out.
+ * Channels are standardised with the training part's mean and standard deviation. Every channel
+ * cell must be a number (no missing values).
+ */
+export const SeriesWindowsSourceSchema = Type.Object(
+  {
+    kind: Type.Literal('series-windows'),
+    /** The CSV file of time steps; relative to the run file's folder. */
+    path: Type.String({ minLength: 1 }),
+    /** Field separator, one character. @default "," */
+    delimiter: Type.String({ minLength: 1, maxLength: 1, default: ',' }),
+    /** Header names of the numeric input columns, in the order of the sample's channel axis. */
+    channels: Type.Array(Type.String({ minLength: 1 }), { minItems: 1, maxItems: 1000, uniqueItems: true }),
+    /** Time steps per window (the sample's first axis). */
+    window: Type.Integer({ minimum: 2, maximum: 100_000 }),
+    /** Steps between the starts of consecutive windows. @default 1 */
+    stride: Type.Integer({ minimum: 1, maximum: 100_000, default: 1 }),
+    /** The target column: a class per step (classification) or a number (regression; it may also be a channel). */
+    labelColumn: Type.String({ minLength: 1 }),
+    /** `classification` (also when absent): the class at the window's last step; `regression`: the number `horizon` steps ahead. */
+    task: Type.Optional(Type.Union([Type.Literal('classification'), Type.Literal('regression')])),
+    /** Regression only: steps between the window's last step and the step whose number is predicted (1: the next step). @default 1 */
+    horizon: Type.Integer({ minimum: 1, maximum: 100_000, default: 1 }),
+    /** Regression only: as for a CSV table. @default "mean-squared-error" */
+    regressionLoss: Type.Optional(Type.Union([Type.Literal('mean-squared-error'), Type.Literal('huber')])),
+  },
+  { additionalProperties: false },
+);
+export type SeriesWindowsSource = Static<typeof SeriesWindowsSourceSchema>;
+
+/**
+ * Labelled sequences in one long-format CSV: one row per time step of one sample; `idColumn` says
+ * which sample, `timeColumn` (a number) orders its steps, `channels` are the numeric inputs and
+ * `labelColumn` its class (the same on every row of a sample). Each sample becomes shape
+ * [length, channels.length]: a longer one keeps its first `length` steps, a shorter one is padded
+ * at the end with the training mean (0 after standardisation). The split is stratified by class
+ * over samples, so all steps of a sample stay in one split.
+ */
+export const SequencesSourceSchema = Type.Object(
+  {
+    kind: Type.Literal('sequences'),
+    /** The long-format CSV; relative to the run file's folder. */
+    path: Type.String({ minLength: 1 }),
+    /** Field separator, one character. @default "," */
+    delimiter: Type.String({ minLength: 1, maxLength: 1, default: ',' }),
+    /** Column naming the sample each row belongs to. */
+    idColumn: Type.String({ minLength: 1 }),
+    /** Numeric column ordering a sample's steps (rows may come in any order). */
+    timeColumn: Type.String({ minLength: 1 }),
+    /** Header names of the numeric input columns, in the order of the sample's channel axis. */
+    channels: Type.Array(Type.String({ minLength: 1 }), { minItems: 1, maxItems: 1000, uniqueItems: true }),
+    /** Column holding each sample's class. */
+    labelColumn: Type.String({ minLength: 1 }),
+    /** Steps every sample is padded or cut to. Absent: the longest sample of the training split (a warning names how many samples were cut). */
+    length: Type.Optional(Type.Integer({ minimum: 1, maximum: 100_000 })),
+  },
+  { additionalProperties: false },
+);
+export type SequencesSource = Static<typeof SequencesSourceSchema>;
+
 /** Where a run's data comes from: the invented demo, or the user's own files. */
-export const DatasetSourceSchema = Type.Union([DemoTilesSourceSchema, CsvSourceSchema, ImageFolderSourceSchema, IdxSourceSchema]);
+export const DatasetSourceSchema = Type.Union([DemoTilesSourceSchema, CsvSourceSchema, ImageFolderSourceSchema, IdxSourceSchema, SeriesWindowsSourceSchema, SequencesSourceSchema]);
 /** Each dataset source kind with its schema, to check a run file's dataset against the kind it names. */
 export const DATASET_SOURCE_SCHEMAS = {
   'demo-tiles': DemoTilesSourceSchema,
   csv: CsvSourceSchema,
   'image-folder': ImageFolderSourceSchema,
   idx: IdxSourceSchema,
+  'series-windows': SeriesWindowsSourceSchema,
+  sequences: SequencesSourceSchema,
 } as const;
 export type DatasetSource = Static<typeof DatasetSourceSchema>;
 
