@@ -5,7 +5,7 @@ import { createRequire } from 'node:module';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { defaultSearchSpace } from '@netbreeder/shared-types';
 import { loadDataset, parseRunConfig, type RunRecord } from '@netbreeder/coordinator';
-import { TestCluster, waitFor } from './support/harness.js';
+import { TestCluster } from './support/harness.js';
 
 /**
  * A forecasting run against the outside: the monthly mean CO2 at Mauna Loa (ppm, NOAA / Scripps,
@@ -43,14 +43,7 @@ describe('a forecasting run on the Mauna Loa CO2 series', () => {
     cluster.spawnWorker('w1');
     await cluster.waitForReadyWorkers(1);
     run = await cluster.coordinator.startRun(config);
-    try {
-      await waitFor('the CO2 run to finish', () => {
-        const r = cluster.coordinator.store.getRun(run.id);
-        return r && (r.state === 'finished' || r.state === 'failed') ? r : null;
-      }, 150_000, 500);
-    } catch (err) {
-      throw new Error(`${(err as Error).message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);
-    }
+    await cluster.runEnd(run.id, 'the CO2 run to finish', 150_000);
   }, 200_000);
 
   afterAll(async () => {

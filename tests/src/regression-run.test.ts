@@ -54,14 +54,7 @@ describe('a regression run on the Auto MPG table', () => {
     cluster.spawnWorker('w1');
     await cluster.waitForReadyWorkers(1);
     run = await cluster.coordinator.startRun(config);
-    try {
-      await waitFor('the Auto MPG run to finish', () => {
-        const r = cluster.coordinator.store.getRun(run.id);
-        return r && (r.state === 'finished' || r.state === 'failed') ? r : null;
-      }, 400_000, 500);
-    } catch (err) {
-      throw new Error(`${(err as Error).message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);
-    }
+    await cluster.runEnd(run.id, 'the Auto MPG run to finish', 400_000);
   }, 460_000);
 
   afterAll(async () => {

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { defaultSearchSpace } from '@netbreeder/shared-types';
 import { DatasetError, exportChampion, generateKilnCurves, loadChampion, parseRunConfig, predictFile, type RunRecord } from '@netbreeder/coordinator';
-import { TestCluster, waitFor } from './support/harness.js';
+import { TestCluster } from './support/harness.js';
 
 /**
  * A whole run on labelled sequences: the invented kiln firing curves (temperature and element
@@ -36,14 +36,7 @@ describe('a run on the invented kiln firing curves (sequences)', () => {
     cluster.spawnWorker('w1');
     await cluster.waitForReadyWorkers(1);
     run = await cluster.coordinator.startRun(config);
-    try {
-      await waitFor('the kiln curves run to finish', () => {
-        const r = cluster.coordinator.store.getRun(run.id);
-        return r && (r.state === 'finished' || r.state === 'failed') ? r : null;
-      }, 150_000, 500);
-    } catch (err) {
-      throw new Error(`${(err as Error).message}\nworker logs:\n${cluster.workerLogs.slice(-30).join('')}`);
-    }
+    await cluster.runEnd(run.id, 'the kiln curves run to finish', 150_000);
   }, 200_000);
 
   afterAll(async () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { createRandom, DEFAULT_MISSING_VALUE_TOKENS, MAX_AUTO_NUMERIC_CLASSES, regressionMetrics } from '@netbreeder/shared-types';
-import { DatasetError } from '../datasets/dataset-error.js';
+import { datasetErrorOf } from './test-fixtures.js';
 import { encodeTable, unstandardizeTarget } from '../datasets/table-encoding.js';
 import { parseCsvTable, type CsvTableOptions } from './csv-table.js';
 
@@ -14,15 +14,7 @@ const options = (o: Partial<CsvTableOptions> = {}): CsvTableOptions => ({
   ...o,
 });
 
-const fails = (fn: () => unknown): DatasetError => {
-  try {
-    fn();
-  } catch (err) {
-    expect(err).toBeInstanceOf(DatasetError);
-    return err as DatasetError;
-  }
-  throw new Error('expected a DatasetError');
-};
+const fails = datasetErrorOf;
 
 /** A seeded table: shrink = 2 + 0.01 · temp + noise, so the target has as many distinct values as rows. */
 function table(rows: number, seed = 3): string {

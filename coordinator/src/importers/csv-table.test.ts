@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_MISSING_VALUE_TOKENS } from '@netbreeder/shared-types';
-import { DatasetError } from '../datasets/dataset-error.js';
+import { datasetErrorOf } from './test-fixtures.js';
 import { forEachCsvRecord } from './csv-records.js';
 import { parseCsvTable, type CsvTableOptions } from './csv-table.js';
 
@@ -20,15 +20,7 @@ const records = (text: string): Array<[string[], number]> => {
   return out;
 };
 
-const fails = (fn: () => unknown): DatasetError => {
-  try {
-    fn();
-  } catch (err) {
-    expect(err).toBeInstanceOf(DatasetError);
-    return err as DatasetError;
-  }
-  throw new Error('expected a DatasetError');
-};
+const fails = datasetErrorOf;
 
 describe('forEachCsvRecord', () => {
   it('reads quoted fields with delimiters, doubled quotes and line breaks (RFC 4180), CRLF, a BOM and blank lines', () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '@netbreeder/shared-types';
-import { DatasetError } from '../datasets/dataset-error.js';
+import { datasetErrorOf } from './test-fixtures.js';
 import { sequenceFeatures, shapeSequences } from '../datasets/sequence-samples.js';
 import { parseSequencesCsv } from './sequences-csv.js';
 
@@ -20,15 +20,7 @@ function longCsv(samples: number, seed = 2): string {
   return ['run,minute,temp,draft,outcome', ...r.shuffled(rows)].join('\n');
 }
 
-const fails = (fn: () => unknown): DatasetError => {
-  try {
-    fn();
-  } catch (err) {
-    expect(err).toBeInstanceOf(DatasetError);
-    return err as DatasetError;
-  }
-  throw new Error('expected a DatasetError');
-};
+const fails = datasetErrorOf;
 
 describe('labelled sequences from one long-format CSV', () => {
   it('groups rows by sample, orders each by time, and splits whole samples stratified by class', () => {

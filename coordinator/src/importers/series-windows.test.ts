@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '@netbreeder/shared-types';
-import { DatasetError } from '../datasets/dataset-error.js';
+import { datasetErrorOf } from './test-fixtures.js';
 import { timeParts, windowSeries, windowStarts, type WindowSettings } from '../datasets/series-windows.js';
 import { parseSeriesCsv } from './series-csv.js';
 
@@ -21,15 +21,7 @@ function seriesCsv(steps: number, seed = 5): string {
 const read = (text: string, task: 'classification' | 'regression' = 'classification', column = task === 'regression' ? 'temp' : 'state') =>
   parseSeriesCsv(text, 'series.csv', { delimiter: ',', channels: ['temp', 'fan'], target: { column, task } });
 
-const fails = (fn: () => unknown): DatasetError => {
-  try {
-    fn();
-  } catch (err) {
-    expect(err).toBeInstanceOf(DatasetError);
-    return err as DatasetError;
-  }
-  throw new Error('expected a DatasetError');
-};
+const fails = datasetErrorOf;
 
 const classify: WindowSettings = { window: 8, stride: 2, task: 'classification', horizon: 1 };
 const forecast: WindowSettings = { window: 8, stride: 1, task: 'regression', horizon: 3 };

@@ -3,7 +3,7 @@ import { randomBytes } from 'node:crypto';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Coordinator, createLogger, spawnWorker } from '@netbreeder/coordinator';
+import { Coordinator, createLogger, spawnWorker, type RunRecord } from '@netbreeder/coordinator';
 
 export const REDIS_URL = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
 
@@ -73,6 +73,18 @@ export class TestCluster {
   }
 
   /** Stops workers, empties this cluster's queue, closes the coordinator and removes the data. */
+  /** Waits until run `runId` is finished or failed and returns it; a timeout names `what` and shows the workers' last log lines. */
+  async runEnd(runId: string, what: string, timeoutMs: number): Promise<RunRecord> {
+    try {
+      return await waitFor(what, () => {
+        const r = this.coordinator.store.getRun(runId);
+        return r && (r.state === 'finished' || r.state === 'failed') ? r : null;
+      }, timeoutMs, 500);
+    } catch (err) {
+      throw new Error(`${(err as Error).message}\nworker logs:\n${this.workerLogs.slice(-30).join('')}`);
+    }
+  }
+
   async stop(opts: { keepData?: boolean } = {}): Promise<void> {
     for (const w of this.workers) if (w.exitCode === null) w.kill('SIGKILL');
     await Promise.all(this.workers.map((w) => new Promise<void>((r) => (w.exitCode !== null || w.signalCode ? r() : w.once('exit', () => r())))));
