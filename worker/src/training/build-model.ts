@@ -84,29 +84,12 @@ export function buildModel(genome: Genome, data: DataShape, seed: number): tf.La
       case 'avg-pool2d':
         layer = tf.layers.averagePooling2d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
         break;
-      case 'conv1d':
+      case 'conv1d': {
+        const args = { name: n.id, filters: n.filters, kernelSize: n.kernelSize, padding: n.padding, activation: act(n.activation), kernelInitializer: glorot(), kernelRegularizer: regularizer() };
         // TensorFlow.js has no gradient for a dilated convolution; DilatedConv1d writes it as undilated ones.
-        layer = n.dilation > 1 ? new DilatedConv1d({
-          name: n.id,
-          filters: n.filters,
-          kernelSize: n.kernelSize,
-          dilation: n.dilation,
-          padding: n.padding,
-          activation: act(n.activation),
-          kernelInitializer: glorot(),
-          kernelRegularizer: regularizer(),
-        }) : tf.layers.conv1d({
-          name: n.id,
-          filters: n.filters,
-          kernelSize: n.kernelSize,
-          strides: n.strides,
-          dilationRate: n.dilation,
-          padding: n.padding,
-          activation: act(n.activation),
-          kernelInitializer: glorot(),
-          kernelRegularizer: regularizer(),
-        });
+        layer = n.dilation > 1 ? new DilatedConv1d({ ...args, dilation: n.dilation }) : tf.layers.conv1d({ ...args, strides: n.strides, dilationRate: n.dilation });
         break;
+      }
       case 'max-pool1d':
         layer = tf.layers.maxPooling1d({ name: n.id, poolSize: n.poolSize, strides: n.strides, padding: 'valid' });
         break;
