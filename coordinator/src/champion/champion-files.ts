@@ -70,6 +70,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
   const scored = store.events(run.id, 'champion-candidate-scored').map((e) => e.detail);
   const own = scored.find((d) => d.evaluationId === champion.evaluationId);
   const genome = store.getGenome(champion.genomeHash)!;
+  const onnxProblem = onnxUnavailable([genome.genome]);
   const championsRound = own?.round ?? 0;
   const source = store.getEvaluation(champion.sourceEvaluationId)!;
   const heldBack = store.getEvaluation(champion.evaluationId)?.job.selectionHoldout;
@@ -86,10 +87,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** Median time to classify one sample alone in TensorFlow.js, measured on the coordinator's CPU when it was scored; `onnxRuntime`: the ONNX graph's latency in ONNX Runtime there (one sample, a batch of 32). */
     latency: { msPerSample: own?.latencyMsPerSample ?? null, backend: own?.backend ?? null, onnxRuntime: own?.onnxLatency ?? null },
     /** `model.onnx`: the same network as an ONNX graph (opset, input and output names, what they hold). */
-    onnx: (() => {
-      const unavailable = onnxUnavailable([genome.genome]);
-      return unavailable ? { file: null, unavailable } : { file: 'model.onnx', opset: ONNX_OPSET, input: ONNX_INPUT, output: ONNX_OUTPUT, description: onnxDescription(run, 1) };
-    })(),
+    onnx: onnxProblem ? { file: null, unavailable: onnxProblem } : { file: 'model.onnx', opset: ONNX_OPSET, input: ONNX_INPUT, output: ONNX_OUTPUT, description: onnxDescription(run, 1) },
     /** Regression runs: the predicted column and its training-split scaling (then `validation` and `test` carry `fitness`, the search fitness 1 / (1 + standardised RMSE), instead of `accuracy`, and `regression` the scores to show). */
     target: run.dataset.manifest.target ?? null,
     validation: { ...named(champion.valAccuracy), loss: source.result?.valLoss ?? null, evaluationId: champion.sourceEvaluationId, regression: source.result?.valRegression ?? null },
@@ -164,7 +162,7 @@ export function championSummary(store: RunStore, run: RunRecord) {
     /** Verification of the champion's search result, quarantined workers, and the run's CPU time and energy. */
     trust: championTrust(store, run, champion),
     /** The export's files; `preprocessing.json` is absent for a run from before its import was recorded. */
-    files: CHAMPION_FILES.filter((f) => (f !== 'preprocessing.json' || preprocessingFileOf(run) !== null) && (f !== 'model.onnx' || onnxUnavailable([genome.genome]) === null)),
+    files: CHAMPION_FILES.filter((f) => (f !== 'preprocessing.json' || preprocessingFileOf(run) !== null) && (f !== 'model.onnx' || onnxProblem === null)),
   };
 }
 export type ChampionSummaryDocument = NonNullable<ReturnType<typeof championSummary>>;
@@ -200,13 +198,13 @@ export function championFiles(store: RunStore, run: RunRecord): Map<ChampionFile
     ['genome.json', json({ hash: summary.genomeHash, genome: canonicalGenome(summary.genome), layers: analysis.ok ? analysis.analysis.nodes : [] })],
     ['model.json', json(modelJson)],
     ['weights.bin', Buffer.from(artifacts.weightDataBase64, 'base64')],
-    ['model.onnx', onnxUnavailable([summary.genome]) ? Buffer.alloc(0) : onnxExportOf(run, [{ genome: summary.genome, artifacts }])],
+    ['model.onnx', summary.onnx.file ? onnxExportOf(run, [{ genome: summary.genome, artifacts }]) : Buffer.alloc(0)],
     ['preprocessing.json', json(preprocessing)],
     ['champion.json', json(championDocument(summary))],
     ['report.md', Buffer.from(championReport(summary, analysis.ok ? analysis.analysis.nodes : []))],
     ['report.html', Buffer.from(championReportHtml(summary, analysis.ok ? analysis.analysis.nodes : [], regressionTestOf(store, run)))],
   ]);
   if (!preprocessing) files.delete('preprocessing.json');
-  if (onnxUnavailable([summary.genome])) files.delete('model.onnx');
+  if (!summary.onnx.file) files.delete('model.onnx');
   return files;
 }
