@@ -7,7 +7,8 @@ import { TestCluster, waitFor } from './support/harness.js';
  * Weight inheritance through the real coordinator, queue and workers (`search.weightInheritance`):
  * with asha-evolution, a candidate promoted to a higher rung continues from its own final
  * checkpoint of the lower rung and trains only the extra epochs; a child of evolution starts from
- * its parent's final weights where layer names and shapes match. The champion report says which.
+ * its parent's final weights where layer names and shapes match; the final trainings of the
+ * champion phase start from their search training's final weights. The champion report says which.
  */
 describe('a run with weight inheritance', () => {
   let cluster: TestCluster;
@@ -73,7 +74,24 @@ describe('a run with weight inheritance', () => {
     // Fresh members have no parent to inherit from.
     expect(done.filter((e) => !e.job.inherit).every((e) => e.result!.start!.kind === 'fresh')).toBe(true);
 
+    // The final trainings (the champion's and the reference network's, for the held-back check)
+    // start from the weights their genome's search training ended with (`champion.warmStart`, on
+    // by default): every weight copied, a fresh optimizer, the whole final length from epoch 0.
+    const finals = store.evaluations(run.id).filter((e) => e.kind === 'champion' && e.state === 'done');
+    expect(finals.length).toBeGreaterThan(0);
+    const lengths = store.events(run.id, 'champion-training-length').map((e) => e.detail);
+    for (const f of finals) {
+      const source = byId.get(lengths.find((l) => l.evaluationId === f.id)!.sourceEvaluationId)!;
+      expect(f.job.inherit, f.id).toMatchObject({ kind: 'parent-weights', checkpoint: { evaluationId: source.id, epoch: source.job.budget.epochs } });
+      const start = f.result!.start!;
+      expect(start).toMatchObject({ kind: 'parent-weights', fromEpoch: 0, fromEvaluationId: source.id, note: null });
+      expect(start.copiedWeights).toBe(start.totalWeights);
+      expect(f.result!.history.map((h) => h.epoch)).toEqual(Array.from({ length: f.job.budget.epochs }, (_, i) => i + 1));
+      expect(lengths.find((l) => l.evaluationId === f.id)!.startsFrom).toEqual({ kind: 'search-weights', epochs: source.job.budget.epochs });
+    }
+
     const report = championFiles(store, store.getRun(run.id)!)!.get('report.md')!.toString();
+    expect(report).toContain('starting from the weights its search training ended with');
     expect(report).toContain('## Checkpoints and weight inheritance');
     expect(report).toContain(`${promoted.length} continued their own lower-rung checkpoint and ${children.length} started from their parent's weights`);
   }, 300_000);

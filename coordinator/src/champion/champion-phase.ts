@@ -10,6 +10,7 @@ import { finalTrainingLength } from './final-length.js';
 import { referenceSource, type ConsideredGenome } from './reference-comparison.js';
 import { heldBackCount, heldBackPair, heldBackSide, heldBackWinner } from './held-back-check.js';
 import { onnxExportOf } from './onnx-file.js';
+import { searchWeights } from '../checkpoints/checkpoint-policy.js';
 import { measureOnnxLatency, type OnnxLatency, type OnnxLatencyUnavailable } from '../onnx/onnx-latency.js';
 
 /** One genome that gets the final training, and how it scored in the search. */
@@ -133,21 +134,31 @@ export class ChampionPhase {
       // A regression run's fitness is no accuracy: its curve is read without the noise rule.
       const valCount = run.dataset.manifest.target ? undefined : run.dataset.manifest.valCount;
       const length = finalTrainingLength(run.config.champion.epochs, history, source.job.budget.epochs, budgetMaxEpochs, valCount, run.dataset.manifest.target ? 'regression' : 'classification');
+      const { inherit: _searchStart, resume: _searchResume, ...searchJob } = source.job;
+      const warmStart = searchWeights(this.o.store, run.config, run.id, source.seq);
       const job: EvaluationJob = {
-        ...source.job,
+        ...searchJob,
         kind: 'champion',
         attempt: 1,
         evaluationId: championId(run.id, c.seq, 1),
-        // The same initial weights that earned the genome its place; only the data (train +
-        // validation) and the budget change. The reference network follows the same rules.
+        // The weights its search training ended with (warm start), else the same initial weights
+        // that earned the genome its place; the data (train + validation) and the budget change.
+        // The reference network follows the same rules.
         seed: source.job.seed,
+        ...(warmStart ? { inherit: warmStart } : {}),
         budget: { epochs: length.epochs, maxSeconds: run.config.champion.maxSeconds, ...(maxSamples === undefined ? {} : { maxSamples }) },
         // The champion and the reference leave the same validation samples out, for the held-back check.
         ...(holdout ? { selectionHoldout: holdout } : {}),
       };
       this.o.store.transaction(() => {
         this.o.store.addEvaluation(job, c.seq, this.o.now(), false);
-        this.o.store.logEvent(run.id, 'champion-training-length', { evaluationId: job.evaluationId, genomeHash: c.genomeHash, sourceEvaluationId: c.sourceEvaluationId, ...length });
+        this.o.store.logEvent(run.id, 'champion-training-length', {
+          evaluationId: job.evaluationId,
+          genomeHash: c.genomeHash,
+          sourceEvaluationId: c.sourceEvaluationId,
+          ...length,
+          startsFrom: warmStart ? { kind: 'search-weights', epochs: warmStart.checkpoint.epoch } : { kind: 'fresh' },
+        });
       });
       await this.o.queue.add(job);
     }

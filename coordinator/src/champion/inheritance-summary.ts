@@ -61,6 +61,13 @@ export function describeStart(s: TrainingStart | null): string {
   return `${START_WORDS[s.kind]}${copied}${s.fromEvaluationId ? `, checkpoint of ${s.fromEvaluationId}` : ''}${s.note ? `; ${s.note}` : ''}`;
 }
 
+/** How a final training's weights started (`champion.warmStart`), as a clause of the report's "How it was chosen"; empty when not recorded. */
+export function describeFinalStart(s: TrainingStart | null | undefined): string {
+  if (!s) return '';
+  if (s.kind === 'parent-weights') return `, starting from the weights its search training ended with (${s.copiedWeights} of ${s.totalWeights} weights, checkpoint of ${s.fromEvaluationId})`;
+  return `, starting from freshly initialised weights${s.note ? ` (${s.note})` : ''}`;
+}
+
 /** The report's Markdown section on checkpoints and weight inheritance. */
 export function inheritanceMarkdown(i: InheritanceSummary): string[] {
   const k = i.byKind;

@@ -1,6 +1,7 @@
 import { rmseFromFitness } from '@netbreeder/shared-types';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { fourDigits } from './regression-scores.js';
+import { describeFinalStart } from './inheritance-summary.js';
 
 /**
  * The report's sections on how the champion was chosen, how it was found (from the decision log)
@@ -17,7 +18,7 @@ export function choiceParagraph(c: ChampionSummaryDocument): string {
   const length = c.finalTraining.length ? ` for ${c.finalTraining.length.detail}` : '';
   const check = c.heldBackCheck;
   const data = check ? `train + validation (less ${check.heldBack} validation samples held back)` : 'train + validation';
-  const final = ` It was then trained again on ${data}${length} and scored once on the held-out test split, after every choice was made.${check ? heldBackSentence(c, check) : ''}`;
+  const final = ` It was then trained again on ${data}${length}${describeFinalStart(c.finalTraining.start)} and scored once on the held-out test split, after every choice was made.${check ? heldBackSentence(c, check) : ''}`;
   if (contenders(c).length > 1) {
     // A run recorded before the choice moved to validation: say what that run did.
     return `${c.choice.sentence} This run predates the validation-only choice: ${contenders(c).length} genomes were trained again and the best on the held-out test split was kept, so its test score is slightly optimistic.`;

@@ -39,6 +39,18 @@ export function inheritedWeights(store: RunStore, config: RunConfig, runId: stri
   return undefined;
 }
 
+/**
+ * The weights a final training (champion phase) starts from when the run asks for a warm start
+ * (`champion.warmStart`): those its search training ended with, copied layer by layer, the final
+ * training running its whole length from epoch 0 with a fresh optimizer. Undefined when the run
+ * does not ask for it or that training left no final checkpoint (the final training starts fresh).
+ */
+export function searchWeights(store: RunStore, config: RunConfig, runId: string, sourceSeq: number): WeightSource | undefined {
+  if (config.champion.warmStart === false) return undefined;
+  const held = store.latestCheckpoint(runId, sourceSeq);
+  return held?.final ? { kind: 'parent-weights', checkpoint: checkpointRef(held) } : undefined;
+}
+
 /** The latest checkpoint of an evaluation sequence, for the attempt that replaces a failed one. */
 export function resumeRef(store: RunStore, runId: string, seq: number): CheckpointRef | undefined {
   const held = store.latestCheckpoint(runId, seq);

@@ -404,6 +404,15 @@ export const RunConfigSchema = Type.Object(
          */
         selectionShare: Type.Optional(Type.Number({ minimum: 0, maximum: 0.9, default: 0.5 })),
         /**
+         * Whether a final training starts from the weights its genome's search training ended with
+         * (copied layer by layer, a fresh optimizer, the whole final length from epoch 0) instead of
+         * a fresh initialisation: the search's samples spent on that network are not thrown away.
+         * The reference network and ensemble members start the same way. Needs the search's final
+         * checkpoints (`search.weightInheritance`); a genome without one starts fresh, and the
+         * `champion-training-length` event says which it was. @default true
+         */
+        warmStart: Type.Optional(Type.Boolean({ default: true })),
+        /**
          * How many of the best distinct genomes by validation evidence the champion phase considers:
          * their search results are verified on another worker first (see `verification`), the
          * report lists them, and the best of them that still counts is the champion. Only the

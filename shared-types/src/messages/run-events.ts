@@ -131,6 +131,8 @@ export const RUN_EVENT_SCHEMAS = {
     epochs: Type.Integer({ minimum: 1 }),
     rule: OneOf('run-file', 'learning-curve', 'genome-epochs', 'still-rising', 'within-noise'),
     detail: Text,
+    /** Where its weights start (`champion.warmStart`): the search training's final weights after that many epochs, or a fresh initialisation. Absent in records older than it. */
+    startsFrom: Type.Optional(Type.Union([Strict({ kind: Type.Literal('search-weights'), epochs: Type.Integer({ minimum: 1 }) }), Strict({ kind: Type.Literal('fresh') })])),
   }),
   /** A final training scored once on the test split. `backend`, `latencyMsPerSample`, `champion` and `round` are absent in records older than them. */
   'champion-candidate-scored': Strict({

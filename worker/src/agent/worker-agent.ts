@@ -232,7 +232,7 @@ export class WorkerAgent {
     try {
       const shardPath = await this.cache.ensure(payload.dataset);
       // BullMQ counts each move to active: above 1, another worker had this job before (it stalled or was handed back).
-      const start = payload.kind === 'search' ? await this.startCheckpoint(payload, job.attemptsStarted > 1) : undefined;
+      const start = await this.startCheckpoint(payload, job.attemptsStarted > 1);
       log.info({ genome: payload.genomeHash.slice(0, 12), epochs: payload.budget.epochs, offered: start ? `${start.kind} ${start.sha256.slice(0, 12)} at epoch ${start.epoch}` : null }, 'training');
       const policy = payload.kind === 'search' ? payload.checkpoints : undefined;
       let uploads = Promise.resolve();
@@ -289,17 +289,18 @@ export class WorkerAgent {
   }
 
   /**
-   * The checkpoint a search job starts from: the latest of an earlier attempt of the same
-   * evaluation (asked of the coordinator, which also knows checkpoints uploaded after the job was
-   * queued, or given in the reissued job), else the weights the job inherits. Downloaded and
+   * The checkpoint a job starts from: for a search job, the latest of an earlier attempt of the
+   * same evaluation (asked of the coordinator, which also knows checkpoints uploaded after the job
+   * was queued, or given in the reissued job), else the weights the job inherits; a champion job
+   * (which uploads no checkpoints) only the weights it inherits (a warm start). Downloaded and
    * verified here; one that fails comes with a note, and the training starts from epoch 0.
    * The coordinator is asked only when an earlier run of this job or attempt may have uploaded
    * one (`takenOver`, or a later attempt), so a job's first start costs no request.
    */
   private async startCheckpoint(job: EvaluationJob, takenOver: boolean): Promise<StartCheckpoint | undefined> {
-    const mayHaveOne = takenOver || job.attempt > 1;
+    const mayHaveOne = job.kind === 'search' && (takenOver || job.attempt > 1);
     const known = job.checkpoints && mayHaveOne ? await this.checkpoints.latest(job.evaluationId) : null;
-    const resume = [known, job.resume].filter((r) => r != null).sort((a, b) => b.epoch - a.epoch)[0];
+    const resume = [known, job.kind === 'search' ? job.resume : undefined].filter((r) => r != null).sort((a, b) => b.epoch - a.epoch)[0];
     const offer = resume ? { kind: 'resumed' as const, ref: resume } : job.inherit ? { kind: job.inherit.kind, ref: job.inherit.checkpoint } : null;
     if (!offer) return undefined;
     const got = await this.checkpoints.fetch(offer.ref);
