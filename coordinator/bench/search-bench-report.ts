@@ -17,11 +17,7 @@ export interface RunOutcome {
   state: string;
   /** Training samples of the search evaluations counted within the search budget (new work only: a continued training counts the epochs it added). */
   searchSamples: number;
-  /**
-   * Training samples of the champion phase's trainings that made the champion: with the held-back
-   * check both its final trainings (the search's champion and the reference network), else the
-   * champion's alone (the in-run reference's retraining is then a measurement, not counted).
-   */
+  /** Training samples of every final training of the champion phase: the search's champion and the run's reference network (the held-back check's other side, or the report's comparison). */
   championSamples: number;
   evaluations: number;
   /** The most new samples one counted evaluation trained (the search may pass its budget by less than this). */
@@ -99,7 +95,7 @@ function table(head: string[], rows: string[][]): string[] {
 export function taskTable(title: string, budget: number, searchBudget: number, summary: readonly MethodSummary[], references: readonly ReferenceOutcome[], fractions: readonly number[]): string[] {
   const out: string[] = [];
   out.push('', `Task: ${title}.`);
-  out.push(`Budget per run: ${budget.toLocaleString('en')} training samples seen in all: ${searchBudget.toLocaleString('en')} for the search, the rest for the champion phase (with the held-back check, half each for the final trainings of the search's champion and of the reference network).`);
+  out.push(`Budget per run: ${budget.toLocaleString('en')} training samples seen in all: ${searchBudget.toLocaleString('en')} for the search, the rest for the champion phase (half each for the final trainings of the search's champion and of the run's reference network).`);
   const searched = summary.filter((s) => s.runs > 0);
   if (searched.length) {
     out.push('Best validation accuracy % after each share of the search budget, mean ± std (min–max) over seeds:', '');

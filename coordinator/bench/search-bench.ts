@@ -4,12 +4,13 @@
  * coordinator (run manager, SQLite store, BullMQ queue on the local Redis) and real worker
  * processes training with TensorFlow.js, and the run's reference network is trained once per seed
  * with the task's whole budget (the reference row). Equal CPU means equal training samples seen:
- * the search's samples plus its champion's final training on one side, the reference row's on the
- * other. A run's search spends the search's share (`budget.maxSamples`: the coordinator finishes
- * the run once its recorded results reach it, giving up what is still queued or training, and
- * records no result past it); the champion's final training is capped at the rest
- * (`champion.maxSamples`). The champion is chosen on validation evidence
- * and scored once on the held-out test split.
+ * the search's samples plus every final training of its champion phase on one side, the reference
+ * row's on the other. A run's search spends the search's share (`budget.maxSamples`: the
+ * coordinator finishes the run once its recorded results reach it, giving up what is still queued
+ * or training, and records no result past it); the champion phase trains the search's champion and
+ * the run's reference network (the held-back check, the report's comparison), each capped at half
+ * the rest (`champion.maxSamples`). The champion is chosen on validation evidence and scored once
+ * on the held-out test split.
  *
  * Prints one line per finished run to stderr, then a table per task, then one JSON line with every
  * figure (keys name task, method and figure).
@@ -128,12 +129,12 @@ class RunWatch {
 async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTask, method: SearchAlgorithmName, seed: number): Promise<RunOutcome> {
   const started = Date.now();
   const searchBudget = Math.round(task.budget * (1 - settings.championShare));
-  // With the held-back check the champion phase trains two networks (the search's champion and
-  // the reference network, the better on held-back data exported): both count, so each gets half.
+  // The champion phase trains the search's champion and, when the run has one, its reference
+  // network (for the held-back check, and for the report's comparison in any case): every final
+  // training counts, so each gets half.
   const asked = task.runConfig(method, seed, searchBudget, 1);
   const config = settings.heldBackCheck ? asked : { ...asked, champion: { ...asked.champion, selectionShare: 0 } };
-  const checked = (config.champion.selectionShare ?? 0) > 0 && config.search.reference !== false;
-  const perFinalTraining = Math.floor((task.budget - searchBudget) / (checked ? 2 : 1));
+  const perFinalTraining = Math.floor((task.budget - searchBudget) / (config.search.reference === false ? 1 : 2));
   const run = await coordinator.startRun({ ...config, champion: { ...config.champion, maxSamples: perFinalTraining, warmStart: settings.warmStart } });
   watch.reset(run.id, run.dataset.manifest.trainCount);
   const store = coordinator.store;
@@ -150,12 +151,9 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
   const evaluations = store.evaluations(run.id);
   const failed = evaluations.filter((e) => e.kind === 'search' && e.state === 'failed');
   const discarded = failed.filter((e) => e.error === DISCARDED_AT_FINISH).length;
-  const championTraining = champion ? evaluations.find((e) => e.id === champion.evaluationId) : undefined;
-  // What the champion phase spent on the exported model's choice: with the held-back check both
-  // final trainings (the loser's too); without it the champion's alone (the in-run reference's
-  // retraining is then a measurement for the report, not part of how the champion was made).
-  const checkedTrainings = evaluations.filter((e) => e.kind === 'champion' && e.state === 'done' && e.job.selectionHoldout !== undefined);
-  const championPhaseSamples = checkedTrainings.length ? checkedTrainings.reduce((s, e) => s + (e.result?.samplesSeen ?? 0), 0) : (championTraining?.result?.samplesSeen ?? 0);
+  // Everything the champion phase trained: the champion's final training and the reference
+  // network's (the held-back check's other side, or the report's comparison), failed attempts' work aside.
+  const championPhaseSamples = evaluations.filter((e) => e.kind === 'champion' && e.state === 'done').reduce((s, e) => s + (e.result?.samplesSeen ?? 0), 0);
   const comparison = referenceComparison(store, run.id);
   return {
     task: task.name,
@@ -254,7 +252,7 @@ async function main(): Promise<void> {
     lines.push(
       settings.heldBackCheck
         ? `Champion: chosen on validation evidence (the test split chooses nothing), then the held-back check: it and the reference network are trained again on train + validation less half of validation, each capped at half the champion phase's share of the budget (both counted), ${start}; the better of the two on the held-back half is exported and scored once on test.`
-        : `Champion: chosen on validation evidence (the test split chooses nothing), trained again on train + validation, capped at the champion phase's share of the budget, ${start}, scored once on test (the in-run reference's retraining is a measurement for the report and not counted).`,
+        : `Champion: chosen on validation evidence (the test split chooses nothing), trained again on train + validation, ${start}, scored once on test; the reference network is trained again the same way for the report's comparison; each of the two final trainings capped at half the champion phase's share of the budget, both counted.`,
     );
     lines.push('Reference row: the run\'s reference network (docs/reference-networks.md) trained once on the training split with the whole budget, the weights of its best epoch by validation accuracy kept, scored once on test.');
     if (settings.tasks.includes('mnist')) {
