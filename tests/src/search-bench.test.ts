@@ -50,7 +50,7 @@ function runQuickBench(): Promise<{ code: number | null; json: string; stderr: s
 }
 
 describe('bench:search --quick (the demo tiles, real coordinator and workers)', () => {
-  it('prints one JSON line whose runs each spent the search budget within one evaluation and capped the champion at the rest', async () => {
+  it('prints one JSON line whose runs each spent the search budget within one evaluation and kept the champion phase (champion and reference final trainings) within the rest', async () => {
     const { code, json, stderr } = await runQuickBench();
     expect(code, stderr).toBe(0);
     const result = JSON.parse(json) as {
@@ -107,7 +107,7 @@ describe('bench:search --quick (the demo tiles, real coordinator and workers)', 
       // Reached the search budget, and passed it by less than one evaluation (the one that crossed it).
       expect(r.searchSamples).toBeGreaterThanOrEqual(task.searchBudget);
       expect(r.searchSamples - task.searchBudget).toBeLessThan(r.largestEvaluation);
-      // The champion's final training stayed within the rest of the budget.
+      // The champion phase's final trainings (the champion's and the reference network's) stayed within the rest of the budget.
       expect(r.championSamples).toBeGreaterThan(0);
       expect(r.championSamples).toBeLessThanOrEqual(task.budget - task.searchBudget);
       // The finish gives up what was in flight, so nothing past the budget is recorded.
