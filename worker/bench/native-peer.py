@@ -13,6 +13,12 @@ the measured speed ("time"). Layers mirror worker/src/training/build-model.ts: t
 padding (the extra row or column of an odd total goes at the bottom/right), batch norm with
 epsilon 1e-3 and the L2 kernel penalty on dense and convolution kernels. Data are random: speed
 does not depend on the values.
+
+Sequences ([steps, channels] inputs) are kept as (N, C, L) for conv1d and the 1-D pools; LSTM and
+GRU are PyTorch's own layers, fed (N, L, C). They differ from the TensorFlow.js layers in two
+documented ways that do not change the work per step: PyTorch's carry a second bias vector
+(`bias_hh`), left out of the parameter count here, and PyTorch's GRU applies the reset gate after
+the recurrent product (TensorFlow.js's before: `resetAfter` false), the same products either way.
 """
 import json
 import sys
@@ -40,6 +46,18 @@ def same_pads(size, kernel, stride):
     return total // 2, total - total // 2, out
 
 
+def prod(shape):
+    out = 1
+    for d in shape:
+        out *= d
+    return out
+
+
+def channels_last(v):
+    """NHWC / NLC order, as the library flattens: matters for weight layout, not for speed."""
+    return v.permute(0, 2, 3, 1) if v.dim() == 4 else v.transpose(1, 2)
+
+
 def slot(node_id):
     """A module name for a node id: a repeat's layers are named `r.k.c`, and torch refuses dots."""
     return node_id.replace(".", ":")
@@ -55,7 +73,13 @@ class GenomeNet(nn.Module):
         self.layers = nn.ModuleDict()
         self.pads = {}
         self.kernels = []  # weights the L2 penalty covers
-        shape = {"input": (input_shape[2], input_shape[0], input_shape[1]) if len(input_shape) == 3 else (input_shape[0],)}
+        # images (C, H, W), sequences (C, L), vectors (F,)
+        if len(input_shape) == 3:
+            shape = {"input": (input_shape[2], input_shape[0], input_shape[1])}
+        elif len(input_shape) == 2:
+            shape = {"input": (input_shape[1], input_shape[0])}
+        else:
+            shape = {"input": (input_shape[0],)}
         for n in nodes:
             kind, key, s = n["kind"], n["id"], shape[n["inputs"][0]]
             if kind in ("conv2d", "depthwise-conv2d"):
@@ -75,7 +99,33 @@ class GenomeNet(nn.Module):
                 layer = nn.Conv2d(c, out_c, k, st, padding=padding, groups=1 if kind == "conv2d" else c)
                 self.kernels.append(layer.weight)
                 shape[key] = (out_c, oh, ow)
+            elif kind == "conv1d":
+                c, length = s
+                k, st, d = n["kernelSize"], n["strides"], n["dilation"]
+                span = (k - 1) * d + 1
+                if n["padding"] == "same":
+                    left, right, out = same_pads(length, span, st)
+                else:
+                    left = right = 0
+                    out = (length - span) // st + 1
+                if left != right:
+                    self.pads[key] = (left, right)
+                layer = nn.Conv1d(c, n["filters"], k, st, padding=left if left == right else 0, dilation=d)
+                self.kernels.append(layer.weight)
+                shape[key] = (n["filters"], out)
+            elif kind in ("max-pool1d", "avg-pool1d"):
+                c, length = s
+                p, st = n["poolSize"], n["strides"]
+                layer = (nn.MaxPool1d if kind == "max-pool1d" else nn.AvgPool1d)(p, st)
+                shape[key] = (c, (length - p) // st + 1)
+            elif kind in ("lstm", "gru"):
+                c, length = s
+                layer = (nn.LSTM if kind == "lstm" else nn.GRU)(c, n["units"], batch_first=True)
+                self.kernels.append(layer.weight_ih_l0)
+                shape[key] = (n["units"], length) if n["returnSequences"] else (n["units"],)
             elif kind == "dense":
+                if len(s) != 1:
+                    raise ValueError("native peer: dense on a spatial or sequence input is not mirrored")
                 layer = nn.Linear(s[0], n["units"])
                 self.kernels.append(layer.weight)
                 shape[key] = (n["units"],)
@@ -85,14 +135,14 @@ class GenomeNet(nn.Module):
                 layer = (nn.MaxPool2d if kind == "max-pool2d" else nn.AvgPool2d)(p, st)
                 shape[key] = (c, (h - p) // st + 1, (w - p) // st + 1)
             elif kind == "batch-norm":
-                layer = (nn.BatchNorm2d if len(s) == 3 else nn.BatchNorm1d)(s[0], eps=1e-3, momentum=0.1)
+                layer = (nn.BatchNorm2d if len(s) == 3 else nn.BatchNorm1d)(s[0], eps=1e-3, momentum=0.1)  # (N, C) or (N, C, L)
                 shape[key] = s
             elif kind == "dropout":
                 layer = nn.Dropout(n["rate"])
                 shape[key] = s
             elif kind in ("flatten", "global-avg-pool", "global-max-pool"):
                 layer = None
-                shape[key] = (s[0] * s[1] * s[2],) if kind == "flatten" else (s[0],)
+                shape[key] = (prod(s),) if kind == "flatten" else (s[0],)
             elif kind in ("activation", "add"):
                 layer = None
                 shape[key] = s
@@ -105,8 +155,8 @@ class GenomeNet(nn.Module):
             if layer is not None:
                 self.layers[slot(key)] = layer
         last = shape[output]
-        self.flatten_head = len(last) == 3
-        features = last[0] * last[1] * last[2] if self.flatten_head else last[0]
+        self.flatten_head = len(last) > 1
+        features = prod(last)
         self.head = nn.Linear(features, num_classes)
         self.kernels.append(self.head.weight)
 
@@ -117,15 +167,17 @@ class GenomeNet(nn.Module):
             v = values[n["inputs"][0]]
             if key in self.pads:
                 v = F.pad(v, self.pads[key])
-            if slot(key) in self.layers:
+            if kind in ("lstm", "gru"):
+                seq, _ = self.layers[slot(key)](v.transpose(1, 2))
+                v = seq.transpose(1, 2) if n["returnSequences"] else seq[:, -1]
+            elif slot(key) in self.layers:
                 v = self.layers[slot(key)](v)
             if kind == "flatten":
-                # NHWC order, as the library flattens: matters for weight layout, not for speed.
-                v = v.permute(0, 2, 3, 1).flatten(1)
+                v = channels_last(v).flatten(1)
             elif kind == "global-avg-pool":
-                v = v.mean(dim=(2, 3))
+                v = v.mean(dim=tuple(range(2, v.dim())))
             elif kind == "global-max-pool":
-                v = v.amax(dim=(2, 3))
+                v = v.amax(dim=tuple(range(2, v.dim())))
             elif kind == "add":
                 v = sum(values[i] for i in n["inputs"])
             elif kind == "concat":
@@ -135,12 +187,13 @@ class GenomeNet(nn.Module):
             values[key] = v
         v = values[self.output]
         if self.flatten_head:
-            v = v.permute(0, 2, 3, 1).flatten(1)
+            v = channels_last(v).flatten(1)
         return self.head(v)  # logits; the softmax is in the loss
 
 
 def counts(net):
-    trainable = sum(p.numel() for p in net.parameters())
+    # PyTorch's recurrent layers have a second bias vector the TensorFlow.js layers lack (see above).
+    trainable = sum(p.numel() for name, p in net.named_parameters() if not name.endswith("bias_hh_l0"))
     moving = sum(b.numel() for name, b in net.named_buffers() if name.endswith(("running_mean", "running_var")))
     return {"trainable": trainable, "nonTrainable": moving}
 
@@ -160,7 +213,7 @@ def optimizer_for(net, training):
 def measure(net, spec):
     training = spec["training"]
     batch, batches, shape = training["batchSize"], spec["batches"], spec["inputShape"]
-    chw = [shape[2], shape[0], shape[1]] if len(shape) == 3 else list(shape)
+    chw = [shape[2], shape[0], shape[1]] if len(shape) == 3 else [shape[1], shape[0]] if len(shape) == 2 else list(shape)
     x = torch.rand([batch * batches] + chw)
     y = torch.randint(0, spec["numClasses"], (batch * batches,))
     optimizer = optimizer_for(net, training)

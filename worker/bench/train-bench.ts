@@ -10,8 +10,8 @@
  * When PyTorch imports (python3 on PATH, /usr/bin/python3 or NETBREEDER_PEER_PYTHON; Debian:
  * apt-get install python3-torch), the same networks are also trained there on one thread
  * (native-peer.ts), after their parameter counts were checked equal to ours, and every row gets
- * its ratio to that native peer. The sequence networks (MNIST-sized rows: 28 steps × 28 values)
- * have no native peer yet.
+ * its ratio to that native peer, the sequence networks (MNIST-sized rows: 28 steps × 28 values)
+ * included.
  *
  * Training FLOPs are taken as 3 × the forward FLOPs analyzeGenome counts (forward, input gradient,
  * weight gradient), the usual rule of thumb. Synthetic data: speed does not depend on the values.
@@ -32,15 +32,15 @@ const FLAT: DataShape = { inputShape: [784], numClasses: 10 };
 const ROWS: DataShape = { inputShape: [28, 28], numClasses: 10 };
 const onlyGenomes = process.argv.find((a) => a.startsWith('--genomes='))?.slice('--genomes='.length).split(',');
 const recurrent = (kind: 'lstm' | 'gru') => chainGenome([{ id: 'r', kind, units: 64, returnSequences: false }], { batchSize: 64 });
-/** `peer: false`: no native peer for this network (native-peer.py builds dense and 2-D conv layers only). */
+/** `peer: false`: no native peer for this network (every network here has one; native-peer.py refuses a layer kind it does not mirror). */
 const ALL_GENOMES: Array<{ name: string; genome: Genome; data: DataShape; peer?: false }> = [
   { name: 'ref-mlp', genome: refMlp(), data: FLAT },
   { name: 'ref-cnn', genome: refCnn(), data: IMAGE },
   { name: 'skip-bn', genome: refSkipBn(), data: IMAGE },
   { name: 'cnn-bn', genome: refCnnBn(), data: IMAGE },
-  { name: 'lstm-rows', genome: recurrent('lstm'), data: ROWS, peer: false },
-  { name: 'gru-rows', genome: recurrent('gru'), data: ROWS, peer: false },
-  { name: 'conv1d-ref', genome: { ...referenceGenome(ROWS), training: { ...referenceGenome(ROWS).training, batchSize: 64 } }, data: ROWS, peer: false },
+  { name: 'lstm-rows', genome: recurrent('lstm'), data: ROWS },
+  { name: 'gru-rows', genome: recurrent('gru'), data: ROWS },
+  { name: 'conv1d-ref', genome: { ...referenceGenome(ROWS), training: { ...referenceGenome(ROWS).training, batchSize: 64 } }, data: ROWS },
 ];
 const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g.name));
 /**
