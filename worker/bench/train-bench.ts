@@ -6,6 +6,7 @@
  *   npm run bench:train -- --quick            # fewer batches (a smoke run)
  *   npm run bench:train -- --backends=wasm    # only these backends (comma-separated)
  *   npm run bench:train -- --genomes=lstm-rows,gru-rows   # only these networks (comma-separated)
+ *   npm run bench:train -- --batch-sizes=16,32,64,128     # each network at each batch size (name@size): the batch-size curve
  *
  * When PyTorch imports (python3 on PATH, /usr/bin/python3 or NETBREEDER_PEER_PYTHON; Debian:
  * apt-get install python3-torch), the same networks are also trained there on one thread
@@ -42,7 +43,12 @@ const ALL_GENOMES: Array<{ name: string; genome: Genome; data: DataShape; peer?:
   { name: 'gru-rows', genome: recurrent('gru'), data: ROWS },
   { name: 'conv1d-ref', genome: { ...referenceGenome(ROWS), training: { ...referenceGenome(ROWS).training, batchSize: 64 } }, data: ROWS },
 ];
-const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g.name));
+const batchSizes = process.argv.find((a) => a.startsWith('--batch-sizes='))?.slice('--batch-sizes='.length).split(',').map(Number);
+if (batchSizes?.some((b) => !Number.isInteger(b) || b < 1)) throw new Error('--batch-sizes takes whole numbers ≥ 1, comma-separated');
+/** Each network at each asked batch size (the same network, named `name@size`), else at its own. */
+const atBatchSizes = (g: (typeof ALL_GENOMES)[number]) =>
+  batchSizes ? batchSizes.map((batchSize) => ({ ...g, name: `${g.name}@${batchSize}`, genome: { ...g.genome, training: { ...g.genome.training, batchSize } } })) : [g];
+const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g.name)).flatMap(atBatchSizes);
 /**
  * Batches measured per backend and round. wasm and tensorflow get one warm-up batch first (operator set-up,
  * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
@@ -92,7 +98,7 @@ async function available(): Promise<BackendName[]> {
 async function measure(name: string, genome: Genome, data: DataShape, backend: BackendName): Promise<Row> {
   await tf.setBackend(backend);
   const batchSize = genome.training.batchSize;
-  const batches = backend === 'cpu' && name === 'ref-mlp' ? CPU_MLP_BATCHES : BATCHES[backend];
+  const batches = backend === 'cpu' && name.split('@')[0] === 'ref-mlp' ? CPU_MLP_BATCHES : BATCHES[backend];
   const train = syntheticSamples(data, batchSize * batches, 1);
   const budget = (n: number) => ({ epochs: 1, maxSeconds: 600, maxSamples: n * batchSize });
   if (backend !== 'cpu') await trainGenome({ genome, data, train, val: null, budget: budget(1), seed: 1 }); // warm-up
@@ -170,13 +176,13 @@ const ratioTo = (row: Row, backend: Row['backend'], key: 'samplesPerSecond' | 's
 };
 const fixed = (x: number | null, digits: number) => (x == null ? null : +x.toFixed(digits));
 console.log(`load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} on ${cpus().length} cores (others' load slows wall-clock figures; per-CPU-second figures less so)`);
-console.log(`${pad('genome', 9)} ${pad('backend', 11)} ${pad('batch', 6)} ${pad('samples', 8)} ${pad('samples/s', 10)} ${pad('per CPU-s', 10)} ${pad('GFLOP/s', 8)} ${pad('MFLOP/sample', 13)} ${pad('× cpu', 7)} × native (per CPU-s)`);
+console.log(`${pad('genome', 13)} ${pad('backend', 11)} ${pad('batch', 6)} ${pad('samples', 8)} ${pad('samples/s', 10)} ${pad('per CPU-s', 10)} ${pad('GFLOP/s', 8)} ${pad('MFLOP/sample', 13)} ${pad('× cpu', 7)} × native (per CPU-s)`);
 for (const r of rows) {
   const x = ratioTo(r, 'cpu');
   const n = ratioTo(r, 'pytorch');
   const nCpu = ratioTo(r, 'pytorch', 'samplesPerCpuSecond');
   console.log(
-    `${pad(r.genome, 9)} ${pad(r.backend, 11)} ${pad(String(r.batchSize), 6)} ${pad(String(r.samples), 8)} ${pad(r.samplesPerSecond.toFixed(1), 10)} ${pad(r.samplesPerCpuSecond.toFixed(1), 10)} ${pad(r.gflopsPerSecond.toFixed(2), 8)} ${pad(r.trainMflopsPerSample.toFixed(2), 13)} ${pad(x == null ? '' : x.toFixed(1), 7)} ${n == null ? '' : `${n.toFixed(3)} (${nCpu!.toFixed(3)})`}`,
+    `${pad(r.genome, 13)} ${pad(r.backend, 11)} ${pad(String(r.batchSize), 6)} ${pad(String(r.samples), 8)} ${pad(r.samplesPerSecond.toFixed(1), 10)} ${pad(r.samplesPerCpuSecond.toFixed(1), 10)} ${pad(r.gflopsPerSecond.toFixed(2), 8)} ${pad(r.trainMflopsPerSample.toFixed(2), 13)} ${pad(x == null ? '' : x.toFixed(1), 7)} ${n == null ? '' : `${n.toFixed(3)} (${nCpu!.toFixed(3)})`}`,
   );
 }
 console.log(
