@@ -2,6 +2,7 @@ import * as tf from '@tensorflow/tfjs';
 import { makeBatchMatMul } from './batch-mat-mul.js';
 import { BATCH_NORM_TRAINING, BATCH_NORM_TRAINING_GRAD, batchNormTraining, batchNormTrainingGrad, batchNormTrainingGradConfig } from './batch-norm-training.js';
 import { maxPoolGrad } from './max-pool-grad.js';
+import { ADAM_UPDATE, adamUpdateKernel } from './adam-update.js';
 import { makeTile } from './tile.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
 import { conv2dBackpropFilter } from './conv-filter-gradient.js';
@@ -33,6 +34,8 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   // Optional: without them the layer runs the library's ops.
   { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining, optional: true },
   { name: BATCH_NORM_TRAINING_GRAD, kernelFunc: batchNormTrainingGrad },
+  // Our own: one Adam update per weight tensor, which FusedAdamOptimizer runs where it exists.
+  { name: ADAM_UPDATE, kernelFunc: adamUpdateKernel, optional: true },
 ];
 
 /** The names {@link registerWasmTrainingKernels} registers, for tests and docs. */
