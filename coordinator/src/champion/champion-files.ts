@@ -112,9 +112,9 @@ export function championSummary(store: RunStore, run: RunRecord) {
       backend: champion.result.backend,
       workerId: champion.result.workerId,
       data: heldBack ? `train + validation, less the ${heldBack} validation samples held back for the check against the reference network` : 'train + validation',
-      /** Which rule set the epochs (run file, learning curve, the search training's budget), in words; null for runs from before the record. */
       /** How its weights started: from those its search training ended with (`champion.warmStart`; kind `parent-weights`) or fresh; null in results from before the record. */
       start: champion.result.start ?? null,
+      /** Which rule set the epochs (run file, learning curve, the search training's budget), in words; null for runs from before the record. */
       length: store.events(run.id, 'champion-training-length').map((e) => e.detail).filter((d) => d.genomeHash === champion.genomeHash).at(-1) ?? null,
     },
     lineage: store.lineageChain(run.id, champion.genomeHash),
