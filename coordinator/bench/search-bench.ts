@@ -132,7 +132,7 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
   // The champion phase trains the search's champion and, when the run has one, its reference
   // network (for the held-back check, and for the report's comparison in any case): every final
   // training counts, so each gets half.
-  const asked = task.runConfig(method, seed, searchBudget, 1);
+  const asked = task.runConfig(method, seed, searchBudget, task.budget - searchBudget);
   const config = settings.heldBackCheck ? asked : { ...asked, champion: { ...asked.champion, selectionShare: 0 } };
   const perFinalTraining = Math.floor((task.budget - searchBudget) / (config.search.reference === false ? 1 : 2));
   const run = await coordinator.startRun({ ...config, champion: { ...config.champion, maxSamples: perFinalTraining, warmStart: settings.warmStart } });

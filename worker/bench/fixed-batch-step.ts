@@ -2,7 +2,7 @@ import * as tf from '@tensorflow/tfjs';
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { buildModel } from '../src/training/build-model.js';
 import { crossEntropy } from '../src/training/evaluate-model.js';
-import { FusedAdamOptimizer } from '../src/training/fused-adam.js';
+import { makeOptimizer } from '../src/training/train-genome.js';
 import { syntheticSamples } from '../src/training/synthetic-samples.js';
 
 /**
@@ -12,7 +12,7 @@ import { syntheticSamples } from '../src/training/synthetic-samples.js';
 export function fixedBatchStep(genome: Genome, data: DataShape, batch = 64): () => void {
   const samples = syntheticSamples(data, batch, 1);
   const model = buildModel(genome, data, 1);
-  const optimizer = new FusedAdamOptimizer(0.001, 0.9, 0.999); // the engine's Adam (train-genome.ts)
+  const optimizer = makeOptimizer('adam', 0.001);
   const x = tf.tensor(samples.features, [batch, ...data.inputShape]);
   const y = tf.oneHot(tf.tensor1d(samples.labels, 'int32'), data.numClasses);
   return () => tf.dispose(optimizer.minimize(() => crossEntropy(model.apply(x, { training: true }) as tf.Tensor, y), true) ?? []);

@@ -21,6 +21,7 @@ documented ways that do not change the work per step: PyTorch's carry a second b
 the recurrent product (TensorFlow.js's before: `resetAfter` false), the same products either way.
 """
 import json
+import math
 import sys
 import time
 
@@ -44,13 +45,6 @@ def same_pads(size, kernel, stride):
     out = -(-size // stride)
     total = max((out - 1) * stride + kernel - size, 0)
     return total // 2, total - total // 2, out
-
-
-def prod(shape):
-    out = 1
-    for d in shape:
-        out *= d
-    return out
 
 
 def channels_last(v):
@@ -142,7 +136,7 @@ class GenomeNet(nn.Module):
                 shape[key] = s
             elif kind in ("flatten", "global-avg-pool", "global-max-pool"):
                 layer = None
-                shape[key] = (prod(s),) if kind == "flatten" else (s[0],)
+                shape[key] = (math.prod(s),) if kind == "flatten" else (s[0],)
             elif kind in ("activation", "add"):
                 layer = None
                 shape[key] = s
@@ -156,7 +150,7 @@ class GenomeNet(nn.Module):
                 self.layers[slot(key)] = layer
         last = shape[output]
         self.flatten_head = len(last) > 1
-        features = prod(last)
+        features = math.prod(last)
         self.head = nn.Linear(features, num_classes)
         self.kernels.append(self.head.weight)
 

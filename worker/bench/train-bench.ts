@@ -33,8 +33,8 @@ const FLAT: DataShape = { inputShape: [784], numClasses: 10 };
 const ROWS: DataShape = { inputShape: [28, 28], numClasses: 10 };
 const onlyGenomes = process.argv.find((a) => a.startsWith('--genomes='))?.slice('--genomes='.length).split(',');
 const recurrent = (kind: 'lstm' | 'gru') => chainGenome([{ id: 'r', kind, units: 64, returnSequences: false }], { batchSize: 64 });
-/** `peer: false`: no native peer for this network (every network here has one; native-peer.py refuses a layer kind it does not mirror). */
-const ALL_GENOMES: Array<{ name: string; genome: Genome; data: DataShape; peer?: false }> = [
+/** Every network here has a native peer (native-peer.py refuses a layer kind it does not mirror). `base`: the network's name without a batch-size suffix. */
+const ALL_GENOMES: Array<{ name: string; base?: string; genome: Genome; data: DataShape }> = [
   { name: 'ref-mlp', genome: refMlp(), data: FLAT },
   { name: 'ref-cnn', genome: refCnn(), data: IMAGE },
   { name: 'skip-bn', genome: refSkipBn(), data: IMAGE },
@@ -47,7 +47,7 @@ const batchSizes = process.argv.find((a) => a.startsWith('--batch-sizes='))?.sli
 if (batchSizes?.some((b) => !Number.isInteger(b) || b < 1)) throw new Error('--batch-sizes takes whole numbers ≥ 1, comma-separated');
 /** Each network at each asked batch size (the same network, named `name@size`), else at its own. */
 const atBatchSizes = (g: (typeof ALL_GENOMES)[number]) =>
-  batchSizes ? batchSizes.map((batchSize) => ({ ...g, name: `${g.name}@${batchSize}`, genome: { ...g.genome, training: { ...g.genome.training, batchSize } } })) : [g];
+  batchSizes ? batchSizes.map((batchSize) => ({ ...g, name: `${g.name}@${batchSize}`, base: g.name, genome: { ...g.genome, training: { ...g.genome.training, batchSize } } })) : [g];
 const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g.name)).flatMap(atBatchSizes);
 /**
  * Batches measured per backend and round. wasm and tensorflow get one warm-up batch first (operator set-up,
@@ -95,10 +95,10 @@ async function available(): Promise<BackendName[]> {
   return only ? names.filter((n) => only.includes(n)) : names;
 }
 
-async function measure(name: string, genome: Genome, data: DataShape, backend: BackendName): Promise<Row> {
+async function measure({ name, base, genome, data }: (typeof ALL_GENOMES)[number], backend: BackendName): Promise<Row> {
   await tf.setBackend(backend);
   const batchSize = genome.training.batchSize;
-  const batches = backend === 'cpu' && name.split('@')[0] === 'ref-mlp' ? CPU_MLP_BATCHES : BATCHES[backend];
+  const batches = backend === 'cpu' && (base ?? name) === 'ref-mlp' ? CPU_MLP_BATCHES : BATCHES[backend];
   const train = syntheticSamples(data, batchSize * batches, 1);
   const budget = (n: number) => ({ epochs: 1, maxSeconds: 600, maxSamples: n * batchSize });
   if (backend !== 'cpu') await trainGenome({ genome, data, train, val: null, budget: budget(1), seed: 1 }); // warm-up
@@ -129,7 +129,7 @@ async function preparePeer(): Promise<{ python: string | null; version: string |
   const availability = nativePeerAvailability();
   if (!availability.ok) return { python: null, version: null, threads: null, note: `no native peer here: ${availability.reason}` };
   await tf.setBackend(backends.includes('wasm') ? 'wasm' : backends[0]!);
-  const networks = GENOMES.filter((g) => g.peer !== false).map(peerNetwork);
+  const networks = GENOMES.map(peerNetwork);
   if (!networks.length) return { python: null, version: null, threads: null, note: 'no native peer for these networks' };
   const counts = runNativePeer(availability.python, 'count', networks);
   const counted = checkSameNetworks(networks, counts);
@@ -163,10 +163,10 @@ const rows: Row[] = [];
 for (const g of GENOMES) {
   const rounds: Row[] = [];
   for (let round = 0; round < ROUNDS; round++) {
-    if (peer.python && g.peer !== false) rounds.push(measurePeer(peer.python, g));
-    for (const backend of backends) if (backend !== 'cpu') rounds.push(await measure(g.name, g.genome, g.data, backend));
+    if (peer.python) rounds.push(measurePeer(peer.python, g));
+    for (const backend of backends) if (backend !== 'cpu') rounds.push(await measure(g, backend));
   }
-  if (backends.includes('cpu')) rounds.push(await measure(g.name, g.genome, g.data, 'cpu'));
+  if (backends.includes('cpu')) rounds.push(await measure(g, 'cpu'));
   for (const backend of [...new Set(rounds.map((r) => r.backend))]) rows.push(best(rounds.filter((r) => r.backend === backend)));
 }
 

@@ -93,7 +93,8 @@ function epochsSinceBestLoss(history: readonly EpochRecord[]): number {
   return at < 0 ? 0 : history.length - 1 - at;
 }
 
-function makeOptimizer(name: OptimizerName, learningRate: number): tf.Optimizer {
+/** The optimizer a genome's training gene names (exported for the step benchmarks). */
+export function makeOptimizer(name: OptimizerName, learningRate: number): tf.Optimizer {
   switch (name) {
     case 'adam':
       // The library's Adam, one kernel per weight tensor on wasm (fused-adam.ts).
