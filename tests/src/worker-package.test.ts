@@ -57,7 +57,9 @@ describe('the packed worker', () => {
       const paths = p.files.map((f) => f.path);
       expect(paths).toContain('dist/index.js');
       expect(paths).toContain('dist/index.d.ts');
-      expect(paths.filter((path) => path !== 'package.json' && !path.startsWith('dist/')), `${p.name} ships only dist/`).toEqual([]);
+      // Besides dist/, the worker ships its WebAssembly filter-gradient kernel (worker/native).
+      const extra = p.name === '@netbreeder/worker' ? ['native/filter-grad.wasm'] : [];
+      expect(paths.filter((path) => path !== 'package.json' && !path.startsWith('dist/')), `${p.name} ships only dist/${extra.length ? ' and its kernel module' : ''}`).toEqual(extra);
       expect(paths.filter((path) => path.endsWith('.tsbuildinfo') || path.endsWith('.test.js')), `${p.name} ships no build state or tests`).toEqual([]);
     }
     expect(packed[1]!.files.map((f) => f.path)).toContain('dist/cli.js');
@@ -93,6 +95,8 @@ describe('the packed worker', () => {
 
   it('starts its training child from the compiled JavaScript', () => {
     expect(existsSync(join(app, 'node_modules', '@netbreeder', 'worker', 'dist', 'training', 'training-child.js'))).toBe(true);
+    // Where dist/training/kernels/native-filter-grad.js looks for it.
+    expect(existsSync(join(app, 'node_modules', '@netbreeder', 'worker', 'native', 'filter-grad.wasm'))).toBe(true);
     const script = "import { TrainingProcess } from '@netbreeder/worker'; const p = new TrainingProcess({ prefer: ['wasm'] }); console.log(JSON.stringify(await p.start())); await p.close();";
     const started = spawnSync(process.execPath, ['--input-type=module', '-e', script], { cwd: app, encoding: 'utf8', timeout: 120_000 });
     expect(started.status, started.stderr).toBe(0);

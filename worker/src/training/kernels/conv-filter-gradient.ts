@@ -1,14 +1,17 @@
 import type * as tf from '@tensorflow/tfjs';
 import { assertNhwc, filterGradPads, geometry, type ConvGeometry } from './conv-gradients.js';
 import { pair, type KernelBackendLike, WasmOpRunner } from './wasm-op-runner.js';
+import { nativeFilterGrad } from './native-filter-grad.js';
 
 /** How Conv2DBackpropFilter is computed; `auto` picks per shape (see {@link chooseFilterGradRoute}). */
-export type FilterGradRoute = 'auto' | 'transposed-conv' | 'im2col-matmul';
+export type FilterGradRoute = 'auto' | 'direct' | 'transposed-conv' | 'im2col-matmul';
 
 /** Tuning switches, for the benchmark's comparisons. */
 export const filterGradOptions: { route: FilterGradRoute } = { route: 'auto' };
 
 /**
+ * The route through the backend's own kernels, where our direct kernel (`native-filter-grad.ts`,
+ * taken first under `auto`) is not available.
  * Measured on whole training steps (worker/bench/ab-step.ts, ENGINE.md): the transposed
  * convolution wins in general; for 1×1 kernels at stride 1 the filter gradient is a plain matrix
  * product x^T · dy, and computing it as one is about 20% faster per step. (Micro-benchmarks that
@@ -16,7 +19,7 @@ export const filterGradOptions: { route: FilterGradRoute } = { route: 'auto' };
  * backend then caches its packed copy of dy; in training dy is new every step and that gain
  * disappears.)
  */
-export function chooseFilterGradRoute(g: ConvGeometry): Exclude<FilterGradRoute, 'auto'> {
+export function chooseFilterGradRoute(g: ConvGeometry): Exclude<FilterGradRoute, 'auto' | 'direct'> {
   const stride1 = g.strides[0] === 1 && g.strides[1] === 1;
   return stride1 && g.filterHeight === 1 && g.filterWidth === 1 ? 'im2col-matmul' : 'transposed-conv';
 }
@@ -92,8 +95,12 @@ export function conv2dBackpropFilter(args: { inputs: tf.NamedTensorInfoMap; back
   assertNhwc(attrs['dataFormat'], 'Conv2DBackpropFilter');
   const filterShape = attrs['filterShape'] as number[];
   const g = geometry(x.shape, filterShape, pair(attrs['strides'] as number), attrs['pad'], attrs['dimRoundingMode'], false, 'Conv2DBackpropFilter');
+  if (filterGradOptions.route === 'auto' || filterGradOptions.route === 'direct') {
+    const direct = nativeFilterGrad(args.backend, x, dy, g);
+    if (direct) return direct;
+  }
   const ops = new WasmOpRunner(args.backend as KernelBackendLike);
-  let route = filterGradOptions.route === 'auto' ? chooseFilterGradRoute(g) : filterGradOptions.route;
+  let route = filterGradOptions.route === 'auto' || filterGradOptions.route === 'direct' ? chooseFilterGradRoute(g) : filterGradOptions.route;
   if (g.strides[0] !== 1 || g.strides[1] !== 1) route = 'transposed-conv';
   return route === 'im2col-matmul' ? im2colMatmul(ops, x, dy, g) : transposedConv(ops, x, dy, g);
 }

@@ -81,8 +81,8 @@ describe('wasm training kernels match the cpu backend (reference implementation)
       const dy = { shape: dyShape, data: randomArray(tf.util.sizeFromShape(dyShape), `dy ${c.name}`) };
       const filter = { shape: filterShape, data: randomArray(tf.util.sizeFromShape(filterShape), `f ${c.name}`) };
       const common = { strides: [c.stride, c.stride], pad: c.pad, dataFormat: 'NHWC', dimRoundingMode: undefined };
-      // Both routes of the filter gradient, whichever the shape-based choice would pick.
-      for (const route of ['transposed-conv', 'im2col-matmul'] as FilterGradRoute[]) {
+      // Every route of the filter gradient: our direct kernel, and both routes through the backend's kernels.
+      for (const route of ['direct', 'transposed-conv', 'im2col-matmul'] as FilterGradRoute[]) {
         filterGradOptions.route = route;
         try {
           expect(await compare('Conv2DBackpropFilter', { x, dy }, { ...common, filterShape }), route).toBeLessThan(TOLERANCE);
