@@ -57,8 +57,8 @@ describe('the packed worker', () => {
       const paths = p.files.map((f) => f.path);
       expect(paths).toContain('dist/index.js');
       expect(paths).toContain('dist/index.d.ts');
-      // Besides dist/, the worker ships its WebAssembly filter-gradient kernel (worker/native).
-      const extra = p.name === '@netbreeder/worker' ? ['native/filter-grad.wasm'] : [];
+      // Besides dist/, the worker ships its WebAssembly kernels (worker/native).
+      const extra = p.name === '@netbreeder/worker' ? ['native/kernels.wasm'] : [];
       expect(paths.filter((path) => path !== 'package.json' && !path.startsWith('dist/')), `${p.name} ships only dist/${extra.length ? ' and its kernel module' : ''}`).toEqual(extra);
       expect(paths.filter((path) => path.endsWith('.tsbuildinfo') || path.endsWith('.test.js')), `${p.name} ships no build state or tests`).toEqual([]);
     }
@@ -95,8 +95,8 @@ describe('the packed worker', () => {
 
   it('starts its training child from the compiled JavaScript', () => {
     expect(existsSync(join(app, 'node_modules', '@netbreeder', 'worker', 'dist', 'training', 'training-child.js'))).toBe(true);
-    // Where dist/training/kernels/native-filter-grad.js looks for it.
-    expect(existsSync(join(app, 'node_modules', '@netbreeder', 'worker', 'native', 'filter-grad.wasm'))).toBe(true);
+    // Where dist/training/kernels/native-kernels.js looks for it.
+    expect(existsSync(join(app, 'node_modules', '@netbreeder', 'worker', 'native', 'kernels.wasm'))).toBe(true);
     const script = "import { TrainingProcess } from '@netbreeder/worker'; const p = new TrainingProcess({ prefer: ['wasm'] }); console.log(JSON.stringify(await p.start())); await p.close();";
     const started = spawnSync(process.execPath, ['--input-type=module', '-e', script], { cwd: app, encoding: 'utf8', timeout: 120_000 });
     expect(started.status, started.stderr).toBe(0);

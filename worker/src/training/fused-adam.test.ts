@@ -5,7 +5,8 @@ import { initBackend } from './backend.js';
 import { buildModel } from './build-model.js';
 import { crossEntropy } from './evaluate-model.js';
 import { FusedAdamOptimizer } from './fused-adam.js';
-import { ADAM_UPDATE } from './kernels/adam-update.js';
+import { ADAM_UPDATE, adamUpdateOptions } from './kernels/adam-update.js';
+import { nativeKernels } from './kernels/native-kernels.js';
 import { setWasmKernelOverride } from './kernels/register-wasm-kernels.js';
 import { refCnn, refCnnBn, refMlp } from './reference-genomes.js';
 import { syntheticSamples } from './synthetic-samples.js';
@@ -73,7 +74,15 @@ describe('FusedAdamOptimizer', () => {
   for (const [label, genome, data] of cases) {
     it(`trains ${label} on wasm as the library's Adam does (1e-5), and within 1e-4 of it on the cpu backend`, async () => {
       expect(tf.getKernel(ADAM_UPDATE, 'wasm')).toBeDefined();
-      const fused = await trainSteps(genome, data, 'wasm', true);
+      expect(nativeKernels(tf.findBackend('wasm')), 'our WebAssembly kernels load').not.toBeNull();
+      const fused = await trainSteps(genome, data, 'wasm', true); // our WebAssembly kernel (adam-update.c)
+      adamUpdateOptions.direct = false;
+      let fusedJs: Record<string, Float32Array>;
+      try {
+        fusedJs = await trainSteps(genome, data, 'wasm', true); // the same update in JavaScript
+      } finally {
+        adamUpdateOptions.direct = true;
+      }
       setWasmKernelOverride(ADAM_UPDATE, false);
       let library: Record<string, Float32Array>;
       try {
@@ -88,6 +97,7 @@ describe('FusedAdamOptimizer', () => {
       for (const name of Object.keys(reference)) {
         expect(maxRelativeError(fused[name]!, library[name]!), name).toBeLessThan(1e-5);
         expect(maxRelativeError(fused[name]!, reference[name]!), name).toBeLessThan(1e-4);
+        expect(maxRelativeError(fusedJs[name]!, library[name]!), `${name} (JavaScript)`).toBeLessThan(1e-5);
       }
     });
   }

@@ -1,5 +1,6 @@
 import type * as tf from '@tensorflow/tfjs';
 import { InternalError } from '@netbreeder/shared-types';
+import { heapOffset, nativeKernels } from './native-kernels.js';
 
 /**
  * One Adam update of one weight tensor as a single kernel of ours (wasm only), instead of the
@@ -54,7 +55,12 @@ export function adamUpdate(value: Float32Array, m: Float32Array, v: Float32Array
   }
 }
 
-/** The kernel on the wasm heap. */
+/** Where our WebAssembly kernel runs the update (`worker/native/adam-update.c`, float32 SIMD) instead of {@link adamUpdate}; for the benchmark's comparisons. */
+export const adamUpdateOptions = { direct: true };
+
+const tfSize = (shape: number[]) => shape.reduce((a, b) => a * b, 1);
+
+/** The kernel on the wasm heap: our WebAssembly kernel where it loads, else {@link adamUpdate} in JavaScript. */
 export const adamUpdateKernel: tf.KernelFunc = ({ inputs, attrs, backend }) => {
   const { value, m, v, gradient } = inputs as Record<'value' | 'm' | 'v' | 'gradient', tf.TensorInfo>;
   for (const [name, t] of Object.entries({ m, v, gradient })) {
@@ -62,6 +68,16 @@ export const adamUpdateKernel: tf.KernelFunc = ({ inputs, attrs, backend }) => {
   }
   const heap = backend as unknown as HeapBackend;
   const outs = [heap.makeOutput(value.shape.slice(), 'float32'), heap.makeOutput(value.shape.slice(), 'float32'), heap.makeOutput(value.shape.slice(), 'float32')] as const;
+  const kernels = adamUpdateOptions.direct ? nativeKernels(backend) : null;
+  if (kernels) {
+    const a = attrs as unknown as AdamUpdateAttrs;
+    const at = (t: tf.TensorInfo) => heapOffset(backend, t);
+    const f = Math.fround;
+    const [b1, b2, c1, c2] = [f(a.beta1), f(a.beta2), f(1 - a.beta1), f(1 - a.beta2)];
+    const step = -f(a.learningRate) / f(a.oneMinusAccBeta1);
+    kernels.adam_update(at(value), at(m), at(v), at(gradient), at(outs[0]), at(outs[1]), at(outs[2]), tfSize(value.shape), b1, b2, c1, c2, step, 1 / Math.sqrt(f(a.oneMinusAccBeta2)), f(a.epsilon));
+    return [...outs];
+  }
   // Views after every allocation: an allocation may grow the heap and detach older views.
   const f32 = (t: tf.TensorInfo) => heap.typedArrayFromHeap(t) as Float32Array;
   adamUpdate(f32(value), f32(m), f32(v), f32(gradient), attrs as unknown as AdamUpdateAttrs, f32(outs[0]), f32(outs[1]), f32(outs[2]));

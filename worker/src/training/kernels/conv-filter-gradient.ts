@@ -1,7 +1,7 @@
 import type * as tf from '@tensorflow/tfjs';
 import { assertNhwc, filterGradPads, geometry, type ConvGeometry } from './conv-gradients.js';
 import { pair, type KernelBackendLike, WasmOpRunner } from './wasm-op-runner.js';
-import { nativeFilterGrad } from './native-filter-grad.js';
+import { directFilterGrad } from './direct-filter-gradient.js';
 
 /** How Conv2DBackpropFilter is computed; `auto` picks per shape (see {@link chooseFilterGradRoute}). */
 export type FilterGradRoute = 'auto' | 'direct' | 'transposed-conv' | 'im2col-matmul';
@@ -10,7 +10,7 @@ export type FilterGradRoute = 'auto' | 'direct' | 'transposed-conv' | 'im2col-ma
 export const filterGradOptions: { route: FilterGradRoute } = { route: 'auto' };
 
 /**
- * The route through the backend's own kernels, where our direct kernel (`native-filter-grad.ts`,
+ * The route through the backend's own kernels, where our direct kernel (`direct-filter-gradient.ts`,
  * taken first under `auto`) is not available.
  * Measured on whole training steps (worker/bench/ab-step.ts, ENGINE.md): the transposed
  * convolution wins in general; for 1×1 kernels at stride 1 the filter gradient is a plain matrix
@@ -96,7 +96,7 @@ export function conv2dBackpropFilter(args: { inputs: tf.NamedTensorInfoMap; back
   const filterShape = attrs['filterShape'] as number[];
   const g = geometry(x.shape, filterShape, pair(attrs['strides'] as number), attrs['pad'], attrs['dimRoundingMode'], false, 'Conv2DBackpropFilter');
   if (filterGradOptions.route === 'auto' || filterGradOptions.route === 'direct') {
-    const direct = nativeFilterGrad(args.backend, x, dy, g);
+    const direct = directFilterGrad(args.backend, x, dy, g);
     if (direct) return direct;
   }
   const ops = new WasmOpRunner(args.backend as KernelBackendLike);

@@ -7,7 +7,7 @@ import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { initBackend } from '../backend.js';
 import { filterGradOptions } from './conv-filter-gradient.js';
-import { FILTER_GRAD_MODULE, nativeFilterGradAvailable } from './native-filter-grad.js';
+import { KERNELS_MODULE, nativeKernels } from './native-kernels.js';
 import { randomArray, relativeError } from './test-arrays.js';
 
 // Reference: the TensorFlow.js cpu backend (the library's reference implementation of
@@ -29,9 +29,9 @@ beforeAll(async () => {
   expect((await initBackend({ prefer: ['wasm'] })).backend).toBe('wasm');
 });
 
-describe('the direct WebAssembly filter gradient', () => {
+describe('our WebAssembly kernels: the direct filter gradient', () => {
   it('loads into the wasm backend', () => {
-    expect(nativeFilterGradAvailable(tf.findBackend('wasm'))).toBe(true);
+    expect(nativeKernels(tf.findBackend('wasm'))).not.toBeNull();
   });
 
   // Channel counts chosen to run every block of filter-grad.c: 4 input × 8 output channels, 16
@@ -81,15 +81,15 @@ describe('the direct WebAssembly filter gradient', () => {
     dy.dispose();
   });
 
-  // The module is committed beside its source; where Debian's clang and lld are installed (CI
+  // The module is committed beside its sources; where Debian's clang and lld are installed (CI
   // installs them), a rebuild must give the same bytes, so the module cannot drift from its source.
   const hasClang = spawnSync('clang', ['--version']).status === 0 && spawnSync('wasm-ld', ['--version']).status === 0;
-  it.skipIf(!hasClang)('is the build of its source (worker/native/build.sh)', () => {
-    const dir = mkdtempSync(join(tmpdir(), 'nb-filter-grad-'));
+  it.skipIf(!hasClang)('is the build of its sources (worker/native/build.sh)', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'nb-kernels-'));
     try {
       const script = fileURLToPath(new URL('../../../native/build.sh', import.meta.url));
       execFileSync('bash', [script, join(dir, 'rebuilt.wasm')]);
-      expect(readFileSync(join(dir, 'rebuilt.wasm')).equals(readFileSync(FILTER_GRAD_MODULE))).toBe(true);
+      expect(readFileSync(join(dir, 'rebuilt.wasm')).equals(readFileSync(KERNELS_MODULE))).toBe(true);
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }
