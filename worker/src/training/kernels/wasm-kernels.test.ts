@@ -3,6 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { initBackend } from '../backend.js';
 import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.js';
 import { inputGradOptions } from './conv-gradients.js';
+import { matMulOptions } from './batch-mat-mul.js';
 import { BATCH_NORM_TRAINING } from './batch-norm-training.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
 import { randomArray, relativeError } from './test-arrays.js';
@@ -153,11 +154,27 @@ describe('wasm training kernels match the cpu backend (reference implementation)
     [[1, 7, 5], [1, 3, 5], false, true],
     [[2, 5, 7], [2, 3, 5], true, true],
     [[3, 6, 4], [1, 4, 2], false, false],
+    // Every block and remainder of our kernels (matmul.c): rows by 4 and 2, columns by 8 and 4, k by 4.
+    [[1, 9, 13], [1, 13, 19], false, false],
+    [[1, 13, 9], [1, 13, 19], true, false],
+    [[1, 9, 13], [1, 19, 13], false, true],
+    [[1, 64, 100], [1, 100, 40], false, false],
+    [[1, 64, 100], [1, 64, 40], true, false],
+    [[1, 64, 40], [1, 100, 40], false, true],
+    [[1, 1, 6], [1, 6, 1], false, false],
   ] as Array<[number[], number[], boolean, boolean]>) {
     it(`BatchMatMul ${aShape.join('x')} · ${bShape.join('x')} transposeA=${transposeA} transposeB=${transposeB}`, async () => {
       const a = { shape: aShape, data: randomArray(tf.util.sizeFromShape(aShape), `a ${aShape}`) };
       const b = { shape: bShape, data: randomArray(tf.util.sizeFromShape(bShape), `b ${bShape}`) };
-      expect(await compare('BatchMatMul', { a, b }, { transposeA, transposeB })).toBeLessThan(TOLERANCE);
+      // Our kernels (single products) and the backend's route.
+      for (const direct of [true, false]) {
+        matMulOptions.direct = direct;
+        try {
+          expect(await compare('BatchMatMul', { a, b }, { transposeA, transposeB }), `direct ${direct}`).toBeLessThan(TOLERANCE);
+        } finally {
+          matMulOptions.direct = true;
+        }
+      }
     });
   }
 
