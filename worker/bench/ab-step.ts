@@ -10,6 +10,7 @@ import { initBackend } from '../src/training/backend.js';
 import { filterGradOptions } from '../src/training/kernels/conv-filter-gradient.js';
 import { ADAM_UPDATE, adamUpdateOptions } from '../src/training/kernels/adam-update.js';
 import { matMulOptions } from '../src/training/kernels/batch-mat-mul.js';
+import { maxPoolGradOptions } from '../src/training/kernels/max-pool-grad.js';
 import { BATCH_NORM_TRAINING } from '../src/training/kernels/batch-norm-training.js';
 import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
 import { chainGenome, refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
@@ -38,6 +39,7 @@ const variants: Array<{ name: string; on: () => void; off: () => void }> = [
   { name: 'all ours (auto)', on: () => {}, off: () => {} },
   { name: 'filter grad: transposed-conv always (not ours)', on: () => (filterGradOptions.route = 'transposed-conv'), off: () => (filterGradOptions.route = 'auto') },
   { name: 'built-in Conv2DBackpropInput', on: () => setWasmKernelOverride('Conv2DBackpropInput', false), off: () => setWasmKernelOverride('Conv2DBackpropInput', true) },
+  { name: 'max-pool gradient in JavaScript', on: () => (maxPoolGradOptions.direct = false), off: () => (maxPoolGradOptions.direct = true) },
   { name: 'built-in MaxPoolGrad (wrong for 2×2)', on: () => setWasmKernelOverride('MaxPoolGrad', false), off: () => setWasmKernelOverride('MaxPoolGrad', true) },
   { name: 'matrix products by the backend (not ours)', on: () => (matMulOptions.direct = false), off: () => (matMulOptions.direct = true) },
   { name: 'built-in BatchMatMul', on: () => setWasmKernelOverride('BatchMatMul', false), off: () => setWasmKernelOverride('BatchMatMul', true) },

@@ -1,4 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
+import { heapOffset, nativeKernels } from './native-kernels.js';
 
 /** The part of the wasm backend a heap-level kernel needs. */
 interface HeapBackend {
@@ -14,6 +15,9 @@ interface HeapBackend {
  * The common 2×2/2 window reads the forward pass's output (each window's maximum) instead of
  * searching for it, without branches (ENGINE.md: branches on real activations mispredict).
  */
+/** Whether 2×2/2 windows go to our WebAssembly kernel (`worker/native/max-pool-grad.c`) rather than the JavaScript loop below; for the benchmark's comparisons. */
+export const maxPoolGradOptions = { direct: true };
+
 export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {
   const { dy, input, output } = args.inputs as { dy: tf.TensorInfo; input: tf.TensorInfo; output?: tf.TensorInfo };
   const attrs = (args.attrs ?? {}) as Record<string, unknown>;
@@ -37,6 +41,12 @@ export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unkn
   const top = info.padInfo.top;
   const left = info.padInfo.left;
   if (output && fh === 2 && fw === 2 && sh === 2 && sw === 2 && top === 0 && left === 0 && oh * 2 <= h && ow * 2 <= w) {
+    const kernels = maxPoolGradOptions.direct ? nativeKernels(backend) : null;
+    if (kernels) {
+      const at = (t: tf.TensorInfo) => heapOffset(backend, t);
+      kernels.max_pool_grad_2x2(at(input), at(output), at(dy), at(out), n, h, w, c, oh, ow);
+      return out;
+    }
     // Every window position is written; an odd last row or column lies outside all windows.
     if (oh * 2 !== h || ow * 2 !== w) dx.fill(0);
     windows2x2(x, backend.typedArrayFromHeap(output), g, dx, n, h, w, c, oh, ow);

@@ -4,6 +4,7 @@ import { initBackend } from '../backend.js';
 import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.js';
 import { inputGradOptions } from './conv-gradients.js';
 import { matMulOptions } from './batch-mat-mul.js';
+import { maxPoolGradOptions } from './max-pool-grad.js';
 import { BATCH_NORM_TRAINING } from './batch-norm-training.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
 import { randomArray, relativeError } from './test-arrays.js';
@@ -124,10 +125,13 @@ describe('wasm training kernels match the cpu backend (reference implementation)
 
   // Pools: windows 2 and 3, strides 1 and 2, valid and same; inputs are relu'd so many windows
   // hold ties (all zeros), which the gradient must route exactly as the cpu backend does. Two
-  // input shapes: 2×2/2 windows leave the odd last row of the first unread, tile the second.
+  // input shapes: 2×2/2 windows leave the odd last row of the first unread, tile the second; the
+  // third has six channels (our WebAssembly kernel's four at a time and the rest one by one) and
+  // an odd last column.
   for (const xShape of [
     [2, 9, 8, 3],
     [2, 8, 6, 3],
+    [2, 6, 7, 6],
   ])
     for (const size of [2, 3])
       for (const stride of [1, 2])
@@ -143,7 +147,14 @@ describe('wasm training kernels match the cpu backend (reference implementation)
               const y = tf.maxPool(tf.tensor4d(input.data, xShape as [number, number, number, number]), size, stride, pad);
               return { shape: y.shape as number[], data: y.dataSync() as Float32Array };
             });
-            expect(await compare('MaxPoolGrad', { dy, input, output }, attrs)).toBeLessThan(TOLERANCE);
+            for (const direct of [true, false]) {
+              maxPoolGradOptions.direct = direct;
+              try {
+                expect(await compare('MaxPoolGrad', { dy, input, output }, attrs), `direct ${direct}`).toBeLessThan(TOLERANCE);
+              } finally {
+                maxPoolGradOptions.direct = true;
+              }
+            }
             expect(await compare('AvgPoolGrad', { dy, input }, attrs)).toBeLessThan(TOLERANCE);
           });
         }
