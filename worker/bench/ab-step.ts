@@ -11,6 +11,7 @@ import { filterGradOptions } from '../src/training/kernels/conv-filter-gradient.
 import { ADAM_UPDATE, adamUpdateOptions } from '../src/training/kernels/adam-update.js';
 import { matMulOptions } from '../src/training/kernels/batch-mat-mul.js';
 import { maxPoolGradOptions } from '../src/training/kernels/max-pool-grad.js';
+import { leadingSumOptions } from '../src/training/kernels/leading-sum.js';
 import { BATCH_NORM_TRAINING } from '../src/training/kernels/batch-norm-training.js';
 import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
 import { chainGenome, refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
@@ -42,6 +43,7 @@ const variants: Array<{ name: string; on: () => void; off: () => void }> = [
   { name: 'max-pool gradient in JavaScript', on: () => (maxPoolGradOptions.direct = false), off: () => (maxPoolGradOptions.direct = true) },
   { name: 'built-in MaxPoolGrad (wrong for 2×2)', on: () => setWasmKernelOverride('MaxPoolGrad', false), off: () => setWasmKernelOverride('MaxPoolGrad', true) },
   { name: 'matrix products by the backend (not ours)', on: () => (matMulOptions.direct = false), off: () => (matMulOptions.direct = true) },
+  { name: 'bias-gradient sums by the backend (not ours)', on: () => (leadingSumOptions.direct = false), off: () => (leadingSumOptions.direct = true) },
   { name: 'built-in BatchMatMul', on: () => setWasmKernelOverride('BatchMatMul', false), off: () => setWasmKernelOverride('BatchMatMul', true) },
   { name: "library's batch-norm ops", on: () => setWasmKernelOverride(BATCH_NORM_TRAINING, false), off: () => setWasmKernelOverride(BATCH_NORM_TRAINING, true) },
   { name: 'Adam update in JavaScript', on: () => (adamUpdateOptions.direct = false), off: () => (adamUpdateOptions.direct = true) },

@@ -19,6 +19,8 @@ export interface NativeKernels {
   matmul_dots(a: number, b: number, c: number, m: number, k: number, n: number): void;
   /** max-pool-grad.c: dx of a 2×2, stride-2, unpadded max pool (NHWC), given x, the forward output y and dy. */
   max_pool_grad_2x2(x: number, y: number, dy: number, dx: number, n: number, h: number, w: number, c: number, oh: number, ow: number): void;
+  /** leading-sum.c: out[cols] = the sum of x [rows, cols] over its rows, in float64 (acc: cols doubles of scratch). */
+  leading_sum(x: number, out: number, acc: number, rows: number, cols: number): void;
   /** adam-update.c: one Adam update of `count` weights (byte offsets, then the constants). */
   adam_update(value: number, m: number, v: number, g: number, outValue: number, outM: number, outV: number, count: number, b1: number, b2: number, c1: number, c2: number, step: number, root: number, eps: number): void;
 }

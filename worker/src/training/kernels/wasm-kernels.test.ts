@@ -5,6 +5,7 @@ import { filterGradOptions, type FilterGradRoute } from './conv-filter-gradient.
 import { inputGradOptions } from './conv-gradients.js';
 import { matMulOptions } from './batch-mat-mul.js';
 import { maxPoolGradOptions } from './max-pool-grad.js';
+import { leadingSumOptions } from './leading-sum.js';
 import { BATCH_NORM_TRAINING } from './batch-norm-training.js';
 import { WASM_TRAINING_KERNELS } from './register-wasm-kernels.js';
 import { randomArray, relativeError } from './test-arrays.js';
@@ -184,6 +185,28 @@ describe('wasm training kernels match the cpu backend (reference implementation)
           expect(await compare('BatchMatMul', { a, b }, { transposeA, transposeB }), `direct ${direct}`).toBeLessThan(TOLERANCE);
         } finally {
           matMulOptions.direct = true;
+        }
+      }
+    });
+  }
+
+  // Sums over leading axes (bias gradients) by our kernel, other Sums by the built-in one.
+  for (const [shape, axis, keepDims] of [
+    [[16, 7, 7, 16], [0, 1, 2], false],
+    [[5, 3], 0, false],
+    [[4, 6, 10], [1, 0], true],
+    [[9, 6], -2, false],
+    [[6, 7], 1, false],
+    [[2, 3, 4], [0, 2], false],
+  ] as Array<[number[], number | number[], boolean]>) {
+    it(`Sum ${shape.join('x')} over ${String(axis)} keepDims=${keepDims}`, async () => {
+      const x = { shape, data: randomArray(tf.util.sizeFromShape(shape), `sum ${shape}`) };
+      for (const direct of [true, false]) {
+        leadingSumOptions.direct = direct;
+        try {
+          expect(await compare('Sum', { x }, { axis, keepDims }), `direct ${direct}`).toBeLessThan(TOLERANCE);
+        } finally {
+          leadingSumOptions.direct = true;
         }
       }
     });
