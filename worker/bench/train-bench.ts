@@ -53,7 +53,7 @@ const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g
  * Batches measured per backend and round. wasm and tensorflow get one warm-up batch first (operator set-up,
  * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
  */
-const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 20, wasm: 20, cpu: 2 };
+const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 40, wasm: 40, cpu: 2 };
 const CPU_MLP_BATCHES = quick ? 3 : 20;
 /**
  * Rounds per network for the native peer, wasm and tensorflow, interleaved (peer, ours, peer,
@@ -101,11 +101,24 @@ async function measure({ name, base, genome, data }: (typeof ALL_GENOMES)[number
   const batches = backend === 'cpu' && (base ?? name) === 'ref-mlp' ? CPU_MLP_BATCHES : BATCHES[backend];
   const train = syntheticSamples(data, batchSize * batches, 1);
   const budget = (n: number) => ({ epochs: 1, maxSeconds: 600, maxSamples: n * batchSize });
-  if (backend !== 'cpu') await trainGenome({ genome, data, train, val: null, budget: budget(1), seed: 1 }); // warm-up
-  const cpu0 = process.cpuUsage();
-  const outcome = await trainGenome({ genome, data, train, val: null, budget: budget(batches), seed: 1 });
-  const cpu = process.cpuUsage(cpu0);
-  const cpuSeconds = (cpu.user + cpu.system) / 1e6;
+  const cpuOf = async (n: number) => {
+    const cpu0 = process.cpuUsage();
+    const outcome = await trainGenome({ genome, data, train, val: null, budget: budget(n), seed: 1 });
+    const cpu = process.cpuUsage(cpu0);
+    return { outcome, cpuSeconds: (cpu.user + cpu.system) / 1e6 };
+  };
+  // The CPU of the training loop alone, as the peer measures its own: a one-batch training's CPU
+  // (model building, the first batch) subtracted from the whole one's. The cpu backend is measured
+  // cold and whole (a few batches of about 10 s each).
+  let setupCpu = 0;
+  let perCpuSamples = 0;
+  if (backend !== 'cpu') {
+    await trainGenome({ genome, data, train, val: null, budget: budget(1), seed: 1 }); // warm-up
+    setupCpu = (await cpuOf(1)).cpuSeconds;
+    perCpuSamples = batchSize;
+  }
+  const { outcome, cpuSeconds: wholeCpu } = await cpuOf(batches);
+  const cpuSeconds = wholeCpu - setupCpu;
   const analysis = analyzeGenome(genome, data);
   if (!analysis.ok) throw new Error(`${name} does not fit ${data.inputShape.join('×')}`);
   const trainFlops = 3 * analysis.analysis.flops;
@@ -115,7 +128,7 @@ async function measure({ name, base, genome, data }: (typeof ALL_GENOMES)[number
     batchSize,
     samples: outcome.samplesSeen,
     samplesPerSecond: outcome.samplesPerSecond,
-    samplesPerCpuSecond: outcome.samplesSeen / cpuSeconds,
+    samplesPerCpuSecond: (outcome.samplesSeen - perCpuSamples) / cpuSeconds,
     gflopsPerSecond: (outcome.samplesPerSecond * trainFlops) / 1e9,
     trainMflopsPerSample: trainFlops / 1e6,
   };
