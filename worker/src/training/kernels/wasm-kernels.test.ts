@@ -67,6 +67,18 @@ async function compare(kernel: string, inputs: Record<string, { shape: number[];
   return relativeError(got.data, ref.data);
 }
 
+/** Runs `check` with our WebAssembly kernel (`direct`) and with the route it replaces, restoring the switch. */
+async function bothRoutes(options: { direct: boolean }, check: (route: string) => Promise<void>) {
+  for (const direct of [true, false]) {
+    options.direct = direct;
+    try {
+      await check(direct ? 'our WebAssembly kernel' : 'the route it replaces');
+    } finally {
+      options.direct = true;
+    }
+  }
+}
+
 beforeAll(async () => {
   const choice = await initBackend({ prefer: ['wasm'] });
   expect(choice.backend).toBe('wasm');
@@ -148,14 +160,7 @@ describe('wasm training kernels match the cpu backend (reference implementation)
               const y = tf.maxPool(tf.tensor4d(input.data, xShape as [number, number, number, number]), size, stride, pad);
               return { shape: y.shape as number[], data: y.dataSync() as Float32Array };
             });
-            for (const direct of [true, false]) {
-              maxPoolGradOptions.direct = direct;
-              try {
-                expect(await compare('MaxPoolGrad', { dy, input, output }, attrs), `direct ${direct}`).toBeLessThan(TOLERANCE);
-              } finally {
-                maxPoolGradOptions.direct = true;
-              }
-            }
+            await bothRoutes(maxPoolGradOptions, async (route) => expect(await compare('MaxPoolGrad', { dy, input, output }, attrs), route).toBeLessThan(TOLERANCE));
             expect(await compare('AvgPoolGrad', { dy, input }, attrs)).toBeLessThan(TOLERANCE);
           });
         }
@@ -179,14 +184,7 @@ describe('wasm training kernels match the cpu backend (reference implementation)
       const a = { shape: aShape, data: randomArray(tf.util.sizeFromShape(aShape), `a ${aShape}`) };
       const b = { shape: bShape, data: randomArray(tf.util.sizeFromShape(bShape), `b ${bShape}`) };
       // Our kernels (single products) and the backend's route.
-      for (const direct of [true, false]) {
-        matMulOptions.direct = direct;
-        try {
-          expect(await compare('BatchMatMul', { a, b }, { transposeA, transposeB }), `direct ${direct}`).toBeLessThan(TOLERANCE);
-        } finally {
-          matMulOptions.direct = true;
-        }
-      }
+      await bothRoutes(matMulOptions, async (route) => expect(await compare('BatchMatMul', { a, b }, { transposeA, transposeB }), route).toBeLessThan(TOLERANCE));
     });
   }
 
@@ -201,14 +199,7 @@ describe('wasm training kernels match the cpu backend (reference implementation)
   ] as Array<[number[], number | number[], boolean]>) {
     it(`Sum ${shape.join('x')} over ${String(axis)} keepDims=${keepDims}`, async () => {
       const x = { shape, data: randomArray(tf.util.sizeFromShape(shape), `sum ${shape}`) };
-      for (const direct of [true, false]) {
-        leadingSumOptions.direct = direct;
-        try {
-          expect(await compare('Sum', { x }, { axis, keepDims }), `direct ${direct}`).toBeLessThan(TOLERANCE);
-        } finally {
-          leadingSumOptions.direct = true;
-        }
-      }
+      await bothRoutes(leadingSumOptions, async (route) => expect(await compare('Sum', { x }, { axis, keepDims }), route).toBeLessThan(TOLERANCE));
     });
   }
 
