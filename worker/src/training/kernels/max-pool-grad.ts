@@ -7,17 +7,18 @@ interface HeapBackend {
   typedArrayFromHeap(info: tf.TensorInfo): Float32Array;
 }
 
+/** Whether 2×2/2 windows go to our WebAssembly kernel (`worker/native/max-pool-grad.c`) rather than the JavaScript loop below; for the benchmark's comparisons. */
+export const maxPoolGradOptions = { direct: true };
+
 /**
  * MaxPoolGrad for wasm, written as a plain loop over the wasm heap (no copies). The backend's own
  * kernel (tfjs-backend-wasm 4.22) gives wrong gradients for 2×2 windows (found by our cpu-reference
  * test) and is slow; this one routes each output gradient to the first maximum of its window in
  * row-major order, as the cpu backend does, so ties (common after relu) resolve the same way.
  * The common 2×2/2 window reads the forward pass's output (each window's maximum) instead of
- * searching for it, without branches (ENGINE.md: branches on real activations mispredict).
+ * searching for it, without branches (ENGINE.md: branches on real activations mispredict), in our
+ * WebAssembly kernel where it loads, else in JavaScript.
  */
-/** Whether 2×2/2 windows go to our WebAssembly kernel (`worker/native/max-pool-grad.c`) rather than the JavaScript loop below; for the benchmark's comparisons. */
-export const maxPoolGradOptions = { direct: true };
-
 export function maxPoolGrad(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {
   const { dy, input, output } = args.inputs as { dy: tf.TensorInfo; input: tf.TensorInfo; output?: tf.TensorInfo };
   const attrs = (args.attrs ?? {}) as Record<string, unknown>;
