@@ -1,6 +1,8 @@
+import { fileURLToPath } from 'node:url';
 import * as tf from '@tensorflow/tfjs';
 import { InternalError, NetbreederError, type BackendName } from '@netbreeder/shared-types';
 import { registerWasmTrainingKernels } from './kernels/register-wasm-kernels.js';
+import { KERNELS_MODULE, nativeKernels } from './kernels/native-kernels.js';
 
 /** Options of {@link initBackend}. */
 export interface InitBackendOptions {
@@ -42,6 +44,11 @@ async function tryCpu(): Promise<void> {
   if (!(await tf.setBackend('cpu'))) throw new NetbreederError('NB_BACKEND_UNAVAILABLE', 'the cpu backend did not initialise');
 }
 
+/** Whether our WebAssembly kernels (worker/native/kernels.wasm) run in this backend, or why training is slower without them. */
+function ownModuleNote(): string {
+  return nativeKernels(tf.findBackend('wasm')) ? 'our WebAssembly kernels loaded' : `our WebAssembly kernels not loaded (${fileURLToPath(KERNELS_MODULE)} missing or unreadable), so slower routes are used`;
+}
+
 const TRY: Record<BackendName, () => Promise<void>> = { tensorflow: tryTensorflow, wasm: tryWasm, cpu: tryCpu };
 
 async function choose(order: BackendName[]): Promise<BackendChoice> {
@@ -50,7 +57,7 @@ async function choose(order: BackendName[]): Promise<BackendChoice> {
     try {
       await TRY[name]();
       await tf.ready();
-      const notes = name === 'wasm' ? ` (SIMD ${tf.env().getBool('WASM_HAS_SIMD_SUPPORT') ? 'on' : 'off'}, our gradient kernels registered)` : '';
+      const notes = name === 'wasm' ? ` (SIMD ${tf.env().getBool('WASM_HAS_SIMD_SUPPORT') ? 'on' : 'off'}, our gradient kernels registered, ${ownModuleNote()})` : '';
       const reason = passed.length ? `${passed.join('; ')}; using ${name}${notes}` : `using ${name}${notes}, the first choice`;
       return { backend: name, reason };
     } catch (err) {

@@ -43,14 +43,14 @@ export interface WasmHeapBackend {
 }
 
 let moduleBytes: Uint8Array | null | undefined;
-const instances = new WeakMap<WasmMemory, NativeKernels>();
+const instances = new WeakMap<WasmMemory, NativeKernels | null>();
 
 /** Our kernels bound to this backend's memory (one instance per memory), or null where they cannot run. */
 export function nativeKernels(backend: unknown): NativeKernels | null {
   const memory = (backend as WasmHeapBackend).wasm?.asm?.memory;
   if (!(memory instanceof wasmApi.Memory)) return null;
   const known = instances.get(memory);
-  if (known) return known;
+  if (known !== undefined) return known;
   if (moduleBytes === undefined) {
     try {
       moduleBytes = readFileSync(KERNELS_MODULE);
@@ -59,7 +59,12 @@ export function nativeKernels(backend: unknown): NativeKernels | null {
     }
   }
   if (!moduleBytes) return null;
-  const kernels = new wasmApi.Instance(new wasmApi.Module(moduleBytes), { env: { memory } }).exports as unknown as NativeKernels;
+  let kernels: NativeKernels | null;
+  try {
+    kernels = new wasmApi.Instance(new wasmApi.Module(moduleBytes), { env: { memory } }).exports as unknown as NativeKernels;
+  } catch {
+    kernels = null; // a module this memory cannot take (a changed backend build): the slower routes
+  }
   instances.set(memory, kernels);
   return kernels;
 }
