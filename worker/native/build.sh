@@ -8,7 +8,7 @@ set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
 out="${1:-$here/kernels.wasm}"
 clang="${CLANG:-clang}"
-sources=("$here/adam-update.c" "$here/filter-grad.c" "$here/matmul.c" "$here/max-pool-grad.c" "$here/leading-sum.c")
+sources=("$here/adam-update.c" "$here/filter-grad.c" "$here/matmul.c" "$here/max-pool-grad.c" "$here/leading-sum.c" "$here/conv2d.c")
 flags=(--target=wasm32 -msimd128 -O3 -ffreestanding -nostdlib -fno-builtin -ffp-contract=off)
 # No shadow stack: the module shares the backend's memory, and the stack would sit in the backend's own bytes.
 for source in "${sources[@]}"; do

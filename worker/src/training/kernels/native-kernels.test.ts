@@ -7,6 +7,7 @@ import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { initBackend } from '../backend.js';
 import { filterGradOptions } from './conv-filter-gradient.js';
+import { conv2dOptions } from './direct-conv2d.js';
 import { KERNELS_MODULE, nativeKernels } from './native-kernels.js';
 import { randomArray, relativeError } from './test-arrays.js';
 
@@ -25,22 +26,31 @@ async function filterGrad(backend: 'cpu' | 'wasm', x: tf.Tensor4D, dy: tf.Tensor
   });
 }
 
+async function forward(backend: 'cpu' | 'wasm', x: tf.Tensor4D, f: tf.Tensor4D, stride: number, pad: unknown) {
+  await tf.setBackend(backend);
+  return tf.tidy(() => {
+    const out = tf.engine().runKernel('Conv2D', { x: tf.tensor(x.dataSync(), x.shape), filter: tf.tensor(f.dataSync(), f.shape) }, { strides: [stride, stride], pad, dataFormat: 'NHWC', dilations: [1, 1] } as unknown as tf.NamedAttrMap) as tf.Tensor;
+    return out.dataSync() as Float32Array;
+  });
+}
+
 beforeAll(async () => {
   expect((await initBackend({ prefer: ['wasm'] })).backend).toBe('wasm');
 });
 
-describe('our WebAssembly kernels: the direct filter gradient', () => {
+describe('our WebAssembly kernels: the direct filter gradient and forward convolution', () => {
   it('loads into the wasm backend', () => {
     expect(nativeKernels(tf.findBackend('wasm'))).not.toBeNull();
   });
 
-  // Channel counts chosen to run every block of filter-grad.c: 4 input × 8 output channels, 16
-  // output channels of one input channel, 4 and 1 output channels, and input channels left over.
+  // Channel counts chosen to run every block of filter-grad.c (4 input × 8 output channels, 16
+  // output channels of one input channel, 4 and 1 output channels, input channels left over) and of
+  // conv2d.c (8 and 4 output channels, and the last three or two together).
   const shapes: Array<{ x: [number, number, number, number]; co: number }> = [
-    { x: [2, 9, 8, 5], co: 13 },
+    { x: [2, 9, 8, 5], co: 15 },
     { x: [3, 7, 7, 1], co: 16 },
     { x: [2, 8, 6, 8], co: 24 },
-    { x: [1, 5, 11, 3], co: 20 },
+    { x: [1, 5, 11, 3], co: 22 },
   ];
   const pads: unknown[] = ['same', 'valid', [[0, 0], [2, 1], [0, 2], [0, 0]]];
   for (const { x: xShape, co } of shapes)
@@ -60,6 +70,15 @@ describe('our WebAssembly kernels: the direct filter gradient', () => {
               expect(relativeError(got, ref)).toBeLessThan(TOLERANCE);
               // The same inputs give the same bits (one fixed order of summation).
               expect(Array.from(await filterGrad('wasm', x, dy, filterShape, stride, pad))).toEqual(Array.from(got));
+              // The forward convolution (conv2d.c) of the same shapes.
+              const f = tf.tensor4d(randomArray(tf.util.sizeFromShape(filterShape), `f ${name}`), filterShape as [number, number, number, number]);
+              try {
+                const forwardRef = await forward('cpu', x, f, stride, pad);
+                conv2dOptions.direct = true;
+                expect(relativeError(await forward('wasm', x, f, stride, pad), forwardRef), 'forward').toBeLessThan(TOLERANCE);
+              } finally {
+                f.dispose();
+              }
             } finally {
               filterGradOptions.route = 'auto';
               x.dispose();

@@ -13,6 +13,8 @@ export const KERNELS_MODULE = new URL('../../../native/kernels.wasm', import.met
 export interface NativeKernels {
   /** filter-grad.c: dW [KH, KW, Ci, Co] of NHWC x and dy, dilation 1 (byte offsets, then the geometry). */
   conv2d_filter_grad(x: number, dy: number, dw: number, n: number, h: number, w: number, ci: number, oh: number, ow: number, co: number, kh: number, kw: number, sh: number, sw: number, pt: number, pl: number): void;
+  /** conv2d.c: y [N, OH, OW, Co] of NHWC x and filter [KH, KW, Ci, Co], dilation 1 (byte offsets, then the geometry). */
+  conv2d_forward(x: number, f: number, y: number, n: number, h: number, w: number, ci: number, oh: number, ow: number, co: number, kh: number, kw: number, sh: number, sw: number, pt: number, pl: number): void;
   /** matmul.c: c[M, N] = A · b, b row-major [K, N], A's element (i, k) at a[i·sai + k·sak]. */
   matmul_rows(a: number, b: number, c: number, m: number, k: number, n: number, sai: number, sak: number): void;
   /** matmul.c: c[M, N] = a · bᵀ, a row-major [M, K], b stored [N, K]. */

@@ -5,6 +5,7 @@ import { maxPoolGrad } from './max-pool-grad.js';
 import { ADAM_UPDATE, adamUpdateKernel } from './adam-update.js';
 import { makeTile } from './tile.js';
 import { makeSum } from './leading-sum.js';
+import { makeConv2D } from './direct-conv2d.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
 import { conv2dBackpropFilter } from './conv-filter-gradient.js';
 import { InternalError, NetbreederError } from '@netbreeder/shared-types';
@@ -26,12 +27,13 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   { name: 'Conv2DBackpropFilter', kernelFunc: conv2dBackpropFilter as unknown as tf.KernelFunc },
   { name: 'DepthwiseConv2dNativeBackpropFilter', kernelFunc: depthwiseBackpropFilter as unknown as tf.KernelFunc },
   { name: 'DepthwiseConv2dNativeBackpropInput', kernelFunc: depthwiseBackpropInput as unknown as tf.KernelFunc },
-  // Present in wasm but slow (Conv2DBackpropInput, BatchMatMul with a transposed operand, Tile, Sum over leading axes) or wrong (MaxPoolGrad, 2×2 windows).
+  // Present in wasm but slow (Conv2DBackpropInput, BatchMatMul with a transposed operand, Tile, Sum over leading axes, Conv2D with a new filter) or wrong (MaxPoolGrad, 2×2 windows).
   { name: 'Conv2DBackpropInput', kernelFunc: conv2dBackpropInput as unknown as tf.KernelFunc },
   { name: 'MaxPoolGrad', kernelFunc: maxPoolGrad as unknown as tf.KernelFunc },
   { name: 'BatchMatMul', wrap: makeBatchMatMul },
   { name: 'Tile', wrap: makeTile },
   { name: 'Sum', wrap: makeSum },
+  { name: 'Conv2D', wrap: makeConv2D },
   // Our own: batch norm in training mode, which ChannelBatchNorm runs where these exist.
   // Optional: without them the layer runs the library's ops.
   { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining, optional: true },
