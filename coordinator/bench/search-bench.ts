@@ -59,6 +59,9 @@ const { values: args } = parseArgs({
     'no-held-back-check': { type: 'boolean' },
     'no-reference-row': { type: 'boolean' },
     'reference-only': { type: 'boolean' },
+    'min-epochs': { type: 'string' },
+    'max-epochs': { type: 'string' },
+    keep: { type: 'boolean' },
     quick: { type: 'boolean' },
     help: { type: 'boolean' },
   },
@@ -76,6 +79,9 @@ if (args.help) {
       "  --no-held-back-check  the champion phase trains the search's champion alone (champion.selectionShare 0)\n" +
       '  --no-reference-row    skip training the reference network with the whole budget\n' +
       '  --reference-only      train the reference row alone (no search runs)\n' +
+      "  --min-epochs N        epochs of successive halving's lowest rung (default: from the training split's size)\n" +
+      '  --max-epochs N        epochs of its top rung (default: 9 × the lowest)\n' +
+      "  --keep                keep the data directory (the runs' store and datasets) and print its path\n" +
       '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
   process.exit(0);
@@ -101,6 +107,8 @@ const settings = {
   heldBackCheck: args['no-held-back-check'] !== true,
   referenceRow: args['no-reference-row'] !== true,
   referenceOnly: args['reference-only'] === true,
+  minEpochs: args['min-epochs'] === undefined ? undefined : whole('min-epochs', args['min-epochs'], 1, 1),
+  maxEpochs: args['max-epochs'] === undefined ? undefined : whole('max-epochs', args['max-epochs'], 1, 1),
 };
 for (const m of settings.methods) if (!METHODS.includes(m)) throw new RangeError(`unknown method '${m}'; use some of ${METHODS.join(', ')}`);
 for (const t of settings.tasks) if (!TASK_NAMES.includes(t)) throw new RangeError(`unknown task '${t}'; use some of ${TASK_NAMES.join(', ')}`);
@@ -132,7 +140,9 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
   // The champion phase trains the search's champion and, when the run has one, its reference
   // network (for the held-back check, and for the report's comparison in any case): every final
   // training counts, so each gets half.
-  const asked = task.runConfig(method, seed, searchBudget, task.budget - searchBudget);
+  const fromTask = task.runConfig(method, seed, searchBudget, task.budget - searchBudget);
+  const rungs = { ...(settings.minEpochs === undefined ? {} : { minEpochs: settings.minEpochs }), ...(settings.maxEpochs === undefined ? {} : { maxEpochs: settings.maxEpochs }) };
+  const asked = { ...fromTask, search: { ...fromTask.search, ...rungs } };
   const config = settings.heldBackCheck ? asked : { ...asked, champion: { ...asked.champion, selectionShare: 0 } };
   const perFinalTraining = Math.floor((task.budget - searchBudget) / (config.search.reference === false ? 1 : 2));
   const run = await coordinator.startRun({ ...config, champion: { ...config.champion, maxSamples: perFinalTraining, warmStart: settings.warmStart } });
@@ -293,7 +303,8 @@ async function main(): Promise<void> {
     await Promise.all(workers.map((w) => (w.exitCode !== null ? undefined : Promise.race([new Promise((r) => w.once('exit', r)), sleep(10_000).then(() => w.kill('SIGKILL'))]))));
     await coordinator.queue.obliterate().catch(() => undefined);
     await coordinator.close();
-    await rm(dataDir, { recursive: true, force: true });
+    if (args.keep) log(`kept the runs' store and datasets in ${dataDir}`);
+    else await rm(dataDir, { recursive: true, force: true });
   }
 }
 
