@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { RunConfigSchema } from '@netbreeder/shared-types';
 import { resolveSearchSettings, SEARCH_SETTING_DEFAULTS } from './search-settings.js';
+import { LOWEST_RUNG_SAMPLES, rungEpochsFor } from './rung-epochs.js';
 
 describe('resolveSearchSettings', () => {
   it('fills the defaults', () => {
@@ -12,8 +13,11 @@ describe('resolveSearchSettings', () => {
   it('has the same defaults as the run file schema', () => {
     const search = RunConfigSchema.properties.search.properties;
     expect(search.eta.default).toBe(SEARCH_SETTING_DEFAULTS.eta);
-    expect(search.minEpochs.default).toBe(SEARCH_SETTING_DEFAULTS.minEpochs);
-    expect(search.maxEpochs.default).toBe(SEARCH_SETTING_DEFAULTS.maxEpochs);
+    // No schema default for the rungs: a new run derives them from its training split
+    // (rung-epochs.ts); the algorithm's own defaults are that rule's from 1,800 samples up.
+    expect(search.minEpochs.default).toBeUndefined();
+    expect(search.maxEpochs.default).toBeUndefined();
+    expect(rungEpochsFor(LOWEST_RUNG_SAMPLES, {})).toEqual({ minEpochs: SEARCH_SETTING_DEFAULTS.minEpochs, maxEpochs: SEARCH_SETTING_DEFAULTS.maxEpochs });
     expect(search.objective.default).toBe(SEARCH_SETTING_DEFAULTS.objective);
     // The one exception: a run file starts from the hand-made family, while a stored run without
     // the setting predates it and started from minimal genomes.

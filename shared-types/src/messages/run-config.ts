@@ -298,13 +298,18 @@ export const RunConfigSchema = Type.Object(
          * one below, and the top 1/eta of a rung is promoted to the next. @default 3
          */
         eta: Type.Integer({ minimum: 2, maximum: 100, default: 3 }),
-        /** Training epochs of the lowest rung of `asha` and `asha-evolution` (every new configuration starts there). @default 1 */
-        minEpochs: Type.Integer({ minimum: 1, maximum: 1000, default: 1 }),
+        /**
+         * Training epochs of the lowest rung of `asha` and `asha-evolution` (every new configuration
+         * starts there). Absent: from the training split's size, so that the lowest rung trains on at
+         * least 1,800 samples (1 epoch of 1,800 or more training samples, 3 epochs of 600); the run
+         * records the number it used.
+         */
+        minEpochs: Type.Optional(Type.Integer({ minimum: 1, maximum: 1000 })),
         /**
          * Training epochs of the top rung of `asha` and `asha-evolution`; the rungs are minEpochs·eta^k
-         * below it. Must be at least minEpochs. @default 9
+         * below it. Must be at least minEpochs. Absent: 9 × minEpochs (at most 1000).
          */
-        maxEpochs: Type.Integer({ minimum: 1, maximum: 1000, default: 9 }),
+        maxEpochs: Type.Optional(Type.Integer({ minimum: 1, maximum: 1000 })),
         /**
          * What `pareto-evolution` minimises against validation accuracy: parameter count, FLOPs per
          * sample, or `latency`, the milliseconds one sample takes alone on the worker's CPU as the
