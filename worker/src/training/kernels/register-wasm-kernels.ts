@@ -6,6 +6,7 @@ import { ADAM_UPDATE, adamUpdateKernel } from './adam-update.js';
 import { makeTile } from './tile.js';
 import { makeSum } from './leading-sum.js';
 import { makeConv2D } from './direct-conv2d.js';
+import { makeAliasIdentity } from './alias-identity.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
 import { conv2dBackpropFilter } from './conv-filter-gradient.js';
 import { InternalError, NetbreederError } from '@netbreeder/shared-types';
@@ -34,6 +35,8 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   { name: 'Tile', wrap: makeTile },
   { name: 'Sum', wrap: makeSum },
   { name: 'Conv2D', wrap: makeConv2D },
+  // Present in wasm but copies: the engine clones every tensor a gradient saves.
+  { name: 'Identity', wrap: makeAliasIdentity },
   // Our own: batch norm in training mode, which ChannelBatchNorm runs where these exist.
   // Optional: without them the layer runs the library's ops.
   { name: BATCH_NORM_TRAINING, kernelFunc: batchNormTraining, optional: true },

@@ -215,6 +215,33 @@ describe('wasm training kernels match the cpu backend (reference implementation)
     });
   }
 
+  it('Identity shares its input\'s buffer, which lives until its last tensor goes', async () => {
+    await tf.setBackend('wasm');
+    const backend = tf.engine().backend;
+    const before = backend.numDataIds();
+    const x = tf.tensor([1, 2, 3, 4, 5, 6], [2, 3]);
+    const y = tf.clone(x);
+    expect(backend.numDataIds()).toBe(before + 1);
+    x.dispose();
+    expect(Array.from(y.dataSync())).toEqual([1, 2, 3, 4, 5, 6]);
+    y.dispose();
+    expect(backend.numDataIds()).toBe(before);
+    // The gradients that save their tensors through clones still match the cpu backend.
+    const a = { shape: [4, 5], data: randomArray(20, 'identity a') };
+    const b = { shape: [5, 3], data: randomArray(15, 'identity b') };
+    const grads = async (name: 'cpu' | 'wasm') => {
+      await tf.setBackend(name);
+      return tf.tidy(() => {
+        const [ga, gb] = tf.grads((p: tf.Tensor, q: tf.Tensor) => tf.relu(tf.matMul(p as tf.Tensor2D, q as tf.Tensor2D)).square().sum())([tf.tensor(a.data, a.shape), tf.tensor(b.data, b.shape)]);
+        return [ga!.dataSync(), gb!.dataSync()] as const;
+      });
+    };
+    const [cpuA, cpuB] = await grads('cpu');
+    const [wasmA, wasmB] = await grads('wasm');
+    expect(relativeError(wasmA, cpuA)).toBeLessThan(TOLERANCE);
+    expect(relativeError(wasmB, cpuB)).toBeLessThan(TOLERANCE);
+  });
+
   it('frees every intermediate: tensor and wasm data counts stay flat', async () => {
     await tf.setBackend('wasm');
     const x = tf.tensor(randomArray(2 * 9 * 9 * 3, 'leak x'), [2, 9, 9, 3]);
