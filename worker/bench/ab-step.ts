@@ -14,6 +14,7 @@ import { maxPoolGradOptions } from '../src/training/kernels/max-pool-grad.js';
 import { leadingSumOptions } from '../src/training/kernels/leading-sum.js';
 import { conv2dOptions } from '../src/training/kernels/direct-conv2d.js';
 import { identityOptions } from '../src/training/kernels/alias-identity.js';
+import { CROSS_ENTROPY } from '../src/training/kernels/cross-entropy.js';
 import { BATCH_NORM_TRAINING } from '../src/training/kernels/batch-norm-training.js';
 import { setWasmKernelOverride } from '../src/training/kernels/register-wasm-kernels.js';
 import { chainGenome, refCnn, refCnnBn, refMlp, refSkipBn } from '../src/training/reference-genomes.js';
@@ -46,6 +47,7 @@ const variants: Array<{ name: string; on: () => void; off: () => void }> = [
   { name: 'built-in MaxPoolGrad (wrong for 2×2)', on: () => setWasmKernelOverride('MaxPoolGrad', false), off: () => setWasmKernelOverride('MaxPoolGrad', true) },
   { name: 'matrix products by the backend (not ours)', on: () => (matMulOptions.direct = false), off: () => (matMulOptions.direct = true) },
   { name: 'bias-gradient sums by the backend (not ours)', on: () => (leadingSumOptions.direct = false), off: () => (leadingSumOptions.direct = true) },
+  { name: 'composed loss (not ours)', on: () => setWasmKernelOverride(CROSS_ENTROPY, false), off: () => setWasmKernelOverride(CROSS_ENTROPY, true) },
   { name: 'Identity copies (built-in)', on: () => (identityOptions.alias = false), off: () => (identityOptions.alias = true) },
   { name: 'forward convolutions by the backend (not ours)', on: () => (conv2dOptions.direct = false), off: () => (conv2dOptions.direct = true) },
   { name: 'built-in BatchMatMul', on: () => setWasmKernelOverride('BatchMatMul', false), off: () => setWasmKernelOverride('BatchMatMul', true) },

@@ -1,7 +1,7 @@
 import * as tf from '@tensorflow/tfjs';
 import type { DataShape, Genome } from '@netbreeder/shared-types';
 import { buildModel } from '../src/training/build-model.js';
-import { crossEntropy } from '../src/training/evaluate-model.js';
+import { trainingCrossEntropy } from '../src/training/kernels/cross-entropy.js';
 import { makeOptimizer } from '../src/training/train-genome.js';
 import { syntheticSamples } from '../src/training/synthetic-samples.js';
 
@@ -15,5 +15,5 @@ export function fixedBatchStep(genome: Genome, data: DataShape, batch = 64): () 
   const optimizer = makeOptimizer('adam', 0.001);
   const x = tf.tensor(samples.features, [batch, ...data.inputShape]);
   const y = tf.oneHot(tf.tensor1d(samples.labels, 'int32'), data.numClasses);
-  return () => tf.dispose(optimizer.minimize(() => crossEntropy(model.apply(x, { training: true }) as tf.Tensor, y), true) ?? []);
+  return () => tf.dispose(optimizer.minimize(() => trainingCrossEntropy(model.apply(x, { training: true }) as tf.Tensor, y), true) ?? []);
 }

@@ -19,7 +19,8 @@ import { currentBackend } from './backend.js';
 import { BatchAssembler, checkSamples, identityOrder, shuffleInPlace } from './batches.js';
 import { buildModel } from './build-model.js';
 import { GenomeTooLargeError, InvalidGenomeError, ShardMismatchError } from './errors.js';
-import { crossEntropy, evaluateModel } from './evaluate-model.js';
+import { evaluateModel } from './evaluate-model.js';
+import { trainingCrossEntropy } from './kernels/cross-entropy.js';
 import { singleSampleLatencyMs } from './measure-latency.js';
 import { estimateTrainingBytes } from './memory-estimate.js';
 import { modelToMessage } from './model-artifacts.js';
@@ -184,7 +185,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
         const out = model.apply(x, { training: true }) as tf.Tensor;
         // Regression sums squared errors where classification counts correct answers.
         kept.correct = tf.keep(target ? (tf.sum(tf.square(tf.sub(out, y))) as tf.Scalar) : (tf.sum(tf.cast(tf.equal(tf.argMax(out, -1), labels), 'float32')) as tf.Scalar));
-        let loss = !target ? crossEntropy(out, y) : target.loss === 'huber' ? (tf.losses.huberLoss(y, out, undefined, 1) as tf.Scalar) : meanSquaredError(out, y);
+        let loss = !target ? trainingCrossEntropy(out, y) : target.loss === 'huber' ? (tf.losses.huberLoss(y, out, undefined, 1) as tf.Scalar) : meanSquaredError(out, y);
         for (const penalty of model.calculateLosses()) loss = tf.add(loss, penalty) as tf.Scalar;
         return loss;
       }, true)!;

@@ -7,6 +7,7 @@ import { makeTile } from './tile.js';
 import { makeSum } from './leading-sum.js';
 import { makeConv2D } from './direct-conv2d.js';
 import { makeAliasIdentity } from './alias-identity.js';
+import { CROSS_ENTROPY, CROSS_ENTROPY_GRAD, crossEntropyGradConfig, crossEntropyGradKernel, crossEntropyKernel } from './cross-entropy.js';
 import { conv2dBackpropInput, depthwiseBackpropFilter, depthwiseBackpropInput } from './conv-gradients.js';
 import { conv2dBackpropFilter } from './conv-filter-gradient.js';
 import { InternalError, NetbreederError } from '@netbreeder/shared-types';
@@ -43,6 +44,9 @@ const KERNELS: Array<{ name: string; kernelFunc?: tf.KernelFunc; wrap?: (builtIn
   { name: BATCH_NORM_TRAINING_GRAD, kernelFunc: batchNormTrainingGrad },
   // Our own: one Adam update per weight tensor, which FusedAdamOptimizer runs where it exists.
   { name: ADAM_UPDATE, kernelFunc: adamUpdateKernel, optional: true },
+  // Our own: the training loss and its gradient, which trainingCrossEntropy runs where they exist.
+  { name: CROSS_ENTROPY, kernelFunc: crossEntropyKernel, optional: true },
+  { name: CROSS_ENTROPY_GRAD, kernelFunc: crossEntropyGradKernel },
 ];
 
 /** The names {@link registerWasmTrainingKernels} registers, for tests and docs. */
@@ -60,6 +64,7 @@ export function registerWasmTrainingKernels(): WasmKernelRegistration {
   const result: WasmKernelRegistration = { added: [], replaced: [] };
   // Gradients are registered per kernel name, for every backend; the forward kernel exists on wasm only.
   if (tf.getGradient(BATCH_NORM_TRAINING) == null) tf.registerGradient(batchNormTrainingGradConfig);
+  if (tf.getGradient(CROSS_ENTROPY) == null) tf.registerGradient(crossEntropyGradConfig);
   for (const k of KERNELS) {
     const existing = tf.getKernel(k.name, 'wasm');
     if (existing && ours.has(existing.kernelFunc)) continue;
