@@ -15,7 +15,7 @@ describe('prepareRun', () => {
     expect(config.search).toMatchObject({ minEpochs: lowest, maxEpochs: 9 * lowest });
   });
 
-  it("keeps the rungs a run file sets", async () => {
+  it('keeps the rungs a run file sets', async () => {
     const { config } = await prepareRun(parseRunConfig({ dataset: tiles, search: { minEpochs: 1, maxEpochs: 4 } }), log);
     expect(config.search).toMatchObject({ minEpochs: 1, maxEpochs: 4 });
   });

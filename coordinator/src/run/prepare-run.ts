@@ -15,8 +15,9 @@ export interface PreparedRun {
 
 /**
  * Everything a new run needs that can fail on the user's input: reads the dataset, checks the
- * search space fits it and derives the rungs the run file leaves out. Writes nothing, so a coordinator can do it before it creates its store,
- * its tokens or its HTTP server, and a bad run file leaves nothing behind.
+ * search space fits it and derives the rungs the run file leaves out. Writes nothing, so a
+ * coordinator can do it before it creates its store, its tokens or its HTTP server, and a bad run
+ * file leaves nothing behind.
  */
 export async function prepareRun(config: RunConfig, log: Logger): Promise<PreparedRun> {
   const loaded = await loadDataset(config, { log });

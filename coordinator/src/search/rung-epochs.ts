@@ -6,11 +6,12 @@ import { InternalError } from '@netbreeder/shared-types';
  * top rung nine times as long (1 and 9 epochs from 1,800 training samples up, as the defaults were;
  * 3 and 27 for 600). Pure.
  *
- * Why: on the search benchmark's invented tiles (600 training samples) one epoch is 9 to 38
+ * Why: on the search benchmark's invented tiles (600 training samples) one epoch is 5 to 38
  * optimizer steps, and 9 of one run's 13 first-rung results lay within 5 points of chance (25%),
- * so promotions and parents were drawn by noise; rungs of 3 and 27 epochs cut the champions' test error there from 3.78 ±
- * 0.37% to 1.83 ± 0.85% (five seeds, 144,000 samples; docs/search-benchmark.md). On MNIST's 3,000
- * training digits one epoch already ranks networks, and 1 to 9 epochs stay.
+ * so promotions and parents were drawn by noise; rungs of 3, 9 and 27 epochs cut the champions'
+ * test error there from 3.78 ± 0.37% to 1.83 ± 0.85% (five seeds, 144,000 samples;
+ * docs/search-benchmark.md). On MNIST's 3,000 training digits one epoch already ranks networks,
+ * and 1 to 9 epochs stay.
  */
 export const LOWEST_RUNG_SAMPLES = 1800;
 
