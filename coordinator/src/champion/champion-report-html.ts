@@ -10,6 +10,7 @@ import { perClassLines } from './champion-report.js';
 import { predictedActualSvg, residualHistogramSvg } from './regression-plots.js';
 import { trainingCurveSvg } from './training-curve-svg.js';
 import { fourDigits } from './regression-scores.js';
+import { describeSearchMethod } from '../search/rung-epochs.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (ch) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[ch]!);
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
@@ -150,7 +151,7 @@ ${sectionHtml(ensembleLines(c))}
 <p>Input [${c.settings.dataset.inputShape.join(', ')}] per sample; ${esc(c.input)}. ${c.target ? `Output: one number, the standardised ${esc(c.target.column)}; multiply it by ${fourDigits(c.target.std)} and add ${fourDigits(c.target.mean)}.` : `Output: ${names.length} softmax probabilities in the order ${names.map((n) => `<code>${esc(n)}</code>`).join(', ')}.`} <code>preprocessing.json</code> says exactly how to prepare an input.</p>
 ${howToUseHtml(c.ensemble !== null, c.target !== null)}
 ${championTrustHtml(c.trust, esc)}<h2>Reproduce</h2>
-<p>Search ${esc(c.settings.config.search.algorithm)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>
+<p>Search ${esc(describeSearchMethod(c.settings.config.search))}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard <code>${c.settings.dataset.sha256}</code>. The full run configuration is in <code>champion.json</code>.</p>
 </body></html>
 `;
 }

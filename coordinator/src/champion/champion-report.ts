@@ -6,6 +6,7 @@ import { howToUseLines } from './how-to-use.js';
 import { describeOnnxLatency } from './onnx-file.js';
 import { choiceParagraph, choiceTable, ensembleLines, foundLines, referenceLines } from './report-choice-sections.js';
 import { fourDigits } from './regression-scores.js';
+import { describeSearchMethod } from '../search/rung-epochs.js';
 
 const pct = (v: number | null | undefined) => (v == null ? 'n/a' : `${(v * 100).toFixed(2)}%`);
 
@@ -118,7 +119,7 @@ export function championReport(c: ChampionSummaryDocument, layers: NodeAnalysis[
     ...ensembleLines(c),
     '## Reproduce',
     '',
-    `Search algorithm ${c.settings.config.search.algorithm}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,
+    `Search algorithm ${describeSearchMethod(c.settings.config.search)}, population ${c.settings.config.search.populationSize}, sample ${c.settings.config.search.sampleSize}, seed ${c.settings.seed}; dataset shard \`${c.settings.dataset.sha256}\`. The full run configuration is in champion.json.`,
     '',
     `Files: \`model.json\` + \`weights.bin\` (TensorFlow.js layers model; load as "How to use it" shows), \`model.onnx\` (the same network as an ONNX graph, opset ${c.onnx.opset}: ${c.onnx.description}), \`preprocessing.json\`, \`genome.json\`, \`champion.json\`.`,
     '',

@@ -1,5 +1,6 @@
 import { join, resolve } from 'node:path';
 import { defaultSearchSpace } from '@netbreeder/shared-types';
+import { describeSearchMethod } from '../search/rung-epochs.js';
 import { parseRunConfig } from '../config/run-config.js';
 import { createLogger } from '../logger.js';
 import { prepareRun } from '../run/prepare-run.js';
@@ -45,7 +46,7 @@ export async function runDemo(opts: DemoOptions): Promise<number> {
     out: opts.out,
     intro: (url, prefix) =>
       `netbreeder demo · coordinator ${url} · Redis ${opts.redisUrl} (prefix ${prefix})\n` +
-      `data: invented glaze-line tiles, 4 classes × 300 · search: ${config.search.algorithm} for ${opts.minutes} min with ${opts.workers} local worker(s)\n` +
+      `data: invented glaze-line tiles, 4 classes × 300 · search: ${describeSearchMethod(prepared.config.search)} for ${opts.minutes} min with ${opts.workers} local worker(s)\n` +
       `store and exports: ${dataDir}\n\n`,
   });
 }

@@ -5,6 +5,7 @@ import { DEFAULT_QUEUE_LOCATION } from '@netbreeder/worker';
 import { readRunConfigFile } from '../config/run-config.js';
 import { createLogger } from '../logger.js';
 import { prepareRun } from '../run/prepare-run.js';
+import { describeSearchMethod } from '../search/rung-epochs.js';
 import { ensureRedis } from './local-redis.js';
 import { defaultLocalWorkers, runLocally } from './local-run.js';
 import { NetbreederError } from '@netbreeder/shared-types';
@@ -48,7 +49,7 @@ export async function runCommand(argv: string[]): Promise<number> {
       out: process.stdout,
       intro: (url) =>
         `netbreeder run ${file} · "${prepared.config.name}" · coordinator ${url} · Redis ${redis.url}${redis.private ? ' (private, stopped at the end)' : ''}\n` +
-        `search: ${prepared.config.search.algorithm} with ${workers} local worker(s) · budget ${prepared.config.budget.maxEvaluations} evaluations / ${prepared.config.budget.maxMinutes} min\n` +
+        `search: ${describeSearchMethod(prepared.config.search)} with ${workers} local worker(s) · budget ${prepared.config.budget.maxEvaluations} evaluations / ${prepared.config.budget.maxMinutes} min\n` +
         `store and export: ${dataDir}\n\n`,
     });
   } finally {

@@ -33,7 +33,7 @@ export {
 export { AgingEvolution, type AgingEvolutionOptions } from './aging-evolution.js';
 export { RandomSearch, type RandomSearchOptions } from './random-search.js';
 export { SuccessiveHalving, type AshaVariant, type SuccessiveHalvingOptions } from './successive-halving.js';
-export { rungEpochsFor, LOWEST_RUNG_SAMPLES, type RungEpochs } from './rung-epochs.js';
+export { rungEpochsFor, describeSearchMethod, LOWEST_RUNG_SAMPLES, type RungEpochs } from './rung-epochs.js';
 export { hyperbandBrackets, rungBudgets, type HalvingRound, type HyperbandBracket } from './hyperband-brackets.js';
 export { ParetoEvolution, type ParetoEvolutionOptions } from './pareto-evolution.js';
 export {

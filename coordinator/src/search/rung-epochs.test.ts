@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { rungEpochsFor } from './rung-epochs.js';
+import { describeSearchMethod, rungEpochsFor } from './rung-epochs.js';
 
 describe('rungEpochsFor', () => {
   it('gives the lowest rung at least 1,800 training samples and the top rung nine times as many epochs', () => {
@@ -21,5 +21,14 @@ describe('rungEpochsFor', () => {
   it('refuses a training split that is no positive whole number', () => {
     expect(() => rungEpochsFor(0, {})).toThrow(/positive whole number/);
     expect(() => rungEpochsFor(2.5, {})).toThrow(/positive whole number/);
+  });
+
+  it('names the rungs of the successive-halving methods', () => {
+    expect(describeSearchMethod({ algorithm: 'asha-evolution', eta: 3, minEpochs: 3, maxEpochs: 27 })).toBe('asha-evolution, rungs of 3, 9 and 27 epochs');
+    expect(describeSearchMethod({ algorithm: 'asha', eta: 3, minEpochs: 1, maxEpochs: 20 })).toBe('asha, rungs of 1, 3, 9 and 20 epochs');
+    expect(describeSearchMethod({ algorithm: 'asha', eta: 3, minEpochs: 4, maxEpochs: 4 })).toBe('asha, one rung of 4 epochs');
+    expect(describeSearchMethod({ algorithm: 'aging-evolution', eta: 3, minEpochs: 1, maxEpochs: 9 })).toBe('aging-evolution');
+    // A stored run from before the rule, read without its rungs: the name alone.
+    expect(describeSearchMethod({ algorithm: 'asha' })).toBe('asha');
   });
 });

@@ -1,4 +1,5 @@
 import { InternalError } from '@netbreeder/shared-types';
+import { rungBudgets } from './hyperband-brackets.js';
 
 /**
  * The rungs of successive halving when the run file leaves them out, from the size of the
@@ -33,4 +34,15 @@ export function rungEpochsFor(trainCount: number, given: Partial<RungEpochs>): R
   const minEpochs = given.minEpochs ?? Math.min(derived, given.maxEpochs ?? derived);
   const maxEpochs = given.maxEpochs ?? Math.min(MAX_RUNG_EPOCHS, 9 * minEpochs);
   return { minEpochs, maxEpochs };
+}
+
+/**
+ * The search method as a person reads it: the algorithm's name, and for the successive-halving
+ * methods the rungs it trains (`asha-evolution, rungs of 3, 9 and 27 epochs`).
+ */
+export function describeSearchMethod(search: { algorithm: string; eta?: number; minEpochs?: number; maxEpochs?: number }): string {
+  if ((search.algorithm !== 'asha' && search.algorithm !== 'asha-evolution') || search.minEpochs === undefined || search.maxEpochs === undefined) return search.algorithm;
+  const rungs = rungBudgets(search.minEpochs, search.maxEpochs, search.eta ?? 3);
+  const list = rungs.length === 1 ? `${rungs[0]}` : `${rungs.slice(0, -1).join(', ')} and ${rungs.at(-1)}`;
+  return `${search.algorithm}, ${rungs.length === 1 ? 'one rung of' : 'rungs of'} ${list} epochs`;
 }
