@@ -1,5 +1,6 @@
 import { InternalError } from '@netbreeder/shared-types';
 import { rungBudgets } from './hyperband-brackets.js';
+import { SEARCH_SETTING_DEFAULTS } from './search-settings.js';
 
 /**
  * The rungs of successive halving when the run file leaves them out, from the size of the
@@ -42,7 +43,7 @@ export function rungEpochsFor(trainCount: number, given: Partial<RungEpochs>): R
  */
 export function describeSearchMethod(search: { algorithm: string; eta?: number; minEpochs?: number; maxEpochs?: number }): string {
   if ((search.algorithm !== 'asha' && search.algorithm !== 'asha-evolution') || search.minEpochs === undefined || search.maxEpochs === undefined) return search.algorithm;
-  const rungs = rungBudgets(search.minEpochs, search.maxEpochs, search.eta ?? 3);
+  const rungs = rungBudgets(search.minEpochs, search.maxEpochs, search.eta ?? SEARCH_SETTING_DEFAULTS.eta);
   const list = rungs.length === 1 ? `${rungs[0]}` : `${rungs.slice(0, -1).join(', ')} and ${rungs.at(-1)}`;
   return `${search.algorithm}, ${rungs.length === 1 ? 'one rung of' : 'rungs of'} ${list} epochs`;
 }

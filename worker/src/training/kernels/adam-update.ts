@@ -1,6 +1,7 @@
 import type * as tf from '@tensorflow/tfjs';
 import { InternalError } from '@netbreeder/shared-types';
 import { heapOffset, nativeKernels } from './native-kernels.js';
+import type { HeapBackend } from './wasm-op-runner.js';
 
 /**
  * One Adam update of one weight tensor as a single kernel of ours (wasm only), instead of the
@@ -24,11 +25,6 @@ export interface AdamUpdateAttrs {
   oneMinusAccBeta2: number;
   epsilon: number;
   learningRate: number;
-}
-
-interface HeapBackend {
-  makeOutput(shape: number[], dtype: tf.DataType): tf.TensorInfo;
-  typedArrayFromHeap(info: tf.TensorInfo): Float32Array | Int32Array | Uint8Array;
 }
 
 /**

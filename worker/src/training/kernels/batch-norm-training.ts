@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import { InternalError } from '@netbreeder/shared-types';
+import type { HeapBackend } from './wasm-op-runner.js';
 
 /**
  * Batch normalisation in training mode as two kernels of our own (wasm only), instead of the
@@ -18,11 +19,6 @@ import { InternalError } from '@netbreeder/shared-types';
  */
 export const BATCH_NORM_TRAINING = 'ChannelBatchNormTraining';
 export const BATCH_NORM_TRAINING_GRAD = 'ChannelBatchNormTrainingGrad';
-
-interface HeapBackend {
-  makeOutput(shape: number[], dtype: tf.DataType): tf.TensorInfo;
-  typedArrayFromHeap(info: tf.TensorInfo): Float32Array | Int32Array | Uint8Array;
-}
 
 interface Attrs {
   varianceEpsilon: number;

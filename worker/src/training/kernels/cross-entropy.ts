@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import { crossEntropy, PROBABILITY_EPSILON } from '../evaluate-model.js';
+import type { HeapBackend } from './wasm-op-runner.js';
 
 /**
  * The training loss as two kernels of our own (wasm only), instead of the ~20 generic kernels the
@@ -18,26 +19,25 @@ import { crossEntropy, PROBABILITY_EPSILON } from '../evaluate-model.js';
 export const CROSS_ENTROPY = 'NetbreederCrossEntropy';
 export const CROSS_ENTROPY_GRAD = 'NetbreederCrossEntropyGrad';
 
-interface HeapBackend {
-  makeOutput(shape: number[], dtype: tf.DataType): tf.TensorInfo;
-  typedArrayFromHeap(info: tf.TensorInfo): Float32Array | Int32Array | Uint8Array;
-}
-
 interface Attrs {
   epsilon: number;
 }
 
 const f = Math.fround;
 
+/** The clip's bounds ε and 1 − ε as the float32 values the composed loss compares against. */
+function clipBounds(attrs: tf.NamedAttrMap | undefined): { lo: number; hi: number } {
+  const { epsilon } = attrs as unknown as Attrs;
+  return { lo: f(epsilon), hi: f(1 - epsilon) };
+}
+
 function forward(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {
   const heap = args.backend as HeapBackend;
   const { probs, targets } = args.inputs as { probs: tf.TensorInfo; targets: tf.TensorInfo };
-  const { epsilon } = args.attrs as unknown as Attrs;
+  const { lo, hi } = clipBounds(args.attrs);
   const p = heap.typedArrayFromHeap(probs) as Float32Array;
   const t = heap.typedArrayFromHeap(targets) as Float32Array;
   const rows = probs.shape[0]!;
-  const lo = f(epsilon);
-  const hi = f(1 - epsilon);
   let sum = 0;
   for (let i = 0; i < p.length; i++) if (t[i] !== 0) sum += t[i]! * Math.log(Math.min(Math.max(p[i]!, lo), hi));
   const out = heap.makeOutput([], 'float32');
@@ -48,11 +48,9 @@ function forward(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?
 function backward(args: { inputs: tf.NamedTensorInfoMap; backend: unknown; attrs?: tf.NamedAttrMap }): tf.TensorInfo {
   const heap = args.backend as HeapBackend;
   const { dy, probs, targets } = args.inputs as { dy: tf.TensorInfo; probs: tf.TensorInfo; targets: tf.TensorInfo };
-  const { epsilon } = args.attrs as unknown as Attrs;
+  const { lo, hi } = clipBounds(args.attrs);
   const p = heap.typedArrayFromHeap(probs) as Float32Array;
   const t = heap.typedArrayFromHeap(targets) as Float32Array;
-  const lo = f(epsilon);
-  const hi = f(1 - epsilon);
   // The composed gradient's order: negation, mean (÷ N), product with the targets, division by
   // the clipped probability, then the clip's mask.
   const perRow = f(f(-(heap.typedArrayFromHeap(dy) as Float32Array)[0]!) / probs.shape[0]!);

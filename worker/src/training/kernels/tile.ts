@@ -1,9 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-
-interface HeapBackend {
-  makeOutput(shape: number[], dtype: tf.DataType): tf.TensorInfo;
-  typedArrayFromHeap(info: tf.TensorInfo): Float32Array | Int32Array | Uint8Array;
-}
+import type { HeapBackend } from './wasm-op-runner.js';
 
 /**
  * Tile for wasm by block copies on the heap. The built-in kernel computes every output element's

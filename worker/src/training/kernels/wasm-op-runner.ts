@@ -4,6 +4,12 @@ import { InternalError, NetbreederError } from '@netbreeder/shared-types';
 /** The slice of the wasm backend our kernels touch: its kernels take and return TensorInfos. */
 export type KernelBackendLike = tf.KernelBackend & { disposeData(dataId: tf.DataId, force?: boolean): boolean };
 
+/** The wasm backend's heap as a kernel written in JavaScript uses it: new outputs, and typed views of tensors. */
+export interface HeapBackend {
+  makeOutput(shape: number[], dtype: tf.DataType): tf.TensorInfo;
+  typedArrayFromHeap(info: tf.TensorInfo): Float32Array | Int32Array | Uint8Array;
+}
+
 /** Explicit spatial padding in TensorFlow's NHWC layout: `[[0,0],[top,bottom],[left,right],[0,0]]`. */
 export type Nhwc4Padding = [[number, number], [number, number], [number, number], [number, number]];
 
