@@ -53,7 +53,7 @@ const GENOMES = ALL_GENOMES.filter((g) => !onlyGenomes || onlyGenomes.includes(g
  * Batches measured per backend and round. wasm and tensorflow get one warm-up batch first (operator set-up,
  * first allocations); the cpu backend, about 10 s per convolutional batch, is measured cold.
  */
-const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 40, wasm: 40, cpu: 2 };
+const BATCHES: Record<BackendName, number> = quick ? { tensorflow: 10, wasm: 10, cpu: 1 } : { tensorflow: 100, wasm: 100, cpu: 2 };
 const CPU_MLP_BATCHES = quick ? 3 : 20;
 /**
  * Rounds per network for the native peer, wasm and tensorflow, interleaved (peer, ours, peer,

@@ -31,6 +31,11 @@ export class SeededDropout extends tf.layers.Layer {
     this.supportsMasking = true;
   }
 
+  /** The seed of the next training call's mask (this layer's, or a compiled step's on its behalf: compiled-dense-step.ts). */
+  nextMaskSeed(): number {
+    return this.random.uint32();
+  }
+
   /** The mask source's state, for a training checkpoint. */
   randomState(): RandomState {
     return this.random.state();
@@ -49,7 +54,7 @@ export class SeededDropout extends tf.layers.Layer {
     return tf.tidy(() => {
       const input = Array.isArray(inputs) ? inputs[0]! : inputs;
       if (kwargs['training'] !== true || this.rate === 0) return input.clone();
-      return tf.dropout(input, this.rate, undefined, this.random.uint32());
+      return tf.dropout(input, this.rate, undefined, this.nextMaskSeed());
     });
   }
 

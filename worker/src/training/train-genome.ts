@@ -28,6 +28,7 @@ import { applyStart, captureCheckpoint, type StartCheckpoint } from './training-
 import { augmentBatch, smoothLabels } from './augment.js';
 import { evaluateRegression, meanSquaredError } from './evaluate-regression.js';
 import { FusedAdamOptimizer } from './fused-adam.js';
+import { CompiledDenseStep } from './compiled-dense-step.js';
 
 /** One training of one genome. */
 export interface TrainRequest {
@@ -169,13 +170,23 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   };
   let stoppedBy: TrainOutcome['stoppedBy'] = 'epochs';
   let diverged = false;
+  // A chain of dense layers trains without the tape (compiled-dense-step.ts); null: every other genome.
+  const compiled = CompiledDenseStep.plan(model, genome, data, Math.min(batchSize, train.count));
 
-  const stepBatch = (start: number, size: number, sums: { loss: tf.Scalar; correct: tf.Scalar }) => {
+  /** An epoch's running totals: tensors from the tape's steps (read once at the epoch's end), numbers from the compiled ones. */
+  type EpochSums = { loss: tf.Scalar; correct: tf.Scalar; plainLoss: number; plainCorrect: number };
+  const stepBatch = (start: number, size: number, sums: EpochSums) => {
     const batch = assembler.batch(order, start, size);
     if (augmenting) augmentBatch(batch.features, size, data.inputShape, augmenting, random, scratch!);
     if (labelSmoothing && !target) smoothLabels(batch.oneHot, size, data.numClasses, labelSmoothing);
     setLearningRate(optimizer, learningRateAt(learningRate, schedule, { step, totalSteps, stepsPerEpoch }));
     step++;
+    if (compiled) {
+      const done = compiled.step(batch.features, batch.oneHot, batch.labels, size, optimizer);
+      sums.plainLoss += done.loss * size;
+      sums.plainCorrect += done.correct;
+      return;
+    }
     const kept: { correct?: tf.Scalar } = {};
     const x = tf.tensor(batch.features, [size, ...data.inputShape]);
     const y = target ? tf.tensor2d(batch.targets, [size, 1]) : tf.tensor2d(batch.oneHot, [size, data.numClasses]);
@@ -209,7 +220,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     epochs: for (let epoch = (resumed?.epoch ?? 0) + 1; epoch <= budget.epochs; epoch++) {
       const epochStart = performance.now();
       shuffleInPlace(order, random);
-      const sums = { loss: tf.scalar(0), correct: tf.scalar(0) };
+      const sums: EpochSums = { loss: tf.scalar(0), correct: tf.scalar(0), plainLoss: 0, plainCorrect: 0 };
       let epochSamples = 0;
       let cut: TrainOutcome['stoppedBy'] | null = null;
       try {
@@ -236,8 +247,8 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
           else if (performance.now() >= deadline) cut = 'seconds';
         }
         if (epochSamples > 0) {
-          trainLoss = finiteLoss(sums.loss.dataSync()[0]! / epochSamples);
-          const perSample = sums.correct.dataSync()[0]! / epochSamples;
+          trainLoss = finiteLoss((sums.loss.dataSync()[0]! + sums.plainLoss) / epochSamples);
+          const perSample = (sums.correct.dataSync()[0]! + sums.plainCorrect) / epochSamples;
           trainAccuracy = target ? regressionFitness(Math.sqrt(perSample)) : perSample;
         }
       } finally {
@@ -309,6 +320,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     return outcome;
   } finally {
     if (best?.weights) tf.dispose(best.weights);
+    compiled?.dispose();
     optimizer.dispose();
     model.dispose();
   }

@@ -1,0 +1,150 @@
+import * as tf from '@tensorflow/tfjs';
+import { afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
+import { GENOME_SCHEMA_VERSION, type DataShape, type Genome } from '@netbreeder/shared-types';
+import { initBackend } from './backend.js';
+import { buildModel } from './build-model.js';
+import { CompiledDenseStep, compiledStepOptions } from './compiled-dense-step.js';
+import { expectSameStep, oneTrainingStep } from './test-fixtures.js';
+import { syntheticSamples } from './synthetic-samples.js';
+import { trainGenome } from './train-genome.js';
+
+// Reference: the TensorFlow.js cpu backend (the library's reference implementation), training
+// through the layers library and the autodiff tape. A compiled step's loss and every weight's
+// gradient must agree with it within 1e-4 relative error (max |got − ref| / max |ref| per weight).
+const TOLERANCE = 1e-4;
+
+const genome = (nodes: unknown[], output: string, weightDecay = 0): Genome => ({
+  schemaVersion: GENOME_SCHEMA_VERSION,
+  nodes: nodes as Genome['nodes'],
+  output,
+  training: { optimizer: 'adam', learningRate: 0.01, batchSize: 8, weightDecay, epochs: 1 },
+});
+
+const IMAGE: DataShape = { inputShape: [6, 6, 2], numClasses: 4 };
+const TABLE: DataShape = { inputShape: [7], numClasses: 3 };
+
+/** Flatten, relu, dropout, tanh, a sigmoid layer and weight decay: every element-wise step the compiled route has. */
+const MIXED = genome(
+  [
+    { id: 'f', kind: 'flatten', inputs: ['input'] },
+    { id: 'd1', kind: 'dense', inputs: ['f'], units: 20, activation: 'relu' },
+    { id: 'drop', kind: 'dropout', inputs: ['d1'], rate: 0.3 },
+    { id: 'd2', kind: 'dense', inputs: ['drop'], units: 10, activation: 'tanh' },
+    { id: 'act', kind: 'activation', inputs: ['d2'], activation: 'sigmoid' },
+  ],
+  'act',
+  0.001,
+);
+/** The head alone (the minimal genome): a flatten node with nothing after it. */
+const HEAD_ONLY = genome([{ id: 'f', kind: 'flatten', inputs: ['input'] }], 'f');
+const LINEAR_SIGMOID = genome(
+  [
+    { id: 'a', kind: 'dense', inputs: ['input'], units: 9, activation: 'linear' },
+    { id: 'b', kind: 'dense', inputs: ['a'], units: 5, activation: 'sigmoid' },
+  ],
+  'b',
+);
+
+/** One compiled step on wasm from the fixture's model and batch; the optimizer only records the gradients. */
+async function compiledStep(g: Genome, data: DataShape): Promise<Awaited<ReturnType<typeof oneTrainingStep>>> {
+  await tf.setBackend('wasm');
+  const samples = syntheticSamples(data, 8, 5);
+  const model = buildModel(g, data, 21);
+  const step = CompiledDenseStep.plan(model, g, data, 8)!;
+  expect(step).not.toBeNull();
+  const grads: Record<string, Float32Array> = {};
+  const recorder = { applyGradients: (named: Record<string, tf.Tensor>) => Object.entries(named).forEach(([k, t]) => (grads[k.replace(/_\d+$/, '')] = t.dataSync().slice() as Float32Array)) };
+  const oneHot = new Float32Array(8 * data.numClasses);
+  samples.labels.forEach((label, i) => (oneHot[i * data.numClasses + label] = 1));
+  try {
+    const { loss } = step.step(samples.features, oneHot, Int32Array.from(samples.labels), 8, recorder as unknown as tf.Optimizer);
+    return { loss, grads };
+  } finally {
+    step.dispose();
+    model.dispose();
+  }
+}
+
+beforeAll(async () => {
+  await initBackend({ prefer: ['wasm'] });
+});
+
+afterEach(async () => {
+  compiledStepOptions.enabled = true;
+  await tf.setBackend('wasm');
+});
+
+describe('the compiled step of a chain of dense layers', () => {
+  it.each([
+    ['flatten, relu, dropout, tanh, sigmoid layer, weight decay', MIXED, IMAGE],
+    ['the head alone', HEAD_ONLY, IMAGE],
+    ['linear and sigmoid dense layers on a table', LINEAR_SIGMOID, TABLE],
+  ])('has the loss and gradients of the cpu backend (reference): %s', async (_name, g, data) => {
+    const ref = await oneTrainingStep(g, data, 'cpu');
+    const got = await compiledStep(g, data);
+    const names = expectSameStep(got, ref, TOLERANCE);
+    expect(names.length).toBe(2 * g.nodes.filter((n) => n.kind === 'dense').length + 2);
+  });
+
+  it('trains a genome as the tape does: same curve within 1e-4, tensors freed, and it is the route taken', async () => {
+    const data = TABLE;
+    const g = { ...MIXED, nodes: MIXED.nodes.slice(1).map((n) => (n.id === 'd1' ? { ...n, inputs: ['input'] } : n)) } as Genome;
+    const train = syntheticSamples(data, 100, 3); // six batches of 16 and one of 4
+    const val = syntheticSamples(data, 40, 4);
+    const request = { genome: { ...g, training: { ...g.training, batchSize: 16 } }, data, train, val, budget: { epochs: 3, maxSeconds: 60 }, seed: 5 };
+    const spy = vi.spyOn(CompiledDenseStep.prototype, 'step');
+    const before = tf.memory().numTensors;
+    const compiled = await trainGenome(request);
+    expect(tf.memory().numTensors).toBe(before);
+    const again = await trainGenome(request);
+    expect(again.history).toEqual(compiled.history.map((r, i) => ({ ...r, seconds: again.history[i]!.seconds })));
+    expect(spy).toHaveBeenCalledTimes(2 * 3 * 7);
+    compiledStepOptions.enabled = false;
+    const taped = await trainGenome(request);
+    expect(spy).toHaveBeenCalledTimes(2 * 3 * 7);
+    spy.mockRestore();
+    for (const [a, b] of compiled.history.map((r, i) => [r, taped.history[i]!] as const)) {
+      expect(Math.abs(a.trainLoss - b.trainLoss) / b.trainLoss).toBeLessThan(TOLERANCE);
+      expect(Math.abs(a.valLoss! - b.valLoss!) / b.valLoss!).toBeLessThan(TOLERANCE);
+      expect(a.trainAccuracy).toBe(b.trainAccuracy);
+      expect(a.valAccuracy).toBe(b.valAccuracy);
+    }
+  });
+
+  it.each([
+    ['a convolution', genome([{ id: 'c', kind: 'conv2d', inputs: ['input'], filters: 2, kernelSize: 3, strides: 1, padding: 'same', activation: 'relu' }], 'c'), IMAGE],
+    ['an activation without a plain derivative', genome([{ id: 'd', kind: 'dense', inputs: ['input'], units: 4, activation: 'elu' }], 'd'), TABLE],
+    ['batch norm', genome([{ id: 'd', kind: 'dense', inputs: ['input'], units: 4, activation: 'relu' }, { id: 'b', kind: 'batch-norm', inputs: ['d'] }], 'b'), TABLE],
+    [
+      'a branch',
+      genome(
+        [
+          { id: 'a', kind: 'dense', inputs: ['input'], units: 4, activation: 'relu' },
+          { id: 'b', kind: 'dense', inputs: ['input'], units: 4, activation: 'relu' },
+          { id: 's', kind: 'add', inputs: ['a', 'b'] },
+        ],
+        's',
+      ),
+      TABLE,
+    ],
+    ['a global pool', genome([{ id: 'g', kind: 'global-avg-pool', inputs: ['input'] }, { id: 'd', kind: 'dense', inputs: ['g'], units: 4, activation: 'relu' }], 'd'), IMAGE],
+    ['a regression target', LINEAR_SIGMOID, { inputShape: [7], numClasses: 1, target: { column: 'price', mean: 0, std: 1 } } satisfies DataShape],
+  ])('is not planned for %s (the tape trains it)', (_name, g, data) => {
+    const model = buildModel(g, data, 1);
+    try {
+      expect(CompiledDenseStep.plan(model, g, data, 8)).toBeNull();
+    } finally {
+      model.dispose();
+    }
+  });
+
+  it('is not planned on the cpu backend', async () => {
+    await tf.setBackend('cpu');
+    const model = buildModel(LINEAR_SIGMOID, TABLE, 1);
+    try {
+      expect(CompiledDenseStep.plan(model, LINEAR_SIGMOID, TABLE, 8)).toBeNull();
+    } finally {
+      model.dispose();
+    }
+  });
+});

@@ -1,0 +1,314 @@
+import * as tf from '@tensorflow/tfjs';
+import { expandMotifs, INPUT_ID, sampleSize, topologicalOrder, type Activation, type DataShape, type Genome } from '@netbreeder/shared-types';
+import { PROBABILITY_EPSILON } from './evaluate-model.js';
+import { HEAD_DENSE_NAME } from './build-model.js';
+import type { SeededDropout } from './seeded-dropout.js';
+import { heapOffset, nativeKernels, type NativeKernels } from './kernels/native-kernels.js';
+import type { HeapBackend } from './kernels/wasm-op-runner.js';
+
+/** Whether {@link CompiledDenseStep.plan} may plan a step (off: every genome takes the tape); for the benchmark's comparisons and tests. */
+export const compiledStepOptions = { enabled: true };
+
+/** Activations whose derivative follows from their output alone (the others take the tape). */
+type PlainActivation = 'relu' | 'linear' | 'tanh' | 'sigmoid';
+const PLAIN: ReadonlySet<Activation> = new Set<Activation>(['relu', 'linear', 'tanh', 'sigmoid']);
+
+/** A layer's output as it lives on the wasm heap for the whole training: [maxBatch, width], and its gradient. */
+interface Slot {
+  width: number;
+  value: tf.Tensor;
+  grad: tf.Tensor;
+}
+
+type Stage =
+  | { kind: 'dense'; kernel: tf.LayerVariable; bias: tf.LayerVariable; activation: PlainActivation | 'softmax'; input: Slot; output: Slot; dKernel: tf.Tensor; dBias: tf.Tensor }
+  | { kind: 'dropout'; layer: SeededDropout; input: Slot; output: Slot; multiplier: Float32Array }
+  | { kind: 'activation'; activation: PlainActivation; input: Slot; output: Slot };
+
+const f = Math.fround;
+
+/** The activation of one element, rounded to float32 as the backend's kernels store it. */
+function activate(a: PlainActivation, v: number): number {
+  switch (a) {
+    case 'relu':
+      return v > 0 ? v : 0;
+    case 'linear':
+      return v;
+    case 'tanh':
+      return Math.tanh(v);
+    case 'sigmoid':
+      return 1 / (1 + Math.exp(-v));
+  }
+}
+
+/** The activation's derivative at the element whose output is `y`, times the incoming gradient `g` (the library's gradient formulas). */
+function backActivate(a: PlainActivation, y: number, g: number): number {
+  switch (a) {
+    case 'relu':
+      return y > 0 ? g : 0;
+    case 'linear':
+      return g;
+    case 'tanh':
+      return f(g * f(1 - f(y * y)));
+    case 'sigmoid':
+      return f(g * f(y * f(1 - y)));
+  }
+}
+
+/**
+ * A training step for a chain of dense layers (with flatten, dropout and element-wise activation
+ * layers between them, and the softmax head) planned once per training: the forward pass, the
+ * cross-entropy loss and every weight's gradient are computed straight on the wasm heap by our
+ * WebAssembly matrix products (`worker/native/matmul.c`, `leading-sum.c`) and short JavaScript
+ * loops, into buffers that live as long as the training, without the layers library, the engine's
+ * per-kernel bookkeeping or the autodiff tape. The optimizer then applies the gradients as after
+ * the tape (`applyGradients`), so its state, checkpoints and schedule are untouched. The
+ * arithmetic is the tape's: same products, the same float32 roundings in the element-wise steps,
+ * dropout masks from the same seeded sequence as {@link SeededDropout} draws, the weight decay's
+ * gradient as the library's L2 regularizer gives it (compiled-dense-step.test.ts checks whole
+ * trainings against the tape within 1e-4).
+ */
+export class CompiledDenseStep {
+  private constructor(
+    private readonly backend: HeapBackend,
+    private readonly kernels: NativeKernels,
+    private readonly input: Slot,
+    private readonly stages: Stage[],
+    private readonly weightDecay: number,
+    private readonly scratch: tf.Tensor,
+    private readonly owned: tf.Tensor[],
+  ) {}
+
+  /**
+   * The compiled step of `model` (built from `genome` by buildModel) for batches of up to
+   * `maxBatch` samples, or null where it does not apply: another backend than wasm, our kernels
+   * not loadable, a regression target, or a genome that is not such a chain (convolutions,
+   * batch norm, branches, recurrent layers, other activations), which keep the tape.
+   */
+  static plan(model: tf.LayersModel, genome: Genome, data: DataShape, maxBatch: number): CompiledDenseStep | null {
+    if (!compiledStepOptions.enabled || tf.getBackend() !== 'wasm' || data.target) return null;
+    const kernels = nativeKernels(tf.backend());
+    if (!kernels) return null;
+    const layers = expandMotifs(genome).genome;
+    const topo = topologicalOrder(layers);
+    if (!topo.ok) return null;
+    // A chain: each node reads the one before it, and the last one feeds the head.
+    let previous = INPUT_ID;
+    let flat = data.inputShape.length === 1;
+    const chain: Array<{ kind: 'dense' | 'dropout' | 'activation'; id: string; activation?: Activation }> = [];
+    for (const n of topo.order) {
+      if (n.inputs.length !== 1 || n.inputs[0] !== previous) return null;
+      previous = n.id;
+      if (n.kind === 'flatten') flat = true;
+      else if (n.kind === 'dense' && flat && PLAIN.has(n.activation)) chain.push({ kind: 'dense', id: n.id, activation: n.activation });
+      else if (n.kind === 'dropout') chain.push({ kind: 'dropout', id: n.id });
+      else if (n.kind === 'activation' && PLAIN.has(n.activation)) chain.push({ kind: 'activation', id: n.id, activation: n.activation });
+      else return null;
+    }
+    if (previous !== layers.output) return null;
+
+    const owned: tf.Tensor[] = [];
+    const buffer = (shape: number[]) => {
+      const t = tf.zeros(shape);
+      owned.push(t);
+      return t;
+    };
+    const slot = (width: number): Slot => ({ width, value: buffer([maxBatch, width]), grad: buffer([maxBatch, width]) });
+    const input = slot(sampleSize(data.inputShape));
+    const stages: Stage[] = [];
+    const denseStage = (layer: tf.layers.Layer, activation: PlainActivation | 'softmax', from: Slot): Stage => {
+      const [kernel, bias] = layer.trainableWeights as [tf.LayerVariable, tf.LayerVariable];
+      const [k, n] = kernel.shape as [number, number];
+      return { kind: 'dense', kernel, bias, activation, input: from, output: slot(n), dKernel: buffer([k, n]), dBias: buffer([n]) };
+    };
+    let current = input;
+    for (const c of chain) {
+      const layer = model.getLayer(c.id);
+      let stage: Stage;
+      if (c.kind === 'dense') stage = denseStage(layer, c.activation as PlainActivation, current);
+      else if (c.kind === 'dropout') stage = { kind: 'dropout', layer: layer as SeededDropout, input: current, output: slot(current.width), multiplier: new Float32Array(maxBatch * current.width) };
+      else stage = { kind: 'activation', activation: c.activation as PlainActivation, input: current, output: slot(current.width) };
+      stages.push(stage);
+      current = stage.output;
+    }
+    const head = denseStage(model.getLayer(HEAD_DENSE_NAME), 'softmax', current);
+    stages.push(head);
+    const widest = Math.max(...stages.map((s) => s.output.width));
+    const scratch = buffer([2 * widest]); // float64 accumulators of the bias gradients' sums
+    return new CompiledDenseStep(tf.backend() as unknown as HeapBackend, kernels, input, stages, genome.training.weightDecay, scratch, owned);
+  }
+
+  /**
+   * Trains one batch of `size` samples (`features` [size, inputs], `targets` [size, classes], the
+   * one-hot or smoothed labels, `labels` the class indices) with `optimizer`. Returns the batch's
+   * mean loss (regularization included, as the tape's loss) and its count of correct answers.
+   */
+  step(features: Float32Array, targets: Float32Array, labels: Int32Array, size: number, optimizer: tf.Optimizer): { loss: number; correct: number } {
+    // Dropout masks first: drawing them allocates on the heap, which may move every view.
+    for (const s of this.stages) if (s.kind === 'dropout') this.drawMask(s, size);
+    const view = (t: tf.Tensor) => this.backend.typedArrayFromHeap(t) as Float32Array;
+    const at = (t: tf.TensorInfo) => heapOffset(this.backend, t);
+    view(this.input.value).set(features.subarray(0, size * this.input.width));
+    for (const s of this.stages) this.forward(s, size, view, at);
+
+    const head = this.stages[this.stages.length - 1]!;
+    const probs = view(head.output.value);
+    const classes = head.output.width;
+    const { loss, correct } = this.lossAndGradient(probs, targets, labels, size, classes, view(head.output.grad));
+
+    let penalty = 0;
+    const firstDense = this.stages.findIndex((s) => s.kind === 'dense');
+    for (let i = this.stages.length - 1; i >= firstDense; i--) penalty += this.backward(this.stages[i]!, size, i > firstDense, view, at);
+
+    const gradients: Record<string, tf.Tensor> = {};
+    for (const s of this.stages) {
+      if (s.kind !== 'dense') continue;
+      gradients[s.kernel.name] = s.dKernel;
+      gradients[s.bias.name] = s.dBias;
+    }
+    optimizer.applyGradients(gradients);
+    return { loss: loss + penalty, correct };
+  }
+
+  /** Frees every buffer; the model and the optimizer stay the caller's. */
+  dispose(): void {
+    tf.dispose(this.owned);
+  }
+
+  private drawMask(s: Extract<Stage, { kind: 'dropout' }>, size: number): void {
+    const count = size * s.input.width;
+    if (s.layer.rate === 0) {
+      s.multiplier.fill(1, 0, count);
+      return;
+    }
+    // tf.dropout's arithmetic: floor(u + keep) / keep in float32, u uniform in [0, 1) from the seed.
+    const keep = f(1 - s.layer.rate);
+    const scaled = f(1 / keep);
+    const u = tf.tidy(() => tf.randomUniform([size, s.input.width], 0, 1, 'float32', s.layer.nextMaskSeed()).dataSync() as Float32Array);
+    for (let i = 0; i < count; i++) s.multiplier[i] = Math.floor(f(u[i]! + keep)) >= 1 ? scaled : 0;
+  }
+
+  private forward(s: Stage, size: number, view: (t: tf.Tensor) => Float32Array, at: (t: tf.TensorInfo) => number): void {
+    const count = size * s.output.width;
+    if (s.kind === 'dense') {
+      const [k, n] = s.kernel.shape as [number, number];
+      this.kernels.matmul_rows(at(s.input.value), at(s.kernel.read()), at(s.output.value), size, k, n, k, 1);
+      const y = view(s.output.value);
+      const b = view(s.bias.read());
+      if (s.activation === 'softmax') {
+        for (let r = 0; r < size; r++) softmaxRow(y, r * n, n, b);
+        return;
+      }
+      addBiasAndActivate(y, b, size, n, s.activation);
+      return;
+    }
+    const x = view(s.input.value);
+    const y = view(s.output.value);
+    if (s.kind === 'dropout') for (let i = 0; i < count; i++) y[i] = x[i]! * s.multiplier[i]!;
+    else for (let i = 0; i < count; i++) y[i] = activate(s.activation, x[i]!);
+  }
+
+  /**
+   * The batch's mean cross-entropy (probabilities clipped to [ε, 1 − ε], as the training loss)
+   * and correct answers; writes the loss's gradient with respect to the head's logits into `dz`:
+   * the loss kernel's gradient of the probabilities, then the softmax's.
+   */
+  private lossAndGradient(p: Float32Array, t: Float32Array, labels: Int32Array, size: number, classes: number, dz: Float32Array): { loss: number; correct: number } {
+    const lo = f(PROBABILITY_EPSILON);
+    const hi = f(1 - PROBABILITY_EPSILON);
+    const perRow = f(f(-1) / size);
+    let sum = 0;
+    let correct = 0;
+    for (let r = 0; r < size; r++) {
+      const o = r * classes;
+      let best = 0;
+      let dot = 0;
+      for (let c = 0; c < classes; c++) {
+        const v = p[o + c]!;
+        const target = t[o + c]!;
+        if (v > p[o + best]!) best = c;
+        if (target !== 0) sum += target * Math.log(Math.min(Math.max(v, lo), hi));
+        const dp = v >= lo && v <= hi ? f(f(perRow * target) / v) : 0;
+        dz[o + c] = dp;
+        dot += dp * v;
+      }
+      if (best === labels[r]) correct++;
+      // The softmax's gradient: (dp − Σ dp·p) · p.
+      const s = f(dot);
+      for (let c = 0; c < classes; c++) dz[o + c] = f(f(dz[o + c]! - s) * p[o + c]!);
+    }
+    return { loss: -sum / size, correct };
+  }
+
+  /** One stage's gradients (its weights', and its input's when `inputGradient`); returns its weight decay's share of the loss. */
+  private backward(s: Stage, size: number, inputGradient: boolean, view: (t: tf.Tensor) => Float32Array, at: (t: tf.TensorInfo) => number): number {
+    const count = size * s.output.width;
+    if (s.kind !== 'dense') {
+      const g = view(s.output.grad);
+      const dx = view(s.input.grad);
+      if (s.kind === 'dropout') for (let i = 0; i < count; i++) dx[i] = g[i]! * s.multiplier[i]!;
+      else {
+        const y = view(s.output.value);
+        for (let i = 0; i < count; i++) dx[i] = backActivate(s.activation, y[i]!, g[i]!);
+      }
+      return 0;
+    }
+    const [k, n] = s.kernel.shape as [number, number];
+    if (s.activation === 'relu') {
+      const g = view(s.output.grad);
+      const y = view(s.output.value);
+      for (let i = 0; i < count; i++) if (!(y[i]! > 0)) g[i] = 0;
+    } else if (s.activation !== 'softmax' && s.activation !== 'linear') {
+      const g = view(s.output.grad);
+      const y = view(s.output.value);
+      for (let i = 0; i < count; i++) g[i] = backActivate(s.activation, y[i]!, g[i]!);
+    }
+    const kernel = s.kernel.read();
+    this.kernels.matmul_rows(at(s.input.value), at(s.output.grad), at(s.dKernel), k, size, n, 1, k);
+    this.kernels.leading_sum(at(s.output.grad), at(s.dBias), at(this.scratch), size, n);
+    if (inputGradient) this.kernels.matmul_dots(at(s.output.grad), at(kernel), at(s.input.grad), size, n, k);
+    if (this.weightDecay <= 0) return 0;
+    // The L2 regularizer's term l2·Σw² and its gradient l2·(2w), added to the loss's gradient.
+    const w = view(kernel);
+    const dw = view(s.dKernel);
+    const l2 = f(this.weightDecay);
+    let squares = 0;
+    for (let i = 0; i < w.length; i++) {
+      squares += w[i]! * w[i]!;
+      dw[i] = f(dw[i]! + f(l2 * f(2 * w[i]!)));
+    }
+    return l2 * squares;
+  }
+}
+
+/** `y` [size, n] plus `bias` on every row, then the activation, in place (relu in its own loop: it is the common case). */
+function addBiasAndActivate(y: Float32Array, bias: Float32Array, size: number, n: number, a: PlainActivation): void {
+  for (let r = 0, o = 0; r < size; r++, o += n) {
+    if (a === 'relu') {
+      // The sum's sign survives its rounding to float32, so the comparison may read the unrounded sum.
+      for (let j = 0; j < n; j++) {
+        const v = y[o + j]! + bias[j]!;
+        y[o + j] = v > 0 ? v : 0;
+      }
+    } else if (a === 'linear') for (let j = 0; j < n; j++) y[o + j] = y[o + j]! + bias[j]!;
+    else for (let j = 0; j < n; j++) y[o + j] = activate(a, f(y[o + j]! + bias[j]!));
+  }
+}
+
+/** Row `r` of `y` (logits, at `offset`) plus `bias`, replaced by its softmax: exp(z − max) / Σ exp(z − max). */
+function softmaxRow(y: Float32Array, offset: number, n: number, bias: Float32Array): void {
+  let max = -Infinity;
+  for (let c = 0; c < n; c++) {
+    const z = f(y[offset + c]! + bias[c]!);
+    y[offset + c] = z;
+    if (z > max) max = z;
+  }
+  let total = 0;
+  for (let c = 0; c < n; c++) {
+    const e = f(Math.exp(y[offset + c]! - max));
+    y[offset + c] = e;
+    total += e;
+  }
+  const sum = f(total);
+  for (let c = 0; c < n; c++) y[offset + c] = f(y[offset + c]! / sum);
+}
