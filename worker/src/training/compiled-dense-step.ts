@@ -13,11 +13,11 @@ export const compiledStepOptions = { enabled: true };
 type PlainActivation = 'relu' | 'linear' | 'tanh' | 'sigmoid';
 const PLAIN: ReadonlySet<Activation> = new Set<Activation>(['relu', 'linear', 'tanh', 'sigmoid']);
 
-/** A layer's output as it lives on the wasm heap for the whole training: [maxBatch, width], and its gradient. */
+/** A layer's output as it lives on the wasm heap for the whole training: [maxBatch, width], and its gradient (none for the network's input). */
 interface Slot {
   width: number;
   value: tf.Tensor;
-  grad: tf.Tensor;
+  grad: tf.Tensor | null;
 }
 
 type Stage =
@@ -114,7 +114,7 @@ export class CompiledDenseStep {
       return t;
     };
     const slot = (width: number): Slot => ({ width, value: buffer([maxBatch, width]), grad: buffer([maxBatch, width]) });
-    const input = slot(sampleSize(data.inputShape));
+    const input: Slot = { width: sampleSize(data.inputShape), value: buffer([maxBatch, sampleSize(data.inputShape)]), grad: null };
     const stages: Stage[] = [];
     const denseStage = (layer: tf.layers.Layer, activation: PlainActivation | 'softmax', from: Slot): Stage => {
       const [kernel, bias] = layer.trainableWeights as [tf.LayerVariable, tf.LayerVariable];
@@ -154,7 +154,7 @@ export class CompiledDenseStep {
     const head = this.stages[this.stages.length - 1]!;
     const probs = view(head.output.value);
     const classes = head.output.width;
-    const { loss, correct } = this.lossAndGradient(probs, targets, labels, size, classes, view(head.output.grad));
+    const { loss, correct } = this.lossAndGradient(probs, targets, labels, size, classes, view(head.output.grad!));
 
     let penalty = 0;
     const firstDense = this.stages.findIndex((s) => s.kind === 'dense');
@@ -244,8 +244,9 @@ export class CompiledDenseStep {
   private backward(s: Stage, size: number, inputGradient: boolean, view: (t: tf.Tensor) => Float32Array, at: (t: tf.TensorInfo) => number): number {
     const count = size * s.output.width;
     if (s.kind !== 'dense') {
-      const g = view(s.output.grad);
-      const dx = view(s.input.grad);
+      // Stages after the first dense layer only: their input is a layer's output, with a gradient.
+      const g = view(s.output.grad!);
+      const dx = view(s.input.grad!);
       if (s.kind === 'dropout') for (let i = 0; i < count; i++) dx[i] = g[i]! * s.multiplier[i]!;
       else {
         const y = view(s.output.value);
@@ -255,18 +256,19 @@ export class CompiledDenseStep {
     }
     const [k, n] = s.kernel.shape as [number, number];
     if (s.activation === 'relu') {
-      const g = view(s.output.grad);
+      const g = view(s.output.grad!);
       const y = view(s.output.value);
       for (let i = 0; i < count; i++) if (!(y[i]! > 0)) g[i] = 0;
     } else if (s.activation !== 'softmax' && s.activation !== 'linear') {
-      const g = view(s.output.grad);
+      const g = view(s.output.grad!);
       const y = view(s.output.value);
       for (let i = 0; i < count; i++) g[i] = backActivate(s.activation, y[i]!, g[i]!);
     }
     const kernel = s.kernel.read();
-    this.kernels.matmul_rows(at(s.input.value), at(s.output.grad), at(s.dKernel), k, size, n, 1, k);
-    this.kernels.leading_sum(at(s.output.grad), at(s.dBias), at(this.scratch), size, n);
-    if (inputGradient) this.kernels.matmul_dots(at(s.output.grad), at(kernel), at(s.input.grad), size, n, k);
+    const dz = s.output.grad!;
+    this.kernels.matmul_rows(at(s.input.value), at(dz), at(s.dKernel), k, size, n, 1, k);
+    this.kernels.leading_sum(at(dz), at(s.dBias), at(this.scratch), size, n);
+    if (inputGradient) this.kernels.matmul_dots(at(dz), at(kernel), at(s.input.grad!), size, n, k);
     if (this.weightDecay <= 0) return 0;
     // The L2 regularizer's term l2·Σw² and its gradient l2·(2w), added to the loss's gradient.
     const w = view(kernel);
