@@ -20,6 +20,9 @@ interface Slot {
   grad: tf.Tensor | null;
 }
 
+/** The training loss: cross-entropy over the softmax head, or a regression target's squared error or Huber loss. */
+type Objective = 'cross-entropy' | 'squared' | 'huber';
+
 type Stage =
   | { kind: 'dense'; kernel: tf.LayerVariable; bias: tf.LayerVariable; activation: PlainActivation | 'softmax'; input: Slot; output: Slot; dKernel: tf.Tensor; dBias: tf.Tensor }
   | { kind: 'dropout'; layer: SeededDropout; input: Slot; output: Slot; multiplier: Float32Array }
@@ -74,6 +77,7 @@ export class CompiledDenseStep {
     private readonly kernels: NativeKernels,
     private readonly input: Slot,
     private readonly stages: Stage[],
+    private readonly objective: Objective,
     private readonly weightDecay: number,
     private readonly scratch: tf.Tensor,
     private readonly owned: tf.Tensor[],
@@ -82,11 +86,11 @@ export class CompiledDenseStep {
   /**
    * The compiled step of `model` (built from `genome` by buildModel) for batches of up to
    * `maxBatch` samples, or null where it does not apply: another backend than wasm, our kernels
-   * not loadable, a regression target, or a genome that is not such a chain (convolutions,
+   * not loadable, or a genome that is not such a chain (convolutions,
    * batch norm, branches, recurrent layers, other activations), which keep the tape.
    */
   static plan(model: tf.LayersModel, genome: Genome, data: DataShape, maxBatch: number): CompiledDenseStep | null {
-    if (!compiledStepOptions.enabled || tf.getBackend() !== 'wasm' || data.target) return null;
+    if (!compiledStepOptions.enabled || tf.getBackend() !== 'wasm') return null;
     const kernels = nativeKernels(tf.backend());
     if (!kernels) return null;
     const layers = expandMotifs(genome).genome;
@@ -131,19 +135,22 @@ export class CompiledDenseStep {
       stages.push(stage);
       current = stage.output;
     }
-    const head = denseStage(model.getLayer(HEAD_DENSE_NAME), 'softmax', current);
+    const head = denseStage(model.getLayer(HEAD_DENSE_NAME), data.target ? 'linear' : 'softmax', current);
     stages.push(head);
     const widest = Math.max(...stages.map((s) => s.output.width));
     const scratch = buffer([2 * widest]); // float64 accumulators of the bias gradients' sums
-    return new CompiledDenseStep(tf.backend() as unknown as HeapBackend, kernels, input, stages, genome.training.weightDecay, scratch, owned);
+    const objective: Objective = !data.target ? 'cross-entropy' : data.target.loss === 'huber' ? 'huber' : 'squared';
+    return new CompiledDenseStep(tf.backend() as unknown as HeapBackend, kernels, input, stages, objective, genome.training.weightDecay, scratch, owned);
   }
 
   /**
-   * Trains one batch of `size` samples (`features` [size, inputs], `targets` [size, classes], the
-   * one-hot or smoothed labels, `labels` the class indices) with `optimizer`. Returns the batch's
-   * mean loss (regularization included, as the tape's loss) and its count of correct answers.
+   * Trains one batch of `size` samples (`features` [size, inputs]; `targets` [size, classes], the
+   * one-hot or smoothed labels, or for a regression target [size], the standardised targets;
+   * `labels` the class indices) with `optimizer`. Returns the batch's mean loss (regularization
+   * included, as the tape's loss) and its `tally`: the count of correct answers, or for a
+   * regression target the sum of squared errors (what trainGenome's epoch totals add up).
    */
-  step(features: Float32Array, targets: Float32Array, labels: Int32Array, size: number, optimizer: tf.Optimizer): { loss: number; correct: number } {
+  step(features: Float32Array, targets: Float32Array, labels: Int32Array, size: number, optimizer: tf.Optimizer): { loss: number; tally: number } {
     // Dropout masks first: drawing them allocates on the heap, which may move every view.
     for (const s of this.stages) if (s.kind === 'dropout') this.drawMask(s, size);
     const view = (t: tf.Tensor) => this.backend.typedArrayFromHeap(t) as Float32Array;
@@ -151,10 +158,10 @@ export class CompiledDenseStep {
     view(this.input.value).set(features.subarray(0, size * this.input.width));
     for (const s of this.stages) this.forward(s, size, view, at);
 
-    const head = this.stages[this.stages.length - 1]!;
-    const probs = view(head.output.value);
-    const classes = head.output.width;
-    const { loss, correct } = this.lossAndGradient(probs, targets, labels, size, classes, view(head.output.grad!));
+    const head = this.stages[this.stages.length - 1]!.output;
+    const out = view(head.value);
+    const dz = view(head.grad!);
+    const { loss, tally } = this.objective === 'cross-entropy' ? crossEntropyAndGradient(out, targets, labels, size, head.width, dz) : regressionLossAndGradient(this.objective, out, targets, size, dz);
 
     let penalty = 0;
     const firstDense = this.stages.findIndex((s) => s.kind === 'dense');
@@ -167,7 +174,7 @@ export class CompiledDenseStep {
       gradients[s.bias.name] = s.dBias;
     }
     optimizer.applyGradients(gradients);
-    return { loss: loss + penalty, correct };
+    return { loss: loss + penalty, tally };
   }
 
   /** Frees every buffer; the model and the optimizer stay the caller's. */
@@ -206,38 +213,6 @@ export class CompiledDenseStep {
     const y = view(s.output.value);
     if (s.kind === 'dropout') for (let i = 0; i < count; i++) y[i] = x[i]! * s.multiplier[i]!;
     else for (let i = 0; i < count; i++) y[i] = activate(s.activation, x[i]!);
-  }
-
-  /**
-   * The batch's mean cross-entropy (probabilities clipped to [ε, 1 − ε], as the training loss)
-   * and correct answers; writes the loss's gradient with respect to the head's logits into `dz`:
-   * the loss kernel's gradient of the probabilities, then the softmax's.
-   */
-  private lossAndGradient(p: Float32Array, t: Float32Array, labels: Int32Array, size: number, classes: number, dz: Float32Array): { loss: number; correct: number } {
-    const lo = f(PROBABILITY_EPSILON);
-    const hi = f(1 - PROBABILITY_EPSILON);
-    const perRow = f(f(-1) / size);
-    let sum = 0;
-    let correct = 0;
-    for (let r = 0; r < size; r++) {
-      const o = r * classes;
-      let best = 0;
-      let dot = 0;
-      for (let c = 0; c < classes; c++) {
-        const v = p[o + c]!;
-        const target = t[o + c]!;
-        if (v > p[o + best]!) best = c;
-        if (target !== 0) sum += target * Math.log(Math.min(Math.max(v, lo), hi));
-        const dp = v >= lo && v <= hi ? f(f(perRow * target) / v) : 0;
-        dz[o + c] = dp;
-        dot += dp * v;
-      }
-      if (best === labels[r]) correct++;
-      // The softmax's gradient: (dp − Σ dp·p) · p.
-      const s = f(dot);
-      for (let c = 0; c < classes; c++) dz[o + c] = f(f(dz[o + c]! - s) * p[o + c]!);
-    }
-    return { loss: -sum / size, correct };
   }
 
   /** One stage's gradients (its weights', and its input's when `inputGradient`); returns its weight decay's share of the loss. */
@@ -313,4 +288,61 @@ function softmaxRow(y: Float32Array, offset: number, n: number, bias: Float32Arr
   }
   const sum = f(total);
   for (let c = 0; c < n; c++) y[offset + c] = f(y[offset + c]! / sum);
+}
+
+/**
+ * The batch's mean cross-entropy (probabilities clipped to [ε, 1 − ε], as the training loss)
+ * and its count of correct answers; writes the loss's gradient with respect to the head's logits into `dz`:
+ * the loss kernel's gradient of the probabilities, then the softmax's.
+ */
+function crossEntropyAndGradient(p: Float32Array, t: Float32Array, labels: Int32Array, size: number, classes: number, dz: Float32Array): { loss: number; tally: number } {
+  const lo = f(PROBABILITY_EPSILON);
+  const hi = f(1 - PROBABILITY_EPSILON);
+  const perRow = f(f(-1) / size);
+  let sum = 0;
+  let correct = 0;
+  for (let r = 0; r < size; r++) {
+    const o = r * classes;
+    let best = 0;
+    let dot = 0;
+    for (let c = 0; c < classes; c++) {
+      const v = p[o + c]!;
+      const target = t[o + c]!;
+      if (v > p[o + best]!) best = c;
+      if (target !== 0) sum += target * Math.log(Math.min(Math.max(v, lo), hi));
+      const dp = v >= lo && v <= hi ? f(f(perRow * target) / v) : 0;
+      dz[o + c] = dp;
+      dot += dp * v;
+    }
+    if (best === labels[r]) correct++;
+    // The softmax's gradient: (dp − Σ dp·p) · p.
+    const s = f(dot);
+    for (let c = 0; c < classes; c++) dz[o + c] = f(f(dz[o + c]! - s) * p[o + c]!);
+  }
+  return { loss: -sum / size, tally: correct };
+}
+
+/**
+ * A regression batch's loss, the mean squared error or the Huber loss with δ = 1 (as
+ * `tf.losses.huberLoss`: ½e² within δ, δ(|e| − ½δ) beyond), and its sum of squared errors;
+ * writes the loss's gradient with respect to the one-unit head's output into `dz`.
+ */
+function regressionLossAndGradient(kind: 'squared' | 'huber', out: Float32Array, t: Float32Array, size: number, dz: Float32Array): { loss: number; tally: number } {
+  const perSample = f(1 / size);
+  let sum = 0;
+  let squares = 0;
+  for (let i = 0; i < size; i++) {
+    const e = f(out[i]! - t[i]!);
+    squares += e * e;
+    if (kind === 'squared') {
+      sum += e * e;
+      dz[i] = f(perSample * f(2 * e));
+    } else {
+      const a = Math.abs(e);
+      const q = Math.min(a, 1);
+      sum += 0.5 * q * q + (a - q);
+      dz[i] = f(perSample * (a <= 1 ? e : Math.sign(e)));
+    }
+  }
+  return { loss: sum / size, tally: squares };
 }

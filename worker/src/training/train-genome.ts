@@ -173,8 +173,8 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
   // A chain of dense layers trains without the tape (compiled-dense-step.ts); null: every other genome.
   const compiled = CompiledDenseStep.plan(model, genome, data, Math.min(batchSize, train.count));
 
-  /** An epoch's running totals: tensors from the tape's steps (read once at the epoch's end), numbers from the compiled ones. */
-  type EpochSums = { loss: tf.Scalar; correct: tf.Scalar; plainLoss: number; plainCorrect: number };
+  /** An epoch's running totals (loss, and correct answers or a regression's squared errors): tensors from the tape's steps (read once at the epoch's end), numbers from the compiled ones. */
+  type EpochSums = { loss: tf.Scalar; correct: tf.Scalar; plainLoss: number; plainTally: number };
   const stepBatch = (start: number, size: number, sums: EpochSums) => {
     const batch = assembler.batch(order, start, size);
     if (augmenting) augmentBatch(batch.features, size, data.inputShape, augmenting, random, scratch!);
@@ -182,9 +182,9 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     setLearningRate(optimizer, learningRateAt(learningRate, schedule, { step, totalSteps, stepsPerEpoch }));
     step++;
     if (compiled) {
-      const done = compiled.step(batch.features, batch.oneHot, batch.labels, size, optimizer);
+      const done = compiled.step(batch.features, target ? batch.targets : batch.oneHot, batch.labels, size, optimizer);
       sums.plainLoss += done.loss * size;
-      sums.plainCorrect += done.correct;
+      sums.plainTally += done.tally;
       return;
     }
     const kept: { correct?: tf.Scalar } = {};
@@ -220,7 +220,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
     epochs: for (let epoch = (resumed?.epoch ?? 0) + 1; epoch <= budget.epochs; epoch++) {
       const epochStart = performance.now();
       shuffleInPlace(order, random);
-      const sums: EpochSums = { loss: tf.scalar(0), correct: tf.scalar(0), plainLoss: 0, plainCorrect: 0 };
+      const sums: EpochSums = { loss: tf.scalar(0), correct: tf.scalar(0), plainLoss: 0, plainTally: 0 };
       let epochSamples = 0;
       let cut: TrainOutcome['stoppedBy'] | null = null;
       try {
@@ -248,7 +248,7 @@ export async function trainGenome(request: TrainRequest): Promise<TrainOutcome> 
         }
         if (epochSamples > 0) {
           trainLoss = finiteLoss((sums.loss.dataSync()[0]! + sums.plainLoss) / epochSamples);
-          const perSample = (sums.correct.dataSync()[0]! + sums.plainCorrect) / epochSamples;
+          const perSample = (sums.correct.dataSync()[0]! + sums.plainTally) / epochSamples;
           trainAccuracy = target ? regressionFitness(Math.sqrt(perSample)) : perSample;
         }
       } finally {
