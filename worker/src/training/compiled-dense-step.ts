@@ -9,9 +9,12 @@ import type { HeapBackend } from './kernels/wasm-op-runner.js';
 /** Whether {@link CompiledDenseStep.plan} may plan a step (off: every genome takes the tape); for the benchmark's comparisons and tests. */
 export const compiledStepOptions = { enabled: true };
 
-/** Activations whose derivative follows from their output alone (the others take the tape). */
-type PlainActivation = 'relu' | 'linear' | 'tanh' | 'sigmoid';
-const PLAIN: ReadonlySet<Activation> = new Set<Activation>(['relu', 'linear', 'tanh', 'sigmoid']);
+/** Activations whose derivative needs the activation's input, not only its output: a dense layer with one of these keeps its pre-activations. */
+const NEEDS_INPUT: ReadonlySet<Activation> = new Set<Activation>(['selu', 'swish']);
+
+/** The library's SELU constants (tfjs-core's selu_util). */
+const SELU_SCALE = 1.0507009873554804934193349852946;
+const SELU_SCALE_ALPHA = 1.7580993408473768599402175208123;
 
 /** A layer's output as it lives on the wasm heap for the whole training: [maxBatch, width], and its gradient (none for the network's input). */
 interface Slot {
@@ -24,43 +27,80 @@ interface Slot {
 type Objective = 'cross-entropy' | 'squared' | 'huber';
 
 type Stage =
-  | { kind: 'dense'; kernel: tf.LayerVariable; bias: tf.LayerVariable; activation: PlainActivation | 'softmax'; input: Slot; output: Slot; dKernel: tf.Tensor; dBias: tf.Tensor }
+  | {
+      kind: 'dense';
+      kernel: tf.LayerVariable;
+      bias: tf.LayerVariable;
+      activation: Activation | 'softmax';
+      input: Slot;
+      output: Slot;
+      /** The pre-activations x·W + b, kept for the activations in {@link NEEDS_INPUT}. */
+      pre: tf.Tensor | null;
+      dKernel: tf.Tensor;
+      dBias: tf.Tensor;
+    }
   | { kind: 'dropout'; layer: SeededDropout; input: Slot; output: Slot; multiplier: Float32Array }
-  | { kind: 'activation'; activation: PlainActivation; input: Slot; output: Slot };
+  | { kind: 'activation'; activation: Activation; input: Slot; output: Slot };
 
 const f = Math.fround;
 
-/** The activation of one element, rounded to float32 as the backend's kernels store it. */
-function activate(a: PlainActivation, v: number): number {
+const logistic = (v: number) => f(1 / (1 + Math.exp(-v)));
+
+/** The activation of one element (stored as float32 by the caller). Exported for its test. */
+export function activate(a: Activation, v: number): number {
   switch (a) {
     case 'relu':
       return v > 0 ? v : 0;
-    case 'linear':
-      return v;
+    case 'relu6':
+      return Math.min(Math.max(v, 0), 6);
+    case 'elu':
+      return v >= 0 ? v : Math.exp(v) - 1;
+    case 'selu':
+      return v > 0 ? SELU_SCALE * v : SELU_SCALE_ALPHA * (Math.exp(v) - 1);
     case 'tanh':
       return Math.tanh(v);
     case 'sigmoid':
       return 1 / (1 + Math.exp(-v));
-  }
-}
-
-/** The activation's derivative at the element whose output is `y`, times the incoming gradient `g` (the library's gradient formulas). */
-function backActivate(a: PlainActivation, y: number, g: number): number {
-  switch (a) {
-    case 'relu':
-      return y > 0 ? g : 0;
+    case 'swish':
+      return logistic(v) * v;
     case 'linear':
-      return g;
-    case 'tanh':
-      return f(g * f(1 - f(y * y)));
-    case 'sigmoid':
-      return f(g * f(y * f(1 - y)));
+      return v;
   }
 }
 
 /**
- * A training step for a chain of dense layers (with flatten, dropout and element-wise activation
- * layers between them, and the softmax head) planned once per training: the forward pass, the
+ * The incoming gradient `g` times the activation's derivative at the element whose input is `x`
+ * and output `y` (`x` is read only for {@link NEEDS_INPUT}), as the library's gradient formulas
+ * compute it: relu and relu6 by masks of the output, elu, tanh and sigmoid from the output, selu from the input,
+ * swish (x·σ(x)) as the sum of its product's two gradients. Exported for its test.
+ */
+export function backActivate(a: Activation, x: number, y: number, g: number): number {
+  switch (a) {
+    case 'relu':
+      return y > 0 ? g : 0;
+    case 'relu6':
+      // The layers library's relu6 is min(6, relu(x)): at 6 the minimum's gradient goes to the constant.
+      return y > 0 && y < 6 ? g : 0;
+    case 'elu':
+      return y >= 0 ? g : f(g * f(y + 1));
+    case 'selu':
+      return x > 0 ? f(g * f(SELU_SCALE)) : f(f(g * f(SELU_SCALE_ALPHA)) * f(Math.exp(x)));
+    case 'tanh':
+      return f(g * f(1 - f(y * y)));
+    case 'sigmoid':
+      return f(g * f(y * f(1 - y)));
+    case 'swish': {
+      const s = logistic(x);
+      return f(f(g * s) + f(f(g * x) * f(s * f(1 - s))));
+    }
+    case 'linear':
+      return g;
+  }
+}
+
+/**
+ * A training step for a chain of dense layers (with flatten, dropout and activation layers between
+ * them, and the softmax or regression head) planned once per training: the forward pass, the
  * cross-entropy loss and every weight's gradient are computed straight on the wasm heap by our
  * WebAssembly matrix products (`worker/native/matmul.c`, `leading-sum.c`) and short JavaScript
  * loops, into buffers that live as long as the training, without the layers library, the engine's
@@ -86,8 +126,8 @@ export class CompiledDenseStep {
   /**
    * The compiled step of `model` (built from `genome` by buildModel) for batches of up to
    * `maxBatch` samples, or null where it does not apply: another backend than wasm, our kernels
-   * not loadable, or a genome that is not such a chain (convolutions,
-   * batch norm, branches, recurrent layers, other activations), which keep the tape.
+   * not loadable, or a genome that is not such a chain (convolutions, pools,
+   * batch norm, branches, recurrent layers), which keep the tape.
    */
   static plan(model: tf.LayersModel, genome: Genome, data: DataShape, maxBatch: number): CompiledDenseStep | null {
     if (!compiledStepOptions.enabled || tf.getBackend() !== 'wasm') return null;
@@ -104,9 +144,9 @@ export class CompiledDenseStep {
       if (n.inputs.length !== 1 || n.inputs[0] !== previous) return null;
       previous = n.id;
       if (n.kind === 'flatten') flat = true;
-      else if (n.kind === 'dense' && flat && PLAIN.has(n.activation)) chain.push({ kind: 'dense', id: n.id, activation: n.activation });
+      else if (n.kind === 'dense' && flat) chain.push({ kind: 'dense', id: n.id, activation: n.activation });
       else if (n.kind === 'dropout') chain.push({ kind: 'dropout', id: n.id });
-      else if (n.kind === 'activation' && PLAIN.has(n.activation)) chain.push({ kind: 'activation', id: n.id, activation: n.activation });
+      else if (n.kind === 'activation') chain.push({ kind: 'activation', id: n.id, activation: n.activation });
       else return null;
     }
     if (previous !== layers.output) return null;
@@ -120,18 +160,19 @@ export class CompiledDenseStep {
     const slot = (width: number): Slot => ({ width, value: buffer([maxBatch, width]), grad: buffer([maxBatch, width]) });
     const input: Slot = { width: sampleSize(data.inputShape), value: buffer([maxBatch, sampleSize(data.inputShape)]), grad: null };
     const stages: Stage[] = [];
-    const denseStage = (layer: tf.layers.Layer, activation: PlainActivation | 'softmax', from: Slot): Stage => {
+    const denseStage = (layer: tf.layers.Layer, activation: Activation | 'softmax', from: Slot): Stage => {
       const [kernel, bias] = layer.trainableWeights as [tf.LayerVariable, tf.LayerVariable];
       const [k, n] = kernel.shape as [number, number];
-      return { kind: 'dense', kernel, bias, activation, input: from, output: slot(n), dKernel: buffer([k, n]), dBias: buffer([n]) };
+      const pre = activation !== 'softmax' && NEEDS_INPUT.has(activation) ? buffer([maxBatch, n]) : null;
+      return { kind: 'dense', kernel, bias, activation, input: from, output: slot(n), pre, dKernel: buffer([k, n]), dBias: buffer([n]) };
     };
     let current = input;
     for (const c of chain) {
       const layer = model.getLayer(c.id);
       let stage: Stage;
-      if (c.kind === 'dense') stage = denseStage(layer, c.activation as PlainActivation, current);
+      if (c.kind === 'dense') stage = denseStage(layer, c.activation!, current);
       else if (c.kind === 'dropout') stage = { kind: 'dropout', layer: layer as SeededDropout, input: current, output: slot(current.width), multiplier: new Float32Array(maxBatch * current.width) };
-      else stage = { kind: 'activation', activation: c.activation as PlainActivation, input: current, output: slot(current.width) };
+      else stage = { kind: 'activation', activation: c.activation!, input: current, output: slot(current.width) };
       stages.push(stage);
       current = stage.output;
     }
@@ -199,14 +240,22 @@ export class CompiledDenseStep {
     const count = size * s.output.width;
     if (s.kind === 'dense') {
       const [k, n] = s.kernel.shape as [number, number];
-      this.kernels.matmul_rows(at(s.input.value), at(s.kernel.read()), at(s.output.value), size, k, n, k, 1);
+      this.kernels.matmul_rows(at(s.input.value), at(s.kernel.read()), at(s.pre ?? s.output.value), size, k, n, k, 1);
       const y = view(s.output.value);
       const b = view(s.bias.read());
       if (s.activation === 'softmax') {
         for (let r = 0; r < size; r++) softmaxRow(y, r * n, n, b);
         return;
       }
-      addBiasAndActivate(y, b, size, n, s.activation);
+      if (!s.pre) {
+        addBiasAndActivate(y, b, size, n, s.activation);
+        return;
+      }
+      const z = view(s.pre);
+      for (let i = 0, j = 0; i < count; i++, j = j + 1 === n ? 0 : j + 1) {
+        z[i] = z[i]! + b[j]!;
+        y[i] = activate(s.activation, z[i]!);
+      }
       return;
     }
     const x = view(s.input.value);
@@ -224,8 +273,9 @@ export class CompiledDenseStep {
       const dx = view(s.input.grad!);
       if (s.kind === 'dropout') for (let i = 0; i < count; i++) dx[i] = g[i]! * s.multiplier[i]!;
       else {
+        const x = view(s.input.value);
         const y = view(s.output.value);
-        for (let i = 0; i < count; i++) dx[i] = backActivate(s.activation, y[i]!, g[i]!);
+        for (let i = 0; i < count; i++) dx[i] = backActivate(s.activation, x[i]!, y[i]!, g[i]!);
       }
       return 0;
     }
@@ -237,7 +287,8 @@ export class CompiledDenseStep {
     } else if (s.activation !== 'softmax' && s.activation !== 'linear') {
       const g = view(s.output.grad!);
       const y = view(s.output.value);
-      for (let i = 0; i < count; i++) g[i] = backActivate(s.activation, y[i]!, g[i]!);
+      const x = s.pre ? view(s.pre) : y;
+      for (let i = 0; i < count; i++) g[i] = backActivate(s.activation, x[i]!, y[i]!, g[i]!);
     }
     const kernel = s.kernel.read();
     const dz = s.output.grad!;
@@ -259,7 +310,7 @@ export class CompiledDenseStep {
 }
 
 /** `y` [size, n] plus `bias` on every row, then the activation, in place (relu in its own loop: it is the common case). */
-function addBiasAndActivate(y: Float32Array, bias: Float32Array, size: number, n: number, a: PlainActivation): void {
+function addBiasAndActivate(y: Float32Array, bias: Float32Array, size: number, n: number, a: Activation): void {
   for (let r = 0, o = 0; r < size; r++, o += n) {
     if (a === 'relu') {
       // The sum's sign survives its rounding to float32, so the comparison may read the unrounded sum.
