@@ -61,6 +61,7 @@ const { values: args } = parseArgs({
     'reference-only': { type: 'boolean' },
     'min-epochs': { type: 'string' },
     'max-epochs': { type: 'string' },
+    'promote-reference': { type: 'boolean' },
     keep: { type: 'boolean' },
     quick: { type: 'boolean' },
     help: { type: 'boolean' },
@@ -81,6 +82,7 @@ if (args.help) {
       '  --reference-only      train the reference row alone (no search runs)\n' +
       "  --min-epochs N        epochs of successive halving's lowest rung (default: from the training split's size)\n" +
       '  --max-epochs N        epochs of its top rung (default: 9 × the lowest)\n' +
+      "  --promote-reference   the reference network climbs every rung of successive halving (search.promoteReference)\n" +
       "  --keep                keep the data directory (the runs' store and datasets) and print its path\n" +
       '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
@@ -109,6 +111,7 @@ const settings = {
   referenceOnly: args['reference-only'] === true,
   minEpochs: args['min-epochs'] === undefined ? undefined : whole('min-epochs', args['min-epochs'], 1, 1),
   maxEpochs: args['max-epochs'] === undefined ? undefined : whole('max-epochs', args['max-epochs'], 1, 1),
+  promoteReference: args['promote-reference'] === true,
 };
 for (const m of settings.methods) if (!METHODS.includes(m)) throw new RangeError(`unknown method '${m}'; use some of ${METHODS.join(', ')}`);
 for (const t of settings.tasks) if (!TASK_NAMES.includes(t)) throw new RangeError(`unknown task '${t}'; use some of ${TASK_NAMES.join(', ')}`);
@@ -141,8 +144,12 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
   // network (for the held-back check, and for the report's comparison in any case): every final
   // training counts, so each gets half.
   const fromTask = task.runConfig(method, seed, searchBudget, task.budget - searchBudget);
-  const rungs = { ...(settings.minEpochs === undefined ? {} : { minEpochs: settings.minEpochs }), ...(settings.maxEpochs === undefined ? {} : { maxEpochs: settings.maxEpochs }) };
-  const asked = { ...fromTask, search: { ...fromTask.search, ...rungs } };
+  const searchFlags = {
+    ...(settings.minEpochs === undefined ? {} : { minEpochs: settings.minEpochs }),
+    ...(settings.maxEpochs === undefined ? {} : { maxEpochs: settings.maxEpochs }),
+    ...(settings.promoteReference ? { promoteReference: true } : {}),
+  };
+  const asked = { ...fromTask, search: { ...fromTask.search, ...searchFlags } };
   const config = settings.heldBackCheck ? asked : { ...asked, champion: { ...asked.champion, selectionShare: 0 } };
   const perFinalTraining = Math.floor((task.budget - searchBudget) / (config.search.reference === false ? 1 : 2));
   const run = await coordinator.startRun({ ...config, champion: { ...config.champion, maxSamples: perFinalTraining, warmStart: settings.warmStart } });
