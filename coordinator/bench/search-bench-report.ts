@@ -38,6 +38,12 @@ export interface RunOutcome {
   inRunReferenceTestError: number | null;
   /** The run's own line on whether the search paid (against that in-run reference). */
   verdict: string | null;
+  /**
+   * Diagnostic, not what the run exports: the test error of the mean of the softmax outputs of the
+   * held-back check's two final trainings (the search's champion and the reference network); null
+   * without the check (the reference network was the champion, or the check was off).
+   */
+  pairAverageTestError: number | null;
   wallSeconds: number;
 }
 

@@ -17,13 +17,13 @@
  *
  *   npm run bench:search [-- --seeds 5 --tasks mnist,tiles --methods asha-evolution,random --quick]
  */
-import { mkdtemp, rm } from 'node:fs/promises';
+import { mkdtemp, readFile, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { randomBytes } from 'node:crypto';
 import type { ChildProcess } from 'node:child_process';
-import type { EvaluationResult, SearchAlgorithmName } from '@netbreeder/shared-types';
+import { decodeShard, type EvaluationResult, type ModelArtifactsMessage, type SearchAlgorithmName } from '@netbreeder/shared-types';
 import { Coordinator } from '../src/coordinator.js';
 import { createLogger } from '../src/logger.js';
 import { spawnWorker } from '../src/cli/spawn-worker.js';
@@ -31,6 +31,9 @@ import type { EvaluationRecord } from '../src/store/run-store.js';
 import { DISCARDED_AT_FINISH } from '../src/run/run-manager.js';
 import { newSamples } from '../src/run/sample-budget.js';
 import { referenceComparison } from '../src/champion/reference-comparison.js';
+import { heldBackPair } from '../src/champion/held-back-check.js';
+import { scoreEnsemble } from '../src/champion/score-ensemble.js';
+import type { RunRecord, RunStore } from '../src/store/run-store.js';
 import { budgetCurve, countedWithin, type SpentEvaluation } from './search-bench-budget.js';
 import { mnistTask, tilesTask, TASK_NAMES, type BenchTask, type TaskName } from './search-bench-tasks.js';
 import { referenceRows, type ReferenceOutcome } from './search-bench-reference.js';
@@ -124,9 +127,13 @@ class RunWatch {
   runId: string | null = null;
   results: SpentEvaluation[] = [];
   trainCount = 0;
+  /** The trained models of the champion phase's final trainings, by candidate key (for the pair-average diagnostic). */
+  finalModels = new Map<number, ModelArtifactsMessage>();
 
   onResult(ev: EvaluationRecord, result: EvaluationResult): void {
-    if (ev.runId !== this.runId || ev.kind !== 'search') return;
+    if (ev.runId !== this.runId) return;
+    if (ev.kind === 'champion' && result.model) this.finalModels.set(ev.seq, result.model);
+    if (ev.kind !== 'search') return;
     this.results.push({ evaluationId: ev.id, samples: newSamples(result, this.trainCount), valAccuracy: result.valAccuracy! });
   }
 
@@ -134,6 +141,7 @@ class RunWatch {
     this.runId = runId;
     this.results = [];
     this.trainCount = trainCount;
+    this.finalModels = new Map();
   }
 }
 
@@ -192,8 +200,23 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
     championIsReference: comparison.state === 'scored' ? comparison.championIsReference : null,
     inRunReferenceTestError: comparison.referenceTestAccuracy === null ? null : 1 - comparison.referenceTestAccuracy,
     verdict: comparison.line,
+    pairAverageTestError: await pairAverageTestError(store, final, watch.finalModels),
     wallSeconds: (Date.now() - started) / 1000,
   };
+}
+
+/**
+ * Diagnostic for a route not in the product: the test error the run would have had, had it
+ * exported the average of its held-back check's two final trainings (search's champion and
+ * reference network, softmax outputs averaged). Null when the run had no such pair.
+ */
+async function pairAverageTestError(store: RunStore, run: RunRecord, models: ReadonlyMap<number, ModelArtifactsMessage>): Promise<number | null> {
+  const pair = heldBackPair(store.events(run.id, 'champion-candidates').at(-1)?.detail.candidates ?? []);
+  const a = pair && models.get(pair.champion.seq);
+  const b = pair && models.get(pair.reference.seq);
+  if (!a || !b || run.dataset.manifest.target) return null;
+  const test = decodeShard(await readFile(run.dataset.testPath)).train;
+  return 1 - (await scoreEnsemble([a, b], test, run.dataset.manifest.numClasses)).accuracy;
 }
 
 async function startWorkers(coordinator: Coordinator, dataDir: string, prefix: string, redisUrl: string): Promise<ChildProcess[]> {
@@ -247,7 +270,7 @@ async function main(): Promise<void> {
           log(
             `${task.name} run ${++done}/${total} ${method} seed ${seed}: ${o.state}, ${o.evaluations} evaluations, search ${o.searchSamples} + champion ${o.championSamples} samples, ` +
               `best val ${(100 * o.curve.at(-1)!.bestValAccuracy).toFixed(2)}%, champion test error ${o.championTestError === null ? 'none' : pct(o.championTestError)}` +
-              `${o.championIsReference ? ' (the reference itself)' : ''}, ${o.wallSeconds.toFixed(0)} s`,
+              `${o.championIsReference ? ' (the reference itself)' : ''}${o.pairAverageTestError === null ? '' : `, pair average ${pct(o.pairAverageTestError)}`}, ${o.wallSeconds.toFixed(0)} s`,
           );
         }
       }

@@ -37,6 +37,7 @@ export interface RunManagerOptions {
 
 /** Events a watcher (the demo, the CLI) can follow. */
 export interface RunManagerEvents {
+  /** A search result once recorded; a final training's (`kind` champion) once it passed the checks, just before it is scored. */
   resultRecorded?: (evaluation: EvaluationRecord, result: EvaluationResult) => void;
   runFinished?: (run: RunRecord) => void;
 }

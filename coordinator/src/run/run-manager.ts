@@ -380,6 +380,8 @@ export class RunManager {
       const problem = this.resultProblem(ev, job.returnvalue);
       if (problem) this.store.transaction(() => rejectResult(this.attempts, ev, problem, batch));
       else {
+        // Told before it is scored: scoring the last final training may end the run.
+        this.events.resultRecorded?.(ev, job.returnvalue as EvaluationResult);
         await this.champion.recordResult(ev, job.returnvalue as EvaluationResult);
         batch.remove.push(job.id);
       }
