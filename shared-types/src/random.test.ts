@@ -116,4 +116,17 @@ describe('the draws', () => {
     const orders = new Set(Array.from({ length: 50 }, () => rng.shuffled(items).join(',')));
     expect(orders.size).toBeGreaterThan(40);
   });
+
+  it('fillUniform writes the values next() would give and leaves the state where they would', () => {
+    const one = createRandom('bulk');
+    const many = createRandom('bulk');
+    one.next();
+    many.next();
+    const out = new Float64Array(1000);
+    many.fillUniform(out, 999);
+    expect(Array.from(out.subarray(0, 999))).toEqual(Array.from({ length: 999 }, () => one.next()));
+    expect(out[999]).toBe(0);
+    expect(many.state()).toEqual(one.state());
+    expect(many.next()).toBe(one.next());
+  });
 });

@@ -24,6 +24,8 @@ export interface Random {
   shuffled<T>(items: readonly T[]): T[];
   /** A 32-bit unsigned integer, for seeding something else. */
   uint32(): number;
+  /** The next `count` values of {@link next}, written into `out` in one loop (bulk draws such as dropout masks). */
+  fillUniform(out: Float64Array, count: number): void;
   /** The current state, to store and restore with {@link restoreRandom}. */
   state(): RandomState;
 }
@@ -89,6 +91,20 @@ export function restoreRandom(state: RandomState): Random {
         [out[i], out[j]] = [out[j]!, out[i]!];
       }
       return out;
+    },
+    fillUniform: (out, count) => {
+      // uint32's step on local copies of the state: the same sequence, without a call per value.
+      let [p, q, r, s] = [a | 0, b | 0, c | 0, d | 0];
+      for (let i = 0; i < count; i++) {
+        const t = (((p + q) | 0) + s) | 0;
+        s = (s + 1) | 0;
+        p = q ^ (q >>> 9);
+        q = (r + (r << 3)) | 0;
+        r = (r << 21) | (r >>> 11);
+        r = (r + t) | 0;
+        out[i] = (t >>> 0) / 4294967296;
+      }
+      [a, b, c, d] = [p, q, r, s];
     },
     state: () => [a >>> 0, b >>> 0, c >>> 0, d >>> 0],
   };

@@ -130,7 +130,6 @@ export class CompiledDenseStep {
    * regression target the sum of squared errors (what trainGenome's epoch totals add up).
    */
   step(features: Float32Array, targets: Float32Array, labels: Int32Array, size: number, optimizer: tf.Optimizer): { loss: number; tally: number } {
-    // Dropout masks first: drawing them allocates on the heap, which may move every view.
     for (const s of this.stages) if (s.kind === 'dropout') this.drawMask(s, size);
     const view = (t: tf.Tensor) => this.backend.typedArrayFromHeap(t) as Float32Array;
     const at = (t: tf.TensorInfo) => heapOffset(this.backend, t);
@@ -163,15 +162,8 @@ export class CompiledDenseStep {
 
   private drawMask(s: Extract<Stage, { kind: 'dropout' }>, size: number): void {
     const count = size * s.input.width;
-    if (s.layer.rate === 0) {
-      s.multiplier.fill(1, 0, count);
-      return;
-    }
-    // tf.dropout's arithmetic: floor(u + keep) / keep in float32, u uniform in [0, 1) from the seed.
-    const keep = f(1 - s.layer.rate);
-    const scaled = f(1 / keep);
-    const u = tf.tidy(() => tf.randomUniform([size, s.input.width], 0, 1, 'float32', s.layer.nextMaskSeed()).dataSync() as Float32Array);
-    for (let i = 0; i < count; i++) s.multiplier[i] = Math.floor(f(u[i]! + keep)) >= 1 ? scaled : 0;
+    if (s.layer.rate === 0) s.multiplier.fill(1, 0, count);
+    else s.layer.fillMask(s.multiplier, count);
   }
 
   private forward(s: Stage, size: number, view: (t: tf.Tensor) => Float32Array, at: (t: tf.TensorInfo) => number): void {

@@ -22,6 +22,8 @@ export class SeededDropout extends tf.layers.Layer {
   static className = 'Dropout';
   readonly rate: number;
   private random: Random;
+  /** Scratch for a mask's uniform draws, grown to the largest mask so far. */
+  private uniforms = new Float64Array(0);
 
   constructor(args: SeededDropoutArgs) {
     super({ name: args.name });
@@ -31,9 +33,19 @@ export class SeededDropout extends tf.layers.Layer {
     this.supportsMasking = true;
   }
 
-  /** The seed of the next training call's mask (this layer's, or a compiled step's on its behalf: compiled-dense-step.ts). */
-  nextMaskSeed(): number {
-    return this.random.uint32();
+  /**
+   * Writes the next training call's mask into the first `count` elements of `multipliers`: each
+   * element kept with probability 1 − rate and scaled by 1 / (1 − rate) (float32), else 0, one
+   * draw of this layer's sequence per element. The layer's own call uses it, and so does a
+   * compiled step on its behalf (compiled-dense-step.ts), so both train with the same masks.
+   * Drawn in JavaScript from our seeded generator: `tf.dropout` with a seed draws through
+   * `tf.randomUniform` and four more kernels.
+   */
+  fillMask(multipliers: Float32Array, count: number): void {
+    const scale = Math.fround(1 / Math.fround(1 - this.rate));
+    if (this.uniforms.length < count) this.uniforms = new Float64Array(count);
+    this.random.fillUniform(this.uniforms, count);
+    for (let i = 0; i < count; i++) multipliers[i] = this.uniforms[i]! >= this.rate ? scale : 0;
   }
 
   /** The mask source's state, for a training checkpoint. */
@@ -54,7 +66,9 @@ export class SeededDropout extends tf.layers.Layer {
     return tf.tidy(() => {
       const input = Array.isArray(inputs) ? inputs[0]! : inputs;
       if (kwargs['training'] !== true || this.rate === 0) return input.clone();
-      return tf.dropout(input, this.rate, undefined, this.nextMaskSeed());
+      const multipliers = new Float32Array(input.size);
+      this.fillMask(multipliers, input.size);
+      return tf.mul(input, tf.tensor(multipliers, input.shape, 'float32'));
     });
   }
 
