@@ -53,20 +53,27 @@ export function createRandom(seed: string | number): Random {
 
 /** A random source that continues exactly where the one that produced `state` stopped. */
 export function restoreRandom(state: RandomState): Random {
-  let [a, b, c, d] = state.map((v) => v >>> 0) as [number, number, number, number];
-  const uint32 = (): number => {
-    a >>>= 0;
-    b >>>= 0;
-    c >>>= 0;
-    d >>>= 0;
-    const t = (((a + b) | 0) + d) | 0;
-    d = (d + 1) | 0;
-    a = b ^ (b >>> 9);
-    b = (c + (c << 3)) | 0;
-    c = (c << 21) | (c >>> 11);
-    c = (c + t) | 0;
+  let [a, b, c, d] = state.map((v) => v | 0) as [number, number, number, number];
+  /**
+   * sfc32's step, `count` times on local copies of the state (so a bulk draw makes no call per
+   * value); writes each draw as a uniform in [0, 1) into `out` when given; returns the last draw.
+   */
+  const advance = (count: number, out: Float64Array | null): number => {
+    let [p, q, r, s] = [a, b, c, d];
+    let t = 0;
+    for (let i = 0; i < count; i++) {
+      t = (((p + q) | 0) + s) | 0;
+      s = (s + 1) | 0;
+      p = q ^ (q >>> 9);
+      q = (r + (r << 3)) | 0;
+      r = (r << 21) | (r >>> 11);
+      r = (r + t) | 0;
+      if (out) out[i] = (t >>> 0) / 4294967296;
+    }
+    [a, b, c, d] = [p, q, r, s];
     return t >>> 0;
   };
+  const uint32 = (): number => advance(1, null);
   const next = (): number => uint32() / 4294967296;
   const rng: Random = {
     next,
@@ -92,20 +99,7 @@ export function restoreRandom(state: RandomState): Random {
       }
       return out;
     },
-    fillUniform: (out, count) => {
-      // uint32's step on local copies of the state: the same sequence, without a call per value.
-      let [p, q, r, s] = [a | 0, b | 0, c | 0, d | 0];
-      for (let i = 0; i < count; i++) {
-        const t = (((p + q) | 0) + s) | 0;
-        s = (s + 1) | 0;
-        p = q ^ (q >>> 9);
-        q = (r + (r << 3)) | 0;
-        r = (r << 21) | (r >>> 11);
-        r = (r + t) | 0;
-        out[i] = (t >>> 0) / 4294967296;
-      }
-      [a, b, c, d] = [p, q, r, s];
-    },
+    fillUniform: (out, count) => void advance(count, out),
     state: () => [a >>> 0, b >>> 0, c >>> 0, d >>> 0],
   };
   return rng;
