@@ -35,7 +35,6 @@ type Stage =
   | { kind: 'dropout'; layer: SeededDropout; input: Slot; output: Slot; multiplier: Float32Array }
   | { kind: 'activation'; activation: Activation; input: Slot; output: Slot };
 
-
 /**
  * A training step for a chain of dense layers (with flatten, dropout and activation layers between
  * them, and the softmax or regression head) planned once per training: the forward pass, the
@@ -181,11 +180,10 @@ export class CompiledDenseStep {
         addBiasAndActivate(y, b, size, n, s.activation);
         return;
       }
+      // The pre-activations stay in their own buffer for the backward pass.
       const z = view(s.pre);
-      for (let i = 0, j = 0; i < count; i++, j = j + 1 === n ? 0 : j + 1) {
-        z[i] = z[i]! + b[j]!;
-        y[i] = activate(s.activation, z[i]!);
-      }
+      addBiasAndActivate(z, b, size, n, 'linear');
+      for (let i = 0; i < count; i++) y[i] = activate(s.activation, z[i]!);
       return;
     }
     const x = view(s.input.value);
