@@ -30,6 +30,7 @@ import { spawnWorker } from '../src/cli/spawn-worker.js';
 import type { EvaluationRecord } from '../src/store/run-store.js';
 import { DISCARDED_AT_FINISH } from '../src/run/run-manager.js';
 import { newSamples } from '../src/run/sample-budget.js';
+import { PARENT_RANKINGS, type ParentRanking } from '../src/search/search-settings.js';
 import { referenceComparison } from '../src/champion/reference-comparison.js';
 import { heldBackPair } from '../src/champion/held-back-check.js';
 import { scoreEnsemble } from '../src/champion/score-ensemble.js';
@@ -65,6 +66,7 @@ const { values: args } = parseArgs({
     'min-epochs': { type: 'string' },
     'max-epochs': { type: 'string' },
     'promote-reference': { type: 'boolean' },
+    parents: { type: 'string' },
     keep: { type: 'boolean' },
     quick: { type: 'boolean' },
     help: { type: 'boolean' },
@@ -86,6 +88,7 @@ if (args.help) {
       "  --min-epochs N        epochs of successive halving's lowest rung (default: from the training split's size)\n" +
       '  --max-epochs N        epochs of its top rung (default: 9 × the lowest)\n' +
       "  --promote-reference   the reference network climbs every rung of successive halving (search.promoteReference)\n" +
+      "  --parents R           how asha-evolution ranks parents: first-rung or highest-rung (search.parents; default: the run file's)\n" +
       "  --keep                keep the data directory (the runs' store and datasets) and print its path\n" +
       '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
@@ -115,7 +118,9 @@ const settings = {
   minEpochs: args['min-epochs'] === undefined ? undefined : whole('min-epochs', args['min-epochs'], 1, 1),
   maxEpochs: args['max-epochs'] === undefined ? undefined : whole('max-epochs', args['max-epochs'], 1, 1),
   promoteReference: args['promote-reference'] === true,
+  parents: args.parents as ParentRanking | undefined,
 };
+if (settings.parents !== undefined && !PARENT_RANKINGS.includes(settings.parents)) throw new RangeError(`--parents must be one of ${PARENT_RANKINGS.join(', ')}, got ${settings.parents}`);
 for (const m of settings.methods) if (!METHODS.includes(m)) throw new RangeError(`unknown method '${m}'; use some of ${METHODS.join(', ')}`);
 for (const t of settings.tasks) if (!TASK_NAMES.includes(t)) throw new RangeError(`unknown task '${t}'; use some of ${TASK_NAMES.join(', ')}`);
 
@@ -156,6 +161,7 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
     ...(settings.minEpochs === undefined ? {} : { minEpochs: settings.minEpochs }),
     ...(settings.maxEpochs === undefined ? {} : { maxEpochs: settings.maxEpochs }),
     ...(settings.promoteReference ? { promoteReference: true } : {}),
+    ...(settings.parents === undefined ? {} : { parents: settings.parents }),
   };
   const asked = { ...fromTask, search: { ...fromTask.search, ...searchFlags } };
   const config = settings.heldBackCheck ? asked : { ...asked, champion: { ...asked.champion, selectionShare: 0 } };

@@ -5,7 +5,7 @@ import { parseRunConfig } from './run-config.js';
 describe('parseRunConfig', () => {
   it('fills every default from a minimal run description', () => {
     const c = parseRunConfig({ dataset: { kind: 'demo-tiles' } });
-    expect(c.search).toEqual({ algorithm: 'asha-evolution', populationSize: 8, sampleSize: 3, eta: 3, objective: 'params', weightInheritance: true, reference: true, start: 'family', promoteReference: false });
+    expect(c.search).toEqual({ algorithm: 'asha-evolution', populationSize: 8, sampleSize: 3, eta: 3, objective: 'params', weightInheritance: true, reference: true, start: 'family', promoteReference: false, parents: 'first-rung' });
     expect(c.champion.epochs).toBeUndefined(); // absent: each genome's learning curve sets its final training length
     expect(c.dataset).toEqual({ kind: 'demo-tiles', samplesPerClass: 300, seed: 7 });
     expect(c.budget.maxEvaluations).toBe(200);

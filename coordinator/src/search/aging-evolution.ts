@@ -21,6 +21,13 @@ export interface AgingEvolutionOptions<G> {
   first?: FirstGenome<G>;
   /** A snapshot from {@link AgingEvolution.snapshot} (already checked with `parseSearchSnapshot`). */
   snapshot?: AgingEvolutionSnapshot<G>;
+  /**
+   * Where a member stands beyond its own result (successive halving's `parents: 'highest-rung'`:
+   * the highest rung its genome has reached and its fitness there). Tournaments then compare the
+   * standing first. It is read at each tournament, so it draws nothing and needs no snapshot of its
+   * own. @default none: tournaments compare the members' own fitness
+   */
+  standing?: (member: { genomeHash: string; fitness: number }) => { rung: number; fitness: number };
 }
 
 /**
@@ -43,8 +50,11 @@ export interface AgingEvolutionOptions<G> {
 export class AgingEvolution<G = Genome> extends PopulationSearch<G, Observation<G>, AgingEvolutionOptions<G>['settings']> implements SearchAlgorithm<G> {
   readonly name = 'aging-evolution';
 
+  private readonly standing: AgingEvolutionOptions<G>['standing'];
+
   constructor(options: AgingEvolutionOptions<G>) {
     super(options, ['populationSize', 'sampleSize', 'initialMutations']);
+    this.standing = options.standing;
   }
 
   propose(): Proposal<G> {
@@ -53,16 +63,19 @@ export class AgingEvolution<G = Genome> extends PopulationSearch<G, Observation<
     if (this.initialProposed < P) return this.initialMember(`initial member ${this.initialProposed + 1} of ${P}`, 'initial');
     if (!this.population.length) return this.initialMember(`extra initial member: all ${P} initial members are out and no result has arrived yet`, 'extra-initial');
 
+    const standings = this.standing ? this.population.map((m) => this.standing!(m)) : null;
     const { winner, drawn } = tournamentSelect(
-      this.population.map((m) => m.fitness),
+      standings ? standings.map((s) => s.fitness) : this.population.map((m) => m.fitness),
       S,
       this.rng,
+      standings?.map((s) => s.rung),
     );
     const parent = this.population[winner]!;
+    const where = standings ? `, ranked by the highest rung each reached and the fitness there; it reached rung ${standings[winner]!.rung} with ${standings[winner]!.fitness.toFixed(4)}` : '';
     const choice =
       `tournament of ${S} draws with replacement from ${this.population.length} members ` +
       `(${new Set(drawn).size} distinct); the fittest drawn, ${shortHash(parent.genomeHash)} from evaluation ${parent.evaluationId} ` +
-      `(fitness ${parent.fitness.toFixed(4)}), is the parent`;
+      `(fitness ${parent.fitness.toFixed(4)}${where}), is the parent`;
     const selection: SearchDecision = {
       kind: 'parent-selected',
       version: SEARCH_DECISION_VERSION,

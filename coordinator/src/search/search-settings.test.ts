@@ -6,7 +6,7 @@ import { LOWEST_RUNG_SAMPLES, rungEpochsFor } from './rung-epochs.js';
 describe('resolveSearchSettings', () => {
   it('fills the defaults', () => {
     expect(resolveSearchSettings({ populationSize: 5, sampleSize: 2 })).toEqual({
-      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal', promoteReference: false,
+      populationSize: 5, sampleSize: 2, initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal', promoteReference: false, parents: 'first-rung',
     });
   });
 
@@ -24,6 +24,7 @@ describe('resolveSearchSettings', () => {
     expect(search.start.default).toBe('family');
     expect(SEARCH_SETTING_DEFAULTS.start).toBe('minimal');
     expect(search.promoteReference.default).toBe(SEARCH_SETTING_DEFAULTS.promoteReference);
+    expect(search.parents.default).toBe(SEARCH_SETTING_DEFAULTS.parents);
   });
 
   it('names the bad value', () => {
@@ -33,5 +34,6 @@ describe('resolveSearchSettings', () => {
     expect(() => resolveSearchSettings({ ...base, minEpochs: 4, maxEpochs: 3 })).toThrow(/maxEpochs \(3\) must be at least minEpochs \(4\)/);
     expect(() => resolveSearchSettings({ ...base, objective: 'weight' as never })).toThrow(/objective must be one of params, flops, latency, got weight/);
     expect(() => resolveSearchSettings({ ...base, start: 'linear' as never })).toThrow(/start must be one of family, minimal, mixed, got linear/);
+    expect(() => resolveSearchSettings({ ...base, parents: 'oldest' as never })).toThrow(/parents must be one of first-rung, highest-rung, got oldest/);
   });
 });

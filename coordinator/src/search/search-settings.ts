@@ -39,7 +39,17 @@ export interface SearchSettings {
    * champion's choice always has it at the top rung's budget (the run file's `search.promoteReference`).
    * @default false */
   promoteReference?: boolean;
+  /** asha-evolution: how tournaments rank the members parents are drawn from: by their rung-0
+   * fitness, or by the highest rung each member's genome reached first and its fitness there
+   * second (the run file's `search.parents`). A run file gets its schema's default; absent here
+   * means a run stored before the setting existed, which ranked by rung-0 fitness.
+   * @default 'first-rung' */
+  parents?: ParentRanking;
 }
+
+/** How asha-evolution's tournaments rank members: `first-rung` (their rung-0 fitness) or `highest-rung` (highest rung reached, then fitness there). */
+export type ParentRanking = 'first-rung' | 'highest-rung';
+export const PARENT_RANKINGS: readonly ParentRanking[] = ['first-rung', 'highest-rung'];
 
 /** A size or cost to minimise against accuracy: the genome's parameter count, its FLOPs per sample, or its measured CPU latency per sample (ms). */
 export type SizeObjective = 'params' | 'flops' | 'latency';
@@ -48,7 +58,7 @@ export const SIZE_OBJECTIVES: readonly SizeObjective[] = ['params', 'flops', 'la
 export type ResolvedSearchSettings = Required<SearchSettings>;
 
 /** The one place the optional settings get their defaults (the run file schema carries the same ones, checked by a test). */
-export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal', promoteReference: false } as const;
+export const SEARCH_SETTING_DEFAULTS = { initialMutations: 2, randomMutations: 12, eta: 3, minEpochs: 1, maxEpochs: 9, objective: 'params', start: 'minimal', promoteReference: false, parents: 'first-rung' } as const;
 
 /** Applies the defaults and checks every value, naming the one that is wrong. */
 export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchSettings {
@@ -64,8 +74,9 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
     objective: settings.objective ?? d.objective,
     start: settings.start ?? d.start,
     promoteReference: settings.promoteReference ?? d.promoteReference,
+    parents: settings.parents ?? d.parents,
   };
-  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective' | 'start' | 'promoteReference'>, min: number) => {
+  const whole = (name: Exclude<keyof ResolvedSearchSettings, 'objective' | 'start' | 'promoteReference' | 'parents'>, min: number) => {
     const v = resolved[name];
     if (!Number.isInteger(v) || v < min) throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting ${name} must be a whole number ≥ ${min}, got ${String(v)}`);
   };
@@ -84,6 +95,9 @@ export function resolveSearchSettings(settings: SearchSettings): ResolvedSearchS
   }
   if (!START_KINDS.includes(resolved.start)) {
     throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting start must be one of ${START_KINDS.join(', ')}, got ${String(resolved.start)}`);
+  }
+  if (!PARENT_RANKINGS.includes(resolved.parents)) {
+    throw new NetbreederError('NB_BAD_SEARCH_SETTINGS', `search setting parents must be one of ${PARENT_RANKINGS.join(', ')}, got ${String(resolved.parents)}`);
   }
   return resolved;
 }

@@ -217,6 +217,51 @@ describe('SuccessiveHalving (asha-evolution)', () => {
   });
 });
 
+describe('asha-evolution ranks parents by the highest rung reached (parents: highest-rung)', () => {
+  const ranked = (parents: 'first-rung' | 'highest-rung') =>
+    new SuccessiveHalving({
+      variant: 'asha-evolution',
+      // 40 draws from 4 members: every member is drawn (all but surely), so the ranking alone decides.
+      settings: { eta: 3, minEpochs: 1, maxEpochs: 9, populationSize: 4, sampleSize: 40, initialMutations: 2, randomMutations: 6, parents },
+      variation,
+      seed: 4,
+    });
+  /** Four rung-0 results, the best promoted, then the weakest genome's result at rung 1 arrives (a worker that trained it for 3 epochs). */
+  const parentOf = (parents: 'first-rung' | 'highest-rung') => {
+    const alg = ranked(parents);
+    const ps = batchRungZero(alg, [0.2, 0.4, 0.6, 0.3]);
+    const up = alg.propose();
+    expect(up.genomeHash).toBe(ps[2]!.genomeHash); // the promotion itself follows rung 0's ranking either way
+    alg.observe(result(ps[0]!, 0.5, 3)); // genome 0 now stands at rung 1
+    const child = alg.propose();
+    expect(child.budgetEpochs).toBe(1);
+    return { child, ps };
+  };
+
+  it('a member whose genome reached a higher rung wins the tournament over a fitter rung-0 member', () => {
+    const { child, ps } = parentOf('highest-rung');
+    expect(child.parentHashes).toEqual([ps[0]!.genomeHash]);
+    expect(child.reason).toContain('ranked by the highest rung each reached and the fitness there; it reached rung 1 with 0.5000');
+    const again = parentOf('highest-rung'); // the ranking draws nothing of its own: same seed, same child
+    expect(again.child.genome).toEqual(child.genome);
+  });
+
+  it('first-rung (and a run stored before the setting) ranks by the rung-0 fitness alone', () => {
+    const { child, ps } = parentOf('first-rung');
+    expect(child.parentHashes).toEqual([ps[2]!.genomeHash]);
+    expect(child.reason).not.toContain('highest rung');
+  });
+
+  it('among members at the same rung, the fitness there decides', () => {
+    const alg = ranked('highest-rung');
+    const ps = batchRungZero(alg, [0.2, 0.4, 0.6, 0.3]);
+    alg.propose(); // the promotion of genome 2
+    alg.observe(result(ps[2]!, 0.7, 3));
+    alg.observe(result(ps[0]!, 0.8, 3));
+    expect(alg.propose().parentHashes).toEqual([ps[0]!.genomeHash]);
+  });
+});
+
 describe('genomes of another encoding', () => {
   it('works on any Variation (bit strings)', () => {
     const bits = {

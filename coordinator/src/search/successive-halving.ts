@@ -19,7 +19,7 @@ export interface SuccessiveHalvingOptions<G> {
   variant: AshaVariant;
   /** eta and the rung budgets, plus the settings of the configuration source, already resolved. */
   settings: Pick<ResolvedSearchSettings, 'eta' | 'minEpochs' | 'maxEpochs' | 'populationSize' | 'sampleSize' | 'initialMutations' | 'randomMutations'> &
-    Partial<Pick<ResolvedSearchSettings, 'promoteReference'>>;
+    Partial<Pick<ResolvedSearchSettings, 'promoteReference' | 'parents'>>;
   /** How genomes are made, mutated and hashed. */
   variation: Variation<G>;
   /** Seeds the configuration source's random source; ignored when restoring. */
@@ -49,8 +49,11 @@ export interface SuccessiveHalvingOptions<G> {
  *   a rung as soon as its result is in, whatever its rank (checked before the ranked promotions),
  *   so it reaches the top rung; the champion's choice then always has it at the longest budget.
  * - `asha-evolution`: new configurations are children from {@link AgingEvolution}, which sees the
- *   rung-0 results only, so its tournaments compare genomes trained for the same budget; a child
- *   starts at rung 0, and only promoted ones get the full budget.
+ *   rung-0 results only, so its population ages by rung-0 arrivals; a child starts at rung 0, and
+ *   only promoted ones get the full budget. Its tournaments compare the members' rung-0 fitness
+ *   (`parents: 'first-rung'`), or (`'highest-rung'`) the highest rung each member's genome has
+ *   reached first and its fitness there second, so a genome that kept its rank over longer trainings
+ *   beats one that only learns fast.
  *
  * Its only random draws are the configuration source's, so the snapshot's random state is that
  * source's, and the same interleaving of propose and observe calls gives the same proposals.
@@ -96,7 +99,8 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
     } else {
       const snap = s?.source.algorithm === 'aging-evolution' ? s.source : undefined;
       if (s && !snap) throw new SearchSnapshotError(`an 'asha-evolution' snapshot must hold an 'aging-evolution' configuration source, not '${s.source.algorithm}'`);
-      this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, first: options.first, snapshot: snap });
+      const standing = this.settings.parents === 'highest-rung' ? (m: { genomeHash: string; fitness: number }) => this.highestRung(m) : undefined;
+      this.source = new AgingEvolution({ settings: this.settings, variation: this.variation, seed, first: options.first, snapshot: snap, standing });
     }
     this.rungs = s ? s.rungs.map(restoredMembers) : this.budgets.map(() => []);
     this.proposed = s ? s.proposed : 0;
@@ -137,6 +141,15 @@ export class SuccessiveHalving<G = Genome> implements SearchAlgorithm<G> {
       rungs: scanned,
     };
     return { ...fresh, budgetEpochs: this.budgets[0]!, reason: `new configuration at rung 0 (${this.budgets[0]} epochs): ${fresh.reason}`, decisions: [none, ...(fresh.decisions ?? [])] };
+  }
+
+  /** The highest rung holding `m`'s genome and its fitness there (rung 0 and its own fitness when no rung holds it). */
+  private highestRung(m: { genomeHash: string; fitness: number }): { rung: number; fitness: number } {
+    for (let k = this.rungs.length - 1; k > 0; k--) {
+      const there = this.rungs[k]!.find((r) => r.genomeHash === m.genomeHash);
+      if (there) return { rung: k, fitness: there.fitness };
+    }
+    return { rung: 0, fitness: m.fitness };
   }
 
   /** The reference network's next rung, when it climbs and has a result not yet promoted below the top. */

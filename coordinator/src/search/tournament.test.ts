@@ -42,6 +42,20 @@ describe('tournamentSelect', () => {
     expect(Math.abs(wins / N - p)).toBeLessThan(0.022);
   });
 
+  it('with standings, a higher standing wins whatever the fitness; fitness decides among equals', () => {
+    const rng = createRandom(5);
+    const fit = [0.9, 0.5, 0.7, 0.6];
+    const standing = [0, 1, 1, 0];
+    for (let i = 0; i < 200; i++) {
+      const { winner, drawn } = tournamentSelect(fit, 3, rng, standing);
+      const top = Math.max(...drawn.map((k) => standing[k]!));
+      const best = Math.max(...drawn.filter((k) => standing[k] === top).map((k) => fit[k]!));
+      expect(standing[winner]).toBe(top);
+      expect(fit[winner]).toBe(best);
+    }
+    expect(() => tournamentSelect(fit, 3, rng, [0, 1])).toThrow(/2 standings for 4 members/);
+  });
+
   it('refuses an empty population or a bad sample size', () => {
     expect(() => tournamentSelect([], 3, createRandom(1))).toThrow(/at least one member/);
     expect(() => tournamentSelect([1], 0, createRandom(1))).toThrow(/sample size/);

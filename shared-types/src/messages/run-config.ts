@@ -347,6 +347,14 @@ export const RunConfigSchema = Type.Object(
          * test error beyond the spread between seeds (docs/search-benchmark.md). @default false
          */
         promoteReference: Type.Boolean({ default: false }),
+        /**
+         * `asha-evolution`: how its tournaments rank the members parents are drawn from.
+         * `first-rung`: by their result at the lowest rung (one short training each);
+         * `highest-rung`: by the highest rung each member's genome has reached, then its fitness
+         * there, so a genome that kept its rank over longer trainings beats one that only learns
+         * fast. @default 'first-rung'
+         */
+        parents: Type.Union([Type.Literal('first-rung'), Type.Literal('highest-rung')], { default: 'first-rung' }),
       },
       { additionalProperties: false, default: {} },
     ),
