@@ -44,7 +44,18 @@ export interface RunOutcome {
    * without the check (the reference network was the champion, or the check was off).
    */
   pairAverageTestError: number | null;
+  /**
+   * Diagnostic: both sides of the held-back check, each with its accuracy on the held-back
+   * validation samples (what the check compared) and its test error (scored for the record, never
+   * read by a choice); null without the check.
+   */
+  heldBackSides: { search: HeldBackSide; reference: HeldBackSide } | null;
   wallSeconds: number;
+}
+
+export interface HeldBackSide {
+  heldBackAccuracy: number | null;
+  testError: number | null;
 }
 
 export interface MethodSummary {

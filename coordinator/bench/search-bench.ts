@@ -38,7 +38,7 @@ import type { RunRecord, RunStore } from '../src/store/run-store.js';
 import { budgetCurve, countedWithin, type SpentEvaluation } from './search-bench-budget.js';
 import { mnistTask, tilesTask, TASK_NAMES, type BenchTask, type TaskName } from './search-bench-tasks.js';
 import { referenceRows, type ReferenceOutcome } from './search-bench-reference.js';
-import { summarize, taskTable, type MethodSummary, type RunOutcome } from './search-bench-report.js';
+import { summarize, taskTable, type HeldBackSide, type MethodSummary, type RunOutcome } from './search-bench-report.js';
 
 const METHODS: readonly SearchAlgorithmName[] = ['random', 'aging-evolution', 'asha', 'asha-evolution'];
 /** The bench's main row: multi-fidelity evolution, the candidate for the run file's default (which is still aging-evolution: no sweep has chosen it yet). */
@@ -207,6 +207,7 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
     inRunReferenceTestError: comparison.referenceTestAccuracy === null ? null : 1 - comparison.referenceTestAccuracy,
     verdict: comparison.line,
     pairAverageTestError: await pairAverageTestError(store, final, watch.finalModels),
+    heldBackSides: heldBackSides(store, run.id),
     wallSeconds: (Date.now() - started) / 1000,
   };
 }
@@ -223,6 +224,24 @@ async function pairAverageTestError(store: RunStore, run: RunRecord, models: Rea
   if (!a || !b || run.dataset.manifest.target) return null;
   const test = decodeShard(await readFile(run.dataset.testPath)).train;
   return 1 - (await scoreEnsemble([a, b], test, run.dataset.manifest.numClasses)).accuracy;
+}
+
+const heldBackLine = (sides: RunOutcome['heldBackSides']): string => {
+  if (!sides) return '';
+  const one = (s: HeldBackSide) => `${s.heldBackAccuracy === null ? '?' : pct(s.heldBackAccuracy)} held back, ${s.testError === null ? '?' : pct(s.testError)} test error`;
+  return `, check: search's champion ${one(sides.search)}; reference ${one(sides.reference)}`;
+};
+
+/** Both sides of the run's held-back check as it compared them, with their test errors (diagnostic), or null without a check. */
+function heldBackSides(store: RunStore, runId: string): RunOutcome['heldBackSides'] {
+  const check = store.events(runId, 'champion-held-back-check').at(-1)?.detail;
+  if (!check) return null;
+  const scored = store.events(runId, 'champion-candidate-scored').map((e) => e.detail);
+  const side = (s: { evaluationId: string; valAccuracy: number | null }) => {
+    const test = scored.find((d) => d.evaluationId === s.evaluationId)?.testAccuracy;
+    return { heldBackAccuracy: s.valAccuracy, testError: test === undefined ? null : 1 - test };
+  };
+  return { search: side(check.champion), reference: side(check.reference) };
 }
 
 async function startWorkers(coordinator: Coordinator, dataDir: string, prefix: string, redisUrl: string): Promise<ChildProcess[]> {
@@ -276,7 +295,7 @@ async function main(): Promise<void> {
           log(
             `${task.name} run ${++done}/${total} ${method} seed ${seed}: ${o.state}, ${o.evaluations} evaluations, search ${o.searchSamples} + champion ${o.championSamples} samples, ` +
               `best val ${(100 * o.curve.at(-1)!.bestValAccuracy).toFixed(2)}%, champion test error ${o.championTestError === null ? 'none' : pct(o.championTestError)}` +
-              `${o.championIsReference ? ' (the reference itself)' : ''}${o.pairAverageTestError === null ? '' : `, pair average ${pct(o.pairAverageTestError)}`}, ${o.wallSeconds.toFixed(0)} s`,
+              `${o.championIsReference ? ' (the reference itself)' : ''}${o.pairAverageTestError === null ? '' : `, pair average ${pct(o.pairAverageTestError)}`}${heldBackLine(o.heldBackSides)}, ${o.wallSeconds.toFixed(0)} s`,
           );
         }
       }

@@ -81,6 +81,8 @@ describe('bench:search --quick (the demo tiles, real coordinator and workers)', 
         curve: Array<{ fraction: number; bestValAccuracy: number; spent: number }>;
         championTestError: number | null;
         championWithinBudget: boolean | null;
+        championIsReference: boolean | null;
+        heldBackSides: { search: { heldBackAccuracy: number | null; testError: number | null }; reference: { heldBackAccuracy: number | null; testError: number | null } } | null;
       }>;
     };
     expect(result.bench).toBe('search');
@@ -117,6 +119,13 @@ describe('bench:search --quick (the demo tiles, real coordinator and workers)', 
       expect(best).toEqual([...best].sort((a, b) => a - b)); // best-so-far never falls
       expect(r.curve.at(-1)!.spent).toBe(r.searchSamples);
       expect(r.championTestError! > 0 && r.championTestError! < 1).toBe(true);
+      // The check's diagnostic: the exported side's test error is the champion's, and the reference network is exported only when it led on the held-back samples.
+      if (r.heldBackSides) {
+        const { search, reference } = r.heldBackSides;
+        const exported = r.championIsReference ? reference : search;
+        expect(exported.testError).toBeCloseTo(r.championTestError!, 12);
+        if (r.championIsReference) expect(reference.heldBackAccuracy!).toBeGreaterThan(search.heldBackAccuracy!);
+      }
     }
   }, 300_000);
 });
