@@ -316,7 +316,7 @@ async function main(): Promise<void> {
     const start = settings.warmStart ? "starting from the weights its search training ended with" : 'from fresh weights';
     lines.push(
       settings.heldBackCheck
-        ? `Champion: chosen on validation evidence (the test split chooses nothing), then the held-back check: it and the reference network are trained again on train + validation less half of validation, each capped at half the champion phase's share of the budget (both counted), ${start}; the reference network is exported only if it leads on the held-back half by more than two standard errors, else the search's champion; the exported model is scored once on test.`
+        ? `Champion: chosen on validation evidence (the test split chooses nothing), then the held-back check: it and the reference network are trained again on train + validation less half of validation, each capped at half the champion phase's share of the budget (both counted), ${start}; the better of the two on the held-back half is exported and scored once on test.`
         : `Champion: chosen on validation evidence (the test split chooses nothing), trained again on train + validation, ${start}, scored once on test; the reference network is trained again the same way for the report's comparison; each of the two final trainings capped at half the champion phase's share of the budget, both counted.`,
     );
     lines.push('Reference row: the run\'s reference network (docs/reference-networks.md) trained once on the training split with the whole budget, the weights of its best epoch by validation accuracy kept, scored once on test.');

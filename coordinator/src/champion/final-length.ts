@@ -1,5 +1,4 @@
 import type { EpochRecord } from '@netbreeder/shared-types';
-import { accuracyNoise } from './validation-evidence.js';
 
 /** How many epochs a final training (on train + validation) gets, and which rule set it. */
 export interface FinalLength {
@@ -58,7 +57,7 @@ export function finalTrainingLength(fixed: number | undefined, history: readonly
   }
   const lastScored = [...history].reverse().find((r) => r.valAccuracy !== null)!;
   const p = best.valAccuracy!;
-  const noise = valCount ? accuracyNoise(p, valCount) : 0;
+  const noise = valCount ? 2 * Math.sqrt((p * (1 - p)) / valCount) : 0;
   if (valCount && lastScored !== best && p - lastScored.valAccuracy! <= noise) {
     const length = Math.max(budgetMaxEpochs ?? 0, lastScored.epoch, epochs);
     return {

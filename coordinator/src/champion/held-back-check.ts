@@ -1,5 +1,4 @@
 import type { ChampionCandidate } from '@netbreeder/shared-types';
-import { accuracyNoise } from './validation-evidence.js';
 
 /** The most validation samples the held-back check keeps out of the final trainings. */
 export const MAX_HELD_BACK = 5000;
@@ -33,13 +32,14 @@ export function heldBackSide(pair: { champion: ChampionCandidate; reference: Cha
 
 /**
  * How far the reference network must lead on `heldBack` samples to replace the search's champion
- * (classification): two standard errors of an accuracy at the reference network's score
- * ({@link accuracyNoise}, the same rule as the final training's length). 0 for a regression run,
- * whose fitness is no accuracy, and without a count.
+ * (classification): two standard errors of an accuracy at the reference network's score,
+ * 2·sqrt(p(1−p)/n) (common practice for telling a real difference from noise; the same rule as
+ * the final training's length in `final-length.ts`). 0 for a regression run, whose fitness is no
+ * accuracy, and without a count.
  */
 export function heldBackMargin(referenceScore: number, heldBack: number | undefined, task: 'classification' | 'regression' = 'classification'): number {
   if (task === 'regression' || !heldBack || heldBack < 1) return 0;
-  return accuracyNoise(referenceScore, heldBack);
+  return 2 * Math.sqrt((referenceScore * (1 - referenceScore)) / heldBack);
 }
 
 /**

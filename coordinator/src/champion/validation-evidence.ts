@@ -28,12 +28,3 @@ export function rankByValidation<E extends SearchEvidence>(results: readonly E[]
   });
   return ranked.sort((a, b) => b.valAccuracy - a.valAccuracy || a.params - b.params || a.seq - b.seq);
 }
-
-/**
- * Two standard errors of an accuracy `p` measured on `n` samples, 2·sqrt(p(1−p)/n): the noise
- * within which two validation scores are not told apart (common practice). Used by the final
- * training's length (`final-length.ts`) and the held-back check (`held-back-check.ts`).
- */
-export function accuracyNoise(p: number, n: number): number {
-  return 2 * Math.sqrt((p * (1 - p)) / n);
-}
