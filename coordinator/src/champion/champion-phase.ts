@@ -230,8 +230,7 @@ export class ChampionPhase {
    * held-back check: the search's champion. With it (the job held validation samples back), the
    * better of the champion and the reference network on those samples, decided as their results
    * arrive: the first of the two is stored as the champion, the second replaces it only if it
-   * wins (the reference network must lead by more than the noise of those samples; a smaller lead
-   * or a tie keeps the search's champion; see `heldBackWinner`). The test split plays no part.
+   * wins (a tie keeps the search's champion; see `heldBackWinner`). The test split plays no part.
    */
   private exportsThis(ev: EvaluationRecord, candidate: ChampionCandidate, result: EvaluationResult): boolean {
     const pair = heldBackPair(this.candidates(ev.runId));
@@ -242,9 +241,7 @@ export class ChampionPhase {
     if (!current || current.genomeHash !== other.genomeHash) return true;
     const mine = result.valAccuracy;
     const theirs = current.result.valAccuracy;
-    const task = this.o.store.getRun(ev.runId)!.dataset.manifest.target ? 'regression' : 'classification';
-    const n = ev.job.selectionHoldout;
-    return side === 'champion' ? heldBackWinner(mine, theirs, n, task) === 'search' : heldBackWinner(theirs, mine, n, task) === 'reference';
+    return side === 'champion' ? heldBackWinner(mine, theirs) === 'search' : heldBackWinner(theirs, mine) === 'reference';
   }
 
   /** Records the held-back check once both of its final trainings are done (a `champion-held-back-check` event). */

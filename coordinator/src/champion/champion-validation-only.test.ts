@@ -179,11 +179,10 @@ describe('the held-back check: the champion against the reference network after 
 
   for (const referenceFirst of [false, true]) {
     it(`exports the reference network when it scores higher on the held-back samples (${referenceFirst ? 'its' : "the champion's"} result first), and says so`, async () => {
-      // 2 samples held back: a lead of 0.65 against a margin of 2·sqrt(0.95·0.05/2) = 0.31.
-      const { store } = await finishChampionPhase(TEST, SEARCH, undefined, { score: (job) => (isReference(job) ? 0.95 : 0.3), referenceFirst });
+      const { store } = await finishChampionPhase(TEST, SEARCH, undefined, { score: (job) => (isReference(job) ? 0.9 : 0.6), referenceFirst });
       expect(store.getChampion('r1')!.genomeHash).toBe(genomeHash(reference));
       const check = store.events('r1', 'champion-held-back-check').map((e) => e.detail);
-      expect(check).toEqual([expect.objectContaining({ exported: 'reference', round: 0, champion: expect.objectContaining({ valAccuracy: 0.3 }), reference: expect.objectContaining({ valAccuracy: 0.95 }) })]);
+      expect(check).toEqual([expect.objectContaining({ exported: 'reference', round: 0, champion: expect.objectContaining({ valAccuracy: 0.6 }), reference: expect.objectContaining({ valAccuracy: 0.9 }) })]);
       expect(referenceComparison(store, 'r1')).toMatchObject({ championIsReference: true });
       const report = championFiles(store, store.getRun('r1')!)!.get('report.md')!.toString();
       expect(report).toMatch(/so the reference network is exported as the champion/);
@@ -196,14 +195,5 @@ describe('the held-back check: the champion against the reference network after 
       expect(store.getChampion('r1')!.genomeHash).toBe(genomeHash(SEARCH[1]![0]));
       expect(store.events('r1', 'champion-held-back-check').map((e) => e.detail.exported)).toEqual(['search']);
     }
-  }, 120_000);
-
-  it("keeps the search's champion when the reference network leads by no more than the noise of the held-back samples, and says so", async () => {
-    // 2 samples held back: a lead of 0.3 against a margin of 2·sqrt(0.9·0.1/2) = 0.42.
-    const { store } = await finishChampionPhase(TEST, SEARCH, undefined, { score: (job) => (isReference(job) ? 0.9 : 0.6), referenceFirst: false });
-    expect(store.getChampion('r1')!.genomeHash).toBe(genomeHash(SEARCH[1]![0]));
-    expect(store.events('r1', 'champion-held-back-check').map((e) => e.detail.exported)).toEqual(['search']);
-    const report = championFiles(store, store.getRun('r1')!)!.get('report.md')!.toString();
-    expect(report).toContain("the reference network's lead, 30.00 points, is within the noise of 2 samples (±42.43 points, two standard errors), so the search's choice stands");
   }, 120_000);
 });

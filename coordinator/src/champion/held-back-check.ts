@@ -31,27 +31,11 @@ export function heldBackSide(pair: { champion: ChampionCandidate; reference: Cha
 }
 
 /**
- * How far the reference network must lead on `heldBack` samples to replace the search's champion
- * (classification): two standard errors of an accuracy at the reference network's score,
- * 2·sqrt(p(1−p)/n) (common practice for telling a real difference from noise; the same rule as
- * the final training's length in `final-length.ts`). 0 for a regression run, whose fitness is no
- * accuracy, and without a count.
+ * Which final training is exported: the reference network's only when it scored strictly higher on
+ * the held-back validation samples than the search's champion (a tie, or a missing score, keeps
+ * the search's choice). Accuracy for classification, the search's fitness for regression: higher
+ * is better for both.
  */
-export function heldBackMargin(referenceScore: number, heldBack: number | undefined, task: 'classification' | 'regression' = 'classification'): number {
-  if (task === 'regression' || !heldBack || heldBack < 1) return 0;
-  return 2 * Math.sqrt((referenceScore * (1 - referenceScore)) / heldBack);
-}
-
-/**
- * Which final training is exported: the reference network's only when it scored higher on the
- * `heldBack` held-back validation samples than the search's champion by more than
- * {@link heldBackMargin}; a lead within the noise, a tie or a missing score keeps the search's
- * choice, which already won on the search's own validation evidence. Accuracy for
- * classification, the search's fitness for regression (strictly higher, no noise rule): higher is
- * better for both.
- */
-export function heldBackWinner(championScore: number | null | undefined, referenceScore: number | null | undefined, heldBack?: number, task: 'classification' | 'regression' = 'classification'): 'search' | 'reference' {
-  if (typeof championScore !== 'number' || typeof referenceScore !== 'number') return 'search';
-  const lead = referenceScore - championScore;
-  return lead > 0 && lead > heldBackMargin(referenceScore, heldBack, task) ? 'reference' : 'search';
+export function heldBackWinner(championScore: number | null | undefined, referenceScore: number | null | undefined): 'search' | 'reference' {
+  return typeof championScore === 'number' && typeof referenceScore === 'number' && referenceScore > championScore ? 'reference' : 'search';
 }

@@ -1,5 +1,4 @@
 import { rmseFromFitness } from '@netbreeder/shared-types';
-import { heldBackMargin } from './held-back-check.js';
 import type { ChampionSummaryDocument } from './champion-files.js';
 import { fourDigits } from './regression-scores.js';
 import { describeFinalStart } from './inheritance-summary.js';
@@ -32,14 +31,7 @@ export function choiceParagraph(c: ChampionSummaryDocument): string {
 
 /** The held-back check in words: the search's champion against the reference network after equal final trainings. */
 function heldBackSentence(c: ChampionSummaryDocument, check: NonNullable<ChampionSummaryDocument['heldBackCheck']>): string {
-  const lead = (check.reference.valAccuracy ?? 0) - (check.champion.valAccuracy ?? 0);
-  const margin = heldBackMargin(check.reference.valAccuracy ?? 0, check.heldBack, c.target ? 'regression' : 'classification');
-  const outcome =
-    check.exported === 'reference'
-      ? 'so the reference network is exported as the champion'
-      : lead > 0 && check.reference.valAccuracy !== null && check.champion.valAccuracy !== null
-        ? `the reference network's lead, ${(lead * 100).toFixed(2)} points, is within the noise of ${check.heldBack} samples (±${(margin * 100).toFixed(2)} points, two standard errors), so the search's choice stands`
-        : "so the search's choice stands";
+  const outcome = check.exported === 'reference' ? 'so the reference network is exported as the champion' : "so the search's choice stands";
   return ` The reference network got the same final training, and on the ${check.heldBack} held-back samples, which neither trained on, the search's choice scored ${score(c, check.champion.valAccuracy)} on them, the reference network ${score(c, check.reference.valAccuracy)}: ${outcome}.`;
 }
 

@@ -410,9 +410,8 @@ export const RunConfigSchema = Type.Object(
         /**
          * Share of the validation split held back from the final trainings of the champion and the
          * run's reference network, so the two can be compared after equal final trainings on data
-         * neither trained on: the reference network is exported only when its accuracy there is
-         * higher by more than two standard errors (a smaller lead or a tie keeps the search's
-         * champion; for regression, any higher fitness). It guards against a network that looked best in short search
+         * neither trained on: the one with the higher accuracy there is exported (a tie keeps the
+         * search's champion). It guards against a network that looked best in short search
          * trainings and falls behind in a long one. At most 5,000 samples are held back; 0 turns
          * the check off (both then train on all of train + validation). @default 0.5
          */
