@@ -352,7 +352,9 @@ export const RunConfigSchema = Type.Object(
          * `first-rung`: by their result at the lowest rung (one short training each);
          * `highest-rung`: by the highest rung each member's genome has reached, then its fitness
          * there, so a genome that kept its rank over longer trainings beats one that only learns
-         * fast. @default 'first-rung'
+         * fast. @default 'first-rung' (on the search benchmark `highest-rung` changed nothing beyond
+         * the spread between runs: with one or two genomes above rung 1 per run it rarely changes a
+         * parent; docs/search-benchmark.md)
          */
         parents: Type.Union([Type.Literal('first-rung'), Type.Literal('highest-rung')], { default: 'first-rung' }),
       },
