@@ -41,7 +41,7 @@ import { referenceRows, type ReferenceOutcome } from './search-bench-reference.j
 import { summarize, taskTable, type HeldBackSide, type MethodSummary, type RunOutcome } from './search-bench-report.js';
 
 const METHODS: readonly SearchAlgorithmName[] = ['random', 'aging-evolution', 'asha', 'asha-evolution'];
-/** The bench's main row: multi-fidelity evolution, the candidate for the run file's default (which is still aging-evolution: no sweep has chosen it yet). */
+/** The bench's main row: multi-fidelity evolution with weight inheritance, the run file's default algorithm (chosen on this bench: docs/search-benchmark.md). */
 const DEFAULT_METHOD: SearchAlgorithmName = 'asha-evolution';
 const FRACTIONS = [0.1, 0.25, 0.5, 0.75, 1] as const;
 /** Test error % on MNIST: LeCun, Bottou, Bengio, Haffner, Proc. IEEE 86(11), 1998, results table (60,000 training digits). */
