@@ -3,7 +3,7 @@ export { Coordinator, COORDINATOR_VERSION, DEFAULT_PORT, resolveCoordinatorOptio
 export { RunStore, type RunRecord, type EvaluationRecord, type ChampionRecord, type StoredDataset } from './store/run-store.js';
 export { TrustStore, type VerificationRecord, type VerdictRecord, type WorkerTrustRecord, type CpuUsageRow } from './store/trust-store.js';
 export { Verifier, verificationSettings } from './trust/verifier.js';
-export { EvaluationQueue, type FinishedJob } from './queue/evaluation-queue.js';
+export { EvaluationQueue, jobPriority, type FinishedJob } from './queue/evaluation-queue.js';
 export { RunManager, evaluationSeed, type RunControl, type RunManagerOptions, type RunManagerEvents } from './run/run-manager.js';
 export { buildStatus } from './run/status-report.js';
 export { parseRunConfig, readRunConfigFile } from './config/run-config.js';

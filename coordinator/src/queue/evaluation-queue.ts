@@ -138,13 +138,23 @@ export class EvaluationQueue {
   }
 }
 
+/**
+ * BullMQ priority of a job (lower goes first; FIFO within one): champion trainings, then
+ * verifications (the champion phase may wait on them), then search trainings that continue their
+ * own lower rung's checkpoint (promotions of successive halving: ASHA promotes before it starts
+ * anything new, and without this a promotion would wait behind the fresh jobs queued as slack),
+ * then the rest of the search. Derived from the job alone, so a job queued again after a restart
+ * keeps its place.
+ */
+export const jobPriority = (job: EvaluationJob): number =>
+  job.kind === 'champion' ? 1 : job.verifies ? 5 : job.inherit?.kind === 'own-checkpoint' ? 8 : 10;
+
 const jobOptions = (job: EvaluationJob) => ({
   jobId: job.evaluationId,
   attempts: 1,
   removeOnComplete: false,
   removeOnFail: false,
-  // Champion trainings go first, then verifications (the champion phase may wait on them), then the search.
-  priority: job.kind === 'champion' ? 1 : job.verifies ? 5 : 10,
+  priority: jobPriority(job),
 });
 
 /** A job's stored return value: JSON as BullMQ writes it, or the raw text when it is not JSON. */
