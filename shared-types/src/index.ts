@@ -15,6 +15,7 @@ export * from './messages/dataset-manifest.js';
 export * from './messages/evaluation-job.js';
 export * from './messages/evaluation-result.js';
 export * from './messages/worker-heartbeat.js';
+export * from './messages/dataset-source.js';
 export * from './messages/run-config.js';
 export { runFileJsonSchema, RUN_FILE_SCHEMA_PATH } from './messages/run-file-schema.js';
 export * from './messages/status-response.js';
