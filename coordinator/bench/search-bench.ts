@@ -67,6 +67,7 @@ const { values: args } = parseArgs({
     'max-epochs': { type: 'string' },
     'promote-reference': { type: 'boolean' },
     parents: { type: 'string' },
+    population: { type: 'string' },
     keep: { type: 'boolean' },
     quick: { type: 'boolean' },
     help: { type: 'boolean' },
@@ -89,6 +90,7 @@ if (args.help) {
       '  --max-epochs N        epochs of its top rung (default: 9 × the lowest)\n' +
       "  --promote-reference   the reference network climbs every rung of successive halving (search.promoteReference)\n" +
       "  --parents R           how asha-evolution ranks parents: first-rung or highest-rung (search.parents; default: the run file's)\n" +
+      "  --population N        the evolving methods' population (search.populationSize; default 8, the run file's); tournaments of 3, or N when smaller\n" +
       "  --keep                keep the data directory (the runs' store and datasets) and print its path\n" +
       '  --quick               a smoke run: small data, 1 seed, tiny budget\n',
   );
@@ -119,6 +121,7 @@ const settings = {
   maxEpochs: args['max-epochs'] === undefined ? undefined : whole('max-epochs', args['max-epochs'], 1, 1),
   promoteReference: args['promote-reference'] === true,
   parents: args.parents as ParentRanking | undefined,
+  population: args.population === undefined ? undefined : whole('population', args.population, 8, 2),
 };
 if (settings.parents !== undefined && !PARENT_RANKINGS.includes(settings.parents)) throw new RangeError(`--parents must be one of ${PARENT_RANKINGS.join(', ')}, got ${settings.parents}`);
 for (const m of settings.methods) if (!METHODS.includes(m)) throw new RangeError(`unknown method '${m}'; use some of ${METHODS.join(', ')}`);
@@ -162,6 +165,7 @@ async function runOnce(coordinator: Coordinator, watch: RunWatch, task: BenchTas
     ...(settings.maxEpochs === undefined ? {} : { maxEpochs: settings.maxEpochs }),
     ...(settings.promoteReference ? { promoteReference: true } : {}),
     ...(settings.parents === undefined ? {} : { parents: settings.parents }),
+    ...(settings.population === undefined ? {} : { populationSize: settings.population, sampleSize: Math.min(fromTask.search.sampleSize, settings.population) }),
   };
   const asked = { ...fromTask, search: { ...fromTask.search, ...searchFlags } };
   const config = settings.heldBackCheck ? asked : { ...asked, champion: { ...asked.champion, selectionShare: 0 } };
@@ -335,6 +339,7 @@ async function main(): Promise<void> {
       championShare: settings.championShare,
       warmStart: settings.warmStart,
       heldBackCheck: settings.heldBackCheck,
+      ...(settings.population === undefined ? {} : { populationSize: settings.population }),
       defaultMethod: DEFAULT_METHOD,
       tasks: Object.fromEntries(
         report.map((r) => [
