@@ -45,7 +45,13 @@ describe('a run with asha-evolution', () => {
     // The reference network (proposal 0) climbs every rung whatever its rank (search.promoteReference, set above); the others by rank.
     const climbs = decisions.filter((d) => d.kind === 'reference-promotion');
     expect(climbs.map((d) => [d.fromEpochs, d.toEpochs])).toEqual([[1, 2], [2, 4]]);
-    expect(search.filter((e) => e.genomeHash === search.find((s) => s.seq === 0)!.genomeHash).map((e) => e.job.budget.epochs)).toEqual([1, 2, 4]);
+    // Its own trainings go 1 → 2 → 4 epochs, each continuing the one before. A later proposal may
+    // come out equal to it (a family draw, or a child whose mutation undid its parent's; seen once
+    // in CI): that genome again at rung 0, which the rung ignores as a duplicate, never a promotion.
+    const reference = search.filter((e) => e.genomeHash === search.find((s) => s.seq === 0)!.genomeHash);
+    const climbing = reference.filter((e) => e.seq === 0 || e.job.inherit?.kind === 'own-checkpoint');
+    expect(climbing.map((e) => e.job.budget.epochs)).toEqual([1, 2, 4]);
+    for (const again of reference.filter((e) => !climbing.includes(e))) expect(again.job.budget.epochs).toBe(1);
     expect(decisions.filter((d) => d.kind === 'promotion').length + climbs.length).toBe(promoted.length);
     expect(decisions.some((d) => d.kind === 'no-promotion')).toBe(true);
     expect(replayRun(store, run.id)).toMatchObject({ agree: true, disagreement: null });
